@@ -1,0 +1,245 @@
+//! Derived quantities, computed here once and reused by the checker, `rill
+//! inspect`, the editor hover and the simulator's assembly: face
+//! permeability (length-weighted harmonic average), geometric and fluid
+//! transmissibility, half-cell transmissibility to a boundary, pore volume,
+//! Peaceman's equivalent radius and the well index.
+//!
+//! All in SI. Geometric transmissibility is `k_face * A / L` (m^3); dividing
+//! by viscosity times formation volume factor gives surface m^3 per second per
+//! pascal.
+
+use crate::case::{Case, Completion, Grid, Rock, Side};
+
+/// Standard gravity, m/s^2 (NIST SP 811, exact).
+pub const GRAVITY: f64 = 9.80665;
+
+/// The neighbouring cell across `side`, if it is inside the grid.
+pub fn neighbor(grid: &Grid, c: usize, side: Side) -> Option<usize> {
+    let (i, j, k) = grid.ijk(c);
+    let (ni, nj, nk) = match side {
+        Side::West => (i.checked_sub(1)?, j, k),
+        Side::East => (i + 1, j, k),
+        Side::South => (i, j.checked_sub(1)?, k),
+        Side::North => (i, j + 1, k),
+        Side::Top => (i, j, k.checked_sub(1)?),
+        Side::Bottom => (i, j, k + 1),
+    };
+    (ni < grid.nx && nj < grid.ny && nk < grid.nz).then(|| grid.index(ni, nj, nk))
+}
+
+/// Cell sizes `(dx, dy, dz)` in m.
+pub fn cell_size(grid: &Grid, c: usize) -> (f64, f64, f64) {
+    let (i, j, _) = grid.ijk(c);
+    (grid.dx[i], grid.dy[j], grid.dz[c])
+}
+
+pub fn cell_volume(grid: &Grid, c: usize) -> f64 {
+    let (dx, dy, dz) = cell_size(grid, c);
+    dx * dy * dz
+}
+
+/// Depth of the cell centre, m: column top plus the layers above plus half the cell.
+pub fn cell_center_depth(grid: &Grid, c: usize) -> f64 {
+    let (i, j, k) = grid.ijk(c);
+    let mut depth = grid.top[grid.column(i, j)];
+    for layer in 0..k {
+        depth += grid.dz[grid.index(i, j, layer)];
+    }
+    depth + 0.5 * grid.dz[c]
+}
+
+/// Depth of the cell centres of the whole grid, computed column by column in one pass.
+pub fn cell_center_depths(grid: &Grid) -> Vec<f64> {
+    let mut depth = vec![0.0; grid.cell_count()];
+    for j in 0..grid.ny {
+        for i in 0..grid.nx {
+            let mut top = grid.top[grid.column(i, j)];
+            for k in 0..grid.nz {
+                let c = grid.index(i, j, k);
+                depth[c] = top + 0.5 * grid.dz[c];
+                top += grid.dz[c];
+            }
+        }
+    }
+    depth
+}
+
+/// Pore volume at the rock reference pressure, reservoir m^3.
+pub fn pore_volume(grid: &Grid, rock: &Rock, c: usize) -> f64 {
+    rock.porosity[c] * cell_volume(grid, c)
+}
+
+/// Area of the face on `side`, m^2.
+pub fn face_area(grid: &Grid, c: usize, side: Side) -> f64 {
+    let (dx, dy, dz) = cell_size(grid, c);
+    match side {
+        Side::West | Side::East => dy * dz,
+        Side::South | Side::North => dx * dz,
+        Side::Top | Side::Bottom => dx * dy,
+    }
+}
+
+/// Distance from the cell centre to the face on `side`, m.
+pub fn half_length(grid: &Grid, c: usize, side: Side) -> f64 {
+    let (dx, dy, dz) = cell_size(grid, c);
+    0.5 * match side {
+        Side::West | Side::East => dx,
+        Side::South | Side::North => dy,
+        Side::Top | Side::Bottom => dz,
+    }
+}
+
+/// Permeability of the cell in the direction normal to `side`, m^2.
+pub fn normal_perm(rock: &Rock, c: usize, side: Side) -> f64 {
+    match side {
+        Side::West | Side::East => rock.kx[c],
+        Side::South | Side::North => rock.ky[c],
+        Side::Top | Side::Bottom => rock.kz[c],
+    }
+}
+
+/// Face permeability between two cells in series: the length-weighted
+/// harmonic average `(L_a + L_b) / (L_a / k_a + L_b / k_b)`. A zero on either
+/// side gives zero: the face carries no flow.
+pub fn harmonic_face_perm(k_a: f64, len_a: f64, k_b: f64, len_b: f64) -> f64 {
+    if k_a <= 0.0 || k_b <= 0.0 {
+        return 0.0;
+    }
+    (len_a + len_b) / (len_a / k_a + len_b / k_b)
+}
+
+/// Interface area between two neighbours. On a tensor-product grid the two
+/// faces coincide laterally except for per-cell `dz`, where the overlap is
+/// taken as the smaller thickness (cells are stacked with their own tops, so
+/// the shared extent cannot exceed the thinner one).
+fn shared_area(grid: &Grid, a: usize, b: usize, side: Side) -> f64 {
+    face_area(grid, a, side).min(face_area(grid, b, opposite(side)))
+}
+
+pub fn opposite(side: Side) -> Side {
+    match side {
+        Side::West => Side::East,
+        Side::East => Side::West,
+        Side::South => Side::North,
+        Side::North => Side::South,
+        Side::Top => Side::Bottom,
+        Side::Bottom => Side::Top,
+    }
+}
+
+/// A face between two cells, or between a cell and the outside.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Face {
+    pub side: Side,
+    pub neighbor: Option<usize>,
+    /// Face permeability, m^2 (for a boundary face: the cell's own normal permeability).
+    pub perm: f64,
+    /// `k_face * A / L`, m^3. Zero when either cell is inactive.
+    pub geometric_trans: f64,
+}
+
+/// The face of cell `c` on `side` towards its neighbour, if there is one.
+/// Inactive cells (porosity 0) carry no flow.
+pub fn interior_face(grid: &Grid, rock: &Rock, c: usize, side: Side) -> Option<Face> {
+    let n = neighbor(grid, c, side)?;
+    let (la, lb) = (half_length(grid, c, side), half_length(grid, n, opposite(side)));
+    let perm = harmonic_face_perm(normal_perm(rock, c, side), la, normal_perm(rock, n, side), lb);
+    let active = rock.is_active(c) && rock.is_active(n);
+    let geometric_trans = if active { perm * shared_area(grid, c, n, side) / (la + lb) } else { 0.0 };
+    Some(Face { side, neighbor: Some(n), perm, geometric_trans })
+}
+
+/// Half-cell transmissibility from the centre of `c` to its face on `side`:
+/// `k * A / (L / 2)`, m^3. Used for constant-pressure boundaries.
+pub fn boundary_face(grid: &Grid, rock: &Rock, c: usize, side: Side) -> Face {
+    let perm = normal_perm(rock, c, side);
+    let geometric_trans = if rock.is_active(c) {
+        perm * face_area(grid, c, side) / half_length(grid, c, side)
+    } else {
+        0.0
+    };
+    Face { side, neighbor: None, perm, geometric_trans }
+}
+
+/// Fluid transmissibility at reference conditions: surface m^3 / (s Pa).
+pub fn fluid_trans(case: &Case, geometric_trans: f64) -> f64 {
+    geometric_trans / (case.fluid.viscosity * case.fluid.fvf)
+}
+
+/// The six faces of a cell as `rill inspect` and hover show them: an
+/// interior face towards a neighbour, a boundary half-cell face where a
+/// `boundary` lies on that side, and `None` on a closed outer face.
+pub fn cell_faces(case: &Case, c: usize) -> [(Side, Option<Face>); 6] {
+    Side::ALL.map(|side| {
+        let face = interior_face(&case.grid, &case.rock, c, side).or_else(|| {
+            case.boundaries
+                .iter()
+                .any(|b| b.side == side)
+                .then(|| boundary_face(&case.grid, &case.rock, c, side))
+        });
+        (side, face)
+    })
+}
+
+/// One connection between two active cells for assembly: `a < b`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Connection {
+    pub a: usize,
+    pub b: usize,
+    /// m^3
+    pub geometric_trans: f64,
+}
+
+/// Every interior connection with a positive transmissibility, each once
+/// (east, north and bottom faces), in cell order. The simulator assembles
+/// from this list, so hover and the run use the same numbers.
+pub fn connections(grid: &Grid, rock: &Rock) -> Vec<Connection> {
+    let mut out = Vec::with_capacity(3 * grid.cell_count());
+    for c in 0..grid.cell_count() {
+        for side in [Side::East, Side::North, Side::Bottom] {
+            if let Some(face) = interior_face(grid, rock, c, side) {
+                if face.geometric_trans > 0.0 {
+                    out.push(Connection { a: c, b: face.neighbor.unwrap_or(c), geometric_trans: face.geometric_trans });
+                }
+            }
+        }
+    }
+    out
+}
+
+/// Peaceman's equivalent radius for an anisotropic, non-square block
+/// (Peaceman 1983): `0.28 sqrt(sqrt(ky/kx) dx^2 + sqrt(kx/ky) dy^2) / ((ky/kx)^(1/4) + (kx/ky)^(1/4))`.
+/// For a square isotropic block this is `0.1980 dx` (Peaceman 1978).
+pub fn peaceman_radius(dx: f64, dy: f64, kx: f64, ky: f64) -> f64 {
+    if kx <= 0.0 || ky <= 0.0 {
+        // No flow to the well either way; fall back to the isotropic form so
+        // the radius stays finite for display.
+        return 0.28 * (dx * dx + dy * dy).sqrt() / 2.0;
+    }
+    let r = ky / kx;
+    0.28 * (r.sqrt() * dx * dx + (1.0 / r).sqrt() * dy * dy).sqrt() / (r.powf(0.25) + (1.0 / r).powf(0.25))
+}
+
+/// Peaceman well index of one completion.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WellIndex {
+    /// Equivalent radius, m.
+    pub r_eq: f64,
+    /// Geometric well index `2 pi sqrt(kx ky) dz / (ln(r_eq / r_w) + s)`, m^3.
+    pub geometric: f64,
+}
+
+/// Well index of a vertical completion in cell `completion.cell`.
+pub fn well_index(grid: &Grid, rock: &Rock, completion: &Completion, radius: f64, skin: f64) -> WellIndex {
+    let c = completion.cell;
+    let (dx, dy, dz) = cell_size(grid, c);
+    let (kx, ky) = (rock.kx[c], rock.ky[c]);
+    let r_eq = peaceman_radius(dx, dy, kx, ky);
+    let denom = (r_eq / radius).ln() + skin;
+    let geometric = if rock.is_active(c) && denom > 0.0 && kx > 0.0 && ky > 0.0 {
+        2.0 * std::f64::consts::PI * (kx * ky).sqrt() * dz / denom
+    } else {
+        0.0
+    };
+    WellIndex { r_eq, geometric }
+}
