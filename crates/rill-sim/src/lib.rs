@@ -4,6 +4,7 @@
 //!
 //! It must never parse text; it takes a checked `rill_model::Case`.
 
+pub mod linear;
 pub mod results;
 
 pub use results::*;

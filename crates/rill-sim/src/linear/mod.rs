@@ -1,0 +1,498 @@
+//! Linear solvers of the simulator.
+//!
+//! * [`CsrMatrix`]: square sparse matrix, built from assembly triplets
+//!   ([`CsrMatrix::from_triplets`] sums duplicates), with a rayon SpMV.
+//! * [`solve`] / [`Solver`]: one entry point that picks a method.
+//!   - `Method::Direct`: `faer` sparse Cholesky when the matrix is symmetric
+//!     (falling back to LU if it is not positive definite), sparse LU with
+//!     partial pivoting otherwise.
+//!   - `Method::AmgCg`: conjugate gradients preconditioned by one V-cycle of
+//!     smoothed-aggregation algebraic multigrid ([`amg`]), for symmetric
+//!     positive definite matrices (the pressure equation).
+//!   - `Method::AmgBicgstab`: BiCGStab with the same preconditioner, for the
+//!     slightly unsymmetric Newton Jacobians (wells, compressibility upwinding).
+//!   - `Method::Auto`: direct up to [`SolverOptions::direct_max_n`] unknowns,
+//!     above that AMG-CG if the matrix is symmetric and AMG-BiCGStab if not.
+//!   - `Method::JacobiCg`, `Method::JacobiBicgstab`: diagonal preconditioning,
+//!     for tests and comparisons only.
+//! * [`Solver`] keeps the set-up (the AMG hierarchy, or the symbolic analysis
+//!   of the direct solver) between calls while the sparsity pattern does not
+//!   change; see its doc for the rebuild rule.
+//! * [`write_matrix_market`], [`write_vector_market`]: formatting for dumps.
+//!
+//! The stopping test of the iterative methods is the relative residual
+//! ||b - A x||_2 / ||b||_2 <= `rel_tol`, and the residual reported in
+//! [`LinearStats`] is always recomputed from the final `x`, never the
+//! recursively updated one.
+
+pub mod amg;
+mod csr;
+mod direct;
+mod krylov;
+mod market;
+#[cfg(test)]
+mod tests;
+
+use std::fmt;
+use std::time::Instant;
+
+pub use amg::{AmgHierarchy, AmgOptions, Smoother};
+pub use csr::CsrMatrix;
+pub use market::{write_matrix_market, write_vector_market};
+
+use direct::DirectSymbolic;
+use krylov::{pbicgstab, pcg, Jacobi, KrylovOutcome, Preconditioner};
+
+/// Which linear method to use.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Method {
+    /// Direct for small systems, AMG-CG (symmetric) or AMG-BiCGStab above.
+    #[default]
+    Auto,
+    /// Sparse direct (Cholesky if symmetric, LU otherwise).
+    Direct,
+    /// Smoothed-aggregation AMG preconditioned conjugate gradients (SPD only).
+    AmgCg,
+    /// Smoothed-aggregation AMG preconditioned BiCGStab (general).
+    AmgBicgstab,
+    /// Jacobi preconditioned CG (tests and comparisons).
+    JacobiCg,
+    /// Jacobi preconditioned BiCGStab (tests and comparisons).
+    JacobiBicgstab,
+}
+
+/// Options of [`solve`] and [`Solver`]. Build with `SolverOptions::default()`
+/// or `SolverOptions { method: Method::AmgCg, ..Default::default() }`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SolverOptions {
+    /// Relative residual ||b - A x|| / ||b|| to reach (default 1e-10).
+    pub rel_tol: f64,
+    /// Iteration limit of the Krylov methods (default 500).
+    pub max_iter: usize,
+    pub method: Method,
+    /// `Method::Auto` uses the direct solver up to this many unknowns
+    /// (default 50 000, measured: see `scripts/bench/README-solver.md`).
+    pub direct_max_n: usize,
+    /// Multigrid parameters.
+    pub amg: AmgOptions,
+}
+
+impl Default for SolverOptions {
+    fn default() -> Self {
+        SolverOptions {
+            rel_tol: 1e-10,
+            max_iter: 500,
+            method: Method::Auto,
+            direct_max_n: DEFAULT_DIRECT_MAX_N,
+            amg: AmgOptions::default(),
+        }
+    }
+}
+
+/// Threshold of `Method::Auto` between the direct and the AMG solvers.
+pub const DEFAULT_DIRECT_MAX_N: usize = 50_000;
+
+/// What a solve did.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LinearStats {
+    /// "direct-cholesky", "direct-lu", "amg-cg", "amg-bicgstab", "jacobi-cg"
+    /// or "jacobi-bicgstab".
+    pub method: &'static str,
+    /// Krylov iterations (for the direct solver: refinement steps, usually 0).
+    pub iterations: usize,
+    /// True relative residual ||b - A x|| / ||b|| of the returned x.
+    pub rel_residual: f64,
+    /// Factorization or multigrid set-up time of this call (0 when reused).
+    pub setup_seconds: f64,
+    /// Time of the triangular solves or of the Krylov iteration.
+    pub solve_seconds: f64,
+    /// Multigrid levels (0 when no multigrid was used).
+    pub levels: usize,
+    /// Multigrid operator complexity sum(nnz of A_l) / nnz(A) (0 without).
+    pub operator_complexity: f64,
+    /// True when the set-up of an earlier call was reused.
+    pub reused_setup: bool,
+}
+
+/// Why a solve failed. `x` is left at the last iterate (not converged) or
+/// unchanged (other errors).
+#[derive(Debug, Clone, PartialEq)]
+pub enum LinearError {
+    /// The iteration stopped at `max_iter` (or broke down) above the tolerance.
+    NotConverged {
+        method: &'static str,
+        iterations: usize,
+        rel_residual: f64,
+        rel_tol: f64,
+        breakdown: bool,
+    },
+    /// The matrix is singular (or not positive definite for a Cholesky).
+    Singular { detail: String },
+    /// A NaN or infinity in the matrix, the right-hand side or the initial guess.
+    NonFinite { detail: String },
+    /// Lengths or structure do not fit.
+    Dimension { detail: String },
+    /// Memory or another failure of the factorization library.
+    Internal(String),
+}
+
+impl fmt::Display for LinearError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            LinearError::NotConverged { method, iterations, rel_residual, rel_tol, breakdown } => {
+                write!(
+                    f,
+                    "linear solver {method} did not converge: relative residual {rel_residual:.3e} after {iterations} iterations (tolerance {rel_tol:.1e})"
+                )?;
+                if *breakdown {
+                    write!(f, "; the iteration broke down (matrix or preconditioner not suited to the method, or singular)")?;
+                }
+                Ok(())
+            }
+            LinearError::Singular { detail } => write!(f, "singular matrix: {detail}"),
+            LinearError::NonFinite { detail } => write!(f, "non-finite value: {detail}"),
+            LinearError::Dimension { detail } => write!(f, "dimension mismatch: {detail}"),
+            LinearError::Internal(detail) => write!(f, "linear solver failure: {detail}"),
+        }
+    }
+}
+
+impl std::error::Error for LinearError {}
+
+/// Solves A x = b once. `x` is the initial guess on entry (ignored by the
+/// direct solver) and the solution on success. Use a [`Solver`] to reuse the
+/// set-up across Newton iterations and time steps.
+pub fn solve(
+    a: &CsrMatrix,
+    b: &[f64],
+    x: &mut [f64],
+    opts: &SolverOptions,
+) -> Result<LinearStats, LinearError> {
+    Solver::new(opts.clone()).solve(a, b, x)
+}
+
+/// Symmetry tolerance of `Method::Auto` (relative, per entry pair).
+const SYMMETRY_TOL: f64 = 1e-12;
+
+enum Setup {
+    None,
+    Direct { pattern: Pattern, symbolic: DirectSymbolic },
+    Amg { pattern: Pattern, hierarchy: AmgHierarchy, iterations_after_setup: Option<usize>, stale: bool },
+    Jacobi,
+}
+
+/// Sparsity pattern kept to decide whether a set-up can be reused.
+struct Pattern {
+    row_ptr: Vec<usize>,
+    col_idx: Vec<usize>,
+}
+
+impl Pattern {
+    fn of(a: &CsrMatrix) -> Self {
+        Pattern { row_ptr: a.row_ptr.clone(), col_idx: a.col_idx.clone() }
+    }
+    fn matches(&self, a: &CsrMatrix) -> bool {
+        self.row_ptr == a.row_ptr && self.col_idx == a.col_idx
+    }
+}
+
+/// A solver that keeps its set-up between calls.
+///
+/// Reuse rule:
+/// * direct: the symbolic analysis (ordering, elimination tree) is reused
+///   while the sparsity pattern is unchanged; the numeric factorization is
+///   redone on every call, so the solution is always exact.
+/// * AMG: the whole hierarchy (aggregates, prolongators, coarse operators,
+///   coarse factorization) built for an earlier matrix is reused as the
+///   preconditioner while the pattern is unchanged. It is still a valid
+///   (symmetric positive definite) preconditioner for the new matrix, only a
+///   less accurate one. It is rebuilt
+///   - when the pattern changes;
+///   - at the next call, when a call needed more than
+///     `max(2 * k0, k0 + 4)` iterations, k0 being the count of the first
+///     solve after the last set-up;
+///   - at once, repeating the solve from the caller's initial guess, when a
+///     call with a reused hierarchy does not converge within `max_iter`.
+/// * [`Solver::invalidate`] forces a rebuild at the next call.
+pub struct Solver {
+    opts: SolverOptions,
+    setup: Setup,
+}
+
+impl Solver {
+    pub fn new(opts: SolverOptions) -> Self {
+        Solver { opts, setup: Setup::None }
+    }
+
+    pub fn options(&self) -> &SolverOptions {
+        &self.opts
+    }
+
+    /// Changes the options; drops the set-up if the method changes.
+    pub fn set_options(&mut self, opts: SolverOptions) {
+        if opts.method != self.opts.method || opts.amg != self.opts.amg {
+            self.setup = Setup::None;
+        }
+        self.opts = opts;
+    }
+
+    /// Forgets the set-up: the next call builds it anew.
+    pub fn invalidate(&mut self) {
+        self.setup = Setup::None;
+    }
+
+    /// The multigrid hierarchy currently kept, if any.
+    pub fn hierarchy(&self) -> Option<&AmgHierarchy> {
+        match &self.setup {
+            Setup::Amg { hierarchy, .. } => Some(hierarchy),
+            _ => None,
+        }
+    }
+
+    /// Solves A x = b; `x` is the initial guess on entry.
+    pub fn solve(&mut self, a: &CsrMatrix, b: &[f64], x: &mut [f64]) -> Result<LinearStats, LinearError> {
+        check_inputs(a, b, x)?;
+        let method = match self.opts.method {
+            Method::Auto => {
+                if a.n <= self.opts.direct_max_n {
+                    Method::Direct
+                } else if a.is_symmetric(SYMMETRY_TOL) {
+                    Method::AmgCg
+                } else {
+                    Method::AmgBicgstab
+                }
+            }
+            m => m,
+        };
+        match method {
+            Method::Direct => self.solve_direct(a, b, x),
+            Method::AmgCg | Method::AmgBicgstab => self.solve_amg(a, b, x, method == Method::AmgCg),
+            Method::JacobiCg | Method::JacobiBicgstab => {
+                self.setup = Setup::Jacobi;
+                let t0 = Instant::now();
+                let inv_diag = inverse_diagonal(a)?;
+                let m = Jacobi { inv_diag };
+                let setup_seconds = t0.elapsed().as_secs_f64();
+                let cg = method == Method::JacobiCg;
+                let name = if cg { "jacobi-cg" } else { "jacobi-bicgstab" };
+                let t1 = Instant::now();
+                let out = run_krylov(a, b, x, &m, cg, &self.opts);
+                let stats = LinearStats {
+                    method: name,
+                    iterations: out.iterations,
+                    rel_residual: out.rel_residual,
+                    setup_seconds,
+                    solve_seconds: t1.elapsed().as_secs_f64(),
+                    levels: 0,
+                    operator_complexity: 0.0,
+                    reused_setup: false,
+                };
+                finish(out, stats, &self.opts)
+            }
+            Method::Auto => unreachable!(),
+        }
+    }
+
+    fn solve_direct(&mut self, a: &CsrMatrix, b: &[f64], x: &mut [f64]) -> Result<LinearStats, LinearError> {
+        let t0 = Instant::now();
+        let mut reused = false;
+        let symbolic = match std::mem::replace(&mut self.setup, Setup::None) {
+            Setup::Direct { pattern, symbolic } if pattern.matches(a) => {
+                reused = true;
+                Some((pattern, symbolic))
+            }
+            _ => None,
+        };
+        let (pattern, mut symbolic) = match symbolic {
+            Some(p) => p,
+            None => {
+                let sym = a.is_symmetric(SYMMETRY_TOL);
+                (Pattern::of(a), DirectSymbolic::analyse(a, sym)?)
+            }
+        };
+        let factor = match symbolic.factor(a) {
+            Ok(f) => f,
+            Err(LinearError::Singular { .. }) if symbolic.is_cholesky() => {
+                // Symmetric but indefinite (or singular): try LU, which decides.
+                symbolic = DirectSymbolic::analyse(a, false)?;
+                symbolic.factor(a)?
+            }
+            Err(e) => return Err(e),
+        };
+        let setup_seconds = t0.elapsed().as_secs_f64();
+        self.setup = Setup::Direct { pattern, symbolic };
+
+        let t1 = Instant::now();
+        let bnorm = krylov::norm2(b);
+        let mut sol = b.to_vec();
+        factor.solve_in_place(&mut sol);
+        if sol.iter().any(|v| !v.is_finite()) {
+            return Err(LinearError::Singular {
+                detail: format!("{} produced non-finite values: the matrix is numerically singular", factor.name()),
+            });
+        }
+        let mut r = vec![0.0; a.n];
+        a.residual_into(b, &sol, &mut r);
+        let mut rel = if bnorm > 0.0 { krylov::norm2(&r) / bnorm } else { 0.0 };
+        // A few steps of iterative refinement if rounding left us above tol.
+        let mut steps = 0;
+        while rel > self.opts.rel_tol && steps < 3 {
+            factor.solve_in_place(&mut r);
+            if r.iter().any(|v| !v.is_finite()) {
+                break;
+            }
+            krylov::axpy(1.0, &r, &mut sol);
+            a.residual_into(b, &sol, &mut r);
+            let new_rel = krylov::norm2(&r) / bnorm;
+            steps += 1;
+            if !(new_rel < rel) {
+                rel = new_rel.min(rel);
+                break;
+            }
+            rel = new_rel;
+        }
+        let solve_seconds = t1.elapsed().as_secs_f64();
+        if !rel.is_finite() || rel > 1e-6_f64.max(self.opts.rel_tol) {
+            return Err(LinearError::Singular {
+                detail: format!(
+                    "{} left a relative residual of {rel:.3e}: the matrix is numerically singular",
+                    factor.name()
+                ),
+            });
+        }
+        if rel > self.opts.rel_tol {
+            return Err(LinearError::NotConverged {
+                method: factor.name(),
+                iterations: steps,
+                rel_residual: rel,
+                rel_tol: self.opts.rel_tol,
+                breakdown: false,
+            });
+        }
+        x.copy_from_slice(&sol);
+        Ok(LinearStats {
+            method: factor.name(),
+            iterations: steps,
+            rel_residual: rel,
+            setup_seconds,
+            solve_seconds,
+            levels: 0,
+            operator_complexity: 0.0,
+            reused_setup: reused,
+        })
+    }
+
+    fn solve_amg(&mut self, a: &CsrMatrix, b: &[f64], x: &mut [f64], cg: bool) -> Result<LinearStats, LinearError> {
+        let name = if cg { "amg-cg" } else { "amg-bicgstab" };
+        let x0: Vec<f64> = x.to_vec();
+        let mut setup_seconds = 0.0;
+        let reusable = match &self.setup {
+            Setup::Amg { pattern, stale, .. } => !*stale && pattern.matches(a),
+            _ => false,
+        };
+        if !reusable {
+            let t0 = Instant::now();
+            let hierarchy = AmgHierarchy::build(a, &self.opts.amg)?;
+            setup_seconds = t0.elapsed().as_secs_f64();
+            self.setup = Setup::Amg { pattern: Pattern::of(a), hierarchy, iterations_after_setup: None, stale: false };
+        }
+        let Setup::Amg { hierarchy, iterations_after_setup, stale, .. } = &mut self.setup else {
+            unreachable!()
+        };
+        let t1 = Instant::now();
+        let mut out = run_krylov(a, b, x, &*hierarchy, cg, &self.opts);
+        let mut reused = reusable;
+        let mut retry_setup = 0.0;
+        if reusable && !out.converged {
+            // The old hierarchy is not good enough any more: rebuild and retry.
+            x.copy_from_slice(&x0);
+            let t0 = Instant::now();
+            *hierarchy = AmgHierarchy::build(a, &self.opts.amg)?;
+            setup_seconds = t0.elapsed().as_secs_f64();
+            retry_setup = setup_seconds;
+            *iterations_after_setup = None;
+            reused = false;
+            out = run_krylov(a, b, x, &*hierarchy, cg, &self.opts);
+        }
+        match *iterations_after_setup {
+            None => *iterations_after_setup = Some(out.iterations),
+            Some(k0) => {
+                if out.iterations > (2 * k0).max(k0 + 4) {
+                    *stale = true;
+                }
+            }
+        }
+        let stats = LinearStats {
+            method: name,
+            iterations: out.iterations,
+            rel_residual: out.rel_residual,
+            setup_seconds,
+            solve_seconds: t1.elapsed().as_secs_f64() - retry_setup,
+            levels: hierarchy.levels(),
+            operator_complexity: hierarchy.operator_complexity(),
+            reused_setup: reused,
+        };
+        finish(out, stats, &self.opts)
+    }
+}
+
+fn run_krylov<P: Preconditioner>(
+    a: &CsrMatrix,
+    b: &[f64],
+    x: &mut [f64],
+    m: &P,
+    cg: bool,
+    opts: &SolverOptions,
+) -> KrylovOutcome {
+    if cg {
+        pcg(a, b, x, m, opts.rel_tol, opts.max_iter)
+    } else {
+        pbicgstab(a, b, x, m, opts.rel_tol, opts.max_iter)
+    }
+}
+
+fn finish(out: KrylovOutcome, stats: LinearStats, opts: &SolverOptions) -> Result<LinearStats, LinearError> {
+    if out.converged {
+        Ok(stats)
+    } else {
+        Err(LinearError::NotConverged {
+            method: stats.method,
+            iterations: out.iterations,
+            rel_residual: out.rel_residual,
+            rel_tol: opts.rel_tol,
+            breakdown: out.breakdown,
+        })
+    }
+}
+
+fn check_inputs(a: &CsrMatrix, b: &[f64], x: &[f64]) -> Result<(), LinearError> {
+    if a.row_ptr.len() != a.n + 1 || a.col_idx.len() != a.values.len() || a.row_ptr[a.n] != a.values.len() {
+        return Err(LinearError::Dimension { detail: "inconsistent CSR arrays".into() });
+    }
+    if b.len() != a.n || x.len() != a.n {
+        return Err(LinearError::Dimension {
+            detail: format!("matrix is {n} x {n}, b has {} entries, x has {}", b.len(), x.len(), n = a.n),
+        });
+    }
+    if let Some((i, j)) = a.first_non_finite() {
+        return Err(LinearError::NonFinite { detail: format!("matrix entry ({i}, {j}) is {}", a.get(i, j)) });
+    }
+    if let Some(i) = b.iter().position(|v| !v.is_finite()) {
+        return Err(LinearError::NonFinite { detail: format!("right-hand side entry {i} is {}", b[i]) });
+    }
+    if let Some(i) = x.iter().position(|v| !v.is_finite()) {
+        return Err(LinearError::NonFinite { detail: format!("initial guess entry {i} is {}", x[i]) });
+    }
+    Ok(())
+}
+
+/// 1 / a_ii, or a `Singular` error naming the first row with a zero diagonal.
+pub(crate) fn inverse_diagonal(a: &CsrMatrix) -> Result<Vec<f64>, LinearError> {
+    let d = a.diagonal();
+    if let Some(i) = d.iter().position(|&v| v == 0.0) {
+        return Err(LinearError::Singular {
+            detail: format!("row {i} has a zero diagonal (a cell with no connection, well or accumulation term?)"),
+        });
+    }
+    Ok(d.iter().map(|v| 1.0 / v).collect())
+}
