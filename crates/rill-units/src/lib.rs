@@ -98,6 +98,8 @@ impl Dim {
     /// Reservoir rate per pressure (`md*ft^2/(cP*ft)`, `m^3/(Pa*s)`), the
     /// transmissibility before division by the formation volume factor.
     pub const RESERVOIR_RATE_PER_PRESSURE: Dim = Dim::new(4, -1, 1, 0);
+    /// Permeability per viscosity (`md/cP`).
+    pub const MOBILITY: Dim = Dim::new(3, -1, 1, 0);
 
     /// True for the dimensionless vector.
     pub const fn is_none(self) -> bool {
@@ -164,6 +166,7 @@ impl Dim {
             Dim::PRESSURE_GRADIENT => "pressure gradient",
             Dim::SURFACE_RATE_PER_PRESSURE => "surface rate per pressure",
             Dim::RESERVOIR_RATE_PER_PRESSURE => "reservoir rate per pressure",
+            Dim::MOBILITY => "mobility",
             _ if self == Dim::FVF.pow(-1) => "surface volume per reservoir volume",
             _ if self == Dim::new(-1, 0, 0, 0) => "inverse length",
             _ if self == Dim::new(0, 0, -1, 0) => "frequency",
@@ -225,7 +228,7 @@ impl fmt::Display for Dim {
 
 /// One standard atmosphere in Pa (NIST SP 811, exact), the offset of the
 /// gauge units.
-pub const STANDARD_ATMOSPHERE_PA: f64 = 101_325.0;
+pub const STANDARD_ATMOSPHERE_PA: f64 = 101325.0;
 
 /// A parsed unit: SI value = number * `factor`, plus one standard
 /// atmosphere when `gauge`.
@@ -289,22 +292,17 @@ impl UnitDef {
 // NIST Special Publication 811 (2008), Appendix B.
 const FT: f64 = 0.3048;
 const IN: f64 = 0.0254;
-const LB: f64 = 0.453_592_37;
+const LB: f64 = 0.45359237;
 /// Standard acceleration of gravity, m/s^2 (exact by definition).
-const G_N: f64 = 9.806_65;
+const G_N: f64 = 9.80665;
 const LBF: f64 = LB * G_N;
 /// lbf / in^2 = 6894.757293168...
 const PSI: f64 = LBF / (IN * IN);
-const BBL: f64 = 0.158_987_294_928;
-const DARCY: f64 = 9.869_233e-13;
-const DAY: f64 = 86_400.0;
+const BBL: f64 = 0.158987294928;
+const DARCY: f64 = 9.869233e-13;
+const DAY: f64 = 86400.0;
 
-const fn def(
-    name: &'static str,
-    factor: f64,
-    dim: Dim,
-    description: &'static str,
-) -> UnitDef {
+const fn def(name: &'static str, factor: f64, dim: Dim, description: &'static str) -> UnitDef {
     UnitDef {
         name,
         factor,
@@ -323,18 +321,48 @@ static REGISTRY: &[UnitDef] = &[
     def("ft", FT, Dim::LENGTH, "foot (0.3048 m)"),
     def("in", IN, Dim::LENGTH, "inch (0.0254 m)"),
     // area and permeability
-    def("acre", 4046.856_422_4, Dim::AREA, "international acre (4046.8564224 m^2)"),
-    def("darcy", DARCY, Dim::PERMEABILITY, "darcy (9.869233e-13 m^2)"),
-    def("md", DARCY * 1e-3, Dim::PERMEABILITY, "millidarcy (9.869233e-16 m^2)"),
-    def("mD", DARCY * 1e-3, Dim::PERMEABILITY, "millidarcy, alias of md"),
+    def(
+        "acre",
+        4046.8564224,
+        Dim::AREA,
+        "international acre (4046.8564224 m^2)",
+    ),
+    def(
+        "darcy",
+        DARCY,
+        Dim::PERMEABILITY,
+        "darcy (9.869233e-13 m^2)",
+    ),
+    def(
+        "md",
+        DARCY * 1e-3,
+        Dim::PERMEABILITY,
+        "millidarcy (9.869233e-16 m^2)",
+    ),
+    def(
+        "mD",
+        DARCY * 1e-3,
+        Dim::PERMEABILITY,
+        "millidarcy, alias of md",
+    ),
     // pressure
     def("Pa", 1.0, Dim::PRESSURE, "pascal"),
     def("mPa", 1e-3, Dim::PRESSURE, "millipascal (not MPa)"),
     def("kPa", 1e3, Dim::PRESSURE, "kilopascal"),
     def("MPa", 1e6, Dim::PRESSURE, "megapascal"),
     def("bar", 1e5, Dim::PRESSURE, "bar (1e5 Pa)"),
-    def("atm", STANDARD_ATMOSPHERE_PA, Dim::PRESSURE, "standard atmosphere (101325 Pa)"),
-    def("psi", PSI, Dim::PRESSURE, "pound-force per square inch (6894.757 Pa)"),
+    def(
+        "atm",
+        STANDARD_ATMOSPHERE_PA,
+        Dim::PRESSURE,
+        "standard atmosphere (101325 Pa)",
+    ),
+    def(
+        "psi",
+        PSI,
+        Dim::PRESSURE,
+        "pound-force per square inch (6894.757 Pa)",
+    ),
     def("psia", PSI, Dim::PRESSURE, "psi absolute, same as psi"),
     UnitDef {
         name: "psig",
@@ -360,17 +388,57 @@ static REGISTRY: &[UnitDef] = &[
     def("day", DAY, Dim::TIME, "day (86400 s)"),
     def("yr", 365.25 * DAY, Dim::TIME, "year of 365.25 days"),
     // reservoir volume
-    def("m3", 1.0, Dim::RESERVOIR_VOLUME, "cubic metre (reservoir volume)"),
+    def(
+        "m3",
+        1.0,
+        Dim::RESERVOIR_VOLUME,
+        "cubic metre (reservoir volume)",
+    ),
     def("cm3", 1e-6, Dim::RESERVOIR_VOLUME, "cubic centimetre"),
-    def("ft3", FT * FT * FT, Dim::RESERVOIR_VOLUME, "cubic foot (reservoir volume)"),
-    def("bbl", BBL, Dim::RESERVOIR_VOLUME, "oil barrel, 42 US gal (reservoir volume)"),
-    def("rb", BBL, Dim::RESERVOIR_VOLUME, "reservoir barrel (0.158987294928 m^3)"),
+    def(
+        "ft3",
+        FT * FT * FT,
+        Dim::RESERVOIR_VOLUME,
+        "cubic foot (reservoir volume)",
+    ),
+    def(
+        "bbl",
+        BBL,
+        Dim::RESERVOIR_VOLUME,
+        "oil barrel, 42 US gal (reservoir volume)",
+    ),
+    def(
+        "rb",
+        BBL,
+        Dim::RESERVOIR_VOLUME,
+        "reservoir barrel (0.158987294928 m^3)",
+    ),
     def("rm3", 1.0, Dim::RESERVOIR_VOLUME, "reservoir cubic metre"),
     // surface volume
-    def("stb", BBL, Dim::SURFACE_VOLUME, "stock-tank barrel (surface volume)"),
-    def("Mstb", BBL * 1e3, Dim::SURFACE_VOLUME, "thousand stock-tank barrels"),
-    def("MMstb", BBL * 1e6, Dim::SURFACE_VOLUME, "million stock-tank barrels"),
-    def("sm3", 1.0, Dim::SURFACE_VOLUME, "standard cubic metre (surface volume)"),
+    def(
+        "stb",
+        BBL,
+        Dim::SURFACE_VOLUME,
+        "stock-tank barrel (surface volume)",
+    ),
+    def(
+        "Mstb",
+        BBL * 1e3,
+        Dim::SURFACE_VOLUME,
+        "thousand stock-tank barrels",
+    ),
+    def(
+        "MMstb",
+        BBL * 1e6,
+        Dim::SURFACE_VOLUME,
+        "million stock-tank barrels",
+    ),
+    def(
+        "sm3",
+        1.0,
+        Dim::SURFACE_VOLUME,
+        "standard cubic metre (surface volume)",
+    ),
     // viscosity
     def("cP", 1e-3, Dim::VISCOSITY, "centipoise (1e-3 Pa s)"),
     // mass
@@ -628,7 +696,8 @@ impl Parser<'_> {
             }
             Some(c) if c.is_ascii_alphabetic() => {
                 let mut end = self.pos + 1;
-                while end < bytes.len() && (bytes[end].is_ascii_alphanumeric() || bytes[end] == b'_')
+                while end < bytes.len()
+                    && (bytes[end].is_ascii_alphanumeric() || bytes[end] == b'_')
                 {
                     end += 1;
                 }
@@ -664,10 +733,27 @@ impl Parser<'_> {
     fn named(&mut self, name: &str, start: usize) -> Result<Parsed, UnitError> {
         let end = self.pos;
         let Some(def) = lookup(name) else {
+            // A suggestion replaces the name in place: where it is a compound
+            // (`stb/day`) after a `/` or before a `^`, bracket it so that the
+            // meaning is kept (`1/(lb/ft^3)`).
+            let after_slash = self.text[..start].trim_end().ends_with('/');
+            let before_caret = self.text[end..].trim_start().starts_with('^');
+            let suggestions = suggest(name)
+                .into_iter()
+                .map(|s| {
+                    let compound = s.contains(['*', '/']);
+                    if (after_slash && compound) || (before_caret && (compound || s.contains('^')))
+                    {
+                        format!("({s})")
+                    } else {
+                        s
+                    }
+                })
+                .collect();
             return Err(UnitError {
                 kind: UnitErrorKind::Unknown {
                     name: name.to_string(),
-                    suggestions: suggest(name),
+                    suggestions,
                 },
                 start,
                 end,
@@ -853,11 +939,7 @@ pub fn suggest(name: &str) -> Vec<String> {
                     .then(|| (dist, strsim::jaro_winkler(&lower, &cand), i, d.name))
             })
             .collect();
-        scored.sort_by(|a, b| {
-            a.0.cmp(&b.0)
-                .then(b.1.total_cmp(&a.1))
-                .then(a.2.cmp(&b.2))
-        });
+        scored.sort_by(|a, b| a.0.cmp(&b.0).then(b.1.total_cmp(&a.1)).then(a.2.cmp(&b.2)));
         for (_, _, _, n) in scored {
             push_unique(&mut out, n);
         }
@@ -899,6 +981,8 @@ pub fn accepted_units(dim: Dim) -> Vec<String> {
         Dim::FVF => &["rb/stb", "rm3/sm3"],
         Dim::PRESSURE_GRADIENT => &["psi/ft", "bar/m", "kPa/m"],
         Dim::SURFACE_RATE_PER_PRESSURE => &["stb/day/psi", "sm3/day/bar"],
+        Dim::RESERVOIR_RATE_PER_PRESSURE => &["rb/day/psi", "rm3/day/bar"],
+        Dim::MOBILITY => &["md/cP", "darcy/cP", "m^2/(Pa*s)"],
         Dim::FORCE => &["lbf", "N"],
         _ => &[],
     };
@@ -926,7 +1010,9 @@ const SI_BASES: &[&str] = &["sm3", "Pa", "m", "s", "kg"];
 fn compose(dim: Dim, bases: &[&str]) -> Option<String> {
     const EXPS: [i8; 6] = [1, -1, 2, -2, 3, -3];
     let defs: Vec<&UnitDef> = bases.iter().filter_map(|b| lookup(b)).collect();
-    let mut best: Option<((usize, i32, usize), Vec<(usize, i8)>)> = None;
+    // (factors, total |exponent|, sum of base indices): lower is simpler.
+    type Score = (usize, i32, usize);
+    let mut best: Option<(Score, Vec<(usize, i8)>)> = None;
     let mut consider = |factors: Vec<(usize, i8)>| {
         let mut d = Dim::NONE;
         for &(i, e) in &factors {
@@ -1176,21 +1262,19 @@ pub fn format_number(v: f64) -> String {
     if v == 0.0 {
         return "0".to_string();
     }
-    let a = v.abs();
+    // Round to six significant digits first, so that the form is chosen
+    // from the number shown (999999.7 shows as 1000000, 9999999 as 1e7).
+    let sci = format!("{v:.5e}");
+    let rounded: f64 = sci.parse().unwrap_or(v);
+    let a = rounded.abs();
     if !(1e-4..1e7).contains(&a) {
-        let s = format!("{v:.5e}");
-        let (mant, exp) = s.split_once('e').unwrap_or((&s, "0"));
+        let (mant, exp) = sci.split_once('e').unwrap_or((&sci, "0"));
         return format!("{}e{exp}", trim_zeros(mant));
     }
     let mag = a.log10().floor() as i32;
     let decimals = (5 - mag).max(0) as usize;
-    let s = format!("{v:.decimals$}");
-    let s = trim_zeros(&s);
-    if s == "-0" {
-        "0".to_string()
-    } else {
-        s.to_string()
-    }
+    let s = format!("{rounded:.decimals$}");
+    trim_zeros(&s).to_string()
 }
 
 fn trim_zeros(s: &str) -> &str {
