@@ -889,7 +889,7 @@ pub fn suggest(name: &str) -> Vec<String> {
     let mut out: Vec<String> = Vec::new();
     let lower = name.to_lowercase();
     for d in REGISTRY {
-        if d.name != name && d.name.to_lowercase() == lower {
+        if d.name != name && d.name.eq_ignore_ascii_case(name) {
             push_unique(&mut out, d.name);
         }
     }
@@ -897,15 +897,13 @@ pub fn suggest(name: &str) -> Vec<String> {
     if let Some(split) = name.find(|c: char| c.is_ascii_digit()) {
         let (base, digits) = name.split_at(split);
         if digits.bytes().all(|b| b.is_ascii_digit()) && digits != "1" && !base.is_empty() {
-            let bases: Vec<&str> = std::iter::once(lookup(base).map(|d| d.name))
-                .flatten()
-                .chain(
-                    REGISTRY
-                        .iter()
-                        .filter(|d| d.name != base && d.name.to_lowercase() == base.to_lowercase())
-                        .map(|d| d.name),
-                )
+            let mut bases: Vec<&str> = REGISTRY
+                .iter()
+                .filter(|d| d.name.eq_ignore_ascii_case(base))
+                .map(|d| d.name)
                 .collect();
+            // The exact spelling first.
+            bases.sort_by_key(|b| *b != base);
             for b in bases {
                 let candidate = format!("{b}^{digits}");
                 if parse(&candidate).is_ok() {
@@ -1242,8 +1240,8 @@ pub fn display_unit(kind: Kind, system: System) -> DisplayUnit {
             })
             .collect()
     });
-    let k = Kind::ALL.iter().position(|k| *k == kind).unwrap_or(0);
-    table[k][system_index(system)]
+    // `Kind::ALL` lists the variants in declaration order.
+    table[kind as usize][system_index(system)]
 }
 
 /// `si` shown in the display unit of `kind` under `system`, e.g.

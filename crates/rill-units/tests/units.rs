@@ -381,10 +381,18 @@ fn unknown_names_have_spans_and_suggestions() {
         matches!(&e.kind, UnitErrorKind::Unknown { suggestions, .. } if suggestions == &["psi"])
     );
 
-    // Byte offsets, not characters: the name after a two-byte `µ`... is
-    // never reached, the `µ` itself is the syntax error.
+    // Spans are byte offsets: `µ` and `°` (two bytes each) are not name
+    // letters, and their spans cover both bytes.
     let e = err("µm");
     assert_eq!((e.start, e.end), (0, 2));
+    let e = err("m/µ");
+    assert_eq!((e.start, e.end), (2, 4));
+    let e = err("(µ)");
+    assert_eq!((e.start, e.end), (1, 3));
+    let e = err("°x");
+    assert_eq!((e.start, e.end), (0, 2));
+    let e = err(" ft*lbm ");
+    assert_eq!((e.start, e.end), (4, 7));
 }
 
 #[test]
@@ -615,6 +623,9 @@ fn systems_by_name() {
 
 #[test]
 fn display_unit_names() {
+    for (i, k) in Kind::ALL.iter().enumerate() {
+        assert_eq!(*k as usize, i, "Kind::ALL is in declaration order");
+    }
     let field: Vec<&str> = Kind::ALL
         .iter()
         .map(|&k| display_unit(k, System::Field).name)
