@@ -1,0 +1,412 @@
+//! The canonical formatter: a pure function of the tree and its comments.
+//!
+//! The source text is read only for layout facts that the tree does not
+//! hold: whether two nodes were on the same line (trailing comments,
+//! one-line blocks) and whether the user left a blank line between two
+//! items. Everything printed comes from the tree: numbers from `raw`, units
+//! from their text, strings re-escaped from their value.
+//!
+//! Rules:
+//! - A file with syntax errors is returned unchanged.
+//! - Two spaces of indentation per block level; one item per line; `;`
+//!   between statements becomes a line break (except in one-line blocks).
+//! - `key = value`; one space between atoms; a number and its unit are
+//!   separated by one space (`250 md`, `22 %`), as are a string or `]` and
+//!   its unit; operators have a space on both sides (`0.1 * kx`); negative
+//!   numbers keep their sign glued (`kx * -1`); ranges `1..5`; sizes
+//!   `30 x 20 x 4`; tuples `(15, 10, 1)`; selectors `i = 12..14`.
+//! - Lists are `[a b c]` with single spaces and no commas, except that a
+//!   comma is kept where, without it, the next item would be read as the
+//!   unit of the one before or would extend a size (`[1, md]`, `[30, x]`).
+//!   A line longer than 100 columns is wrapped between list or tuple items,
+//!   filling each line; continuation lines are indented one level deeper.
+//!   A comment inside a list stays where it was, at the end of its line,
+//!   and the list goes on on the next line.
+//! - A block stays on one line (`well "A" { control = bhp 1500 psi }`, with
+//!   `; ` between its items, `name {}` when empty) when it was on one line
+//!   and still fits in 100 columns; otherwise it is expanded, one item per
+//!   line, with `}` on its own line.
+//! - Exactly one blank line before and after every top-level block (a
+//!   comment group right above a block stays attached to it); elsewhere at
+//!   most one blank line, kept only where the user had at least one. No
+//!   blank line at the start or end of a block or of the file.
+//! - Comments are kept in order with their text (trailing whitespace
+//!   removed): an own-line comment stays on its own line before the next
+//!   item, at that item's indentation; a trailing comment stays after its
+//!   item on the same line, two spaces after it; a comment after `{` stays
+//!   after the `{`.
+//! - The output ends with exactly one line break (an empty file stays empty).
+
+use crate::ast::*;
+
+/// Line width that wrapping and one-line blocks respect.
+pub const WIDTH: usize = 100;
+
+pub fn format(file: &SourceFile, text: &str) -> String {
+    if !file.errors.is_empty() || file.len != text.len() {
+        return text.to_string();
+    }
+    let mut f = Fmt { text, comments: &file.comments, next: 0, out: String::new() };
+    f.container(&file.items, 0, true, text.len());
+    // Comments that no container claimed (not reached for a tree from `parse`).
+    while f.next < f.comments.len() {
+        let c = comment_text(&f.comments[f.next]);
+        f.line(0, &c);
+        f.next += 1;
+    }
+    f.out
+}
+
+struct Fmt<'a> {
+    text: &'a str,
+    comments: &'a [Comment],
+    /// The first comment not yet printed.
+    next: usize,
+    out: String,
+}
+
+struct Word {
+    text: String,
+    /// A space before this word (else glued to the one before).
+    space: bool,
+    /// A line break may replace that space (inside brackets).
+    brk: bool,
+    comment: bool,
+}
+
+fn word(text: String, space: bool, brk: bool) -> Word {
+    Word { text, space, brk, comment: false }
+}
+
+fn comment_text(c: &Comment) -> String {
+    format!("#{}", c.text.trim_end())
+}
+
+fn indent(level: usize) -> String {
+    "  ".repeat(level)
+}
+
+pub(crate) fn quote_str(value: &str) -> String {
+    let mut s = String::with_capacity(value.len() + 2);
+    s.push('"');
+    for c in value.chars() {
+        if c == '"' || c == '\\' {
+            s.push('\\');
+        }
+        s.push(c);
+    }
+    s.push('"');
+    s
+}
+
+fn with_unit(mut s: String, unit: &Option<UnitExpr>) -> String {
+    if let Some(u) = unit {
+        s.push(' ');
+        s.push_str(&u.text);
+    }
+    s
+}
+
+/// Would `next`, written after `prev` with only a space between them, be
+/// read as `prev`'s unit or as part of a size?
+fn needs_comma(prev: &Atom, next: &Atom) -> bool {
+    let takes_unit = matches!(
+        &prev.kind,
+        AtomKind::Number { unit: None, .. }
+            | AtomKind::Str { unit: None, .. }
+            | AtomKind::List { unit: None, .. }
+            | AtomKind::Size(_)
+    );
+    takes_unit && matches!(next.kind, AtomKind::Ident(_) | AtomKind::Tuple { .. } | AtomKind::Selector { .. })
+}
+
+impl<'a> Fmt<'a> {
+    fn line(&mut self, level: usize, content: &str) {
+        self.out.push_str(&indent(level));
+        self.out.push_str(content);
+        self.out.push('\n');
+    }
+
+    /// Line breaks in the source between two offsets.
+    fn breaks(&self, a: usize, b: usize) -> usize {
+        let s = self.text.get(a.min(b)..b).unwrap_or("");
+        let bytes = s.as_bytes();
+        let mut n = 0;
+        for (i, &c) in bytes.iter().enumerate() {
+            if c == b'\n' || (c == b'\r' && bytes.get(i + 1) != Some(&b'\n')) {
+                n += 1;
+            }
+        }
+        n
+    }
+
+    fn peek_comment(&self) -> Option<&'a Comment> {
+        self.comments.get(self.next)
+    }
+
+    fn separator(&mut self, prev_end: Option<usize>, next_start: usize, force: bool) {
+        if let Some(p) = prev_end {
+            if force || self.breaks(p, next_start) >= 2 {
+                self.out.push('\n');
+            }
+        }
+    }
+
+    /// Prints a comment that starts on the line where `end` is, before
+    /// `limit`, after two spaces. Returns the new end.
+    fn trailing(&mut self, end: usize, limit: usize) -> usize {
+        if let Some(c) = self.peek_comment() {
+            if c.span.start >= end && c.span.start < limit && self.breaks(end, c.span.start) == 0 {
+                self.out.push_str("  ");
+                self.out.push_str(&comment_text(c));
+                self.next += 1;
+                return c.span.end;
+            }
+        }
+        end
+    }
+
+    /// The items of a file (`top`) or of a block body that ends at `end`.
+    fn container(&mut self, items: &[Item], level: usize, top: bool, end: usize) {
+        let mut prev_end: Option<usize> = None;
+        let mut prev_block = false;
+        for (idx, item) in items.iter().enumerate() {
+            let start = item.span().start;
+            let is_block = matches!(item, Item::Block(_));
+            let force = top && (prev_block || is_block);
+            let mut first = true;
+            while let Some(c) = self.peek_comment().filter(|c| c.span.start < start) {
+                self.separator(prev_end, c.span.start, force && first);
+                first = false;
+                self.line(level, &comment_text(c));
+                self.next += 1;
+                prev_end = Some(c.span.end);
+            }
+            self.separator(prev_end, start, force && first);
+            let limit = items.get(idx + 1).map_or(end, |n| n.span().start);
+            prev_end = Some(self.item(item, level, limit));
+            prev_block = is_block;
+        }
+        let mut first = true;
+        while let Some(c) = self.peek_comment().filter(|c| c.span.start < end) {
+            self.separator(prev_end, c.span.start, top && prev_block && first);
+            first = false;
+            self.line(level, &comment_text(c));
+            self.next += 1;
+            prev_end = Some(c.span.end);
+        }
+    }
+
+    /// Prints one item and its trailing comment; returns its end in the source.
+    fn item(&mut self, item: &Item, level: usize, limit: usize) -> usize {
+        let words = match item {
+            Item::Block(b) => return self.block(b, level, limit),
+            Item::Statement(s) => self.statement_words(s),
+            Item::Directive(d) => self.directive_words(d),
+        };
+        let text = layout(&words, level);
+        self.out.push_str(&indent(level));
+        self.out.push_str(&text);
+        let end = self.trailing(item.span().end, limit);
+        self.out.push('\n');
+        end
+    }
+
+    fn statement_words(&mut self, s: &Statement) -> Vec<Word> {
+        let mut words = vec![word(s.key.name.clone(), false, false), word("=".into(), true, false)];
+        for a in &s.value.atoms {
+            self.atom_words(a, &mut words, true, 0);
+        }
+        words
+    }
+
+    fn directive_words(&mut self, d: &Directive) -> Vec<Word> {
+        let mut words = vec![word(d.name.name.clone(), false, false)];
+        for a in &d.args {
+            self.atom_words(a, &mut words, true, 0);
+        }
+        words
+    }
+
+    fn block(&mut self, b: &Block, level: usize, limit: usize) -> usize {
+        let close_start = b.close.map_or(b.span.end, |c| c.start);
+        let close_end = b.close.map_or(b.span.end, |c| c.end);
+        if self.one_line_source(b) {
+            let saved = self.next;
+            let s = self.inline_block(b);
+            if self.next == saved && level * 2 + s.chars().count() <= WIDTH {
+                self.out.push_str(&indent(level));
+                self.out.push_str(&s);
+                let end = self.trailing(close_end, limit);
+                self.out.push('\n');
+                return end;
+            }
+            self.next = saved;
+        }
+        let mut words = vec![word(b.name.name.clone(), false, false)];
+        for a in &b.args {
+            self.atom_words(a, &mut words, true, 0);
+        }
+        words.push(word("{".into(), true, false));
+        let text = layout(&words, level);
+        self.out.push_str(&indent(level));
+        self.out.push_str(&text);
+        let first = b.items.first().map_or(close_start, |i| i.span().start);
+        self.trailing(b.open.end, first);
+        self.out.push('\n');
+        self.container(&b.items, level + 1, false, close_start);
+        self.out.push_str(&indent(level));
+        self.out.push('}');
+        let end = self.trailing(close_end, limit);
+        self.out.push('\n');
+        end
+    }
+
+    /// Was the whole block, header to `}`, on one line without comments?
+    fn one_line_source(&self, b: &Block) -> bool {
+        b.close.is_some()
+            && self.breaks(b.span.start, b.span.end) == 0
+            && self.peek_comment().map_or(true, |c| c.span.start >= b.span.end)
+    }
+
+    fn inline_item(&mut self, item: &Item) -> String {
+        match item {
+            Item::Block(b) => self.inline_block(b),
+            Item::Statement(s) => {
+                let w = self.statement_words(s);
+                inline(&w)
+            }
+            Item::Directive(d) => {
+                let w = self.directive_words(d);
+                inline(&w)
+            }
+        }
+    }
+
+    fn inline_block(&mut self, b: &Block) -> String {
+        let mut words = vec![word(b.name.name.clone(), false, false)];
+        for a in &b.args {
+            self.atom_words(a, &mut words, true, 0);
+        }
+        let mut s = inline(&words);
+        if b.items.is_empty() {
+            s.push_str(" {}");
+            return s;
+        }
+        s.push_str(" { ");
+        for (i, item) in b.items.iter().enumerate() {
+            if i > 0 {
+                s.push_str("; ");
+            }
+            s.push_str(&self.inline_item(item));
+        }
+        s.push_str(" }");
+        s
+    }
+
+    /// Comments before `limit` inside brackets, as words.
+    fn stream_comments(&mut self, limit: usize, words: &mut Vec<Word>) {
+        while let Some(c) = self.peek_comment().filter(|c| c.span.start < limit) {
+            words.push(Word { text: comment_text(c), space: true, brk: true, comment: true });
+            self.next += 1;
+        }
+    }
+
+    fn atom_words(&mut self, atom: &Atom, words: &mut Vec<Word>, space: bool, inside: usize) {
+        let brk = inside > 0;
+        match &atom.kind {
+            AtomKind::Number { raw, unit, .. } => words.push(word(with_unit(raw.clone(), unit), space, brk)),
+            AtomKind::Ident(name) => words.push(word(name.clone(), space, brk)),
+            AtomKind::Str { value, unit } => words.push(word(with_unit(quote_str(value), unit), space, brk)),
+            AtomKind::Range { start, end } => words.push(word(format!("{start}..{end}"), space, brk)),
+            AtomKind::Size(v) => {
+                let parts: Vec<String> = v.iter().map(|n| n.to_string()).collect();
+                words.push(word(parts.join(" x "), space, brk));
+            }
+            AtomKind::Op(op) => words.push(word(op.as_char().to_string(), space, brk)),
+            AtomKind::Selector { key, value } => {
+                words.push(word(key.name.clone(), space, brk));
+                words.push(word("=".into(), true, brk));
+                self.atom_words(value, words, true, inside);
+            }
+            AtomKind::List { items, unit, close } => {
+                words.push(word("[".into(), space, brk));
+                for (i, it) in items.iter().enumerate() {
+                    if i > 0 && needs_comma(&items[i - 1], it) {
+                        if let Some(w) = words.last_mut() {
+                            w.text.push(',');
+                        }
+                    }
+                    self.stream_comments(it.span.start, words);
+                    self.atom_words(it, words, i > 0, inside + 1);
+                }
+                self.stream_comments(close.map_or(atom.span.end, |c| c.start), words);
+                words.push(word(with_unit("]".into(), unit), false, true));
+            }
+            AtomKind::Tuple { items, close } => {
+                words.push(word("(".into(), space, brk));
+                for (i, it) in items.iter().enumerate() {
+                    if i > 0 {
+                        if let Some(w) = words.last_mut() {
+                            w.text.push(',');
+                        }
+                    }
+                    self.stream_comments(it.span.start, words);
+                    self.atom_words(it, words, i > 0, inside + 1);
+                }
+                self.stream_comments(close.map_or(atom.span.end, |c| c.start), words);
+                words.push(word(")".into(), false, true));
+            }
+        }
+    }
+}
+
+/// Words on one line.
+fn inline(words: &[Word]) -> String {
+    let mut s = String::new();
+    for w in words {
+        if w.space && !s.is_empty() {
+            s.push(' ');
+        }
+        s.push_str(&w.text);
+    }
+    s
+}
+
+/// Words filled into lines of at most [`WIDTH`] columns where breaks are
+/// allowed; continuation lines one level deeper. The first line's
+/// indentation is not included.
+fn layout(words: &[Word], level: usize) -> String {
+    let cont = indent(level + 1);
+    let mut s = String::new();
+    let mut col = level * 2;
+    let mut on_line = 0usize;
+    let mut after_comment = false;
+    for w in words {
+        let len = w.text.chars().count();
+        if after_comment {
+            s.push('\n');
+            s.push_str(&cont);
+            col = cont.len();
+            on_line = 0;
+        } else if w.comment {
+            s.push_str("  ");
+            col += 2;
+        } else if w.space {
+            if w.brk && on_line > 0 && col + 1 + len > WIDTH {
+                s.push('\n');
+                s.push_str(&cont);
+                col = cont.len();
+                on_line = 0;
+            } else {
+                s.push(' ');
+                col += 1;
+            }
+        }
+        s.push_str(&w.text);
+        col += len;
+        on_line += 1;
+        after_comment = w.comment;
+    }
+    s
+}
