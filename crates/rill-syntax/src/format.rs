@@ -140,6 +140,11 @@ impl<'a> Fmt<'a> {
         n
     }
 
+    /// Is there a line break in the source between two offsets?
+    fn has_break(&self, a: usize, b: usize) -> bool {
+        self.text.get(a.min(b)..b).unwrap_or("").contains(['\n', '\r'])
+    }
+
     fn peek_comment(&self) -> Option<&'a Comment> {
         self.comments.get(self.next)
     }
@@ -156,7 +161,7 @@ impl<'a> Fmt<'a> {
     /// `limit`, after two spaces. Returns the new end.
     fn trailing(&mut self, end: usize, limit: usize) -> usize {
         if let Some(c) = self.peek_comment() {
-            if c.span.start >= end && c.span.start < limit && self.breaks(end, c.span.start) == 0 {
+            if c.span.start >= end && c.span.start < limit && !self.has_break(end, c.span.start) {
                 self.out.push_str("  ");
                 self.out.push_str(&comment_text(c));
                 self.next += 1;
@@ -265,7 +270,7 @@ impl<'a> Fmt<'a> {
     /// Was the whole block, header to `}`, on one line without comments?
     fn one_line_source(&self, b: &Block) -> bool {
         b.close.is_some()
-            && self.breaks(b.span.start, b.span.end) == 0
+            && !self.has_break(b.span.start, b.span.end)
             && self.peek_comment().map_or(true, |c| c.span.start >= b.span.end)
     }
 

@@ -89,13 +89,19 @@ pub(crate) fn size_tail(i: &str) -> IResult<&str, Vec<&str>> {
     many1(preceded(tuple((hspace0, char('x'), hspace0)), digit1))(i)
 }
 
-/// `term := name ("^" int)? | "1" | "%" | "(" expr ")"`.
+/// `^2`, `^-1`, `^+3`.
+fn unit_exponent(i: &str) -> IResult<&str, &str> {
+    recognize(tuple((char('^'), opt(one_of("+-")), digit1)))(i)
+}
+
+/// `term := name ("^" int)? | "1" | "%" | "(" expr ")" ("^" int)?` (a
+/// group may carry an exponent, as `rill-units` accepts: `(m/s)^2`).
 fn unit_term(i: &str, depth: u32) -> IResult<&str, &str> {
     alt((
-        recognize(pair(ident, opt(pair(char('^'), pair(opt(char('-')), digit1))))),
+        recognize(pair(ident, opt(unit_exponent))),
         recognize(terminated(char('1'), not(satisfy(|c: char| c.is_ascii_digit())))),
         tag("%"),
-        move |i| unit_group(i, depth),
+        recognize(pair(move |i| unit_group(i, depth), opt(unit_exponent))),
     ))(i)
 }
 
@@ -557,7 +563,7 @@ mod tests {
 
     #[test]
     fn units_with_nom() {
-        for u in ["m3", "ft^3", "lb/ft^3", "1/psi", "rb/stb", "Pa*s", "%", "stb/day/psi", "(m/s)^2", "m^-1", "1/(psi*day)"] {
+        for u in ["m3", "ft^3", "lb/ft^3", "1/psi", "rb/stb", "Pa*s", "%", "stb/day/psi", "(m/s)^2", "m^-1", "m^+2", "1/(psi*day)"] {
             assert_eq!(unit_expr(u).unwrap(), ("", u), "{u}");
         }
         assert_eq!(unit_expr("md,").unwrap(), (",", "md"));

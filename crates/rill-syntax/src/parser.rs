@@ -45,6 +45,9 @@ pub(crate) struct Parser<'a> {
     open: Vec<bool>,
     /// Number of blocks currently open.
     blocks: usize,
+    /// The last answer of [`line_starts_item`], so that nested open lists
+    /// ending at the same line break scan the next line once.
+    line_memo: Option<(usize, bool)>,
 }
 
 fn starts_atom(t: &Tok) -> bool {
@@ -89,7 +92,7 @@ impl<'a> Parser<'a> {
         let mut sink = Sink::default();
         let mut lx = Lexer::new(text, 0);
         let tok = lx.next(Some(&mut sink));
-        Parser { text, lx, tok, sink, open: Vec::new(), blocks: 0 }
+        Parser { text, lx, tok, sink, open: Vec::new(), blocks: 0, line_memo: None }
     }
 
     pub fn parse_file(mut self) -> SourceFile {
@@ -97,6 +100,19 @@ impl<'a> Parser<'a> {
         let mut errors = self.sink.errors;
         errors.sort_by_key(|e| (e.span.start, e.span.end));
         SourceFile { items, comments: self.sink.comments, errors, len: self.text.len() }
+    }
+
+    /// Does the line after the current line break start a new item?
+    fn next_line_starts_item(&mut self) -> bool {
+        let pos = self.tok.span.end;
+        if let Some((p, answer)) = self.line_memo {
+            if p == pos {
+                return answer;
+            }
+        }
+        let answer = line_starts_item(self.text, pos);
+        self.line_memo = Some((pos, answer));
+        answer
     }
 
     fn bump(&mut self) -> Token {
@@ -129,7 +145,7 @@ impl<'a> Parser<'a> {
             match &self.tok.tok {
                 Tok::Eof | Tok::Semi => return false,
                 Tok::Newline => {
-                    if depth == 0 || line_starts_item(self.text, self.tok.span.end) {
+                    if depth == 0 || self.next_line_starts_item() {
                         return false;
                     }
                 }
@@ -375,7 +391,7 @@ impl<'a> Parser<'a> {
         loop {
             match &self.tok.tok {
                 Tok::Newline => {
-                    if line_starts_item(self.text, self.tok.span.end) {
+                    if self.next_line_starts_item() {
                         self.unclosed(open, expected_close.clone());
                         break;
                     }
@@ -449,7 +465,11 @@ impl<'a> Parser<'a> {
         loop {
             match &self.tok.tok {
                 Tok::Eof | Tok::Semi | Tok::RBrace => return end,
-                Tok::Newline if line_starts_item(self.text, self.tok.span.end) => return end,
+                Tok::Newline => {
+                    if self.next_line_starts_item() {
+                        return end;
+                    }
+                }
                 Tok::LBracket | Tok::LParen => level += 1,
                 Tok::RBracket(_) | Tok::RParen => {
                     level -= 1;
