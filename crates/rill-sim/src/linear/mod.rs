@@ -30,6 +30,7 @@ mod csr;
 mod direct;
 mod krylov;
 mod market;
+mod sparse;
 #[cfg(test)]
 mod tests;
 
