@@ -1,7 +1,111 @@
-//! The `rill` binary. It parses arguments, reads files and renders results;
-//! it must not contain logic that the language server also needs.
+//! The `rill` binary: argument parsing, reading files from disk, and
+//! rendering results for a terminal or as JSON. It must not contain logic
+//! that the language server also needs; that lives in the library crates.
 
-fn main() {
-    eprintln!("rill: under construction");
-    std::process::exit(2);
+mod check;
+mod fmt;
+mod inspect;
+mod positions;
+
+use clap::{Parser, Subcommand, ValueEnum};
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+#[derive(Parser)]
+#[command(
+    name = "rill",
+    version,
+    about = "Check, inspect, format and run reservoir flow cases written in the rill case language"
+)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    Text,
+    Json,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Parse and check decks; report every problem found.
+    Check {
+        #[arg(required = true)]
+        files: Vec<PathBuf>,
+        #[arg(long, value_enum, default_value = "text")]
+        format: Format,
+    },
+    /// Show a cell: its properties, its six faces and any well in it.
+    Inspect {
+        file: PathBuf,
+        /// 1-based cell indices, e.g. `--cell 15,10,2`.
+        #[arg(long, value_name = "I,J,K")]
+        cell: String,
+        #[arg(long, value_enum, default_value = "text")]
+        format: Format,
+    },
+    /// Rewrite decks in the canonical layout; the meaning never changes.
+    Fmt {
+        #[arg(required = true)]
+        files: Vec<PathBuf>,
+        /// Report files that would change, write nothing.
+        #[arg(long)]
+        check: bool,
+    },
+    /// Explain a diagnostic code: what it means and how to fix it.
+    Explain { code: String },
+}
+
+fn main() -> ExitCode {
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            let usage = e.use_stderr();
+            let _ = e.print();
+            return if usage {
+                ExitCode::from(2)
+            } else {
+                ExitCode::SUCCESS
+            };
+        }
+    };
+    let code = match cli.command {
+        Command::Check { files, format } => check::run(&files, format),
+        Command::Inspect { file, cell, format } => inspect::run(&file, &cell, format),
+        Command::Fmt { files, check } => fmt::run(&files, check),
+        Command::Explain { code } => explain(&code),
+    };
+    ExitCode::from(code)
+}
+
+fn explain(code: &str) -> u8 {
+    match rill_model::explain::explain(code) {
+        Some(e) => {
+            println!("{}: {}\n", e.code, e.summary);
+            println!("{}\n", e.details);
+            println!("Wrong:\n{}\n", indent(e.wrong));
+            println!("Right:\n{}\n", indent(e.right));
+            println!("Fix: {}", e.fix);
+            0
+        }
+        None => {
+            let near =
+                rill_model::schema::nearest(code, rill_model::diagnostic::CODES.iter().copied());
+            eprintln!("error: `{code}` is not a rill diagnostic code");
+            if let Some(n) = near {
+                eprintln!("help: did you mean `{n}`?");
+            }
+            eprintln!("codes: {}", rill_model::diagnostic::CODES.join(", "));
+            2
+        }
+    }
+}
+
+fn indent(s: &str) -> String {
+    s.lines()
+        .map(|l| format!("    {l}"))
+        .collect::<Vec<_>>()
+        .join("\n")
 }

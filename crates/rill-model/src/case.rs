@@ -154,7 +154,14 @@ pub enum Side {
 }
 
 impl Side {
-    pub const ALL: [Side; 6] = [Side::West, Side::East, Side::South, Side::North, Side::Top, Side::Bottom];
+    pub const ALL: [Side; 6] = [
+        Side::West,
+        Side::East,
+        Side::South,
+        Side::North,
+        Side::Top,
+        Side::Bottom,
+    ];
     pub fn name(self) -> &'static str {
         match self {
             Side::West => "west",

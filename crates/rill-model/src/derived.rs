@@ -142,11 +142,28 @@ pub struct Face {
 /// Inactive cells (porosity 0) carry no flow.
 pub fn interior_face(grid: &Grid, rock: &Rock, c: usize, side: Side) -> Option<Face> {
     let n = neighbor(grid, c, side)?;
-    let (la, lb) = (half_length(grid, c, side), half_length(grid, n, opposite(side)));
-    let perm = harmonic_face_perm(normal_perm(rock, c, side), la, normal_perm(rock, n, side), lb);
+    let (la, lb) = (
+        half_length(grid, c, side),
+        half_length(grid, n, opposite(side)),
+    );
+    let perm = harmonic_face_perm(
+        normal_perm(rock, c, side),
+        la,
+        normal_perm(rock, n, side),
+        lb,
+    );
     let active = rock.is_active(c) && rock.is_active(n);
-    let geometric_trans = if active { perm * shared_area(grid, c, n, side) / (la + lb) } else { 0.0 };
-    Some(Face { side, neighbor: Some(n), perm, geometric_trans })
+    let geometric_trans = if active {
+        perm * shared_area(grid, c, n, side) / (la + lb)
+    } else {
+        0.0
+    };
+    Some(Face {
+        side,
+        neighbor: Some(n),
+        perm,
+        geometric_trans,
+    })
 }
 
 /// Half-cell transmissibility from the centre of `c` to its face on `side`:
@@ -158,7 +175,12 @@ pub fn boundary_face(grid: &Grid, rock: &Rock, c: usize, side: Side) -> Face {
     } else {
         0.0
     };
-    Face { side, neighbor: None, perm, geometric_trans }
+    Face {
+        side,
+        neighbor: None,
+        perm,
+        geometric_trans,
+    }
 }
 
 /// Fluid transmissibility at reference conditions: surface m^3 / (s Pa).
@@ -199,7 +221,11 @@ pub fn connections(grid: &Grid, rock: &Rock) -> Vec<Connection> {
         for side in [Side::East, Side::North, Side::Bottom] {
             if let Some(face) = interior_face(grid, rock, c, side) {
                 if face.geometric_trans > 0.0 {
-                    out.push(Connection { a: c, b: face.neighbor.unwrap_or(c), geometric_trans: face.geometric_trans });
+                    out.push(Connection {
+                        a: c,
+                        b: face.neighbor.unwrap_or(c),
+                        geometric_trans: face.geometric_trans,
+                    });
                 }
             }
         }
@@ -217,7 +243,8 @@ pub fn peaceman_radius(dx: f64, dy: f64, kx: f64, ky: f64) -> f64 {
         return 0.28 * (dx * dx + dy * dy).sqrt() / 2.0;
     }
     let r = ky / kx;
-    0.28 * (r.sqrt() * dx * dx + (1.0 / r).sqrt() * dy * dy).sqrt() / (r.powf(0.25) + (1.0 / r).powf(0.25))
+    0.28 * (r.sqrt() * dx * dx + (1.0 / r).sqrt() * dy * dy).sqrt()
+        / (r.powf(0.25) + (1.0 / r).powf(0.25))
 }
 
 /// Peaceman well index of one completion.
@@ -230,7 +257,13 @@ pub struct WellIndex {
 }
 
 /// Well index of a vertical completion in cell `completion.cell`.
-pub fn well_index(grid: &Grid, rock: &Rock, completion: &Completion, radius: f64, skin: f64) -> WellIndex {
+pub fn well_index(
+    grid: &Grid,
+    rock: &Rock,
+    completion: &Completion,
+    radius: f64,
+    skin: f64,
+) -> WellIndex {
     let c = completion.cell;
     let (dx, dy, dz) = cell_size(grid, c);
     let (kx, ky) = (rock.kx[c], rock.ky[c]);
@@ -242,4 +275,29 @@ pub fn well_index(grid: &Grid, rock: &Rock, completion: &Completion, radius: f64
         0.0
     };
     WellIndex { r_eq, geometric }
+}
+
+/// Pressure at `depth` in a static column of the case's liquid, given
+/// `p_datum` at `datum_depth`: dp/dz = rho(p) g with
+/// rho(p) = rho_ref exp(c (p - p_ref)), integrated exactly.
+pub fn hydrostatic_pressure(
+    fluid: &crate::case::Fluid,
+    p_datum: f64,
+    datum_depth: f64,
+    depth: f64,
+) -> f64 {
+    let dz = depth - datum_depth;
+    let c = fluid.compressibility;
+    let g_rho = GRAVITY * fluid.density;
+    if c <= 0.0 {
+        return p_datum + g_rho * dz;
+    }
+    // exp(-c (p - p_ref)) falls linearly with depth: e(z) = e(z0) - c rho_ref g (z - z0).
+    let e0 = (-c * (p_datum - fluid.ref_pressure)).exp();
+    let e = e0 - c * g_rho * dz;
+    if e <= 0.0 {
+        // Beyond any physical column; fall back to the linear form.
+        return p_datum + g_rho * dz;
+    }
+    fluid.ref_pressure - e.ln() / c
 }

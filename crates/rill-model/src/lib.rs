@@ -8,7 +8,99 @@
 //! It must never do I/O directly (only through `Source`), never print, and
 //! never panic on any input.
 
+pub mod arrays;
 pub mod case;
+pub mod checks;
 pub mod derived;
+pub mod diagnostic;
+pub mod explain;
+pub mod lower;
+pub mod props;
+pub mod schema;
+pub mod source;
+pub mod values;
 
 pub use case::*;
+pub use diagnostic::{Diagnostic, Edit, Fix, Label, Location, Severity};
+pub use source::{MemorySource, Source, SourceError};
+
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+
+/// A file that took part in an analysis: the main deck (index 0), its
+/// includes, and array files that have diagnostics.
+#[derive(Debug, Clone)]
+pub struct FileInfo {
+    pub path: PathBuf,
+    pub text: Arc<str>,
+    /// The syntax tree, for decks.
+    pub tree: Option<Arc<rill_syntax::SourceFile>>,
+}
+
+/// Everything known about a deck after checking it.
+#[derive(Debug, Clone)]
+pub struct Analysis {
+    pub files: Vec<FileInfo>,
+    /// Sorted by file, then position.
+    pub diagnostics: Vec<Diagnostic>,
+    /// The checked case, when lowering got that far (it may still carry
+    /// warnings, and physical errors from the sanity checks).
+    pub case: Option<Case>,
+    pub spans: lower::Spans,
+}
+
+impl Analysis {
+    pub fn has_errors(&self) -> bool {
+        self.diagnostics
+            .iter()
+            .any(|d| d.severity == Severity::Error)
+    }
+    /// The case, only if there are no errors at all.
+    pub fn runnable_case(&self) -> Option<&Case> {
+        if self.has_errors() {
+            None
+        } else {
+            self.case.as_ref()
+        }
+    }
+}
+
+/// Check the deck at `path`, reading it and everything it refers to through `source`.
+pub fn analyze(path: &Path, source: &dyn Source) -> Result<Analysis, SourceError> {
+    let bytes = source.read(path)?;
+    let (text, _) = rill_syntax::parse_bytes(&bytes);
+    Ok(analyze_text(path, &text, source))
+}
+
+/// Check deck text (e.g. an editor buffer) that stands at `path`.
+pub fn analyze_text(path: &Path, text: &str, source: &dyn Source) -> Analysis {
+    let mut lowerer = lower::Lowerer {
+        source,
+        files: Vec::new(),
+        diags: Vec::new(),
+        array_cache: Default::default(),
+    };
+    let (case, spans) = lowerer.lower(source::normalize(path), text);
+    let mut diagnostics = lowerer.diags;
+    // Sanity checks need a whole case and no lowering errors to be meaningful.
+    if let Some(case) = &case {
+        if !diagnostics.iter().any(|d| d.severity == Severity::Error) {
+            checks::run(case, &spans, &mut diagnostics);
+        }
+    }
+    diagnostics.sort_by(|a, b| {
+        (a.location.file, a.location.start, a.location.end, a.code).cmp(&(
+            b.location.file,
+            b.location.start,
+            b.location.end,
+            b.code,
+        ))
+    });
+    diagnostics.dedup();
+    Analysis {
+        files: lowerer.files,
+        diagnostics,
+        case,
+        spans,
+    }
+}

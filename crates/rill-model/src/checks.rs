@@ -1,0 +1,409 @@
+//! Physical sanity checks on a lowered case: values that parse and have the
+//! right units but are impossible (an error) or unusual enough to be a
+//! likely mistake (a warning). Limits are the spec's; where they are rules
+//! of thumb, that is said beside them.
+
+use crate::case::*;
+use crate::derived;
+use crate::diagnostic::{Diagnostic, Location};
+use crate::lower::Spans;
+use rill_units::{display_unit, Kind, System};
+
+const PSI: f64 = 6894.757293168;
+const MD: f64 = 9.869233e-16;
+const CP: f64 = 1e-3;
+const FT: f64 = 0.3048;
+const INCH: f64 = 0.0254;
+
+fn cell_name(grid: &Grid, c: usize) -> String {
+    let (i, j, k) = grid.ijk(c);
+    format!("({}, {}, {})", i + 1, j + 1, k + 1)
+}
+
+/// Shows an SI value in the case's report units: "1500 psi".
+fn show(si: f64, kind: Kind, system: System) -> String {
+    let u = display_unit(kind, system);
+    format!("{} {}", crate::values::short_number(si / u.factor), u.name)
+}
+
+pub fn run(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
+    let sys = case.report.units;
+    rock_checks(case, spans, out);
+    fluid_checks(case, spans, sys, out);
+    well_checks(case, spans, sys, out);
+    flow_checks(case, spans, out);
+}
+
+/// Porosity and permeability, each checked per definition so that the
+/// diagnostic points at the statement that set the value.
+fn rock_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
+    let grid = &case.grid;
+    let at = |key: &str| {
+        spans
+            .rock
+            .get(key)
+            .and_then(|v| v.first().copied())
+            .unwrap_or(spans.main)
+    };
+    let phi = &case.rock.porosity;
+    let bad: Vec<usize> = (0..phi.len())
+        .filter(|&c| !(0.0..=1.0).contains(&phi[c]))
+        .collect();
+    if let Some(&c) = bad.first() {
+        out.push(
+            Diagnostic::error(
+                "sanity.porosity",
+                at("porosity"),
+                format!(
+                    "porosity must lie between 0 and 1; {} cell(s) are outside, the first {} with {}",
+                    bad.len(),
+                    cell_name(grid, c),
+                    phi[c]
+                ),
+            )
+            .with_note("write a fraction (0.22) or a percentage with its unit (22 %)"),
+        );
+    } else {
+        let high: Vec<usize> = (0..phi.len()).filter(|&c| phi[c] > 0.45).collect();
+        if let Some(&c) = high.first() {
+            out.push(Diagnostic::warning(
+                "sanity.porosity",
+                at("porosity"),
+                format!(
+                    "porosity above 0.45 in {} cell(s), the first {} with {}; reservoir rock rarely exceeds 0.40 (common practice, no published source)",
+                    high.len(),
+                    cell_name(grid, c),
+                    phi[c]
+                ),
+            ));
+        }
+    }
+    for (key, k) in [
+        ("kx", &case.rock.kx),
+        ("ky", &case.rock.ky),
+        ("kz", &case.rock.kz),
+    ] {
+        let neg: Vec<usize> = (0..k.len()).filter(|&c| k[c] < 0.0).collect();
+        if let Some(&c) = neg.first() {
+            out.push(Diagnostic::error(
+                "sanity.permeability",
+                at(key),
+                format!(
+                    "`{key}` is negative in {} cell(s), the first {} with {} md",
+                    neg.len(),
+                    cell_name(grid, c),
+                    k[c] / MD
+                ),
+            ));
+            continue;
+        }
+        let high: Vec<usize> = (0..k.len()).filter(|&c| k[c] > 20_000.0 * MD).collect();
+        if let Some(&c) = high.first() {
+            out.push(
+                Diagnostic::warning(
+                    "sanity.permeability",
+                    at(key),
+                    format!(
+                        "`{key}` is above 20 darcy in {} cell(s), the first {} with {} md; check the unit (md, not darcy?)",
+                        high.len(),
+                        cell_name(grid, c),
+                        crate::values::short_number(k[c] / MD)
+                    ),
+                ),
+            );
+        }
+    }
+    if case.rock.compressibility < 0.0 {
+        out.push(Diagnostic::error(
+            "sanity.compressibility",
+            spans.rock_compressibility.unwrap_or(spans.main),
+            "rock compressibility cannot be negative",
+        ));
+    } else if case.rock.compressibility > 1e-3 / PSI {
+        out.push(Diagnostic::warning(
+            "sanity.compressibility",
+            spans.rock_compressibility.unwrap_or(spans.main),
+            format!(
+                "rock compressibility of {} 1/psi is above 1e-3 1/psi; consolidated rock is about 3e-6 to 1e-5 1/psi (common practice, no published source)",
+                crate::values::short_number(case.rock.compressibility * PSI)
+            ),
+        ));
+    }
+}
+
+fn fluid_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic>) {
+    let f = &case.fluid;
+    let at = |l: Option<Location>| l.unwrap_or(spans.main);
+    if f.viscosity <= 0.0 {
+        out.push(Diagnostic::error(
+            "sanity.viscosity",
+            at(spans.viscosity),
+            "viscosity must be positive",
+        ));
+    } else if !(0.01 * CP..=10_000.0 * CP).contains(&f.viscosity) {
+        out.push(Diagnostic::warning(
+            "sanity.viscosity",
+            at(spans.viscosity),
+            format!(
+                "viscosity of {} cP is outside 0.01 to 10000 cP; check the unit (cP, not Pa*s?)",
+                crate::values::short_number(f.viscosity / CP)
+            ),
+        ));
+    }
+    if f.fvf <= 0.0 {
+        out.push(Diagnostic::error(
+            "sanity.fvf",
+            at(spans.fvf),
+            "the formation volume factor must be positive",
+        ));
+    } else if !(0.5..=3.0).contains(&f.fvf) {
+        out.push(
+            Diagnostic::warning(
+                "sanity.fvf",
+                at(spans.fvf),
+                format!(
+                    "a formation volume factor of {} rb/stb is outside 0.5 to 3 rb/stb",
+                    crate::values::short_number(f.fvf)
+                ),
+            )
+            .with_note(
+                "a liquid's fvf is close to 1 rb/stb; a value near 1/fvf may be upside down",
+            ),
+        );
+    }
+    if f.compressibility < 0.0 {
+        out.push(Diagnostic::error(
+            "sanity.compressibility",
+            at(spans.fluid_compressibility),
+            "fluid compressibility cannot be negative",
+        ));
+    } else if f.compressibility > 1e-3 / PSI {
+        out.push(Diagnostic::warning(
+            "sanity.compressibility",
+            at(spans.fluid_compressibility),
+            format!(
+                "fluid compressibility of {} 1/psi is above 1e-3 1/psi; water is about 3e-6 1/psi (common practice, no published source)",
+                crate::values::short_number(f.compressibility * PSI)
+            ),
+        ));
+    }
+    if !(500.0..=1300.0).contains(&f.density) {
+        out.push(Diagnostic::warning(
+            "sanity.density",
+            at(spans.density),
+            format!(
+                "a liquid density of {} is outside 500 to 1300 kg/m^3",
+                show(f.density, Kind::Density, sys)
+            ),
+        ));
+    }
+}
+
+/// Initial pressure at a depth, from the datum in hydrostatic equilibrium.
+pub fn initial_pressure_at(case: &Case, depth: f64) -> Option<f64> {
+    match &case.initial {
+        Initial::Datum {
+            pressure,
+            depth: datum,
+        } => Some(derived::hydrostatic_pressure(
+            &case.fluid,
+            *pressure,
+            *datum,
+            depth,
+        )),
+        Initial::Cells(_) => None,
+    }
+}
+
+fn well_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic>) {
+    let grid = &case.grid;
+    for (w_index, well) in case.wells.iter().enumerate() {
+        let ws = spans.wells.get(w_index).cloned().unwrap_or_default();
+        let comp_at = ws
+            .completions
+            .unwrap_or(Location::new(well.origin.file, well.origin.span));
+        for c in &well.completions {
+            if !case.rock.is_active(c.cell) {
+                out.push(Diagnostic::error(
+                    "well.completion",
+                    comp_at,
+                    format!(
+                        "well \"{}\" is completed in cell {}, which is inactive (porosity 0)",
+                        well.name,
+                        cell_name(grid, c.cell)
+                    ),
+                ));
+            }
+        }
+        // Radius against the completed cells.
+        let radius_at = ws.radius.unwrap_or(comp_at);
+        let half_width = well
+            .completions
+            .iter()
+            .map(|c| {
+                let (dx, dy, _) = derived::cell_size(grid, c.cell);
+                0.5 * dx.min(dy)
+            })
+            .fold(f64::INFINITY, f64::min);
+        if well.radius <= 0.0 {
+            out.push(Diagnostic::error(
+                "sanity.radius",
+                radius_at,
+                "the wellbore radius must be positive",
+            ));
+        } else if well.radius >= half_width {
+            out.push(Diagnostic::error(
+                "sanity.radius",
+                radius_at,
+                format!(
+                    "a wellbore radius of {} is not below half the cell width ({}); check the unit (in, not ft?)",
+                    show(well.radius, Kind::Length, sys),
+                    show(half_width, Kind::Length, sys)
+                ),
+            ));
+        } else if well.radius < INCH {
+            out.push(Diagnostic::warning(
+                "sanity.radius",
+                radius_at,
+                format!(
+                    "a wellbore radius of {} is below 1 inch; check the unit",
+                    show(well.radius, Kind::Length, sys)
+                ),
+            ));
+        } else if let Some(c) = well.completions.first() {
+            // Peaceman's model needs r_eq > r_w e^(-s); otherwise the index is meaningless.
+            let wi = derived::well_index(grid, &case.rock, c, well.radius, well.skin);
+            if (wi.r_eq / well.radius).ln() + well.skin <= 0.0 {
+                out.push(Diagnostic::error(
+                    "sanity.radius",
+                    radius_at,
+                    format!(
+                        "with skin {} the well index of \"{}\" would not be positive: ln(r_eq / r_w) + s <= 0 (r_eq = {})",
+                        well.skin,
+                        well.name,
+                        show(wi.r_eq, Kind::Length, sys)
+                    ),
+                ));
+            }
+        }
+        let Some(top) = well.completions.iter().min_by_key(|c| c.k) else {
+            continue;
+        };
+        let depth = derived::cell_center_depth(grid, top.cell);
+        let mut pressures: Vec<(f64, Location, &str)> = Vec::new();
+        if let Control::Bhp(p) = well.control {
+            pressures.push((p, ws.control.unwrap_or(comp_at), "control"));
+        }
+        if let Some(p) = well.bhp_limit {
+            pressures.push((p, ws.bhp_limit.unwrap_or(comp_at), "bhp_limit"));
+        }
+        for (ev_i, ev) in case.timeline.events.iter().enumerate() {
+            for ch in ev.changes.iter().filter(|ch| ch.well == w_index) {
+                if let Some(Control::Bhp(p)) = ch.control {
+                    let at = ws
+                        .event_controls
+                        .iter()
+                        .find(|(i, _)| *i == ev_i)
+                        .map(|(_, l)| *l)
+                        .unwrap_or(Location::new(ev.origin.file, ev.origin.span));
+                    pressures.push((p, at, "event control"));
+                }
+            }
+        }
+        let p_init = initial_pressure_at(case, depth);
+        for (p, at, what) in &pressures {
+            if let Some(p0) = p_init {
+                let wrong = match well.role {
+                    Role::Producer => *p > p0,
+                    Role::Injector => *p < p0,
+                };
+                if wrong {
+                    let (verb, would) = match well.role {
+                        Role::Producer => ("above", "inject"),
+                        Role::Injector => ("below", "produce"),
+                    };
+                    out.push(Diagnostic::warning(
+                        "well.bhp",
+                        *at,
+                        format!(
+                            "the {what} of {} \"{}\" ({}) is {verb} the initial pressure at its datum ({} at {}): it would {would}",
+                            if well.role == Role::Producer { "producer" } else { "injector" },
+                            well.name,
+                            show(*p, Kind::Pressure, sys),
+                            show(p0, Kind::Pressure, sys),
+                            show(depth, Kind::Length, sys)
+                        ),
+                    ));
+                }
+            }
+            if well.role == Role::Injector {
+                // 0.8 psi/ft is a rule of thumb for fracture gradients (common practice, no published source).
+                let frac = 0.8 * PSI / FT * depth;
+                if *p > frac {
+                    out.push(
+                        Diagnostic::warning(
+                            "well.injection-pressure",
+                            *at,
+                            format!(
+                                "the {what} of injector \"{}\" ({}) is above 0.8 psi/ft times its depth ({}): it may exceed the fracture pressure",
+                                well.name,
+                                show(*p, Kind::Pressure, sys),
+                                show(frac, Kind::Pressure, sys)
+                            ),
+                        )
+                        .with_note("defer to the local fracture gradient, the injection permit and a licensed engineer"),
+                    );
+                }
+            }
+        }
+    }
+}
+
+fn flow_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
+    let grid = &case.grid;
+    let n = grid.cell_count();
+    let mut has_well = vec![false; n];
+    for w in &case.wells {
+        for c in &w.completions {
+            has_well[c.cell] = true;
+        }
+    }
+    let mut isolated = Vec::new();
+    for (c, &well_here) in has_well.iter().enumerate() {
+        if !case.rock.is_active(c) || well_here {
+            continue;
+        }
+        let any = derived::cell_faces(case, c)
+            .iter()
+            .any(|(_, f)| f.is_some_and(|f| f.geometric_trans > 0.0));
+        if !any {
+            isolated.push(c);
+        }
+    }
+    if let Some(&c) = isolated.first() {
+        let at = spans
+            .rock
+            .get("kx")
+            .and_then(|v| v.first().copied())
+            .unwrap_or(spans.main);
+        out.push(
+            Diagnostic::warning(
+                "flow.isolated",
+                at,
+                format!(
+                    "{} active cell(s) have zero transmissibility on every face and no well, the first {}: their fluid can never move",
+                    isolated.len(),
+                    cell_name(grid, c)
+                ),
+            )
+            .with_note("make them inactive with porosity 0, or check the zero permeabilities around them"),
+        );
+    }
+    if case.wells.is_empty() && case.boundaries.is_empty() {
+        out.push(Diagnostic::info(
+            "flow.no-drive",
+            spans.timeline.unwrap_or(spans.main),
+            "the case has no well and no boundary: nothing drives flow, and the run will stay at its initial state",
+        ));
+    }
+}

@@ -1,0 +1,860 @@
+//! Per-cell property values in every form of the language: uniform,
+//! `layers [...]`, `cells [...]`, `columns [...]`, `file "..."`, and
+//! arithmetic on properties of the same block and scalars (`0.1 * kx`,
+//! `kx * 2 + 5 md`). Expressions are read first, then evaluated in
+//! dependency order so that references see the final (patched) values.
+
+use crate::arrays;
+use crate::diagnostic::{Diagnostic, Location};
+use crate::source::{resolve, Source};
+use crate::values::{checked_unit, describe_expected, describe_found, Gauge, Reporter};
+use crate::FileInfo;
+use rill_syntax::{Atom, AtomKind, Op, Span, UnitExpr, Value};
+use rill_units::Dim;
+use std::collections::HashMap;
+use std::path::PathBuf;
+use std::sync::Arc;
+
+/// Values of a property over the grid, SI.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Field {
+    Uniform(f64),
+    /// One per layer (NZ).
+    Layers(Vec<f64>),
+    /// One per column (NX*NY), for `top`.
+    Columns(Vec<f64>),
+    /// One per cell (NX*NY*NZ).
+    Cells(Arc<Vec<f64>>),
+}
+
+/// Grid shape needed to count and broadcast values.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Shape {
+    pub nx: usize,
+    pub ny: usize,
+    pub nz: usize,
+}
+
+impl Shape {
+    pub fn cells(&self) -> usize {
+        self.nx * self.ny * self.nz
+    }
+    pub fn columns(&self) -> usize {
+        self.nx * self.ny
+    }
+}
+
+impl Field {
+    /// Value in cell `c` (or column `c` for `Columns`).
+    pub fn at(&self, c: usize, shape: Shape) -> f64 {
+        match self {
+            Field::Uniform(v) => *v,
+            Field::Layers(v) => v[c / shape.columns().max(1)],
+            Field::Columns(v) => v[c % shape.columns().max(1)],
+            Field::Cells(v) => v[c],
+        }
+    }
+    pub fn to_cells(&self, shape: Shape) -> Vec<f64> {
+        match self {
+            Field::Cells(v) => v.as_ref().clone(),
+            _ => (0..shape.cells()).map(|c| self.at(c, shape)).collect(),
+        }
+    }
+}
+
+/// A parsed property expression.
+#[derive(Debug, Clone)]
+pub enum Expr {
+    /// A number with its SI value and dimension; `bare` when written without a unit.
+    Const {
+        si: f64,
+        dim: Dim,
+        bare: bool,
+        span: Span,
+    },
+    Data {
+        field: Field,
+        dim: Dim,
+        span: Span,
+    },
+    Ref {
+        name: String,
+        span: Span,
+    },
+    Bin {
+        op: Op,
+        lhs: Box<Expr>,
+        rhs: Box<Expr>,
+        span: Span,
+    },
+}
+
+impl Expr {
+    pub fn span(&self) -> Span {
+        match self {
+            Expr::Const { span, .. }
+            | Expr::Data { span, .. }
+            | Expr::Ref { span, .. }
+            | Expr::Bin { span, .. } => *span,
+        }
+    }
+    pub fn refs(&self, out: &mut Vec<(String, Span)>) {
+        match self {
+            Expr::Ref { name, span } => out.push((name.clone(), *span)),
+            Expr::Bin { lhs, rhs, .. } => {
+                lhs.refs(out);
+                rhs.refs(out);
+            }
+            _ => {}
+        }
+    }
+}
+
+/// What value forms a key accepts.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Forms {
+    /// `layers [...]` and, for `dz`, a bare list meaning one per layer.
+    pub layers: bool,
+    pub cells: bool,
+    pub columns: bool,
+    pub file: bool,
+    /// Arithmetic and references to other properties.
+    pub arithmetic: bool,
+    /// A bare `[...]` list: how many values and what it means.
+    pub bare_list: Option<BareList>,
+    /// Count of values in a `file` (cells or columns).
+    pub file_columns: bool,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum BareList {
+    /// One per layer (NZ), for `dz`.
+    Layers,
+    /// One per column (NX*NY).
+    Columns,
+    /// One per grid line of an axis (`dx`: NX, `dy`: NY).
+    Axis(usize),
+}
+
+impl Forms {
+    pub const PROPERTY: Forms = Forms {
+        layers: true,
+        cells: true,
+        columns: false,
+        file: true,
+        arithmetic: true,
+        bare_list: None,
+        file_columns: false,
+    };
+    pub const THICKNESS: Forms = Forms {
+        layers: true,
+        cells: true,
+        columns: false,
+        file: true,
+        arithmetic: false,
+        bare_list: Some(BareList::Layers),
+        file_columns: false,
+    };
+    pub const TOP: Forms = Forms {
+        layers: false,
+        cells: false,
+        columns: true,
+        file: true,
+        arithmetic: false,
+        bare_list: None,
+        file_columns: true,
+    };
+    pub const PRESSURE: Forms = Forms {
+        layers: true,
+        cells: true,
+        columns: false,
+        file: true,
+        arithmetic: false,
+        bare_list: None,
+        file_columns: false,
+    };
+}
+
+/// Shared state for reading property values: the grid shape, the file
+/// source, and a cache so that an array file used twice is read once.
+pub struct PropReader<'s> {
+    pub shape: Shape,
+    pub source: &'s dyn Source,
+    pub deck_path: PathBuf,
+    pub cache: &'s mut HashMap<PathBuf, Arc<Vec<f64>>>,
+    /// The analysis' file list; array files read are appended so that
+    /// diagnostics can point into them.
+    pub files: &'s mut Vec<FileInfo>,
+}
+
+fn list_values(
+    r: &mut Reporter,
+    items: &[Atom],
+    list_unit: Option<&UnitExpr>,
+    expected: Dim,
+    gauge: Gauge,
+    key: &str,
+) -> Option<Vec<f64>> {
+    let mut out = Vec::with_capacity(items.len());
+    let mut ok = true;
+    // Parse the shared unit once: lists reach a million items.
+    let shared = match list_unit {
+        Some(u) => {
+            let first_span = items.first().map(|a| a.span).unwrap_or(u.span);
+            let first_value = match items.first().map(|a| &a.kind) {
+                Some(AtomKind::Number { value, .. }) => *value,
+                _ => 1.0,
+            };
+            Some(checked_unit(
+                r,
+                first_value,
+                first_span,
+                Some(u),
+                expected,
+                gauge,
+                key,
+            )?)
+        }
+        None => None,
+    };
+    let mut missing_reported = false;
+    for item in items {
+        match &item.kind {
+            AtomKind::Number {
+                value,
+                unit: Some(u),
+                ..
+            } => match checked_unit(r, *value, item.span, Some(u), expected, gauge, key) {
+                Some(unit) => out.push(unit.to_si(*value)),
+                None => ok = false,
+            },
+            AtomKind::Number {
+                value, unit: None, ..
+            } => match shared {
+                Some(unit) => out.push(unit.to_si(*value)),
+                None if expected == Dim::NONE => out.push(*value),
+                None => {
+                    if !missing_reported {
+                        checked_unit(r, *value, item.span, None, expected, gauge, key);
+                        missing_reported = true;
+                    }
+                    ok = false;
+                }
+            },
+            _ => {
+                r.push(Diagnostic::error(
+                    "deck.value",
+                    r.loc(item.span),
+                    format!(
+                        "`{key}` expects numbers in this list, found {}",
+                        atom_words(&item.kind)
+                    ),
+                ));
+                ok = false;
+            }
+        }
+    }
+    if missing_reported {
+        // One diagnostic for the whole list; say where the unit goes.
+        if let Some(d) = r.diags.last_mut() {
+            d.notes
+                .push("a unit after the closing `]` applies to every item".into());
+        }
+    }
+    ok.then_some(out)
+}
+
+/// Words for an atom in messages.
+pub fn atom_words(kind: &AtomKind) -> String {
+    match kind {
+        AtomKind::Number {
+            raw, unit: Some(u), ..
+        } => format!("the quantity `{raw} {}`", u.text),
+        AtomKind::Number { raw, .. } => format!("the number `{raw}`"),
+        AtomKind::Ident(name) => format!("the name `{name}`"),
+        AtomKind::Str { value, .. } => format!("the string \"{value}\""),
+        AtomKind::List { .. } => "a list".into(),
+        AtomKind::Range { start, end } => format!("the range `{start}..{end}`"),
+        AtomKind::Tuple { .. } => "a cell tuple".into(),
+        AtomKind::Size(parts) => format!(
+            "the size `{}`",
+            parts
+                .iter()
+                .map(|p| p.to_string())
+                .collect::<Vec<_>>()
+                .join(" x ")
+        ),
+        AtomKind::Op(op) => format!("the operator `{}`", op.as_char()),
+        AtomKind::Selector { key, .. } => format!("the selector `{} = ...`", key.name),
+    }
+}
+
+fn count_check(
+    r: &mut Reporter,
+    span: Span,
+    key: &str,
+    form: &str,
+    what: &str,
+    expected: usize,
+    found: usize,
+) -> bool {
+    if expected == found {
+        return true;
+    }
+    r.push(
+        Diagnostic::error(
+            "grid.array-length",
+            r.loc(span),
+            format!(
+                "`{key} = {}` needs {expected} values ({what}), found {found}",
+                if form.is_empty() {
+                    "[...]".to_string()
+                } else {
+                    format!("{form} [...]")
+                }
+            ),
+        )
+        .with_note(if found < expected {
+            format!("{} value(s) missing", expected - found)
+        } else {
+            format!("{} value(s) too many", found - expected)
+        }),
+    );
+    false
+}
+
+impl PropReader<'_> {
+    /// Read a property value into an expression.
+    pub fn read(
+        &mut self,
+        r: &mut Reporter,
+        value: &Value,
+        expected: Dim,
+        gauge: Gauge,
+        forms: Forms,
+        key: &str,
+    ) -> Option<Expr> {
+        let atoms = &value.atoms;
+        let first = atoms.first()?;
+        if let AtomKind::Ident(word) = &first.kind {
+            let form = word.as_str();
+            let is_form = matches!(form, "layers" | "cells" | "columns" | "file");
+            if is_form {
+                return self.read_form(r, form, atoms, value.span, expected, gauge, forms, key);
+            }
+        }
+        if let (Some(kind), [only]) = (forms.bare_list, atoms.as_slice()) {
+            if let AtomKind::List { items, unit, .. } = &only.kind {
+                let values = list_values(r, items, unit.as_ref(), expected, gauge, key)?;
+                let (want, what, field) = match kind {
+                    BareList::Layers => (
+                        self.shape.nz,
+                        "one per layer",
+                        Field::Layers(values.clone()),
+                    ),
+                    BareList::Columns => (
+                        self.shape.columns(),
+                        "one per column",
+                        Field::Columns(values.clone()),
+                    ),
+                    BareList::Axis(n) => {
+                        (n, "one per column or row", Field::Columns(values.clone()))
+                    }
+                };
+                if !count_check(r, only.span, key, "", what, want, values.len()) {
+                    return None;
+                }
+                return Some(Expr::Data {
+                    field,
+                    dim: expected,
+                    span: only.span,
+                });
+            }
+        }
+        let mut parser = ExprParser {
+            atoms,
+            pos: 0,
+            r,
+            key,
+            gauge,
+            expected,
+            arithmetic: forms.arithmetic,
+        };
+        let expr = parser.sum()?;
+        if let Some(extra) = atoms.get(parser.pos) {
+            let r = parser.r;
+            r.push(Diagnostic::error(
+                "deck.value",
+                r.loc(extra.span),
+                format!(
+                    "unexpected {} after the value of `{key}`",
+                    atom_words(&extra.kind)
+                ),
+            ));
+            return None;
+        }
+        Some(expr)
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    fn read_form(
+        &mut self,
+        r: &mut Reporter,
+        form: &str,
+        atoms: &[Atom],
+        span: Span,
+        expected: Dim,
+        gauge: Gauge,
+        forms: Forms,
+        key: &str,
+    ) -> Option<Expr> {
+        let allowed = match form {
+            "layers" => forms.layers,
+            "cells" => forms.cells,
+            "columns" => forms.columns,
+            _ => forms.file,
+        };
+        if !allowed {
+            let mut accepted = vec!["a single value"];
+            if forms.layers {
+                accepted.push("`layers [...]`");
+            }
+            if forms.cells {
+                accepted.push("`cells [...]`");
+            }
+            if forms.columns {
+                accepted.push("`columns [...]`");
+            }
+            if forms.file {
+                accepted.push("`file \"...\"`");
+            }
+            r.push(Diagnostic::error(
+                "deck.value",
+                r.loc(atoms[0].span),
+                format!(
+                    "`{key}` does not take `{form}`; it takes {}",
+                    accepted.join(", ")
+                ),
+            ));
+            return None;
+        }
+        let Some(arg) = atoms.get(1) else {
+            r.push(Diagnostic::error(
+                "deck.value",
+                r.loc(atoms[0].span),
+                format!(
+                    "`{form}` must be followed by {}",
+                    if form == "file" {
+                        "a file name in quotes"
+                    } else {
+                        "a list `[...]`"
+                    }
+                ),
+            ));
+            return None;
+        };
+        if let Some(extra) = atoms.get(2) {
+            r.push(Diagnostic::error(
+                "deck.value",
+                r.loc(extra.span),
+                format!("unexpected {} after `{form} ...`", atom_words(&extra.kind)),
+            ));
+            return None;
+        }
+        let (want, what) = match form {
+            "layers" => (self.shape.nz, "one per layer"),
+            "columns" => (self.shape.columns(), "one per column, i fastest"),
+            "file" if forms.file_columns => (self.shape.columns(), "one per column, i fastest"),
+            _ => (
+                self.shape.cells(),
+                "one per cell, i fastest, then j, then k",
+            ),
+        };
+        let values: Arc<Vec<f64>> = match (&arg.kind, form) {
+            (AtomKind::List { items, unit, .. }, "layers" | "cells" | "columns") => {
+                let values = list_values(r, items, unit.as_ref(), expected, gauge, key)?;
+                if !count_check(r, arg.span, key, form, what, want, values.len()) {
+                    return None;
+                }
+                Arc::new(values)
+            }
+            (AtomKind::Str { value: name, unit }, "file") => {
+                let unit = checked_unit(r, 1.0, arg.span, unit.as_ref(), expected, gauge, key)?;
+                let raw = self.load_file(r, name, arg.span)?;
+                if raw.len() != want {
+                    r.push(Diagnostic::error(
+                        "grid.array-length",
+                        r.loc(arg.span),
+                        format!(
+                            "`{key}` file \"{name}\" needs {want} values ({what}), found {}",
+                            raw.len()
+                        ),
+                    ));
+                    return None;
+                }
+                if unit.factor == 1.0 && !unit.gauge {
+                    raw
+                } else {
+                    Arc::new(raw.iter().map(|v| unit.to_si(*v)).collect())
+                }
+            }
+            _ => {
+                r.push(Diagnostic::error(
+                    "deck.value",
+                    r.loc(arg.span),
+                    format!(
+                        "`{form}` must be followed by {}, found {}",
+                        if form == "file" {
+                            "a file name in quotes"
+                        } else {
+                            "a list `[...]`"
+                        },
+                        atom_words(&arg.kind)
+                    ),
+                ));
+                return None;
+            }
+        };
+        let field = match form {
+            "layers" => Field::Layers(values.as_ref().clone()),
+            "columns" => Field::Columns(values.as_ref().clone()),
+            "file" if forms.file_columns => Field::Columns(values.as_ref().clone()),
+            _ => Field::Cells(values),
+        };
+        Some(Expr::Data {
+            field,
+            dim: expected,
+            span,
+        })
+    }
+
+    fn load_file(&mut self, r: &mut Reporter, name: &str, span: Span) -> Option<Arc<Vec<f64>>> {
+        let path = resolve(&self.deck_path, name);
+        if let Some(v) = self.cache.get(&path) {
+            return Some(v.clone());
+        }
+        let bytes = match self.source.read(&path) {
+            Ok(b) => b,
+            Err(e) => {
+                r.push(Diagnostic::error(
+                    "deck.include",
+                    r.loc(span),
+                    format!(
+                        "array file \"{name}\" ({}) cannot be used: {e}",
+                        path.display()
+                    ),
+                ));
+                return None;
+            }
+        };
+        let (values, bad) = arrays::parse_numbers(&bytes);
+        if !bad.is_empty() {
+            let file_index = self.files.len();
+            self.files.push(FileInfo {
+                path: path.clone(),
+                text: String::from_utf8_lossy(&bytes).into(),
+                tree: None,
+            });
+            for b in &bad {
+                r.push(
+                    Diagnostic::error(
+                        "syntax.unexpected",
+                        Location {
+                            file: file_index,
+                            start: b.start,
+                            end: b.end,
+                        },
+                        format!(
+                            "expected a number in array file \"{name}\", found `{}`",
+                            b.text
+                        ),
+                    )
+                    .with_label(r.loc(span), "array file used here"),
+                );
+            }
+            return None;
+        }
+        let values = Arc::new(values);
+        self.cache.insert(path, values.clone());
+        Some(values)
+    }
+}
+
+struct ExprParser<'a, 'r, 'd> {
+    atoms: &'a [Atom],
+    pos: usize,
+    r: &'r mut Reporter<'d>,
+    key: &'a str,
+    gauge: Gauge,
+    expected: Dim,
+    arithmetic: bool,
+}
+
+impl ExprParser<'_, '_, '_> {
+    fn peek_op(&self) -> Option<Op> {
+        match self.atoms.get(self.pos).map(|a| &a.kind) {
+            Some(AtomKind::Op(op)) => Some(*op),
+            _ => None,
+        }
+    }
+
+    fn sum(&mut self) -> Option<Expr> {
+        let mut lhs = self.product()?;
+        while let Some(op @ (Op::Add | Op::Sub)) = self.peek_op() {
+            self.pos += 1;
+            let rhs = self.product()?;
+            let span = lhs.span().join(rhs.span());
+            lhs = Expr::Bin {
+                op,
+                lhs: Box::new(lhs),
+                rhs: Box::new(rhs),
+                span,
+            };
+        }
+        Some(lhs)
+    }
+
+    fn product(&mut self) -> Option<Expr> {
+        let mut lhs = self.operand()?;
+        while let Some(op @ (Op::Mul | Op::Div)) = self.peek_op() {
+            self.pos += 1;
+            let rhs = self.operand()?;
+            let span = lhs.span().join(rhs.span());
+            lhs = Expr::Bin {
+                op,
+                lhs: Box::new(lhs),
+                rhs: Box::new(rhs),
+                span,
+            };
+        }
+        Some(lhs)
+    }
+
+    fn operand(&mut self) -> Option<Expr> {
+        let Some(atom) = self.atoms.get(self.pos) else {
+            let end = self
+                .atoms
+                .last()
+                .map(|a| Span::new(a.span.end, a.span.end))
+                .unwrap_or_default();
+            self.r.push(Diagnostic::error(
+                "deck.value",
+                self.r.loc(end),
+                format!("`{}` expects a value after the operator", self.key),
+            ));
+            return None;
+        };
+        self.pos += 1;
+        let in_arithmetic = self.atoms.len() > 1;
+        if in_arithmetic && !self.arithmetic {
+            self.r.push(Diagnostic::error(
+                "deck.value",
+                self.r.loc(atom.span),
+                format!(
+                    "`{}` takes a single value here, not an expression",
+                    self.key
+                ),
+            ));
+            return None;
+        }
+        match &atom.kind {
+            AtomKind::Number { value, unit, .. } => {
+                if unit.is_none() {
+                    return Some(Expr::Const {
+                        si: *value,
+                        dim: Dim::NONE,
+                        bare: true,
+                        span: atom.span,
+                    });
+                }
+                let u = match rill_units::parse(&unit.as_ref()?.text) {
+                    // A term of another dimension inside arithmetic (`0.5 * kx`, `kx / 2 md`):
+                    // its dimension is checked when the whole expression's is inferred.
+                    Ok(u) if in_arithmetic && u.dim != self.expected && !u.gauge => u,
+                    // A lone value, or a term of the expected dimension: full checks and fixes.
+                    _ => {
+                        let gauge = if in_arithmetic {
+                            Gauge::Refused
+                        } else {
+                            self.gauge
+                        };
+                        checked_unit(
+                            self.r,
+                            *value,
+                            atom.span,
+                            unit.as_ref(),
+                            self.expected,
+                            gauge,
+                            self.key,
+                        )?
+                    }
+                };
+                Some(Expr::Const {
+                    si: u.to_si(*value),
+                    dim: u.dim,
+                    bare: false,
+                    span: atom.span,
+                })
+            }
+            AtomKind::Ident(name) if self.arithmetic => Some(Expr::Ref {
+                name: name.clone(),
+                span: atom.span,
+            }),
+            other => {
+                self.r.push(Diagnostic::error(
+                    "deck.value",
+                    self.r.loc(atom.span),
+                    format!(
+                        "`{}` expects {}, found {}",
+                        self.key,
+                        describe_expected(self.expected),
+                        atom_words(other)
+                    ),
+                ));
+                None
+            }
+        }
+    }
+}
+
+/// The dimension of an expression, reporting mismatches. `dims` gives the
+/// dimension of each referenced property.
+pub fn infer_dim(
+    r: &mut Reporter,
+    e: &Expr,
+    dims: &dyn Fn(&str) -> Option<Dim>,
+    key: &str,
+) -> Option<Dim> {
+    match e {
+        Expr::Const { dim, .. } | Expr::Data { dim, .. } => Some(*dim),
+        Expr::Ref { name, .. } => dims(name),
+        Expr::Bin { op, lhs, rhs, .. } => {
+            let a = infer_dim(r, lhs, dims, key)?;
+            let b = infer_dim(r, rhs, dims, key)?;
+            match op {
+                Op::Mul => Some(a * b),
+                Op::Div => Some(a / b),
+                Op::Add | Op::Sub => {
+                    if a == b {
+                        return Some(a);
+                    }
+                    // A bare number added to a dimensional term lacks its unit.
+                    let (bare, other) = match (&**lhs, &**rhs) {
+                        (
+                            Expr::Const {
+                                bare: true, span, ..
+                            },
+                            _,
+                        ) => (Some(*span), b),
+                        (
+                            _,
+                            Expr::Const {
+                                bare: true, span, ..
+                            },
+                        ) => (Some(*span), a),
+                        _ => (None, a),
+                    };
+                    if let Some(span) = bare {
+                        let mut d = Diagnostic::error(
+                            "unit.missing",
+                            r.loc(span),
+                            format!(
+                                "a bare number is added to {} in `{key}`; give it a unit",
+                                describe_found(other)
+                            ),
+                        );
+                        for u in rill_units::accepted_units(other).into_iter().take(3) {
+                            d = d.with_replacement(
+                                format!("add the unit `{u}`"),
+                                r.loc(Span::new(span.end, span.end)),
+                                format!(" {u}"),
+                            );
+                        }
+                        r.push(d);
+                    } else {
+                        r.push(Diagnostic::error(
+                            "unit.dimension",
+                            r.loc(e.span()),
+                            format!(
+                                "cannot add {} and {} in `{key}`",
+                                describe_found(a),
+                                describe_found(b)
+                            ),
+                        ));
+                    }
+                    None
+                }
+            }
+        }
+    }
+}
+
+/// Evaluate an expression over the grid; `lookup` gives the final value of
+/// a referenced property.
+pub fn evaluate(e: &Expr, shape: Shape, lookup: &dyn Fn(&str) -> Option<Field>) -> Option<Field> {
+    match e {
+        Expr::Const { si, .. } => Some(Field::Uniform(*si)),
+        Expr::Data { field, .. } => Some(field.clone()),
+        Expr::Ref { name, .. } => lookup(name),
+        Expr::Bin { op, lhs, rhs, .. } => {
+            let a = evaluate(lhs, shape, lookup)?;
+            let b = evaluate(rhs, shape, lookup)?;
+            let f = |x: f64, y: f64| match op {
+                Op::Add => x + y,
+                Op::Sub => x - y,
+                Op::Mul => x * y,
+                Op::Div => {
+                    if y == 0.0 {
+                        0.0
+                    } else {
+                        x / y
+                    }
+                }
+            };
+            Some(match (&a, &b) {
+                (Field::Uniform(x), Field::Uniform(y)) => Field::Uniform(f(*x, *y)),
+                (Field::Layers(x), Field::Layers(y)) => {
+                    Field::Layers(x.iter().zip(y).map(|(p, q)| f(*p, *q)).collect())
+                }
+                (Field::Layers(x), Field::Uniform(y)) => {
+                    Field::Layers(x.iter().map(|p| f(*p, *y)).collect())
+                }
+                (Field::Uniform(x), Field::Layers(y)) => {
+                    Field::Layers(y.iter().map(|q| f(*x, *q)).collect())
+                }
+                _ => Field::Cells(Arc::new(
+                    (0..shape.cells())
+                        .map(|c| f(a.at(c, shape), b.at(c, shape)))
+                        .collect(),
+                )),
+            })
+        }
+    }
+}
+
+/// Report a dimension mismatch between a whole expression and the key.
+pub fn check_result_dim(r: &mut Reporter, e: &Expr, found: Dim, expected: Dim, key: &str) -> bool {
+    if found == expected {
+        return true;
+    }
+    if let Expr::Const {
+        bare: true,
+        span,
+        si,
+        ..
+    } = e
+    {
+        checked_unit(r, *si, *span, None, expected, Gauge::Refused, key);
+        return false;
+    }
+    r.push(Diagnostic::error(
+        "unit.dimension",
+        r.loc(e.span()),
+        format!(
+            "`{key}` expects {}, but this expression is {}",
+            describe_expected(expected),
+            describe_found(found)
+        ),
+    ));
+    false
+}

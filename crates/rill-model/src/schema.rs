@@ -1,0 +1,414 @@
+//! The schema of a case file: which blocks exist, which keys each takes,
+//! what kind of value each key holds, and a sentence on what it means.
+//! Lowering, completion, hover and `explain` all read it from here.
+
+use rill_units::Dim;
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Axis {
+    X,
+    Y,
+    Z,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum ValueKind {
+    /// A string.
+    Text,
+    /// `NX x NY x NZ`.
+    Size,
+    /// One quantity of this dimension.
+    Quantity(Dim),
+    /// A dimensionless number (`growth`, `skin`).
+    Number,
+    /// A per-cell property of this dimension in any value form.
+    Property(Dim),
+    /// `dx`, `dy`, `dz`: a scalar or one width per column/row/layer (`dz` also per cell).
+    Spacing(Axis),
+    /// `top`: scalar, `columns [...]` or `file`.
+    Top,
+    /// `3200 psi at 7150 ft` or, for `initial`, any property form.
+    PressureAtDepth,
+    /// One of the names.
+    Choice(&'static [&'static str]),
+    /// `(i, j)`.
+    Column,
+    /// `1..4` or `2`.
+    LayerRange,
+    /// `[(i, j, k) ...]`.
+    Cells,
+    /// `rate <surface rate>` or `bhp <pressure>`.
+    Control,
+}
+
+#[derive(Debug, Clone, Copy)]
+pub struct KeyDef {
+    pub name: &'static str,
+    pub kind: ValueKind,
+    pub required: bool,
+    pub doc: &'static str,
+}
+
+/// Whether a block takes a string label after its name.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum LabelRule {
+    None,
+    Optional,
+    Required,
+}
+
+#[derive(Debug, Clone, Copy)]
+pub struct BlockDef {
+    pub name: &'static str,
+    pub label: LabelRule,
+    /// May appear more than once (then labels must differ).
+    pub repeatable: bool,
+    pub keys: &'static [KeyDef],
+    /// Names of blocks allowed inside.
+    pub children: &'static [&'static str],
+    pub doc: &'static str,
+}
+
+impl BlockDef {
+    pub fn key(&self, name: &str) -> Option<&'static KeyDef> {
+        self.keys.iter().find(|k| k.name == name)
+    }
+}
+
+const fn key(name: &'static str, kind: ValueKind, required: bool, doc: &'static str) -> KeyDef {
+    KeyDef {
+        name,
+        kind,
+        required,
+        doc,
+    }
+}
+
+pub const ROLES: &[&str] = &["producer", "injector"];
+pub const SIDES: &[&str] = &["west", "east", "south", "north", "top", "bottom"];
+pub const RUN_KINDS: &[&str] = &["transient", "steady"];
+pub const SYSTEMS: &[&str] = &["field", "metric", "si"];
+pub const CONTROL_MODES: &[&str] = &["rate", "bhp"];
+
+pub static CASE: BlockDef = BlockDef {
+    name: "case",
+    label: LabelRule::Optional,
+    repeatable: false,
+    keys: &[key(
+        "title",
+        ValueKind::Text,
+        false,
+        "A one-line description shown in reports.",
+    )],
+    children: &[],
+    doc: "Metadata of the case: its name (the label) and a title.",
+};
+
+pub static GRID: BlockDef = BlockDef {
+    name: "grid",
+    label: LabelRule::None,
+    repeatable: false,
+    keys: &[
+        key("cells", ValueKind::Size, true, "Number of cells as NX x NY x NZ."),
+        key("dx", ValueKind::Spacing(Axis::X), true, "Cell width in x: one value, or a list of NX widths (one per column)."),
+        key("dy", ValueKind::Spacing(Axis::Y), true, "Cell width in y: one value, or a list of NY widths (one per row)."),
+        key(
+            "dz",
+            ValueKind::Spacing(Axis::Z),
+            true,
+            "Cell thickness: one value, a list of NZ thicknesses, or `cells [...]` / `file` for one per cell.",
+        ),
+        key(
+            "top",
+            ValueKind::Top,
+            true,
+            "Depth of the top face of layer 1: one value, `columns [...]` (NX*NY values) or `file`.",
+        ),
+    ],
+    children: &[],
+    doc: "The tensor-product grid: cell counts, widths and the depth of its top.",
+};
+
+pub static ROCK_KEYS: &[KeyDef] = &[
+    key(
+        "porosity",
+        ValueKind::Property(Dim::NONE),
+        true,
+        "Pore fraction of the bulk volume (0 to 1, or with %); 0 makes a cell inactive.",
+    ),
+    key(
+        "kx",
+        ValueKind::Property(Dim::PERMEABILITY),
+        true,
+        "Permeability in x (along i).",
+    ),
+    key(
+        "ky",
+        ValueKind::Property(Dim::PERMEABILITY),
+        false,
+        "Permeability in y (along j); defaults to kx.",
+    ),
+    key(
+        "kz",
+        ValueKind::Property(Dim::PERMEABILITY),
+        false,
+        "Vertical permeability (along k); defaults to kx.",
+    ),
+    key(
+        "compressibility",
+        ValueKind::Quantity(Dim::COMPRESSIBILITY),
+        false,
+        "Pore (rock) compressibility; defaults to 0.",
+    ),
+    key(
+        "ref_pressure",
+        ValueKind::Quantity(Dim::PRESSURE),
+        false,
+        "Pressure at which porosity is given; defaults to the initial datum pressure.",
+    ),
+];
+
+pub static ROCK: BlockDef = BlockDef {
+    name: "rock",
+    label: LabelRule::None,
+    repeatable: false,
+    keys: ROCK_KEYS,
+    children: &["patch"],
+    doc: "Rock properties per cell: porosity, permeabilities and pore compressibility.",
+};
+
+pub static PATCH: BlockDef = BlockDef {
+    name: "patch",
+    label: LabelRule::None,
+    repeatable: true,
+    keys: &[
+        key("porosity", ValueKind::Property(Dim::NONE), false, "Porosity inside the patch."),
+        key("kx", ValueKind::Property(Dim::PERMEABILITY), false, "kx inside the patch."),
+        key("ky", ValueKind::Property(Dim::PERMEABILITY), false, "ky inside the patch."),
+        key("kz", ValueKind::Property(Dim::PERMEABILITY), false, "kz inside the patch."),
+    ],
+    children: &[],
+    doc: "Overrides rock properties in a box of cells: `patch i = 12..14 k = 3 { kz = 0 md }`. Omitted axes mean all; patches apply in order.",
+};
+
+pub static FLUID: BlockDef = BlockDef {
+    name: "fluid",
+    label: LabelRule::Optional,
+    repeatable: false,
+    keys: &[
+        key(
+            "viscosity",
+            ValueKind::Quantity(Dim::VISCOSITY),
+            true,
+            "Viscosity at reservoir conditions.",
+        ),
+        key(
+            "fvf",
+            ValueKind::Quantity(Dim::FVF),
+            true,
+            "Formation volume factor: reservoir volume per surface volume (rb/stb, rm3/sm3).",
+        ),
+        key(
+            "compressibility",
+            ValueKind::Quantity(Dim::COMPRESSIBILITY),
+            false,
+            "Fluid compressibility; defaults to 0.",
+        ),
+        key(
+            "density",
+            ValueKind::Quantity(Dim::DENSITY),
+            true,
+            "Density at reservoir conditions, used for gravity.",
+        ),
+        key(
+            "ref_pressure",
+            ValueKind::Quantity(Dim::PRESSURE),
+            false,
+            "Pressure at which fvf and density hold; defaults to the initial datum pressure.",
+        ),
+    ],
+    children: &[],
+    doc: "The one slightly compressible liquid of the case.",
+};
+
+pub static INITIAL: BlockDef = BlockDef {
+    name: "initial",
+    label: LabelRule::None,
+    repeatable: false,
+    keys: &[key(
+        "pressure",
+        ValueKind::PressureAtDepth,
+        true,
+        "Initial pressure: `3200 psi at 7150 ft` sets a datum and fills the grid in hydrostatic equilibrium; a value without `at`, `layers`, `cells` or `file` sets cell pressures directly.",
+    )],
+    children: &[],
+    doc: "The initial state.",
+};
+
+pub static WELL: BlockDef = BlockDef {
+    name: "well",
+    label: LabelRule::Required,
+    repeatable: true,
+    keys: &[
+        key("role", ValueKind::Choice(ROLES), true, "`producer` or `injector`."),
+        key("location", ValueKind::Column, false, "Column `(i, j)` of a vertical well; completed in `layers`."),
+        key("layers", ValueKind::LayerRange, false, "Layers completed at `location`, e.g. `1..4`; defaults to all."),
+        key("completions", ValueKind::Cells, false, "Explicit completed cells `[(i, j, k) ...]`, instead of location and layers."),
+        key("radius", ValueKind::Quantity(Dim::LENGTH), true, "Wellbore radius."),
+        key("skin", ValueKind::Number, false, "Skin factor; defaults to 0."),
+        key("control", ValueKind::Control, true, "`rate <surface rate>` or `bhp <pressure>`."),
+        key("bhp_limit", ValueKind::Quantity(Dim::PRESSURE), false, "Producer: lowest bottom-hole pressure; injector: highest. Rate control switches to it."),
+    ],
+    children: &[],
+    doc: "A well with its completions, radius, skin and control.",
+};
+
+pub static BOUNDARY: BlockDef = BlockDef {
+    name: "boundary",
+    label: LabelRule::Required,
+    repeatable: true,
+    keys: &[
+        key("side", ValueKind::Choice(SIDES), true, "Face of the grid: west, east, south, north, top or bottom."),
+        key(
+            "pressure",
+            ValueKind::PressureAtDepth,
+            true,
+            "Constant pressure; `at <depth>` makes it hydrostatic along the face, without it the value holds at every face centre.",
+        ),
+    ],
+    children: &[],
+    doc: "A constant-pressure boundary (an aquifer, a pressure-maintained edge) on one side of the grid.",
+};
+
+pub static TIMELINE: BlockDef = BlockDef {
+    name: "timeline",
+    label: LabelRule::None,
+    repeatable: false,
+    keys: &[
+        key(
+            "kind",
+            ValueKind::Choice(RUN_KINDS),
+            false,
+            "`transient` (default) or `steady`.",
+        ),
+        key(
+            "end",
+            ValueKind::Quantity(Dim::TIME),
+            false,
+            "End of a transient run (required for transient).",
+        ),
+        key(
+            "first_step",
+            ValueKind::Quantity(Dim::TIME),
+            false,
+            "First time step; defaults to 0.1 day or end/10, the smaller.",
+        ),
+        key(
+            "max_step",
+            ValueKind::Quantity(Dim::TIME),
+            false,
+            "Largest time step; defaults to end/10.",
+        ),
+        key(
+            "growth",
+            ValueKind::Number,
+            false,
+            "Factor by which a step may grow after a good one; defaults to 1.5.",
+        ),
+        key(
+            "report_every",
+            ValueKind::Quantity(Dim::TIME),
+            false,
+            "Interval of report times; without it: events and the end.",
+        ),
+    ],
+    children: &["at"],
+    doc: "How the run proceeds in time, and the events that change controls.",
+};
+
+pub static EVENT: BlockDef = BlockDef {
+    name: "at",
+    label: LabelRule::None,
+    repeatable: true,
+    keys: &[],
+    children: &["well"],
+    doc: "An event: `at 180 day { well \"LE-1\" { control = bhp 1500 psi } }`.",
+};
+
+pub static EVENT_WELL: BlockDef = BlockDef {
+    name: "well",
+    label: LabelRule::Required,
+    repeatable: true,
+    keys: &[
+        key(
+            "control",
+            ValueKind::Control,
+            false,
+            "The new control from the event time on.",
+        ),
+        key(
+            "bhp_limit",
+            ValueKind::Quantity(Dim::PRESSURE),
+            false,
+            "The new BHP limit from the event time on.",
+        ),
+    ],
+    children: &[],
+    doc: "A change to a well's control at the event time.",
+};
+
+pub static REPORT: BlockDef = BlockDef {
+    name: "report",
+    label: LabelRule::None,
+    repeatable: false,
+    keys: &[key(
+        "units",
+        ValueKind::Choice(SYSTEMS),
+        false,
+        "Unit system of the results: field (default), metric or si.",
+    )],
+    children: &[],
+    doc: "How results are shown.",
+};
+
+/// Blocks allowed at the top level, plus the `include` directive.
+pub static TOP_LEVEL: &[&BlockDef] = &[
+    &CASE, &GRID, &ROCK, &FLUID, &INITIAL, &WELL, &BOUNDARY, &TIMELINE, &REPORT,
+];
+
+pub fn top_block(name: &str) -> Option<&'static BlockDef> {
+    TOP_LEVEL.iter().copied().find(|b| b.name == name)
+}
+
+/// The definition of a block nested in `parent`.
+pub fn child_block(parent: &BlockDef, name: &str) -> Option<&'static BlockDef> {
+    if !parent.children.contains(&name) {
+        return None;
+    }
+    match (parent.name, name) {
+        ("rock", "patch") => Some(&PATCH),
+        ("timeline", "at") => Some(&EVENT),
+        ("at", "well") => Some(&EVENT_WELL),
+        _ => None,
+    }
+}
+
+/// The nearest of `candidates` to `name`, if it is close enough to be a likely typo.
+pub fn nearest<'a>(name: &str, candidates: impl IntoIterator<Item = &'a str>) -> Option<&'a str> {
+    let lower = name.to_ascii_lowercase();
+    candidates
+        .into_iter()
+        .map(|c| {
+            (
+                strsim::damerau_levenshtein(&lower, &c.to_ascii_lowercase()),
+                c,
+            )
+        })
+        .filter(|(d, c)| {
+            *d <= (c.len().max(name.len()) / 3).max(1)
+                || c.starts_with(&lower)
+                || lower.starts_with(*c)
+        })
+        .min_by_key(|(d, _)| *d)
+        .map(|(_, c)| c)
+}

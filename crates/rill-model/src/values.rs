@@ -1,0 +1,378 @@
+//! Turning atoms into SI numbers: units checked against the expected
+//! dimension, with the diagnostics and fixes for every way a unit can be
+//! wrong (unknown, missing, wrong dimension, reservoir instead of surface
+//! volume, gauge where an absolute value is not meant).
+
+use crate::diagnostic::{Diagnostic, Location};
+use rill_syntax::{Span, UnitExpr};
+use rill_units::{Dim, Unit, UnitErrorKind};
+
+/// Collects diagnostics for one file while values are read.
+pub struct Reporter<'a> {
+    pub file: usize,
+    pub diags: &'a mut Vec<Diagnostic>,
+}
+
+impl Reporter<'_> {
+    pub fn loc(&self, span: Span) -> Location {
+        Location::new(self.file, span)
+    }
+    pub fn push(&mut self, d: Diagnostic) {
+        self.diags.push(d);
+    }
+}
+
+/// Where a gauge unit (`psig`, `barg`) may be used.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Gauge {
+    /// An absolute pressure value: gauge units are fine.
+    Allowed,
+    /// A difference, a part of an arithmetic expression, or not a pressure.
+    Refused,
+}
+
+/// Names the dimension for messages: "a pressure (psi, bar, kPa)".
+pub fn describe_expected(dim: Dim) -> String {
+    let what = dim.describe();
+    let units = rill_units::accepted_units(dim);
+    let head: Vec<&str> = units.iter().take(4).map(String::as_str).collect();
+    let what = if what.is_empty() {
+        format!("a quantity of dimension {dim}")
+    } else {
+        article(what)
+    };
+    if head.is_empty() {
+        what
+    } else {
+        format!("{what} ({})", head.join(", "))
+    }
+}
+
+fn article(what: &str) -> String {
+    let first = what.chars().next().unwrap_or('x');
+    if what == "dimensionless" {
+        "a dimensionless number".to_string()
+    } else if "aeiou".contains(first) {
+        format!("an {what}")
+    } else {
+        format!("a {what}")
+    }
+}
+
+/// What a found dimension is, for messages: "a pressure" or "dimension L^3".
+pub fn describe_found(dim: Dim) -> String {
+    let what = dim.describe();
+    if what.is_empty() {
+        format!("dimension {dim}")
+    } else {
+        article(what)
+    }
+}
+
+/// Replace reservoir-volume unit names by surface ones (or the reverse) in a
+/// unit expression: `bbl/day` becomes `stb/day`. `None` when no name changes.
+fn swap_volume_names(text: &str, to_surface: bool) -> Option<String> {
+    let pairs: &[(&str, &str)] = &[
+        ("bbl", "stb"),
+        ("rb", "stb"),
+        ("rm3", "sm3"),
+        ("m3", "sm3"),
+        ("m^3", "sm3"),
+    ];
+    let mut out = String::with_capacity(text.len() + 2);
+    let mut changed = false;
+    let bytes = text.as_bytes();
+    let mut i = 0;
+    while i < bytes.len() {
+        if bytes[i].is_ascii_alphabetic() {
+            let start = i;
+            while i < bytes.len() && (bytes[i].is_ascii_alphanumeric() || bytes[i] == b'_') {
+                i += 1;
+            }
+            // `m^3` is a name plus an exponent: look ahead for it.
+            let mut word = &text[start..i];
+            if word == "m" && text[i..].starts_with("^3") {
+                word = "m^3";
+                i += 2;
+            }
+            let replacement = pairs.iter().find_map(|(res, surf)| {
+                if to_surface && word == *res {
+                    Some(*surf)
+                } else if !to_surface && word == *surf {
+                    Some(if *surf == "stb" { "rb" } else { "rm3" })
+                } else {
+                    None
+                }
+            });
+            match replacement {
+                Some(r) => {
+                    out.push_str(r);
+                    changed = true;
+                }
+                None => out.push_str(word),
+            }
+        } else {
+            out.push(bytes[i] as char);
+            i += 1;
+        }
+    }
+    changed.then_some(out)
+}
+
+/// Dimension with surface volume counted as geometric volume: equal for two
+/// dimensions that differ only in the kind of volume.
+fn collapse(d: Dim) -> Dim {
+    Dim::new(d.l + 3 * d.s, d.m, d.t, 0)
+}
+
+/// Format a number compactly for fixes: `1.0204`, `2.5e-6`.
+pub fn short_number(v: f64) -> String {
+    if v == 0.0 {
+        return "0".into();
+    }
+    let a = v.abs();
+    if (1e-3..1e6).contains(&a) {
+        let s = format!("{v:.6}");
+        let s = s.trim_end_matches('0').trim_end_matches('.');
+        // Keep about five significant digits.
+        let digits_before = a.log10().floor() as i32 + 1;
+        let decimals = (5 - digits_before).clamp(0, 6) as usize;
+        let t = format!("{v:.decimals$}");
+        let t = if t.contains('.') {
+            t.trim_end_matches('0').trim_end_matches('.').to_string()
+        } else {
+            t
+        };
+        if t.len() < s.len() {
+            t
+        } else {
+            s.to_string()
+        }
+    } else {
+        format!("{v:.4e}").replace("0e", "e").replace(".000e", "e")
+    }
+}
+
+/// Convert `value` written with `unit` to SI, checking the dimension.
+/// `number_span` covers the number (and unit) for placing fixes.
+pub fn to_si(
+    r: &mut Reporter,
+    value: f64,
+    number_span: Span,
+    unit: Option<&UnitExpr>,
+    expected: Dim,
+    gauge: Gauge,
+    key: &str,
+) -> Option<f64> {
+    let u = checked_unit(r, value, number_span, unit, expected, gauge, key)?;
+    Some(u.to_si(value))
+}
+
+/// The unit of a value, checked against `expected`. A missing unit is fine
+/// for a dimensionless value.
+pub fn checked_unit(
+    r: &mut Reporter,
+    value: f64,
+    number_span: Span,
+    unit: Option<&UnitExpr>,
+    expected: Dim,
+    gauge: Gauge,
+    key: &str,
+) -> Option<Unit> {
+    let Some(unit) = unit else {
+        if expected == Dim::NONE {
+            return Some(Unit {
+                factor: 1.0,
+                dim: Dim::NONE,
+                gauge: false,
+            });
+        }
+        let mut d = Diagnostic::error(
+            "unit.missing",
+            r.loc(number_span),
+            format!(
+                "`{key}` expects {}, found a bare number",
+                describe_expected(expected)
+            ),
+        );
+        let end = Span::new(number_span.end, number_span.end);
+        for u in rill_units::accepted_units(expected).into_iter().take(3) {
+            d = d.with_replacement(format!("add the unit `{u}`"), r.loc(end), format!(" {u}"));
+        }
+        r.push(d.with_note(
+            "every dimensional number carries its unit: there is no implicit unit system",
+        ));
+        return None;
+    };
+    let parsed = match rill_units::parse(&unit.text) {
+        Ok(u) => u,
+        Err(e) => {
+            let span = Span::new(
+                unit.span.start + e.start,
+                unit.span.start + e.end.max(e.start + 1).min(unit.text.len()),
+            );
+            let span = if span.is_empty() { unit.span } else { span };
+            match &e.kind {
+                UnitErrorKind::Unknown { name, suggestions } => {
+                    let mut d = Diagnostic::error(
+                        "unit.unknown",
+                        r.loc(span),
+                        format!("unknown unit `{name}`"),
+                    );
+                    for s in suggestions {
+                        d = d.with_replacement(
+                            format!("replace `{name}` by `{s}`"),
+                            r.loc(span),
+                            s.clone(),
+                        );
+                    }
+                    if suggestions.is_empty() {
+                        d = d.with_note(format!("`{key}` expects {}", describe_expected(expected)));
+                    }
+                    r.push(d);
+                }
+                UnitErrorKind::GaugeInCompound { name } => {
+                    r.push(
+                        Diagnostic::error(
+                            "unit.gauge",
+                            r.loc(span),
+                            format!("the gauge unit `{name}` cannot be part of a compound unit"),
+                        )
+                        .with_note("gauge units add atmospheric pressure; use `psi` or `bar` inside compound units"),
+                    );
+                }
+                UnitErrorKind::Syntax { .. } => {
+                    r.push(Diagnostic::error(
+                        "unit.unknown",
+                        r.loc(span),
+                        format!("malformed unit `{}`: {e}", unit.text),
+                    ));
+                }
+            }
+            return None;
+        }
+    };
+    if parsed.dim == expected {
+        if parsed.gauge && gauge == Gauge::Refused {
+            let abs = if unit.text == "barg" { "bar" } else { "psi" };
+            r.push(
+                Diagnostic::error(
+                    "unit.gauge",
+                    r.loc(unit.span),
+                    format!("`{key}` is not an absolute pressure here, so the gauge unit `{}` is refused", unit.text),
+                )
+                .with_replacement(format!("use the absolute unit `{abs}`"), r.loc(unit.span), abs)
+                .with_note("gauge units are accepted only for absolute pressure values"),
+            );
+            return None;
+        }
+        return Some(parsed);
+    }
+    if collapse(parsed.dim) == collapse(expected) {
+        let mut d = Diagnostic::error(
+            "unit.volume-kind",
+            r.loc(unit.span),
+            volume_kind_message(key, expected, parsed.dim, &unit.text),
+        );
+        if parsed.dim.l == -expected.l
+            && parsed.dim.s == -expected.s
+            && parsed.dim.t == expected.t
+            && parsed.dim.m == expected.m
+        {
+            // Upside down: offer the reciprocal with the right unit.
+            if let Some(right) = rill_units::accepted_units(expected).into_iter().next() {
+                if value != 0.0 {
+                    let flipped = short_number(1.0 / value);
+                    d = d.with_replacement(
+                        format!("write the reciprocal: `{flipped} {right}`"),
+                        r.loc(number_span),
+                        format!("{flipped} {right}"),
+                    );
+                }
+            }
+        }
+        let to_surface = expected.s > parsed.dim.s
+            || (expected.s != 0
+                && expected.s.signum() == parsed.dim.s.signum()
+                && expected.s.abs() > parsed.dim.s.abs());
+        if let Some(fixed) = swap_volume_names(&unit.text, to_surface) {
+            if rill_units::parse(&fixed)
+                .map(|u| u.dim == expected)
+                .unwrap_or(false)
+            {
+                d = d.with_replacement(
+                    format!("replace `{}` by `{fixed}`", unit.text),
+                    r.loc(unit.span),
+                    fixed,
+                );
+            }
+        }
+        r.push(d);
+        return None;
+    }
+    let mut d = Diagnostic::error(
+        "unit.dimension",
+        r.loc(unit.span),
+        format!(
+            "`{key}` expects {}, found `{}`, which is {}",
+            describe_expected(expected),
+            unit.text,
+            describe_found(parsed.dim)
+        ),
+    );
+    for u in rill_units::accepted_units(expected).into_iter().take(3) {
+        d = d.with_replacement(
+            format!("replace `{}` by `{u}`", unit.text),
+            r.loc(unit.span),
+            u,
+        );
+    }
+    r.push(d);
+    None
+}
+
+fn volume_kind_message(key: &str, expected: Dim, found: Dim, text: &str) -> String {
+    if expected == Dim::FVF {
+        return format!("`{key}` is reservoir volume per surface volume (rb/stb, rm3/sm3); `{text}` is upside down");
+    }
+    let (want, got) = if expected.s != 0 && found.s == 0 {
+        ("at surface conditions", "reservoir (in-situ) volume")
+    } else if expected.s == 0 && found.s != 0 {
+        ("at reservoir conditions", "surface volume")
+    } else {
+        ("of another volume kind", "a different volume kind")
+    };
+    format!(
+        "`{key}` expects {} {want}, found `{text}`, which is in {got}",
+        describe_expected(expected)
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn swaps_reservoir_names_for_surface_ones() {
+        assert_eq!(
+            swap_volume_names("bbl/day", true).as_deref(),
+            Some("stb/day")
+        );
+        assert_eq!(
+            swap_volume_names("m^3/day", true).as_deref(),
+            Some("sm3/day")
+        );
+        assert_eq!(
+            swap_volume_names("stb/day", false).as_deref(),
+            Some("rb/day")
+        );
+        assert_eq!(swap_volume_names("psi", true), None);
+    }
+
+    #[test]
+    fn short_numbers() {
+        assert_eq!(short_number(1.0 / 0.98), "1.0204");
+        assert_eq!(short_number(2.0), "2");
+        assert_eq!(short_number(0.0), "0");
+    }
+}
