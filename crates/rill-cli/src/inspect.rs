@@ -1,10 +1,10 @@
-//! `rill inspect --cell I,J,K`: the cell, its six faces and any well in it,
-//! computed by the same functions the simulator assembles from
-//! (`rill_model::derived`).
+//! `rill inspect --cell I,J,K`: renders `rill_model::inspect::cell_report`
+//! as text or as the JSON of the specification (field units in the names).
 
 use crate::Format;
-use rill_model::{derived, Case, Role};
-use rill_units::{display_unit, Kind, System};
+use rill_model::inspect::{cell_report, CellReport};
+use rill_model::{Case, Role};
+use rill_units::{display_unit, format_number, Kind, System};
 use rill_workspace::DiskSource;
 use serde_json::{json, Value};
 use std::path::Path;
@@ -23,20 +23,21 @@ pub fn run(path: &Path, cell: &str, format: Format) -> u8 {
         eprintln!("error: the deck has errors; fix them to inspect cells");
         return 1;
     };
-    let (i, j, k) = match parse_cell(cell, case) {
-        Ok(ijk) => ijk,
+    let report = match parse_cell(cell, case)
+        .and_then(|(i, j, k)| cell_report(case, i, j, k).ok_or_else(|| "outside the grid".into()))
+    {
+        Ok(r) => r,
         Err(e) => {
             eprintln!("error: --cell {cell}: {e}");
             return 2;
         }
     };
-    let report = cell_report(case, i, j, k);
     match format {
         Format::Json => println!(
             "{}",
-            serde_json::to_string_pretty(&report).unwrap_or_default()
+            serde_json::to_string_pretty(&to_json(&report)).unwrap_or_default()
         ),
-        Format::Text => print_text(case, &report),
+        Format::Text => print_text(&report),
     }
     0
 }
@@ -64,163 +65,126 @@ fn parse_cell(text: &str, case: &Case) -> Result<(usize, usize, usize), String> 
     Ok((out[0], out[1], out[2]))
 }
 
-const FT: f64 = 0.3048;
-const MD: f64 = 9.869233e-16;
-const RB: f64 = 0.158987294928;
+/// SI to the field unit of a kind.
+fn field(si: f64, kind: Kind) -> f64 {
+    si / display_unit(kind, System::Field).factor
+}
 
-/// Field-unit factor for a kind, from the unit crate's display table.
-fn field(kind: Kind) -> f64 {
-    display_unit(kind, System::Field).factor
+fn role(r: Role) -> &'static str {
+    match r {
+        Role::Producer => "producer",
+        Role::Injector => "injector",
+    }
 }
 
 /// The JSON report of the specification.
-pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Value {
-    let g = &case.grid;
-    let c = g.index(i, j, k);
-    let rock = &case.rock;
-    let faces: Vec<Value> = derived::cell_faces(case, c)
+pub fn to_json(r: &CellReport) -> Value {
+    let faces: Vec<Value> = r
+        .faces
         .iter()
-        .map(|(side, face)| {
-            let neighbor = derived::neighbor(g, c, *side).map(|n| {
-                let (a, b, d) = g.ijk(n);
-                json!([a + 1, b + 1, d + 1])
-            });
-            let boundary = case
-                .boundaries
-                .iter()
-                .find(|b| b.side == *side && derived::neighbor(g, c, *side).is_none());
-            let (perm, geo) = face
-                .map(|f| (f.perm, f.geometric_trans))
-                .unwrap_or((0.0, 0.0));
-            let trans_si = derived::fluid_trans(case, geo);
+        .map(|f| {
             json!({
-                "side": side.name(),
-                "neighbor": neighbor,
-                "boundary": boundary.map(|b| b.name.clone()),
-                "perm_face_md": perm / MD,
-                "trans_stb_day_psi": trans_si / field(Kind::Transmissibility),
-                "trans_si": trans_si,
+                "side": f.side.name(),
+                "neighbor": f.neighbor.map(|(i, j, k)| json!([i, j, k])),
+                "boundary": f.boundary,
+                "perm_face_md": field(f.perm_face, Kind::Permeability),
+                "trans_stb_day_psi": field(f.trans, Kind::Transmissibility),
+                "trans_si": f.trans,
             })
         })
         .collect();
-    let wells: Vec<Value> = case
+    let wells: Vec<Value> = r
         .wells
         .iter()
-        .flat_map(|w| {
-            w.completions
-                .iter()
-                .filter(|comp| comp.cell == c)
-                .map(move |comp| (w, comp))
-        })
-        .map(|(w, comp)| {
-            let wi = derived::well_index(g, rock, comp, w.radius, w.skin);
-            let productivity = derived::fluid_trans(case, wi.geometric);
+        .map(|w| {
             json!({
                 "name": w.name,
-                "role": if w.role == Role::Producer { "producer" } else { "injector" },
-                "r_eq_ft": wi.r_eq / FT,
-                "well_index_md_ft": wi.geometric / (MD * FT),
-                "productivity_stb_day_psi": productivity / field(Kind::Productivity),
+                "role": role(w.role),
+                "r_eq_ft": field(w.r_eq, Kind::Length),
+                "well_index_md_ft": field(w.well_index, Kind::WellIndex),
+                "productivity_stb_day_psi": field(w.productivity, Kind::Productivity),
             })
         })
         .collect();
     json!({
         "cell": {
-            "i": i + 1, "j": j + 1, "k": k + 1,
-            "active": rock.is_active(c),
-            "depth_ft": derived::cell_center_depth(g, c) / FT,
-            "porosity": rock.porosity[c],
-            "kx_md": rock.kx[c] / MD,
-            "ky_md": rock.ky[c] / MD,
-            "kz_md": rock.kz[c] / MD,
-            "pore_volume_rb": derived::pore_volume(g, rock, c) / RB,
+            "i": r.i, "j": r.j, "k": r.k,
+            "active": r.active,
+            "depth_ft": field(r.depth, Kind::Length),
+            "porosity": r.porosity,
+            "kx_md": field(r.kx, Kind::Permeability),
+            "ky_md": field(r.ky, Kind::Permeability),
+            "kz_md": field(r.kz, Kind::Permeability),
+            "pore_volume_rb": field(r.pore_volume, Kind::ReservoirVolume),
         },
         "faces": faces,
         "wells": wells,
     })
 }
 
-fn num(v: &Value) -> f64 {
-    v.as_f64().unwrap_or(f64::NAN)
-}
-
-fn print_text(case: &Case, r: &Value) {
-    let cell = &r["cell"];
-    let g = &case.grid;
-    let (dx, dy, dz) = derived::cell_size(
-        g,
-        g.index(
-            cell["i"].as_u64().unwrap_or(1) as usize - 1,
-            cell["j"].as_u64().unwrap_or(1) as usize - 1,
-            cell["k"].as_u64().unwrap_or(1) as usize - 1,
-        ),
-    );
+fn print_text(r: &CellReport) {
+    let ft = |v: f64| field(v, Kind::Length);
+    let md = |v: f64| format_number(field(v, Kind::Permeability));
     println!(
         "cell ({}, {}, {}){}",
-        cell["i"],
-        cell["j"],
-        cell["k"],
-        if cell["active"].as_bool() == Some(true) {
+        r.i,
+        r.j,
+        r.k,
+        if r.active {
             ""
         } else {
             "  INACTIVE (porosity 0)"
         }
     );
     println!(
-        "  size        {:.2} x {:.2} x {:.2} ft",
-        dx / FT,
-        dy / FT,
-        dz / FT
+        "  size        {} x {} x {} ft",
+        format_number(ft(r.size.0)),
+        format_number(ft(r.size.1)),
+        format_number(ft(r.size.2))
     );
-    println!("  depth       {:.2} ft (centre)", num(&cell["depth_ft"]));
-    println!("  porosity    {}", num(&cell["porosity"]));
+    println!("  depth       {} ft (centre)", format_number(ft(r.depth)));
+    println!("  porosity    {}", format_number(r.porosity));
     println!(
         "  kx, ky, kz  {} md, {} md, {} md",
-        g6(num(&cell["kx_md"])),
-        g6(num(&cell["ky_md"])),
-        g6(num(&cell["kz_md"]))
+        md(r.kx),
+        md(r.ky),
+        md(r.kz)
     );
-    println!("  pore volume {} rb", g6(num(&cell["pore_volume_rb"])));
+    println!(
+        "  pore volume {} rb",
+        format_number(field(r.pore_volume, Kind::ReservoirVolume))
+    );
     println!();
     println!(
-        "  {:<7} {:<16} {:>14} {:>20} {:>14}",
-        "face", "neighbour", "k_face [md]", "T [stb/day/psi]", "T [SI]"
+        "  {:<7} {:<22} {:>12} {:>17} {:>14}",
+        "face", "neighbour", "k_face [md]", "T [stb/day/psi]", "T [sm3/s/Pa]"
     );
-    for f in r["faces"].as_array().into_iter().flatten() {
-        let neighbour = match (&f["neighbor"], &f["boundary"]) {
-            (Value::Array(n), _) => format!("({}, {}, {})", n[0], n[1], n[2]),
-            (_, Value::String(b)) => format!("boundary {b}"),
+    for f in &r.faces {
+        let neighbour = match (&f.neighbor, &f.boundary) {
+            (Some((i, j, k)), _) => format!("({i}, {j}, {k})"),
+            (None, Some(b)) => format!("boundary \"{b}\""),
             _ => "closed".to_string(),
         };
         println!(
-            "  {:<7} {:<16} {:>14} {:>20} {:>14}",
-            f["side"].as_str().unwrap_or(""),
+            "  {:<7} {:<22} {:>12} {:>17} {:>14}",
+            f.side.name(),
             neighbour,
-            g6(num(&f["perm_face_md"])),
-            g6(num(&f["trans_stb_day_psi"])),
-            format!("{:.4e}", num(&f["trans_si"]))
+            md(f.perm_face),
+            format_number(field(f.trans, Kind::Transmissibility)),
+            format_number(f.trans)
         );
     }
-    for w in r["wells"].as_array().into_iter().flatten() {
+    for w in &r.wells {
         println!();
+        println!("  well \"{}\" ({})", w.name, role(w.role));
+        println!("    Peaceman r_eq  {} ft", format_number(ft(w.r_eq)));
         println!(
-            "  well \"{}\" ({})",
-            w["name"].as_str().unwrap_or(""),
-            w["role"].as_str().unwrap_or("")
-        );
-        println!("    Peaceman r_eq    {} ft", g6(num(&w["r_eq_ft"])));
-        println!(
-            "    well index       {} md*ft",
-            g6(num(&w["well_index_md_ft"]))
+            "    well index     {} md*ft",
+            format_number(field(w.well_index, Kind::WellIndex))
         );
         println!(
-            "    productivity     {} stb/day/psi",
-            g6(num(&w["productivity_stb_day_psi"]))
+            "    productivity   {} stb/day/psi",
+            format_number(field(w.productivity, Kind::Productivity))
         );
     }
-}
-
-/// Six significant digits without trailing noise.
-fn g6(v: f64) -> String {
-    rill_units::format_number(v)
 }

@@ -14,6 +14,7 @@ pub mod checks;
 pub mod derived;
 pub mod diagnostic;
 pub mod explain;
+pub mod inspect;
 pub mod lower;
 pub mod props;
 pub mod schema;

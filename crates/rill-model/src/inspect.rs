@@ -1,0 +1,129 @@
+//! What is known about one cell: its properties, its six faces (neighbour,
+//! harmonic face permeability, transmissibility) and the wells completed in
+//! it (Peaceman radius, well index, productivity). `rill inspect` and the
+//! editor hover both render this, so they always show the same numbers,
+//! which are the numbers the simulator assembles (`derived`).
+
+use crate::case::{Case, Role, Side};
+use crate::derived;
+
+/// All values in SI.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CellReport {
+    /// 1-based indices.
+    pub i: usize,
+    pub j: usize,
+    pub k: usize,
+    pub active: bool,
+    pub size: (f64, f64, f64),
+    /// Depth of the cell centre, m.
+    pub depth: f64,
+    pub porosity: f64,
+    pub kx: f64,
+    pub ky: f64,
+    pub kz: f64,
+    /// Reservoir m^3 at the rock reference pressure.
+    pub pore_volume: f64,
+    pub faces: Vec<FaceReport>,
+    pub wells: Vec<WellReport>,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct FaceReport {
+    pub side: Side,
+    /// 1-based indices of the neighbour; `None` on the grid's edge.
+    pub neighbor: Option<(usize, usize, usize)>,
+    /// The boundary on this face, if the face is on the grid's edge and a boundary lies there.
+    pub boundary: Option<String>,
+    /// Harmonic face permeability (the cell's own on a boundary face), m^2.
+    pub perm_face: f64,
+    /// k A / L, m^3.
+    pub geometric_trans: f64,
+    /// With viscosity and formation volume factor: surface m^3 / (s Pa).
+    pub trans: f64,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct WellReport {
+    pub name: String,
+    pub role: Role,
+    /// Peaceman equivalent radius, m.
+    pub r_eq: f64,
+    /// Geometric well index 2 pi sqrt(kx ky) dz / (ln(r_eq / r_w) + s), m^3.
+    pub well_index: f64,
+    /// Well index with viscosity and formation volume factor: surface m^3 / (s Pa).
+    pub productivity: f64,
+}
+
+/// The report for 0-based cell `(i, j, k)`; `None` outside the grid.
+pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellReport> {
+    let g = &case.grid;
+    if i >= g.nx || j >= g.ny || k >= g.nz {
+        return None;
+    }
+    let c = g.index(i, j, k);
+    let rock = &case.rock;
+    let faces = derived::cell_faces(case, c)
+        .iter()
+        .map(|(side, face)| {
+            let n = derived::neighbor(g, c, *side);
+            let boundary = if n.is_none() {
+                case.boundaries
+                    .iter()
+                    .find(|b| b.side == *side)
+                    .map(|b| b.name.clone())
+            } else {
+                None
+            };
+            let (perm_face, geometric_trans) = face
+                .map(|f| (f.perm, f.geometric_trans))
+                .unwrap_or((0.0, 0.0));
+            FaceReport {
+                side: *side,
+                neighbor: n.map(|n| {
+                    let (a, b, d) = g.ijk(n);
+                    (a + 1, b + 1, d + 1)
+                }),
+                boundary,
+                perm_face,
+                geometric_trans,
+                trans: derived::fluid_trans(case, geometric_trans),
+            }
+        })
+        .collect();
+    let wells = case
+        .wells
+        .iter()
+        .flat_map(|w| {
+            w.completions
+                .iter()
+                .filter(|comp| comp.cell == c)
+                .map(move |comp| (w, comp))
+        })
+        .map(|(w, comp)| {
+            let wi = derived::well_index(g, rock, comp, w.radius, w.skin);
+            WellReport {
+                name: w.name.clone(),
+                role: w.role,
+                r_eq: wi.r_eq,
+                well_index: wi.geometric,
+                productivity: derived::fluid_trans(case, wi.geometric),
+            }
+        })
+        .collect();
+    Some(CellReport {
+        i: i + 1,
+        j: j + 1,
+        k: k + 1,
+        active: rock.is_active(c),
+        size: derived::cell_size(g, c),
+        depth: derived::cell_center_depth(g, c),
+        porosity: rock.porosity[c],
+        kx: rock.kx[c],
+        ky: rock.ky[c],
+        kz: rock.kz[c],
+        pore_volume: derived::pore_volume(g, rock, c),
+        faces,
+        wells,
+    })
+}
