@@ -1,0 +1,249 @@
+//! The checker never panics, whatever the deck: random and mutated decks
+//! from the examples and fixtures go through the whole analysis. And the
+//! formatter keeps the diagnostics of every example and fixture the same.
+//!
+//! Case counts come from `PROPTEST_CASES`; the default keeps CI fast, and
+//! `scripts/fuzz-checker` runs a campaign of a million cases.
+
+use proptest::prelude::*;
+use rill_model::{analyze_text, MemorySource};
+use std::path::{Path, PathBuf};
+
+fn root() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("../..")
+}
+
+/// Every deck in examples/ and tests/fixtures/, with its path.
+fn decks() -> Vec<(PathBuf, String)> {
+    let mut out = Vec::new();
+    let mut stack = vec![root().join("examples"), root().join("tests/fixtures")];
+    while let Some(dir) = stack.pop() {
+        let Ok(entries) = std::fs::read_dir(&dir) else {
+            continue;
+        };
+        for e in entries.flatten() {
+            let p = e.path();
+            if p.is_dir() {
+                stack.push(p);
+            } else if p.extension().is_some_and(|x| x == "rill") {
+                let text = std::fs::read_to_string(&p).unwrap();
+                out.push((p, text));
+            }
+        }
+    }
+    out.sort();
+    out
+}
+
+/// A source holding the example array and include files, so mutated decks
+/// still reach deep into the checks.
+fn source_for(path: &Path) -> MemorySource {
+    let mut s = MemorySource::new();
+    if let Some(dir) = path.parent() {
+        if let Ok(entries) = std::fs::read_dir(dir) {
+            for e in entries.flatten() {
+                let p = e.path();
+                if p.is_file() {
+                    if let Ok(bytes) = std::fs::read(&p) {
+                        s.insert(&p, bytes);
+                    }
+                }
+            }
+        }
+    }
+    s
+}
+
+/// Spans must lie on character boundaries inside their file.
+fn assert_spans_sane(a: &rill_model::Analysis) {
+    for d in &a.diagnostics {
+        let text = &a.files[d.location.file].text;
+        assert!(d.location.start <= d.location.end, "{d:?}");
+        assert!(d.location.end <= text.len(), "{d:?}");
+        assert!(
+            text.is_char_boundary(d.location.start) && text.is_char_boundary(d.location.end),
+            "{d:?}"
+        );
+    }
+}
+
+#[derive(Debug, Clone)]
+enum Mutation {
+    Delete(usize, usize),
+    Insert(usize, String),
+    Replace(usize, usize, String),
+    Duplicate(usize, usize),
+}
+
+fn fragments() -> impl Strategy<Value = String> {
+    prop_oneof![
+        Just("{".to_string()),
+        Just("}".to_string()),
+        Just("[".to_string()),
+        Just("]".to_string()),
+        Just("(".to_string()),
+        Just("\"".to_string()),
+        Just("=".to_string()),
+        Just("\n".to_string()),
+        Just(" md".to_string()),
+        Just(" psi".to_string()),
+        Just(" 0".to_string()),
+        Just(" -1e308".to_string()),
+        Just(" 1e999".to_string()),
+        Just("..".to_string()),
+        Just(" x ".to_string()),
+        Just("patch i = 0..99 { kx = 0 md }".to_string()),
+        Just("*".to_string()),
+        Just(" layers [1 2]".to_string()),
+        Just(" cells [1]".to_string()),
+        Just(" file \"nope.txt\" md".to_string()),
+        Just("Ω😀".to_string()),
+        Just("include \"tamsin-ridge.rill\"\n".to_string()),
+        "[ -~]{0,12}",
+    ]
+}
+
+fn mutation() -> impl Strategy<Value = Mutation> {
+    prop_oneof![
+        (any::<usize>(), 0usize..40).prop_map(|(a, n)| Mutation::Delete(a, n)),
+        (any::<usize>(), fragments()).prop_map(|(a, s)| Mutation::Insert(a, s)),
+        (any::<usize>(), 0usize..12, fragments()).prop_map(|(a, n, s)| Mutation::Replace(a, n, s)),
+        (any::<usize>(), 0usize..200).prop_map(|(a, n)| Mutation::Duplicate(a, n)),
+    ]
+}
+
+fn floor_boundary(s: &str, mut i: usize) -> usize {
+    i = i.min(s.len());
+    while !s.is_char_boundary(i) {
+        i -= 1;
+    }
+    i
+}
+
+fn apply(text: &str, m: &Mutation) -> String {
+    let mut t = text.to_string();
+    let len = t.len().max(1);
+    match m {
+        Mutation::Delete(a, n) => {
+            let s = floor_boundary(&t, a % len);
+            let e = floor_boundary(&t, s + n);
+            t.replace_range(s..e, "");
+        }
+        Mutation::Insert(a, frag) => {
+            let s = floor_boundary(&t, a % len);
+            t.insert_str(s, frag);
+        }
+        Mutation::Replace(a, n, frag) => {
+            let s = floor_boundary(&t, a % len);
+            let e = floor_boundary(&t, s + n);
+            t.replace_range(s..e, frag);
+        }
+        Mutation::Duplicate(a, n) => {
+            let s = floor_boundary(&t, a % len);
+            let e = floor_boundary(&t, s + n);
+            let piece = t[s..e].to_string();
+            t.insert_str(e, &piece);
+        }
+    }
+    t
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 256, ..ProptestConfig::default() })]
+
+    #[test]
+    fn mutated_decks_never_panic_the_checker(pick in any::<usize>(), muts in prop::collection::vec(mutation(), 1..6)) {
+        let decks = decks();
+        let (path, text) = &decks[pick % decks.len()];
+        let mut t = text.clone();
+        for m in &muts {
+            t = apply(&t, m);
+        }
+        let a = analyze_text(path, &t, &source_for(path));
+        assert_spans_sane(&a);
+    }
+
+    #[test]
+    fn random_text_never_panics_the_checker(text in "(?s).{0,400}") {
+        let a = analyze_text(Path::new("random.rill"), &text, &MemorySource::new());
+        assert_spans_sane(&a);
+    }
+}
+
+/// Diagnostics as (code, severity, message) with positions left out, since
+/// formatting moves text.
+fn summary(a: &rill_model::Analysis) -> Vec<(String, String, String)> {
+    let mut v: Vec<_> = a
+        .diagnostics
+        .iter()
+        .map(|d| {
+            (
+                d.code.to_string(),
+                d.severity.name().to_string(),
+                d.message.clone(),
+            )
+        })
+        .collect();
+    v.sort();
+    v
+}
+
+#[test]
+fn fmt_is_idempotent_and_keeps_diagnostics_on_every_example_and_fixture() {
+    let mut checked = 0;
+    for (path, text) in decks() {
+        let tree = rill_syntax::parse(&text);
+        if !tree.errors.is_empty() {
+            continue; // fmt refuses files with syntax errors
+        }
+        let once = rill_syntax::format(&tree, &text);
+        let twice = rill_syntax::format(&rill_syntax::parse(&once), &once);
+        assert_eq!(once, twice, "fmt is not idempotent on {}", path.display());
+        let source = source_for(&path);
+        let before = analyze_text(&path, &text, &source);
+        let after = analyze_text(&path, &once, &source);
+        assert_eq!(
+            summary(&before),
+            summary(&after),
+            "fmt changed the diagnostics of {}",
+            path.display()
+        );
+        checked += 1;
+    }
+    assert!(checked >= 30, "only {checked} decks checked");
+}
+
+#[test]
+fn examples_are_clean_and_in_canonical_format() {
+    let examples: Vec<_> = decks()
+        .into_iter()
+        .filter(|(p, _)| p.starts_with(root().join("examples")))
+        .collect();
+    for (path, text) in &examples {
+        let name = path.file_name().unwrap().to_string_lossy();
+        // A fragment included by another example is checked through it.
+        let fragment = examples
+            .iter()
+            .any(|(_, t)| t.contains(&format!("include \"{name}\"")));
+        let formatted = rill_syntax::format(&rill_syntax::parse(text), text);
+        assert_eq!(
+            &formatted,
+            text,
+            "{} is not in canonical format (run `rill fmt`)",
+            path.display()
+        );
+        if fragment {
+            continue;
+        }
+        let a = analyze_text(path, text, &source_for(path));
+        assert!(
+            a.diagnostics.is_empty(),
+            "{}: {:?}",
+            path.display(),
+            a.diagnostics
+                .iter()
+                .map(|d| format!("{} {}", d.code, d.message))
+                .collect::<Vec<_>>()
+        );
+    }
+}
