@@ -149,7 +149,11 @@ fn apply(text: &str, m: &Mutation) -> String {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 256, ..ProptestConfig::default() })]
+    // `PROPTEST_CASES` sets the count (256 by default, fast enough for CI).
+    #![proptest_config(ProptestConfig {
+        cases: std::env::var("PROPTEST_CASES").ok().and_then(|v| v.parse().ok()).unwrap_or(256),
+        ..ProptestConfig::default()
+    })]
 
     #[test]
     fn mutated_decks_never_panic_the_checker(pick in any::<usize>(), muts in prop::collection::vec(mutation(), 1..6)) {
