@@ -14,7 +14,6 @@ import {
   LanguageClientOptions,
   ResponseError,
   ServerOptions,
-  TransportKind,
 } from 'vscode-languageclient/node';
 
 /** The settings object the server expects, under the section `rill`. */
@@ -136,7 +135,8 @@ async function offerReportWhenWritten(reportPath: string, startedAt: number, gen
 }
 
 function delay(ms: number): Promise<void> {
-  return new Promise((resolve) => setTimeout(resolve, ms));
+  // unref: a pending report wait never keeps a process alive on its own.
+  return new Promise((resolve) => setTimeout(resolve, ms).unref?.());
 }
 
 /** Wraps one `rill.run` request: errors are shown, the report fallback is armed. */
@@ -201,25 +201,56 @@ function clientOptions(): LanguageClientOptions {
   };
 }
 
+/** Whether `command` names an executable file, directly or on PATH. */
+export function isExecutable(command: string): boolean {
+  const runnable = (file: string): boolean => {
+    try {
+      fs.accessSync(file, fs.constants.X_OK);
+      return fs.statSync(file).isFile();
+    } catch {
+      return false;
+    }
+  };
+  if (command.includes('/') || command.includes('\\')) {
+    return runnable(command);
+  }
+  const exts = process.platform === 'win32' ? (process.env.PATHEXT ?? '.EXE').split(';') : [''];
+  return (process.env.PATH ?? '')
+    .split(path.delimiter)
+    .filter((dir) => dir !== '')
+    .some((dir) => exts.some((ext) => runnable(path.join(dir, command + ext))));
+}
+
+function reportStartFailure(command: string, reason: string): void {
+  log(`could not start \`${command} lsp\`: ${reason}`);
+  void vscode.window
+    .showErrorMessage(
+      `rill: could not start the language server \`${command} lsp\` (${reason}). Install rill (cargo install --path crates/rill-cli) or set rill.path.`,
+      'Open settings',
+    )
+    .then((choice) => {
+      if (choice === 'Open settings') {
+        void vscode.commands.executeCommand('workbench.action.openSettings', 'rill.path');
+      }
+    });
+}
+
 async function startClient(): Promise<LanguageClient | undefined> {
   const command = serverCommand();
-  const serverOptions: ServerOptions = { command, args: ['lsp'], transport: TransportKind.stdio };
+  // Checked first so that a missing binary gives one clear message instead
+  // of the client's generic "couldn't create connection".
+  if (!isExecutable(command)) {
+    reportStartFailure(command, 'not found or not executable');
+    return undefined;
+  }
+  // No `transport` on purpose: with TransportKind.stdio the client appends
+  // `--stdio` to the arguments, and the server's command line is exactly `rill lsp`.
+  const serverOptions: ServerOptions = { command, args: ['lsp'] };
   const c = new LanguageClient('rill', 'rill language server', serverOptions, clientOptions());
   try {
     await c.start();
   } catch (err) {
-    const message = err instanceof Error ? err.message : String(err);
-    log(`could not start \`${command} lsp\`: ${message}`);
-    void vscode.window
-      .showErrorMessage(
-        `rill: could not start the language server \`${command} lsp\`. Install rill (cargo install --path crates/rill-cli) or set rill.path.`,
-        'Open settings',
-      )
-      .then((choice) => {
-        if (choice === 'Open settings') {
-          void vscode.commands.executeCommand('workbench.action.openSettings', 'rill.path');
-        }
-      });
+    reportStartFailure(command, err instanceof Error ? err.message : String(err));
     void c.dispose().catch(() => undefined);
     return undefined;
   }
@@ -232,7 +263,8 @@ async function stopClient(): Promise<void> {
   client = undefined;
   if (c) {
     try {
-      await c.stop(5000);
+      // The default 2 s: the client keeps its shutdown timer running to the end.
+      await c.stop();
     } catch (err) {
       log(`stopping the server: ${err instanceof Error ? err.message : String(err)}`);
     }
@@ -310,5 +342,6 @@ export async function activate(context: vscode.ExtensionContext): Promise<RillAp
 }
 
 export async function deactivate(): Promise<void> {
+  runGeneration++; // ends a pending report wait
   await stopClient();
 }

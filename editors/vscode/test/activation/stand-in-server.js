@@ -1,0 +1,60 @@
+'use strict';
+// A stand-in for `rill lsp`, used only by activation.test.js to check the
+// client side of the contract (settings, rill.run, showDocument,
+// diagnostics) while the real server is being written. It implements no rill
+// semantics: it reports one fixed diagnostic per opened document.
+const fs = require('fs');
+const os = require('os');
+const path = require('path');
+const {
+  createConnection, ProposedFeatures, TextDocumentSyncKind, DiagnosticSeverity,
+} = require('vscode-languageserver/node');
+
+// Streams given explicitly: the client starts `<path> lsp` with no `--stdio`.
+const connection = createConnection(ProposedFeatures.all, process.stdin, process.stdout);
+const seen = { argv: process.argv.slice(2), initializationOptions: null, configurationChanges: [], executed: [], opened: [], showDocumentSupported: false };
+
+connection.onInitialize((params) => {
+  seen.initializationOptions = params.initializationOptions ?? null;
+  seen.showDocumentSupported = params.capabilities?.window?.showDocument?.support === true;
+  return {
+    capabilities: {
+      textDocumentSync: TextDocumentSyncKind.Full,
+      hoverProvider: true,
+      executeCommandProvider: { commands: ['rill.run'] },
+    },
+    serverInfo: { name: 'rill stand-in' },
+  };
+});
+
+connection.onDidOpenTextDocument((p) => {
+  seen.opened.push(p.textDocument.uri);
+  connection.sendDiagnostics({
+    uri: p.textDocument.uri,
+    diagnostics: [{
+      range: { start: { line: 0, character: 0 }, end: { line: 0, character: 1 } },
+      severity: DiagnosticSeverity.Error,
+      code: 'stand-in.check',
+      source: 'rill',
+      message: 'stand-in diagnostic',
+    }],
+  });
+});
+
+connection.onDidChangeConfiguration((p) => { seen.configurationChanges.push(p.settings); });
+
+connection.onExecuteCommand(async (p) => {
+  seen.executed.push({ command: p.command, arguments: p.arguments ?? [] });
+  if (p.command !== 'rill.run') throw new Error(`unknown command ${p.command}`);
+  const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'rill-stand-in-'));
+  const report = path.join(dir, 'report.html');
+  fs.writeFileSync(report, '<!doctype html><title>stand-in report</title>\n');
+  const uri = require('url').pathToFileURL(report).toString();
+  if (seen.showDocumentSupported) {
+    await connection.window.showDocument({ uri, external: true });
+  }
+  return { report: uri };
+});
+
+connection.onRequest('rillTest/seen', () => seen);
+connection.listen();
