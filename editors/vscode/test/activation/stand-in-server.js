@@ -2,7 +2,8 @@
 // A stand-in for `rill lsp`, used only by activation.test.js to check the
 // client side of the contract (settings, rill.run, showDocument,
 // diagnostics) while the real server is being written. It implements no rill
-// semantics: it reports one fixed diagnostic per opened document.
+// semantics: it reports one fixed diagnostic per opened document (on the
+// first line holding `kx =`, else the first line) and a fixed hover.
 const fs = require('fs');
 const os = require('os');
 const path = require('path');
@@ -29,10 +30,11 @@ connection.onInitialize((params) => {
 
 connection.onDidOpenTextDocument((p) => {
   seen.opened.push(p.textDocument.uri);
+  const line = Math.max(0, p.textDocument.text.split('\n').findIndex((l) => /\bkx\s*=/.test(l)));
   connection.sendDiagnostics({
     uri: p.textDocument.uri,
     diagnostics: [{
-      range: { start: { line: 0, character: 0 }, end: { line: 0, character: 1 } },
+      range: { start: { line, character: 0 }, end: { line, character: 1 } },
       severity: DiagnosticSeverity.Error,
       code: 'stand-in.check',
       source: 'rill',
@@ -41,12 +43,15 @@ connection.onDidOpenTextDocument((p) => {
   });
 });
 
+connection.onHover(() => ({ contents: { kind: 'markdown', value: 'stand-in hover' } }));
+
 connection.onDidChangeConfiguration((p) => { seen.configurationChanges.push(p.settings); });
 
 connection.onExecuteCommand(async (p) => {
   seen.executed.push({ command: p.command, arguments: p.arguments ?? [] });
   if (p.command !== 'rill.run') throw new Error(`unknown command ${p.command}`);
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'rill-stand-in-'));
+  process.on('exit', () => fs.rmSync(dir, { recursive: true, force: true }));
   const report = path.join(dir, 'report.html');
   fs.writeFileSync(report, '<!doctype html><title>stand-in report</title>\n');
   const uri = require('url').pathToFileURL(report).toString();
