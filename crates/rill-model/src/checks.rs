@@ -368,18 +368,24 @@ fn flow_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
             has_well[c.cell] = true;
         }
     }
-    let mut isolated = Vec::new();
-    for (c, &well_here) in has_well.iter().enumerate() {
-        if !case.rock.is_active(c) || well_here {
-            continue;
-        }
-        let any = derived::cell_faces(case, c)
-            .iter()
-            .any(|(_, f)| f.is_some_and(|f| f.geometric_trans > 0.0));
-        if !any {
-            isolated.push(c);
+    // A cell flows if a connection or a boundary face with positive
+    // transmissibility touches it: one pass over the connections rather than
+    // six faces per cell.
+    let mut flows = has_well;
+    for conn in derived::connections(grid, &case.rock) {
+        flows[conn.a] = true;
+        flows[conn.b] = true;
+    }
+    for b in &case.boundaries {
+        for c in derived::cells_on_side(grid, b.side) {
+            if derived::boundary_face(grid, &case.rock, c, b.side).geometric_trans > 0.0 {
+                flows[c] = true;
+            }
         }
     }
+    let isolated: Vec<usize> = (0..n)
+        .filter(|&c| case.rock.is_active(c) && !flows[c])
+        .collect();
     if let Some(&c) = isolated.first() {
         let at = spans
             .rock

@@ -108,14 +108,6 @@ pub fn harmonic_face_perm(k_a: f64, len_a: f64, k_b: f64, len_b: f64) -> f64 {
     (len_a + len_b) / (len_a / k_a + len_b / k_b)
 }
 
-/// Interface area between two neighbours. On a tensor-product grid the two
-/// faces coincide laterally except for per-cell `dz`, where the overlap is
-/// taken as the smaller thickness (cells are stacked with their own tops, so
-/// the shared extent cannot exceed the thinner one).
-fn shared_area(grid: &Grid, a: usize, b: usize, side: Side) -> f64 {
-    face_area(grid, a, side).min(face_area(grid, b, opposite(side)))
-}
-
 pub fn opposite(side: Side) -> Side {
     match side {
         Side::West => Side::East,
@@ -141,23 +133,102 @@ pub struct Face {
 /// The face of cell `c` on `side` towards its neighbour, if there is one.
 /// Inactive cells (porosity 0) carry no flow.
 pub fn interior_face(grid: &Grid, rock: &Rock, c: usize, side: Side) -> Option<Face> {
-    let n = neighbor(grid, c, side)?;
-    let (la, lb) = (
-        half_length(grid, c, side),
-        half_length(grid, n, opposite(side)),
-    );
-    let perm = harmonic_face_perm(
-        normal_perm(rock, c, side),
-        la,
-        normal_perm(rock, n, side),
-        lb,
-    );
-    let active = rock.is_active(c) && rock.is_active(n);
-    let geometric_trans = if active {
-        perm * shared_area(grid, c, n, side) / (la + lb)
-    } else {
-        0.0
+    face_at(grid, rock, c, grid.ijk(c), side)
+}
+
+/// [`interior_face`] with the cell's `(i, j, k)` already known: the one
+/// place where the two half-cells of a face are combined. Hot in assembly
+/// and in the checker, so it avoids recomputing indices.
+#[inline]
+fn face_at(
+    grid: &Grid,
+    rock: &Rock,
+    c: usize,
+    (i, j, k): (usize, usize, usize),
+    side: Side,
+) -> Option<Face> {
+    let plane = grid.nx * grid.ny;
+    let (n, la, lb, area_a, area_b, ka, kb) = match side {
+        Side::West | Side::East => {
+            let ni = if side == Side::West {
+                i.checked_sub(1)?
+            } else {
+                i + 1
+            };
+            if ni >= grid.nx {
+                return None;
+            }
+            let n = if side == Side::West { c - 1 } else { c + 1 };
+            let dy = grid.dy[j];
+            (
+                n,
+                0.5 * grid.dx[i],
+                0.5 * grid.dx[ni],
+                dy * grid.dz[c],
+                dy * grid.dz[n],
+                rock.kx[c],
+                rock.kx[n],
+            )
+        }
+        Side::South | Side::North => {
+            let nj = if side == Side::South {
+                j.checked_sub(1)?
+            } else {
+                j + 1
+            };
+            if nj >= grid.ny {
+                return None;
+            }
+            let n = if side == Side::South {
+                c - grid.nx
+            } else {
+                c + grid.nx
+            };
+            let dx = grid.dx[i];
+            (
+                n,
+                0.5 * grid.dy[j],
+                0.5 * grid.dy[nj],
+                dx * grid.dz[c],
+                dx * grid.dz[n],
+                rock.ky[c],
+                rock.ky[n],
+            )
+        }
+        Side::Top | Side::Bottom => {
+            let nk = if side == Side::Top {
+                k.checked_sub(1)?
+            } else {
+                k + 1
+            };
+            if nk >= grid.nz {
+                return None;
+            }
+            let n = if side == Side::Top {
+                c - plane
+            } else {
+                c + plane
+            };
+            let area = grid.dx[i] * grid.dy[j];
+            (
+                n,
+                0.5 * grid.dz[c],
+                0.5 * grid.dz[n],
+                area,
+                area,
+                rock.kz[c],
+                rock.kz[n],
+            )
+        }
     };
+    let perm = harmonic_face_perm(ka, la, kb, lb);
+    // On a tensor-product grid the two faces coincide laterally except for
+    // per-cell `dz`, where the overlap is taken as the smaller thickness
+    // (cells are stacked with their own tops, so the shared extent cannot
+    // exceed the thinner one).
+    let area = area_a.min(area_b);
+    let active = rock.porosity[c] > 0.0 && rock.porosity[n] > 0.0;
+    let geometric_trans = if active { perm * area / (la + lb) } else { 0.0 };
     Some(Face {
         side,
         neighbor: Some(n),
@@ -214,21 +285,36 @@ pub struct Connection {
 
 /// Every interior connection with a positive transmissibility, each once
 /// (east, north and bottom faces), in cell order. The simulator assembles
-/// from this list, so hover and the run use the same numbers.
+/// from this list, so hover and the run use the same numbers. Layers are
+/// done in parallel: a million-cell grid is checked on every keystroke.
 pub fn connections(grid: &Grid, rock: &Rock) -> Vec<Connection> {
-    let mut out = Vec::with_capacity(3 * grid.cell_count());
-    for c in 0..grid.cell_count() {
-        for side in [Side::East, Side::North, Side::Bottom] {
-            if let Some(face) = interior_face(grid, rock, c, side) {
-                if face.geometric_trans > 0.0 {
-                    out.push(Connection {
-                        a: c,
-                        b: face.neighbor.unwrap_or(c),
-                        geometric_trans: face.geometric_trans,
-                    });
+    use rayon::prelude::*;
+    let per_layer: Vec<Vec<Connection>> = (0..grid.nz)
+        .into_par_iter()
+        .map(|k| {
+            let mut out = Vec::with_capacity(3 * grid.nx * grid.ny);
+            for j in 0..grid.ny {
+                for i in 0..grid.nx {
+                    let c = grid.index(i, j, k);
+                    for side in [Side::East, Side::North, Side::Bottom] {
+                        if let Some(face) = face_at(grid, rock, c, (i, j, k), side) {
+                            if face.geometric_trans > 0.0 {
+                                out.push(Connection {
+                                    a: c,
+                                    b: face.neighbor.unwrap_or(c),
+                                    geometric_trans: face.geometric_trans,
+                                });
+                            }
+                        }
+                    }
                 }
             }
-        }
+            out
+        })
+        .collect();
+    let mut out = Vec::with_capacity(per_layer.iter().map(Vec::len).sum());
+    for layer in per_layer {
+        out.extend(layer);
     }
     out
 }
@@ -300,4 +386,37 @@ pub fn hydrostatic_pressure(
         return p_datum + g_rho * dz;
     }
     fluid.ref_pressure - e.ln() / c
+}
+
+/// The cells whose face on `side` is on the outside of the grid.
+pub fn cells_on_side(grid: &Grid, side: Side) -> Vec<usize> {
+    let (nx, ny, nz) = (grid.nx, grid.ny, grid.nz);
+    let mut out = Vec::new();
+    match side {
+        Side::West | Side::East => {
+            let i = if side == Side::West { 0 } else { nx - 1 };
+            for k in 0..nz {
+                for j in 0..ny {
+                    out.push(grid.index(i, j, k));
+                }
+            }
+        }
+        Side::South | Side::North => {
+            let j = if side == Side::South { 0 } else { ny - 1 };
+            for k in 0..nz {
+                for i in 0..nx {
+                    out.push(grid.index(i, j, k));
+                }
+            }
+        }
+        Side::Top | Side::Bottom => {
+            let k = if side == Side::Top { 0 } else { nz - 1 };
+            for j in 0..ny {
+                for i in 0..nx {
+                    out.push(grid.index(i, j, k));
+                }
+            }
+        }
+    }
+    out
 }

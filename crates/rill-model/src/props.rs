@@ -547,6 +547,10 @@ impl PropReader<'_> {
                 return None;
             }
         };
+        if let Some(values) = self.source.parsed_numbers(&path, &bytes) {
+            self.cache.insert(path, values.clone());
+            return Some(values);
+        }
         let (values, bad) = arrays::parse_numbers(&bytes);
         if !bad.is_empty() {
             let file_index = self.files.len();
@@ -575,6 +579,7 @@ impl PropReader<'_> {
             return None;
         }
         let values = Arc::new(values);
+        self.source.keep_parsed_numbers(&path, &bytes, &values);
         self.cache.insert(path, values.clone());
         Some(values)
     }

@@ -29,6 +29,17 @@ impl std::fmt::Display for SourceError {
 pub trait Source {
     /// The bytes of the file at `path` (already resolved against the including file).
     fn read(&self, path: &Path) -> Result<Arc<[u8]>, SourceError>;
+
+    /// Numbers parsed earlier from exactly these `bytes` of an array file,
+    /// if the source keeps them. A source that hands out the same `Arc` for
+    /// an unchanged file can keep parsed arrays across analyses, so that a
+    /// million-cell deck re-checks without re-parsing its arrays.
+    fn parsed_numbers(&self, _path: &Path, _bytes: &Arc<[u8]>) -> Option<Arc<Vec<f64>>> {
+        None
+    }
+
+    /// Offer parsed numbers of `bytes` for [`Source::parsed_numbers`].
+    fn keep_parsed_numbers(&self, _path: &Path, _bytes: &Arc<[u8]>, _numbers: &Arc<Vec<f64>>) {}
 }
 
 /// Resolve `relative` against the directory of `from`, lexically (no file

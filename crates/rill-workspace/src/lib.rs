@@ -29,6 +29,8 @@ pub struct DiskSource {
     cache: Mutex<HashMap<PathBuf, Cached>>,
     /// Editor buffers that override the disk contents.
     overlays: Mutex<HashMap<PathBuf, Arc<[u8]>>>,
+    /// Parsed array files, valid while the cached bytes are the same `Arc`.
+    parsed: Mutex<HashMap<PathBuf, (Arc<[u8]>, Arc<Vec<f64>>)>>,
 }
 
 impl DiskSource {
@@ -64,6 +66,19 @@ impl DiskSource {
     pub fn invalidate(&self, path: &Path) {
         if let Ok(mut c) = self.cache.lock() {
             c.remove(&normalize(path));
+        }
+        if let Ok(mut p) = self.parsed.lock() {
+            p.remove(&normalize(path));
+        }
+    }
+
+    /// Drop cached file contents and parsed arrays of files not read for a while.
+    pub fn clear_cache(&self) {
+        if let Ok(mut c) = self.cache.lock() {
+            c.clear();
+        }
+        if let Ok(mut p) = self.parsed.lock() {
+            p.clear();
         }
     }
 
@@ -122,6 +137,18 @@ impl Source for DiskSource {
         }
         Ok(bytes)
     }
+
+    fn parsed_numbers(&self, path: &Path, bytes: &Arc<[u8]>) -> Option<Arc<Vec<f64>>> {
+        let parsed = self.parsed.lock().ok()?;
+        let (held, numbers) = parsed.get(&normalize(path))?;
+        Arc::ptr_eq(held, bytes).then(|| numbers.clone())
+    }
+
+    fn keep_parsed_numbers(&self, path: &Path, bytes: &Arc<[u8]>, numbers: &Arc<Vec<f64>>) {
+        if let Ok(mut parsed) = self.parsed.lock() {
+            parsed.insert(normalize(path), (bytes.clone(), numbers.clone()));
+        }
+    }
 }
 
 #[cfg(test)]
@@ -174,6 +201,23 @@ mod tests {
             vec![outside.path().to_path_buf()],
         );
         assert!(allowed.read(&secret).is_ok());
+    }
+
+    #[test]
+    fn parsed_arrays_are_kept_while_the_bytes_are_unchanged() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("kx.txt");
+        std::fs::write(&p, "1 2").unwrap();
+        let s = DiskSource::unconfined();
+        let bytes = s.read(&p).unwrap();
+        s.keep_parsed_numbers(&p, &bytes, &Arc::new(vec![1.0, 2.0]));
+        assert_eq!(
+            s.parsed_numbers(&p, &s.read(&p).unwrap()).as_deref(),
+            Some(&vec![1.0, 2.0])
+        );
+        std::fs::write(&p, "1 2 3").unwrap();
+        let changed = s.read(&p).unwrap();
+        assert!(s.parsed_numbers(&p, &changed).is_none());
     }
 
     #[test]
