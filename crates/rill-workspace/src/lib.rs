@@ -19,6 +19,9 @@ struct Cached {
     bytes: Arc<[u8]>,
 }
 
+/// Numbers of an array file with the bytes they were parsed from.
+type ParsedArray = (Arc<[u8]>, Arc<Vec<f64>>);
+
 /// Files on disk, optionally confined to a set of root folders.
 #[derive(Debug, Default)]
 pub struct DiskSource {
@@ -30,7 +33,7 @@ pub struct DiskSource {
     /// Editor buffers that override the disk contents.
     overlays: Mutex<HashMap<PathBuf, Arc<[u8]>>>,
     /// Parsed array files, valid while the cached bytes are the same `Arc`.
-    parsed: Mutex<HashMap<PathBuf, (Arc<[u8]>, Arc<Vec<f64>>)>>,
+    parsed: Mutex<HashMap<PathBuf, ParsedArray>>,
 }
 
 impl DiskSource {
