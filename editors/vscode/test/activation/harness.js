@@ -74,8 +74,16 @@ async function startExtension({ configuration, folder, documents }) {
   return handle;
 }
 
+const tempDirs = [];
+process.on('exit', () => {
+  for (const d of tempDirs) fs.rmSync(d, { recursive: true, force: true });
+});
+
+/** A fresh folder under the system temp dir, removed when the process exits. */
 function tempDir(prefix) {
-  return fs.mkdtempSync(path.join(os.tmpdir(), prefix));
+  const d = fs.mkdtempSync(path.join(os.tmpdir(), prefix));
+  tempDirs.push(d);
+  return d;
 }
 
 module.exports = { vscode, extension, state, waitFor, withTimeout, startExtension, tempDir };
