@@ -110,6 +110,8 @@ const state = {
   diagnostics: new Map(), // uri string -> Diagnostic[]
   openedExternally: [],
   messages: [],
+  // What showInformationMessage answers, as if the user clicked that button.
+  informationAnswer: undefined,
   commands: new Map(),
   documents: [],
   workspaceFolders: [],
@@ -194,7 +196,7 @@ const workspace = withFallback('workspace', {
 
 const window = withFallback('window', {
   createOutputChannel: (name) => outputChannel(name),
-  showInformationMessage: async (m) => { state.messages.push(['info', m]); return undefined; },
+  showInformationMessage: async (m) => { state.messages.push(['info', m]); return state.informationAnswer; },
   showWarningMessage: async (m) => { state.messages.push(['warning', m]); return undefined; },
   showErrorMessage: async (m) => { state.messages.push(['error', m]); return undefined; },
   withProgress: async (_opts, task) => task({ report() {} }, new CancellationTokenSource().token),

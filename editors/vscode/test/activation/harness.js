@@ -51,6 +51,7 @@ async function startExtension({ configuration, folder, documents }) {
   state.diagnostics.clear();
   state.openedExternally.length = 0;
   state.messages.length = 0;
+  state.informationAnswer = undefined;
   const context = { subscriptions: [], extensionPath: path.resolve(__dirname, '../..') };
   const handle = {
     context,
@@ -66,7 +67,15 @@ async function startExtension({ configuration, folder, documents }) {
         for (const d of context.subscriptions.splice(0)) {
           try { d.dispose(); } catch { /* already gone */ }
         }
-        if (child && child.exitCode === null && child.signalCode === null) child.kill('SIGKILL');
+        const alive = () => child && child.exitCode === null && child.signalCode === null;
+        // Give the server a moment to act on `exit`, then make sure it is gone.
+        if (alive()) {
+          await new Promise((resolve) => {
+            const timer = setTimeout(resolve, 2000);
+            child.once('exit', () => { clearTimeout(timer); resolve(); });
+          });
+        }
+        if (alive()) child.kill('SIGKILL');
       }
     },
   };

@@ -55,11 +55,15 @@ connection.onExecuteCommand(async (p) => {
   const report = path.join(dir, 'report.html');
   fs.writeFileSync(report, '<!doctype html><title>stand-in report</title>\n');
   const uri = require('url').pathToFileURL(report).toString();
-  if (seen.showDocumentSupported) {
+  // RILL_STAND_IN_NO_SHOW=1: behave like a server that never sends showDocument.
+  if (seen.showDocumentSupported && process.env.RILL_STAND_IN_NO_SHOW !== '1') {
     await connection.window.showDocument({ uri, external: true });
   }
   return { report: uri };
 });
 
 connection.onRequest('rillTest/seen', () => seen);
+// Leave through process.exit so the 'exit' clean-up runs, however we are stopped.
+process.on('SIGTERM', () => process.exit(0));
+process.stdin.on('end', () => process.exit(0));
 connection.listen();

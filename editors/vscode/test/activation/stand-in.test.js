@@ -76,6 +76,29 @@ test('extension drives a stand-in rill lsp over stdio', { timeout: 60000 }, asyn
   assert.equal(ext.api.client(), undefined, 'the client is gone after deactivate');
 });
 
+test('without showDocument, the report is offered when it is written', { timeout: 60000 }, async () => {
+  const dir = tempDir('rill-activation-fallback-');
+  const wrapper = path.join(dir, 'rill');
+  fs.writeFileSync(wrapper, `#!/bin/sh\nRILL_STAND_IN_NO_SHOW=1 exec "${process.execPath}" "${path.join(__dirname, 'stand-in-server.js')}" "$@"\n`, { mode: 0o755 });
+  const deck = path.join(dir, 'pilot.rill');
+  fs.writeFileSync(deck, 'grid { cells = 2 x 2 x 1 }\n');
+  const ext = await startExtension({
+    configuration: { path: wrapper },
+    folder: dir,
+    documents: [{ file: deck, text: fs.readFileSync(deck, 'utf8') }],
+  });
+  try {
+    state.informationAnswer = 'Open report';
+    const result = await withTimeout(vscode.commands.executeCommand('rill.runCase', vscode.Uri.file(deck)), 10000, 'rill.runCase');
+    assert.match(result.report, /report\.html$/);
+    const opened = await waitFor('the fallback to open report.html', () => state.openedExternally[0], 15000);
+    assert.equal(opened, result.report);
+    assert.ok(state.messages.some(([kind, m]) => kind === 'info' && /run finished/.test(m)));
+  } finally {
+    await ext.stop();
+  }
+});
+
 test('a missing binary is reported, not thrown', { timeout: 30000 }, async () => {
   const dir = tempDir('rill-activation-missing-');
   const ext = await startExtension({
