@@ -2,4 +2,450 @@
 //! VTK maps with a `.pvd` collection, SVG plots and the self-contained
 //! `report.html`, all written atomically into the output directory.
 //!
-//! It must never compute physics: it formats what `rill-sim` produced.
+//! It must never compute physics: it formats what `rill-sim` produced
+//! ([`RunResults`], in SI) and what the checked [`Case`] says (grid, rock,
+//! wells, report unit system), converting SI to the report system's display
+//! units and nothing more.
+//!
+//! # API
+//! - [`write_results`]`(out_dir, case, results, meta)` writes a result set
+//!   and returns the [`WrittenFiles`]. [`default_out_dir`] gives
+//!   `<deck stem>.out/` beside the deck.
+//! - [`write_system`] / [`write_system_with`] write `matrix.mtx` and
+//!   `rhs.mtx` for `rill run --export-system DIR` (the MatrixMarket text
+//!   itself comes from `rill-sim`).
+//! - [`RunMeta`] carries what the report shows beyond the results: deck path,
+//!   title, rill version, wall time, start time, cautions from the checker.
+//!
+//! # The result set
+//! ```text
+//! <out_dir>/
+//!   .rill-results        marker: this directory is rill's and is replaced as a whole
+//!   series.csv           one row per report time, headers with units
+//!   series.json          the same series with units, solver statistics, cautions
+//!   maps/step_0000.vtr   VTK XML RectilinearGrid per report time
+//!   maps/rill.pvd        the collection, timesteps in report time units
+//!   report.html          self-contained page: caution, summary, plots, layer maps
+//! ```
+//! `series.csv` headers follow the spec: `time [day]`, `pressure_avg [psi]`,
+//! `<WELL> bhp [psi]`, `<WELL> rate [stb/day]`, `<WELL> cumulative [stb]`,
+//! `<BOUNDARY> rate [stb/day]`, `balance_error [-]` (metric: `bar`,
+//! `sm3/day`, `sm3`; si: `s`, `Pa`, `sm3/s`, `sm3`); names are CSV-quoted
+//! when they need it; numbers are the shortest text that reads back to the
+//! same double. Rates are positive for production, negative for injection
+//! or inflow. See the `vtk` and `report` modules for the map geometry and
+//! the size limits of the page.
+//!
+//! # Atomicity and refusals
+//! Everything is built in a hidden staging directory beside `out_dir` (same
+//! filesystem), synced, then swapped in: the previous set is renamed aside,
+//! the new one renamed in, the old one removed. A failed write leaves the
+//! previous set intact, and a reader never sees a half-written set. Files
+//! from an earlier run never survive into a later one.
+//!
+//! [`write_results`] refuses (with [`OutputError::Refused`]) an `out_dir`
+//! that is the deck file, the deck's own directory or any directory that
+//! contains the deck, a symbolic link, an existing file, or an existing
+//! non-empty directory that is not a rill result set (no `.rill-results`
+//! marker): replacing it would delete files rill did not write.
+//!
+//! # Units
+//! Every value is converted from SI by `rill_units::display_unit` for the
+//! case's report system (`report { units = field | metric | si }`).
+
+mod atomic;
+mod csv;
+mod json;
+mod report;
+mod series;
+mod svg;
+mod text;
+mod units;
+mod vtk;
+
+use std::fmt;
+use std::io::{self, Write};
+use std::path::{Path, PathBuf};
+
+use rill_model::Case;
+use rill_sim::RunResults;
+
+pub use report::CAUTION;
+
+/// What the report and `series.json` show beyond the case and the results.
+#[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
+pub struct RunMeta {
+    /// The deck file that was run. Never written; `out_dir` may not be it or its directory.
+    pub deck: PathBuf,
+    /// Title shown in the report; `None`: the case title, else the deck's file name.
+    pub title: Option<String>,
+    /// The rill version; defaults to this crate's version (the workspace version).
+    pub rill_version: String,
+    /// Wall time of the whole run, s (the solver's own time is in the results).
+    pub wall_seconds: Option<f64>,
+    /// When the run started, as the caller wants it shown (e.g. RFC 3339).
+    pub started: Option<String>,
+    /// Cautions from the checker or the caller (e.g. `well.injection-pressure`
+    /// warnings), shown after the standard [`CAUTION`].
+    pub cautions: Vec<String>,
+}
+
+impl RunMeta {
+    pub fn new(deck: impl Into<PathBuf>) -> RunMeta {
+        RunMeta {
+            deck: deck.into(),
+            title: None,
+            rill_version: env!("CARGO_PKG_VERSION").to_string(),
+            wall_seconds: None,
+            started: None,
+            cautions: Vec::new(),
+        }
+    }
+}
+
+/// The files of a result set, at their final paths.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WrittenFiles {
+    pub dir: PathBuf,
+    pub series_csv: PathBuf,
+    pub series_json: PathBuf,
+    pub report_html: PathBuf,
+    /// `maps/rill.pvd`; `None` when the results hold no cell pressures.
+    pub pvd: Option<PathBuf>,
+    /// `maps/step_NNNN.vtr`, one per report time.
+    pub maps: Vec<PathBuf>,
+    /// Every file written (the above and the `.rill-results` marker), in order.
+    pub files: Vec<PathBuf>,
+    /// Things worth telling that did not fail the write (e.g. a previous
+    /// result set that could not be removed).
+    pub notes: Vec<String>,
+}
+
+#[derive(Debug)]
+pub enum OutputError {
+    /// Reading or writing `path` failed.
+    Io { path: PathBuf, source: io::Error },
+    /// The target may not be written; `reason` says why.
+    Refused { path: PathBuf, reason: String },
+    /// The results do not fit the case (series lengths, cell counts).
+    Inconsistent(String),
+}
+
+impl fmt::Display for OutputError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            OutputError::Io { path, source } => write!(f, "{}: {source}", path.display()),
+            OutputError::Refused { path, reason } => {
+                write!(
+                    f,
+                    "refusing to write results to {}: {reason}",
+                    path.display()
+                )
+            }
+            OutputError::Inconsistent(what) => write!(f, "results do not fit the case: {what}"),
+        }
+    }
+}
+
+impl std::error::Error for OutputError {
+    fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
+        match self {
+            OutputError::Io { source, .. } => Some(source),
+            _ => None,
+        }
+    }
+}
+
+/// The default output directory: `<deck stem>.out/` beside the deck
+/// (`lobe.rill` -> `lobe.out/`).
+pub fn default_out_dir(deck: &Path) -> PathBuf {
+    let stem = deck
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "rill".into());
+    deck.with_file_name(format!("{stem}.out"))
+}
+
+/// Writes the result set of a run into `out_dir`, atomically (see the crate
+/// doc). The previous contents of `out_dir`, if it is a rill result set, are
+/// replaced as a whole.
+pub fn write_results(
+    out_dir: &Path,
+    case: &Case,
+    results: &RunResults,
+    meta: &RunMeta,
+) -> Result<WrittenFiles, OutputError> {
+    validate(case, results)?;
+    let target = check_target(out_dir, &meta.deck)?;
+    let system = case.report.units;
+    let table = series::SeriesTable::new(results, system);
+    let title = meta
+        .title
+        .clone()
+        .or_else(|| case.title.clone())
+        .filter(|t| !t.trim().is_empty())
+        .unwrap_or_else(|| {
+            meta.deck
+                .file_name()
+                .map_or("rill run".into(), |n| n.to_string_lossy().into_owned())
+        });
+    let mut cautions = vec![CAUTION.to_string()];
+    cautions.extend(meta.cautions.iter().cloned());
+    cautions.extend(report::derived_cautions(case, results, &table));
+
+    let mut staging = atomic::Staging::new(&target)?;
+    staging.file("series.csv", |w| csv::write_csv(&table, w))?;
+    staging.file("series.json", |w| {
+        json::write_json(w, case, results, meta, &table, &title, &cautions)
+    })?;
+
+    let mut relative: Vec<String> = vec!["series.csv".into(), "series.json".into()];
+    let mut subdirs = Vec::new();
+    if !results.pressure.is_empty() {
+        staging.subdir("maps")?;
+        subdirs.push("maps");
+        let maps = vtk::MapWriter::new(case);
+        let time = table.time();
+        let mut steps = Vec::new();
+        for (n, pressure) in results.pressure.iter().enumerate() {
+            let name = format!("step_{n:04}.vtr");
+            let rel = format!("maps/{name}");
+            staging.file(&rel, |w| maps.write_step(w, pressure, time.values[n]))?;
+            steps.push((time.values[n], name));
+            relative.push(rel);
+        }
+        staging.file("maps/rill.pvd", |w| vtk::write_pvd(w, &steps))?;
+        relative.push("maps/rill.pvd".into());
+    }
+    let page = report::Report {
+        case,
+        results,
+        meta,
+        table: &table,
+        title: &title,
+        cautions: &cautions,
+        files: &relative,
+    };
+    staging.file("report.html", |w| report::write_report(w, &page))?;
+
+    let (files, notes) = staging.publish(&subdirs)?;
+    let at = |rel: &str| target.join(rel);
+    Ok(WrittenFiles {
+        series_csv: at("series.csv"),
+        series_json: at("series.json"),
+        report_html: at("report.html"),
+        pvd: (!results.pressure.is_empty()).then(|| at("maps/rill.pvd")),
+        maps: files
+            .iter()
+            .filter(|p| p.extension().is_some_and(|e| e == "vtr"))
+            .cloned()
+            .collect(),
+        files,
+        notes,
+        dir: target,
+    })
+}
+
+/// Writes `matrix.mtx` and `rhs.mtx` (MatrixMarket text from
+/// `rill_sim::linear::write_matrix_market`) into `dir`, created if missing.
+/// Both are written to temporary files and synced before either is renamed
+/// into place. `dir` may not be the deck's own directory or contain the deck.
+pub fn write_system(
+    dir: &Path,
+    deck: &Path,
+    matrix_market: &[u8],
+    rhs_market: &[u8],
+) -> Result<Vec<PathBuf>, OutputError> {
+    write_system_with(
+        dir,
+        deck,
+        |w| w.write_all(matrix_market),
+        |w| w.write_all(rhs_market),
+    )
+}
+
+/// [`write_system`] with writers instead of bytes, for systems too large to
+/// hold twice in memory.
+pub fn write_system_with(
+    dir: &Path,
+    deck: &Path,
+    matrix: impl FnOnce(&mut dyn Write) -> io::Result<()>,
+    rhs: impl FnOnce(&mut dyn Write) -> io::Result<()>,
+) -> Result<Vec<PathBuf>, OutputError> {
+    let dir = atomic::resolve(dir).map_err(|e| OutputError::Io {
+        path: dir.to_path_buf(),
+        source: e,
+    })?;
+    refuse_deck_places(&dir, deck, false)?;
+    atomic::write_files_atomically(
+        &dir,
+        vec![("matrix.mtx", Box::new(matrix)), ("rhs.mtx", Box::new(rhs))],
+    )
+}
+
+/// Refuses the deck file and the deck's own directory, and with
+/// `ancestors` every directory that contains the deck. `path` is resolved.
+fn refuse_deck_places(path: &Path, deck: &Path, ancestors: bool) -> Result<(), OutputError> {
+    let refused = |reason: String| {
+        Err(OutputError::Refused {
+            path: path.to_path_buf(),
+            reason,
+        })
+    };
+    let deck = atomic::resolve(deck).map_err(|e| OutputError::Io {
+        path: deck.to_path_buf(),
+        source: e,
+    })?;
+    if path == deck {
+        return refused(format!(
+            "it is the deck file itself; the deck is never written. Results go into {} by default",
+            default_out_dir(&deck).display()
+        ));
+    }
+    if deck.parent() == Some(path) {
+        return refused(format!(
+            "it is the deck's own directory, and results are never written beside the deck. Use a directory of \
+             their own, such as {} (the default)",
+            default_out_dir(&deck).display()
+        ));
+    }
+    if ancestors && deck.starts_with(path) {
+        return refused(format!(
+            "it contains the deck {}, and writing results replaces the directory as a whole. Use a directory of \
+             their own, such as {} (the default)",
+            deck.display(),
+            default_out_dir(&deck).display()
+        ));
+    }
+    Ok(())
+}
+
+/// Resolves `out_dir` and checks that it may be replaced by a result set.
+fn check_target(out_dir: &Path, deck: &Path) -> Result<PathBuf, OutputError> {
+    let target = atomic::resolve(out_dir).map_err(|e| OutputError::Io {
+        path: out_dir.to_path_buf(),
+        source: e,
+    })?;
+    let refused = |reason: &str| {
+        Err(OutputError::Refused {
+            path: target.clone(),
+            reason: reason.to_string(),
+        })
+    };
+    if target.parent().is_none() {
+        return refused("it is a filesystem root");
+    }
+    refuse_deck_places(&target, deck, true)?;
+    // `resolve` follows links in existing paths; look at the name as given too.
+    if let Ok(meta) = std::fs::symlink_metadata(out_dir) {
+        if meta.file_type().is_symlink() {
+            return refused("it is a symbolic link; give the real directory (the link itself would be replaced)");
+        }
+    }
+    match std::fs::symlink_metadata(&target) {
+        Ok(meta) if meta.is_dir() => {
+            let mut entries = std::fs::read_dir(&target).map_err(|e| OutputError::Io {
+                path: target.clone(),
+                source: e,
+            })?;
+            let empty = entries.next().is_none();
+            if !empty && !target.join(atomic::MARKER).is_file() {
+                return refused(&format!(
+                    "it holds files that rill did not write (there is no {} marker), and writing results replaces \
+                     the directory as a whole. Give a new or empty directory",
+                    atomic::MARKER
+                ));
+            }
+        }
+        Ok(_) => return refused("it exists and is not a directory"),
+        Err(_) => {}
+    }
+    Ok(target)
+}
+
+/// Checks that every series has one value per report time and every cell
+/// array one value per cell, so that no writer can index out of bounds.
+fn validate(case: &Case, results: &RunResults) -> Result<(), OutputError> {
+    let n = results.times.len();
+    let grid = &case.grid;
+    let cells = grid.cell_count();
+    let bad = |what: String| Err(OutputError::Inconsistent(what));
+    if n == 0 {
+        return bad("there are no report times".into());
+    }
+    let check = |name: &str, len: usize| -> Result<(), OutputError> {
+        if len == n {
+            Ok(())
+        } else {
+            Err(OutputError::Inconsistent(format!(
+                "{name} has {len} values for {n} report times"
+            )))
+        }
+    };
+    check("pressure_avg", results.pressure_avg.len())?;
+    check("balance_error", results.balance_error.len())?;
+    for w in &results.wells {
+        check(&format!("well \"{}\" bhp", w.name), w.bhp.len())?;
+        check(&format!("well \"{}\" rate", w.name), w.rate.len())?;
+        check(
+            &format!("well \"{}\" cumulative", w.name),
+            w.cumulative.len(),
+        )?;
+        if !w.mode.is_empty() {
+            check(&format!("well \"{}\" control mode", w.name), w.mode.len())?;
+        }
+    }
+    for b in &results.boundaries {
+        check(&format!("boundary \"{}\" rate", b.name), b.rate.len())?;
+        check(
+            &format!("boundary \"{}\" cumulative", b.name),
+            b.cumulative.len(),
+        )?;
+    }
+    if cells == 0 {
+        return bad("the grid has no cells".into());
+    }
+    if grid.dx.len() != grid.nx
+        || grid.dy.len() != grid.ny
+        || grid.dz.len() != cells
+        || grid.top.len() != grid.nx * grid.ny
+    {
+        return bad("the grid's dx, dy, dz or top arrays do not match its size".into());
+    }
+    let rock = &case.rock;
+    if [
+        rock.porosity.len(),
+        rock.kx.len(),
+        rock.ky.len(),
+        rock.kz.len(),
+    ]
+    .iter()
+    .any(|&l| l != cells)
+    {
+        return bad("the rock arrays do not have one value per cell".into());
+    }
+    if !results.pressure.is_empty() {
+        if results.pressure.len() != n {
+            return bad(format!(
+                "cell pressures are stored for {} of {n} report times",
+                results.pressure.len()
+            ));
+        }
+        if let Some((t, p)) = results
+            .pressure
+            .iter()
+            .enumerate()
+            .find(|(_, p)| p.len() != cells)
+        {
+            return bad(format!(
+                "cell pressures at report time {t} have {} values for {cells} cells",
+                p.len()
+            ));
+        }
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests;

@@ -1,0 +1,307 @@
+//! Writes a result set from invented demo data (not a simulation), to look
+//! at the report and the maps without running the simulator:
+//!
+//! ```text
+//! cargo run -p rill-output --example demo_report -- OUT_DIR [--large]
+//! ```
+//! `--large` uses a 60 x 220 x 85 grid (1.12 million cells) to measure the
+//! writers' time and the report's size.
+
+use std::path::PathBuf;
+use std::time::Instant;
+
+use rill_model::*;
+use rill_output::{write_results, RunMeta};
+use rill_sim::{BoundarySeries, ControlMode, RunResults, SolverStats, WellSeries};
+
+const PSI: f64 = 6894.757293168;
+const STB: f64 = 0.158987294928;
+const FT: f64 = 0.3048;
+const DAY: f64 = 86400.0;
+const MD: f64 = 9.869233e-16;
+
+fn main() {
+    let args: Vec<String> = std::env::args().skip(1).collect();
+    let Some(out) = args
+        .iter()
+        .find(|a| !a.starts_with("--"))
+        .map(PathBuf::from)
+    else {
+        eprintln!("usage: demo_report OUT_DIR [--large]");
+        std::process::exit(2);
+    };
+    let large = args.iter().any(|a| a == "--large");
+    let (nx, ny, nz) = if large { (60, 220, 85) } else { (30, 20, 4) };
+    let case = demo_case(nx, ny, nz);
+    let results = demo_results(&case, 13);
+    let deck = out
+        .parent()
+        .unwrap_or(&PathBuf::from("."))
+        .join("demo.rill");
+    let mut meta = RunMeta::new(&deck);
+    meta.wall_seconds = Some(1.84);
+    meta.started = Some("2026-12-02T01:00:00Z".into());
+    meta.cautions
+        .push("Demo data: invented numbers to show the layout, not a simulation.".into());
+    let start = Instant::now();
+    match write_results(&out, &case, &results, &meta) {
+        Ok(files) => {
+            let size = |p: &PathBuf| std::fs::metadata(p).map(|m| m.len()).unwrap_or(0);
+            let total: u64 = files.files.iter().map(size).sum();
+            println!(
+                "wrote {} files ({:.1} MB; report.html {:.2} MB) to {} in {:.2} s",
+                files.files.len(),
+                total as f64 / 1e6,
+                size(&files.report_html) as f64 / 1e6,
+                files.dir.display(),
+                start.elapsed().as_secs_f64()
+            );
+        }
+        Err(e) => {
+            eprintln!("error: {e}");
+            std::process::exit(1);
+        }
+    }
+}
+
+fn demo_case(nx: usize, ny: usize, nz: usize) -> Case {
+    let cells = nx * ny * nz;
+    let columns = nx * ny;
+    let layer_k = [150.0, 40.0, 300.0, 90.0];
+    let mut porosity = vec![0.22; cells];
+    // A few inactive cells in a corner of the top layer.
+    for j in 0..2 {
+        for i in nx - 3..nx {
+            porosity[i + nx * j] = 0.0;
+        }
+    }
+    let well = |name: &str, role, i: usize, j: usize, control| Well {
+        name: name.to_string(),
+        role,
+        completions: (0..nz)
+            .map(|k| Completion {
+                i,
+                j,
+                k,
+                cell: i + nx * (j + ny * k),
+            })
+            .collect(),
+        radius: 0.3 * FT,
+        skin: 1.5,
+        control,
+        bhp_limit: Some(1200.0 * PSI),
+        origin: Origin::default(),
+    };
+    Case {
+        title: Some("Larkspur east lobe — demo data".into()),
+        grid: Grid {
+            nx,
+            ny,
+            nz,
+            dx: vec![50.0 * FT; nx],
+            dy: (0..ny)
+                .map(|j| (if j < ny / 2 { 40.0 } else { 60.0 }) * FT)
+                .collect(),
+            dz: (0..cells)
+                .map(|c| [20.0, 15.0, 15.0, 30.0][(c / columns) % 4] * FT)
+                .collect(),
+            top: (0..columns)
+                .map(|col| (7150.0 + 0.8 * (col % nx) as f64) * FT)
+                .collect(),
+        },
+        rock: Rock {
+            porosity,
+            kx: (0..cells)
+                .map(|c| layer_k[(c / columns) % 4] * MD)
+                .collect(),
+            ky: (0..cells)
+                .map(|c| layer_k[(c / columns) % 4] * MD)
+                .collect(),
+            kz: (0..cells)
+                .map(|c| 0.1 * layer_k[(c / columns) % 4] * MD)
+                .collect(),
+            compressibility: 4e-6 / PSI,
+            ref_pressure: 3000.0 * PSI,
+        },
+        fluid: Fluid {
+            name: Some("formation water".into()),
+            viscosity: 0.8e-3,
+            fvf: 1.02,
+            compressibility: 3e-6 / PSI,
+            density: 999.5,
+            ref_pressure: 3000.0 * PSI,
+        },
+        initial: Initial::Datum {
+            pressure: 3200.0 * PSI,
+            depth: 7150.0 * FT,
+        },
+        wells: vec![
+            well(
+                "LE-1",
+                Role::Producer,
+                nx * 3 / 10,
+                ny / 2,
+                Control::Rate(600.0 * STB / DAY),
+            ),
+            well(
+                "LE-2",
+                Role::Producer,
+                nx * 3 / 4,
+                ny * 3 / 10,
+                Control::Rate(450.0 * STB / DAY),
+            ),
+            well(
+                "INJ-1",
+                Role::Injector,
+                nx * 9 / 10,
+                ny * 17 / 20,
+                Control::Rate(500.0 * STB / DAY),
+            ),
+        ],
+        boundaries: vec![Boundary {
+            name: "east aquifer".into(),
+            side: Side::East,
+            pressure: 3150.0 * PSI,
+            datum: Some(7150.0 * FT),
+            origin: Origin::default(),
+        }],
+        timeline: Timeline {
+            kind: RunKind::Transient,
+            end: 360.0 * DAY,
+            first_step: 0.1 * DAY,
+            max_step: 30.0 * DAY,
+            growth: 1.5,
+            report_every: Some(30.0 * DAY),
+            events: vec![],
+        },
+        report: ReportSettings {
+            units: UnitSystem::Field,
+        },
+    }
+}
+
+/// Invented smooth series and maps with the look of a depletion case.
+fn demo_results(case: &Case, n: usize) -> RunResults {
+    let times: Vec<f64> = (0..n).map(|t| t as f64 * 30.0 * DAY).collect();
+    let f = |t: usize| t as f64 / (n - 1) as f64;
+    let grid = &case.grid;
+    let (nx, ny) = (grid.nx as f64, grid.ny as f64);
+    let depth = rill_model::derived::cell_center_depths(grid);
+    let wells_xy: Vec<(f64, f64, f64)> = case
+        .wells
+        .iter()
+        .map(|w| {
+            let c = &w.completions[0];
+            (
+                c.i as f64 / nx,
+                c.j as f64 / ny,
+                if w.role == Role::Producer { 1.0 } else { -0.8 },
+            )
+        })
+        .collect();
+    let pressure = (0..n)
+        .map(|t| {
+            (0..grid.cell_count())
+                .map(|c| {
+                    if !case.rock.is_active(c) {
+                        return f64::NAN;
+                    }
+                    let (i, j, _) = grid.ijk(c);
+                    let (x, y) = (i as f64 / nx, j as f64 / ny);
+                    let mut p = 3200.0 - 180.0 * f(t) + (depth[c] / FT - 7150.0) * 0.433;
+                    for (wx, wy, s) in &wells_xy {
+                        let r = ((x - wx).powi(2) + (y - wy).powi(2)).sqrt() + 0.02;
+                        p -= s * 420.0 * f(t).sqrt() * (-(r / 0.18)).exp();
+                    }
+                    p += 60.0 * f(t) * x; // support from the east aquifer
+                    p * PSI
+                })
+                .collect()
+        })
+        .collect();
+    let ramp = |t: usize, rate: f64| if t == 0 { 0.0 } else { rate };
+    let le2_rate = |t: usize| {
+        if t < 7 {
+            450.0
+        } else {
+            450.0 * (1.0 - 0.08 * (t - 6) as f64)
+        }
+    };
+    let cumulative = |rate: &dyn Fn(usize) -> f64| {
+        let mut acc = 0.0;
+        (0..n)
+            .map(|t| {
+                if t > 0 {
+                    acc += rate(t) * 30.0;
+                }
+                acc * STB
+            })
+            .collect::<Vec<f64>>()
+    };
+    RunResults {
+        pressure_avg: (0..n)
+            .map(|t| (3200.0 - 180.0 * f(t) - 25.0 * f(t).sqrt()) * PSI)
+            .collect(),
+        wells: vec![
+            WellSeries {
+                name: "LE-1".into(),
+                bhp: (0..n)
+                    .map(|t| (3200.0 - 900.0 * f(t).sqrt() - 150.0 * f(t)) * PSI)
+                    .collect(),
+                rate: (0..n).map(|t| ramp(t, 600.0) * STB / DAY).collect(),
+                cumulative: cumulative(&|t| ramp(t, 600.0)),
+                mode: vec![ControlMode::Rate; n],
+            },
+            WellSeries {
+                name: "LE-2".into(),
+                bhp: (0..n)
+                    .map(|t| (3200.0 - 2000.0 * f(t).sqrt()).max(1200.0) * PSI)
+                    .collect(),
+                rate: (0..n).map(|t| ramp(t, le2_rate(t)) * STB / DAY).collect(),
+                cumulative: cumulative(&|t| ramp(t, le2_rate(t))),
+                mode: (0..n)
+                    .map(|t| {
+                        if t < 7 {
+                            ControlMode::Rate
+                        } else {
+                            ControlMode::Bhp
+                        }
+                    })
+                    .collect(),
+            },
+            WellSeries {
+                name: "INJ-1".into(),
+                bhp: (0..n)
+                    .map(|t| (3200.0 + 700.0 * f(t).sqrt()) * PSI)
+                    .collect(),
+                rate: (0..n).map(|t| -ramp(t, 500.0) * STB / DAY).collect(),
+                cumulative: cumulative(&|t| -ramp(t, 500.0)),
+                mode: vec![ControlMode::Rate; n],
+            },
+        ],
+        boundaries: vec![BoundarySeries {
+            name: "east aquifer".into(),
+            rate: (0..n).map(|t| -220.0 * f(t).sqrt() * STB / DAY).collect(),
+            cumulative: cumulative(&|t| -220.0 * f(t).sqrt()),
+        }],
+        balance_error: (0..n)
+            .map(|t| {
+                if t == 0 {
+                    0.0
+                } else {
+                    2.0e-10 * (1.0 + t as f64)
+                }
+            })
+            .collect(),
+        pressure,
+        times,
+        stats: SolverStats {
+            steps: 41,
+            step_cuts: 2,
+            newton_iterations: 97,
+            linear_iterations: 97,
+            linear_solver: "direct".into(),
+            wall_seconds: 1.62,
+        },
+    }
+}

@@ -1,0 +1,187 @@
+//! `series.json`: the series of `series.csv` with their units, plus the
+//! solver statistics, the unit system, the title and the cautions.
+//!
+//! ```json
+//! {
+//!   "format": "rill-series", "format_version": 1, "rill_version": "0.1.0",
+//!   "title": "...", "deck": "lobe.rill", "units": "field", "report_times": 13,
+//!   "series": [
+//!     {"name": "time", "quantity": "time", "unit": "day", "values": [0, 30, ...]},
+//!     {"name": "LE-1 rate", "quantity": "rate", "well": "LE-1", "unit": "stb/day", "values": [...]},
+//!     {"name": "east aquifer rate", "quantity": "rate", "boundary": "east aquifer", ...},
+//!     ...
+//!   ],
+//!   "wells": [{"name": "LE-1", "role": "producer", "control": ["rate", "bhp", ...]}],
+//!   "boundaries": [{"name": "east aquifer", "side": "east"}],
+//!   "solver": {"steps": 40, "step_cuts": 1, "newton_iterations": 95, "linear_iterations": 95,
+//!              "linear_solver": "direct", "wall_seconds": 0.8},
+//!   "run": {"wall_seconds": 1.1, "started": "..."},
+//!   "cautions": ["Results are engineering estimates ...", ...]
+//! }
+//! ```
+//! Values that are not finite are `null`.
+
+use std::io::{self, Write};
+
+use rill_model::{Case, Role};
+use rill_sim::{ControlMode, RunResults};
+use serde::Serialize;
+
+use crate::series::{Owner, SeriesTable};
+use crate::units::system_name;
+use crate::RunMeta;
+
+#[derive(Serialize)]
+struct Doc<'a> {
+    format: &'static str,
+    format_version: u32,
+    rill_version: &'a str,
+    title: &'a str,
+    deck: String,
+    units: &'static str,
+    report_times: usize,
+    series: Vec<Series<'a>>,
+    wells: Vec<Well<'a>>,
+    boundaries: Vec<Boundary<'a>>,
+    solver: Solver<'a>,
+    run: Run<'a>,
+    cautions: &'a [String],
+}
+
+#[derive(Serialize)]
+struct Series<'a> {
+    name: &'a str,
+    quantity: &'static str,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    well: Option<&'a str>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    boundary: Option<&'a str>,
+    unit: &'a str,
+    values: &'a [f64],
+}
+
+#[derive(Serialize)]
+struct Well<'a> {
+    name: &'a str,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    role: Option<&'static str>,
+    /// Control mode over the step that ended at each report time.
+    control: Vec<&'static str>,
+}
+
+#[derive(Serialize)]
+struct Boundary<'a> {
+    name: &'a str,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    side: Option<&'static str>,
+}
+
+#[derive(Serialize)]
+struct Solver<'a> {
+    steps: usize,
+    step_cuts: usize,
+    newton_iterations: usize,
+    linear_iterations: usize,
+    linear_solver: &'a str,
+    wall_seconds: f64,
+}
+
+#[derive(Serialize)]
+struct Run<'a> {
+    #[serde(skip_serializing_if = "Option::is_none")]
+    wall_seconds: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    started: Option<&'a str>,
+}
+
+pub(crate) fn write_json(
+    w: &mut dyn Write,
+    case: &Case,
+    results: &RunResults,
+    meta: &RunMeta,
+    table: &SeriesTable,
+    title: &str,
+    cautions: &[String],
+) -> io::Result<()> {
+    let series = table
+        .columns
+        .iter()
+        .map(|c| Series {
+            name: &c.name,
+            quantity: c.measure.key(),
+            well: match c.owner {
+                Some(Owner::Well(w)) => Some(results.wells[w].name.as_str()),
+                _ => None,
+            },
+            boundary: match c.owner {
+                Some(Owner::Boundary(b)) => Some(results.boundaries[b].name.as_str()),
+                _ => None,
+            },
+            unit: &c.unit.name,
+            values: &c.values,
+        })
+        .collect();
+    let wells = results
+        .wells
+        .iter()
+        .map(|w| Well {
+            name: &w.name,
+            role: case
+                .wells
+                .iter()
+                .find(|cw| cw.name == w.name)
+                .map(|cw| match cw.role {
+                    Role::Producer => "producer",
+                    Role::Injector => "injector",
+                }),
+            control: w.mode.iter().map(|m| mode_name(*m)).collect(),
+        })
+        .collect();
+    let boundaries = results
+        .boundaries
+        .iter()
+        .map(|b| Boundary {
+            name: &b.name,
+            side: case
+                .boundaries
+                .iter()
+                .find(|cb| cb.name == b.name)
+                .map(|cb| cb.side.name()),
+        })
+        .collect();
+    let stats = &results.stats;
+    let doc = Doc {
+        format: "rill-series",
+        format_version: 1,
+        rill_version: &meta.rill_version,
+        title,
+        deck: meta.deck.display().to_string(),
+        units: system_name(case.report.units),
+        report_times: table.rows(),
+        series,
+        wells,
+        boundaries,
+        solver: Solver {
+            steps: stats.steps,
+            step_cuts: stats.step_cuts,
+            newton_iterations: stats.newton_iterations,
+            linear_iterations: stats.linear_iterations,
+            linear_solver: &stats.linear_solver,
+            wall_seconds: stats.wall_seconds,
+        },
+        run: Run {
+            wall_seconds: meta.wall_seconds,
+            started: meta.started.as_deref(),
+        },
+        cautions,
+    };
+    serde_json::to_writer_pretty(&mut *w, &doc).map_err(io::Error::other)?;
+    w.write_all(b"\n")
+}
+
+pub(crate) fn mode_name(mode: ControlMode) -> &'static str {
+    match mode {
+        ControlMode::Rate => "rate",
+        ControlMode::Bhp => "bhp",
+    }
+}

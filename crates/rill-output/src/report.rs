@@ -1,0 +1,707 @@
+//! `report.html`: one self-contained page (inline CSS and SVG, no scripts,
+//! no external resources) with the caution, a summary, plots of rates,
+//! cumulatives, BHP and average pressure, and pressure maps per layer.
+//!
+//! Size limits for large grids: at most [`MAX_LAYER_MAPS`] layer maps, chosen
+//! evenly from top to bottom (the page says which); a layer with more than
+//! [`MAP_CELL_LIMIT`] columns is drawn as area-weighted block averages of
+//! `b x b` columns so that each map has at most [`MAP_CELL_LIMIT`] blocks.
+//! The VTK maps keep every cell.
+
+use std::fmt::Write as _;
+use std::io::{self, Write};
+
+use rill_model::derived::cell_center_depths;
+use rill_model::{Case, Control, Role};
+use rill_sim::{ControlMode, RunResults};
+
+use crate::json::mode_name;
+use crate::series::{Measure, Owner, SeriesTable};
+use crate::svg::{colour_bar, HeatMap, Line, LineChart};
+use crate::text::{escape, human};
+use crate::units::{display_unit, system_name, Quantity};
+use crate::RunMeta;
+
+/// Most layer maps shown.
+pub(crate) const MAX_LAYER_MAPS: usize = 12;
+/// Most cells (or blocks) drawn per layer map.
+pub(crate) const MAP_CELL_LIMIT: usize = 20_000;
+/// Most wells drawn in one chart (the largest by final cumulative volume).
+pub(crate) const MAX_WELL_LINES: usize = 12;
+
+/// The caution shown at the top of every report and first in `series.json`.
+pub const CAUTION: &str =
+    "Results are engineering estimates from a simplified model: one slightly \
+compressible liquid on a rectilinear grid, with the properties given in the deck. They support, \
+and do not replace, professional judgement. Injection limits, fracture pressure and any well work \
+must follow local regulations and be decided by licensed engineers.";
+
+pub(crate) struct Report<'a> {
+    pub case: &'a Case,
+    pub results: &'a RunResults,
+    pub meta: &'a RunMeta,
+    pub table: &'a SeriesTable,
+    pub title: &'a str,
+    /// Every caution, [`CAUTION`] first.
+    pub cautions: &'a [String],
+    /// Relative paths of the other files in the result set.
+    pub files: &'a [String],
+}
+
+pub(crate) fn write_report(w: &mut dyn Write, r: &Report) -> io::Result<()> {
+    let page = r.page();
+    w.write_all(page.as_bytes())
+}
+
+const STYLE: &str = r#"
+:root { --ink: #1f2933; --muted: #5b6770; --rule: #d9dde1; --band: #24364b; --accent: #b86e00; }
+* { box-sizing: border-box; }
+body { margin: 0; font: 14px/1.5 system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", Arial, "Noto Sans", "DejaVu Sans", sans-serif; color: var(--ink); background: #f6f7f8; }
+header { background: var(--band); color: #fff; padding: 22px 32px 18px; }
+header h1 { margin: 0 0 4px; font-size: 24px; font-weight: 600; letter-spacing: .01em; overflow-wrap: anywhere; }
+header .sub { color: #c9d3dd; font-size: 13px; overflow-wrap: anywhere; }
+main { max-width: 1160px; margin: 0 auto; padding: 18px 24px 40px; }
+section { background: #fff; border: 1px solid var(--rule); border-radius: 6px; padding: 16px 20px 18px; margin: 16px 0; }
+h2 { font-size: 17px; margin: 0 0 10px; font-weight: 600; }
+h3 { font-size: 14px; margin: 0 0 6px; font-weight: 600; }
+.caution { border: 1px solid #e3b35c; border-left: 6px solid var(--accent); background: #fff6e6; border-radius: 6px; padding: 12px 16px; margin: 18px 0 6px; }
+.caution strong { color: #7a4700; font-size: 15px; display: block; margin-bottom: 2px; }
+.caution ul { margin: 8px 0 0; padding-left: 20px; }
+table { border-collapse: collapse; width: 100%; font-variant-numeric: tabular-nums; }
+th, td { text-align: left; padding: 5px 10px 5px 0; border-bottom: 1px solid #edf0f2; vertical-align: top; }
+th { font-weight: 600; color: var(--muted); font-size: 12px; text-transform: none; }
+td.num, th.num { text-align: right; padding-right: 14px; white-space: nowrap; }
+.kv { display: grid; grid-template-columns: repeat(auto-fit, minmax(320px, 1fr)); gap: 4px 32px; }
+.kv table td:first-child { color: var(--muted); width: 36%; }
+.charts { display: grid; grid-template-columns: repeat(auto-fit, minmax(480px, 1fr)); gap: 14px 28px; }
+figure { margin: 0; }
+figcaption { font-size: 12px; color: var(--muted); margin-top: 2px; }
+svg { max-width: 100%; height: auto; font-family: inherit; }
+svg .tick { font-size: 11px; fill: #4b5563; }
+svg .axis-label { font-size: 12px; fill: #1f2933; }
+svg .legend-text { font-size: 12px; fill: #1f2933; }
+.maps { display: flex; flex-wrap: wrap; gap: 14px 22px; align-items: flex-start; }
+.maps figure { flex: 0 0 auto; }
+.note { color: var(--muted); font-size: 12.5px; }
+.empty { color: var(--muted); font-style: italic; }
+footer { color: var(--muted); font-size: 12px; text-align: center; padding: 8px 0 24px; }
+code { font-family: ui-monospace, "SFMono-Regular", Menlo, Consolas, "DejaVu Sans Mono", monospace; font-size: 12.5px; }
+@media print { body { background: #fff; } section { border: none; padding: 0; } header { background: #fff; color: var(--ink); } header .sub { color: var(--muted); } }
+"#;
+
+impl Report<'_> {
+    fn page(&self) -> String {
+        let mut s = String::with_capacity(1 << 16);
+        let system = self.case.report.units;
+        let _ = write!(
+            s,
+            "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n\
+             <meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n\
+             <meta name=\"generator\" content=\"rill {}\">\n<title>{} — rill report</title>\n<style>{STYLE}</style>\n</head>\n<body>\n",
+            escape(&self.meta.rill_version),
+            escape(self.title)
+        );
+        let _ = write!(
+            s,
+            "<header>\n<h1>{}</h1>\n<div class=\"sub\">Deck <code>{}</code> · units: {} · rill {}{}</div>\n</header>\n<main>\n",
+            escape(self.title),
+            escape(&self.meta.deck.display().to_string()),
+            system_name(system),
+            escape(&self.meta.rill_version),
+            self.meta.started.as_deref().map(|t| format!(" · run {}", escape(t))).unwrap_or_default()
+        );
+        self.caution(&mut s);
+        self.summary(&mut s);
+        self.charts(&mut s);
+        self.maps(&mut s);
+        self.notes(&mut s);
+        let _ = write!(
+            s,
+            "</main>\n<footer>Written by rill {} · a self-contained page: no scripts, no external resources.</footer>\n</body>\n</html>\n",
+            escape(&self.meta.rill_version)
+        );
+        s
+    }
+
+    fn caution(&self, s: &mut String) {
+        s.push_str("<div class=\"caution\" role=\"note\">\n<strong>⚠ Caution</strong>\n");
+        let _ = writeln!(s, "<div>{}</div>", escape(&self.cautions[0]));
+        if self.cautions.len() > 1 {
+            s.push_str("<ul>\n");
+            for c in &self.cautions[1..] {
+                let _ = writeln!(s, "<li>{}</li>", escape(c));
+            }
+            s.push_str("</ul>\n");
+        }
+        s.push_str("</div>\n");
+    }
+
+    fn summary(&self, s: &mut String) {
+        let case = self.case;
+        let grid = &case.grid;
+        let results = self.results;
+        let system = case.report.units;
+        let time = self.table.time();
+        let n = self.table.rows();
+        let active = (0..grid.cell_count())
+            .filter(|&c| case.rock.is_active(c))
+            .count();
+        let balance_max = results
+            .balance_error
+            .iter()
+            .filter(|v| v.is_finite())
+            .fold(0.0f64, |m, v| m.max(v.abs()));
+        let stats = &results.stats;
+        let t_end = time.values.last().copied().unwrap_or(0.0);
+
+        s.push_str("<section>\n<h2>Summary</h2>\n<div class=\"kv\">\n<table>\n");
+        let row = |s: &mut String, k: &str, v: String| {
+            let _ = writeln!(s, "<tr><td>{k}</td><td>{v}</td></tr>");
+        };
+        row(s, "Case", escape(self.title));
+        row(
+            s,
+            "Deck",
+            format!(
+                "<code>{}</code>",
+                escape(&self.meta.deck.display().to_string())
+            ),
+        );
+        row(
+            s,
+            "Grid",
+            format!(
+                "{} × {} × {} = {} cells ({} active)",
+                grid.nx,
+                grid.ny,
+                grid.nz,
+                human(grid.cell_count() as f64),
+                human(active as f64)
+            ),
+        );
+        row(s, "Report units", system_name(system).to_string());
+        row(
+            s,
+            "Report times",
+            format!(
+                "{n}, from {} to {} {}",
+                human(time.values[0]),
+                human(t_end),
+                escape(&time.unit.name)
+            ),
+        );
+        row(
+            s,
+            "Balance error, largest",
+            format!("{} (relative)", sci(balance_max)),
+        );
+        s.push_str("</table>\n<table>\n");
+        let row = |s: &mut String, k: &str, v: String| {
+            let _ = writeln!(s, "<tr><td>{k}</td><td>{v}</td></tr>");
+        };
+        row(
+            s,
+            "Time steps",
+            format!("{} ({} cut)", stats.steps, stats.step_cuts),
+        );
+        let per_step = if stats.steps > 0 {
+            format!(
+                " ({:.1} per step)",
+                stats.newton_iterations as f64 / stats.steps as f64
+            )
+        } else {
+            String::new()
+        };
+        row(
+            s,
+            "Newton iterations",
+            format!("{}{per_step}", stats.newton_iterations),
+        );
+        row(s, "Linear iterations", stats.linear_iterations.to_string());
+        row(s, "Linear solver", escape(&stats.linear_solver));
+        row(
+            s,
+            "Solver wall time",
+            format!("{} s", human(stats.wall_seconds)),
+        );
+        if let Some(wall) = self.meta.wall_seconds {
+            row(s, "Run wall time", format!("{} s", human(wall)));
+        }
+        s.push_str("</table>\n</div>\n");
+
+        // Wells.
+        let p_unit = display_unit(Quantity::Pressure, system);
+        let q_unit = display_unit(Quantity::SurfaceRate, system);
+        let v_unit = display_unit(Quantity::SurfaceVolume, system);
+        if results.wells.is_empty() {
+            s.push_str("<p class=\"empty\">No wells in this case.</p>\n");
+        } else {
+            let _ = writeln!(
+                s,
+                "<h3 style=\"margin-top:14px\">Wells at {} {}</h3>\n<table>\n<tr><th>Well</th><th>Role</th><th>Control</th>\
+                 <th class=\"num\">Rate [{}]</th><th class=\"num\">BHP [{}]</th><th class=\"num\">Cumulative [{}]</th></tr>",
+                human(t_end),
+                escape(&time.unit.name),
+                escape(&q_unit.name),
+                escape(&p_unit.name),
+                escape(&v_unit.name)
+            );
+            for (w, well) in results.wells.iter().enumerate() {
+                let last = |m| {
+                    self.table
+                        .find(Some(Owner::Well(w)), m)
+                        .and_then(|c| c.values.last().copied())
+                };
+                let role = case
+                    .wells
+                    .iter()
+                    .find(|cw| cw.name == well.name)
+                    .map_or("–", |cw| match cw.role {
+                        Role::Producer => "producer",
+                        Role::Injector => "injector",
+                    });
+                let _ = writeln!(
+                    s,
+                    "<tr><td>{}</td><td>{role}</td><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>",
+                    escape(&well.name),
+                    well.mode.last().map_or("–", |m| mode_name(*m)),
+                    last(Measure::Rate).map_or("–".into(), human),
+                    last(Measure::Bhp).map_or("–".into(), human),
+                    last(Measure::Cumulative).map_or("–".into(), human),
+                );
+            }
+            s.push_str("</table>\n");
+        }
+        if !results.boundaries.is_empty() {
+            let _ = writeln!(
+                s,
+                "<h3 style=\"margin-top:14px\">Boundaries at {} {}</h3>\n<table>\n<tr><th>Boundary</th><th>Side</th>\
+                 <th class=\"num\">Rate [{}]</th><th class=\"num\">Cumulative [{}]</th></tr>",
+                human(t_end),
+                escape(&time.unit.name),
+                escape(&q_unit.name),
+                escape(&v_unit.name)
+            );
+            for b in &results.boundaries {
+                let side = case
+                    .boundaries
+                    .iter()
+                    .find(|cb| cb.name == b.name)
+                    .map_or("–", |cb| cb.side.name());
+                let _ = writeln!(
+                    s,
+                    "<tr><td>{}</td><td>{side}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>",
+                    escape(&b.name),
+                    b.rate.last().map_or("–".into(), |&v| human(q_unit.show(v))),
+                    b.cumulative.last().map_or("–".into(), |&v| human(v_unit.show(v))),
+                );
+            }
+            s.push_str("</table>\n");
+        }
+        s.push_str(
+            "<p class=\"note\">Rates and cumulatives are at surface conditions; positive for production \
+             (out of the reservoir), negative for injection or inflow.</p>\n</section>\n",
+        );
+    }
+
+    fn charts(&self, s: &mut String) {
+        let results = self.results;
+        let system = self.case.report.units;
+        let time = self.table.time();
+        let x_label = format!("Time [{}]", time.unit.name);
+        let q_unit = display_unit(Quantity::SurfaceRate, system);
+        let v_unit = display_unit(Quantity::SurfaceVolume, system);
+        let p_unit = display_unit(Quantity::Pressure, system);
+
+        // Wells drawn: all, or the largest by final |cumulative|.
+        let mut shown: Vec<usize> = (0..results.wells.len()).collect();
+        let capped = shown.len() > MAX_WELL_LINES;
+        if capped {
+            let size = |w: usize| results.wells[w].cumulative.last().map_or(0.0, |v| v.abs());
+            shown.sort_by(|&a, &b| size(b).total_cmp(&size(a)));
+            shown.truncate(MAX_WELL_LINES);
+            shown.sort_unstable();
+        }
+        let cap_note = if capped {
+            format!(
+                " Showing the {MAX_WELL_LINES} of {} wells with the largest cumulative volume; all are in <code>series.csv</code>.",
+                results.wells.len()
+            )
+        } else {
+            String::new()
+        };
+        let boundary_cum: Vec<Vec<f64>> = results
+            .boundaries
+            .iter()
+            .map(|b| b.cumulative.iter().map(|&v| v_unit.show(v)).collect())
+            .collect();
+        let boundary_labels: Vec<String> = results
+            .boundaries
+            .iter()
+            .map(|b| format!("{} (boundary)", b.name))
+            .collect();
+        let nw = shown.len();
+
+        let well_lines = |m: Measure| -> Vec<Line> {
+            shown
+                .iter()
+                .enumerate()
+                .filter_map(|(n, &w)| {
+                    self.table.find(Some(Owner::Well(w)), m).map(|c| Line {
+                        name: &results.wells[w].name,
+                        ys: &c.values,
+                        style: n,
+                    })
+                })
+                .collect()
+        };
+        let mut rate_lines = well_lines(Measure::Rate);
+        for (b, label) in boundary_labels.iter().enumerate() {
+            if let Some(c) = self.table.find(Some(Owner::Boundary(b)), Measure::Rate) {
+                rate_lines.push(Line {
+                    name: label,
+                    ys: &c.values,
+                    style: nw + b,
+                });
+            }
+        }
+        let mut cum_lines = well_lines(Measure::Cumulative);
+        for (b, label) in boundary_labels.iter().enumerate() {
+            cum_lines.push(Line {
+                name: label,
+                ys: &boundary_cum[b],
+                style: nw + b,
+            });
+        }
+        let bhp_lines = well_lines(Measure::Bhp);
+        let avg = self
+            .table
+            .find(None, Measure::PressureAvg)
+            .expect("always present");
+
+        s.push_str("<section>\n<h2>Time series</h2>\n<div class=\"charts\">\n");
+        let chart =
+            |s: &mut String, title: &str, y_label: String, lines: Vec<Line>, caption: String| {
+                s.push_str("<figure>\n<h3>");
+                s.push_str(&escape(title));
+                s.push_str("</h3>\n");
+                if lines.is_empty() {
+                    s.push_str("<p class=\"empty\">Nothing to plot: no wells or boundaries.</p>\n");
+                } else {
+                    let chart = LineChart {
+                        title,
+                        x_label: &x_label,
+                        y_label: &y_label,
+                        xs: &time.values,
+                        lines,
+                    };
+                    s.push_str(&chart.render());
+                }
+                let _ = writeln!(s, "<figcaption>{caption}</figcaption>\n</figure>");
+            };
+        chart(
+            s,
+            "Surface rates",
+            format!("Rate [{}]", q_unit.name),
+            rate_lines,
+            format!("Positive: production; negative: injection or inflow. Boundaries dashed after the wells.{cap_note}"),
+        );
+        chart(
+            s,
+            "Cumulative volumes",
+            format!("Cumulative [{}]", v_unit.name),
+            cum_lines,
+            format!("At surface conditions.{cap_note}"),
+        );
+        chart(
+            s,
+            "Bottom-hole pressure",
+            format!("BHP [{}]", p_unit.name),
+            bhp_lines,
+            format!("At each well's datum.{cap_note}"),
+        );
+        chart(
+            s,
+            "Average reservoir pressure",
+            format!("Pressure [{}]", p_unit.name),
+            vec![Line {
+                name: "pore-volume weighted average",
+                ys: &avg.values,
+                style: 0,
+            }],
+            String::new(),
+        );
+        s.push_str("</div>\n</section>\n");
+    }
+
+    fn maps(&self, s: &mut String) {
+        let case = self.case;
+        let grid = &case.grid;
+        let results = self.results;
+        let system = case.report.units;
+        let length = display_unit(Quantity::Length, system);
+        let p_unit = display_unit(Quantity::Pressure, system);
+        let time = self.table.time();
+        s.push_str("<section>\n<h2>Pressure maps by layer</h2>\n");
+        let Some(pressure) = results.pressure.last() else {
+            s.push_str("<p class=\"empty\">The run stored no cell pressures, so there are no maps.</p>\n</section>\n");
+            return;
+        };
+        let t_end = time.values.last().copied().unwrap_or(0.0);
+        let (nx, ny, nz) = (grid.nx, grid.ny, grid.nz);
+        let layers = chosen_layers(nz, MAX_LAYER_MAPS);
+        let block = block_size(nx, ny, MAP_CELL_LIMIT);
+        let (bx, by) = (nx.div_ceil(block), ny.div_ceil(block));
+        let edges = |widths: &[f64], b: usize| -> Vec<f64> {
+            let mut out = vec![0.0];
+            let mut acc = 0.0;
+            for (n, w) in widths.iter().enumerate() {
+                acc += w / length.factor;
+                if (n + 1) % b == 0 || n + 1 == widths.len() {
+                    out.push(acc);
+                }
+            }
+            out
+        };
+        let x_edges = edges(&grid.dx, block);
+        let y_edges = edges(&grid.dy, block);
+        let depth = cell_center_depths(grid);
+
+        // Block-averaged display values per chosen layer (area-weighted over active cells).
+        let mut maps: Vec<(usize, Vec<Option<f64>>, f64)> = Vec::new();
+        for &k in &layers {
+            let mut sum = vec![0.0; bx * by];
+            let mut weight = vec![0.0; bx * by];
+            let mut depth_sum = 0.0;
+            for j in 0..ny {
+                for i in 0..nx {
+                    let c = grid.index(i, j, k);
+                    depth_sum += depth[c];
+                    let p = pressure[c];
+                    if case.rock.is_active(c) && p.is_finite() {
+                        let a = grid.dx[i] * grid.dy[j];
+                        let b = i / block + bx * (j / block);
+                        sum[b] += a * p_unit.show(p);
+                        weight[b] += a;
+                    }
+                }
+            }
+            let values = sum
+                .iter()
+                .zip(&weight)
+                .map(|(s, w)| (*w > 0.0).then(|| s / w))
+                .collect();
+            maps.push((k, values, length.show(depth_sum / (nx * ny) as f64)));
+        }
+        let (lo, hi) = maps
+            .iter()
+            .flat_map(|(_, v, _)| v.iter().flatten())
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
+                (a.min(v), b.max(v))
+            });
+        let range = if lo.is_finite() {
+            if hi > lo {
+                (lo, hi)
+            } else {
+                (lo - 0.5, hi + 0.5)
+            }
+        } else {
+            (0.0, 1.0)
+        };
+
+        let _ = writeln!(
+            s,
+            "<p class=\"note\">Cell pressure at {} {} (the last report time), one map per layer seen from above, \
+             on one colour scale (min {} and max {} {} over the layers shown). Colour ramp: rill slate-to-amber.</p>",
+            human(t_end),
+            escape(&time.unit.name),
+            human(range.0),
+            human(range.1),
+            escape(&p_unit.name)
+        );
+        if layers.len() < nz {
+            let list: Vec<String> = layers.iter().map(|k| (k + 1).to_string()).collect();
+            let _ = writeln!(
+                s,
+                "<p class=\"note\">Showing {} of {nz} layers, evenly spaced from top to bottom: {}. \
+                 Every layer is in the VTK maps (<code>maps/rill.pvd</code>).</p>",
+                layers.len(),
+                list.join(", ")
+            );
+        }
+        if block > 1 {
+            let _ = writeln!(
+                s,
+                "<p class=\"note\">Each layer has {} columns, more than the {} drawn per map: the maps show \
+                 area-weighted averages over blocks of {block} × {block} columns ({bx} × {by} blocks). \
+                 The VTK maps keep every cell.</p>",
+                human((nx * ny) as f64),
+                human(MAP_CELL_LIMIT as f64)
+            );
+        }
+        s.push_str(&colour_bar(range, &format!("Pressure [{}]", p_unit.name)));
+        s.push_str("<div class=\"maps\">\n");
+        let max_px = if layers.len() == 1 { 640.0 } else { 430.0 };
+        for (k, values, mean_depth) in &maps {
+            let title = format!("Layer {}", k + 1);
+            let map = HeatMap {
+                title: &title,
+                x_edges: &x_edges,
+                y_edges: &y_edges,
+                values,
+                range,
+                length_unit: &length.name,
+                max_px,
+            };
+            let (lmin, lmax) = values
+                .iter()
+                .flatten()
+                .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
+                    (a.min(v), b.max(v))
+                });
+            let span = if lmin.is_finite() {
+                format!("{} – {} {}", human(lmin), human(lmax), escape(&p_unit.name))
+            } else {
+                "no active cells".to_string()
+            };
+            let _ = writeln!(
+                s,
+                "<figure>\n<h3>{}</h3>\n{}<figcaption>centre depth ≈ {} {} (mean) · {span}</figcaption>\n</figure>",
+                escape(&title),
+                map.render(),
+                human(*mean_depth),
+                escape(&length.name)
+            );
+        }
+        s.push_str("</div>\n</section>\n");
+    }
+
+    fn notes(&self, s: &mut String) {
+        s.push_str("<section>\n<h2>About these results</h2>\n<ul class=\"note\">\n");
+        let _ = writeln!(
+            s,
+            "<li>Series at every report time with full precision: <code>series.csv</code> and <code>series.json</code> \
+             (units: {}).</li>",
+            system_name(self.case.report.units)
+        );
+        if self.files.iter().any(|f| f.ends_with(".pvd")) {
+            let steps = self.files.iter().filter(|f| f.ends_with(".vtr")).count();
+            let _ = writeln!(
+                s,
+                "<li>3-D maps for ParaView: <code>maps/rill.pvd</code> ({steps} report times). z is elevation (−depth); \
+                 the layer interfaces use the mean depth over all columns, and the cell array <code>depth</code> \
+                 holds the true depth of each cell centre.</li>"
+            );
+        }
+        s.push_str(
+            "<li>Plots and maps are drawn by rill's own small SVG code; the maps are seen from above with \
+             x to the east (i) and y to the north (j).</li>\n</ul>\n</section>\n",
+        );
+    }
+}
+
+/// Scientific notation for small diagnostics like the balance error.
+fn sci(x: f64) -> String {
+    if x == 0.0 {
+        "0".into()
+    } else {
+        let s = format!("{x:.2e}");
+        crate::text::trim_zeros(s.split('e').next().unwrap_or(""))
+            + "e"
+            + s.split('e').nth(1).unwrap_or("0")
+    }
+}
+
+/// At most `max` layers (0-based), evenly spaced, always the top and the bottom.
+pub(crate) fn chosen_layers(nz: usize, max: usize) -> Vec<usize> {
+    if nz <= max {
+        return (0..nz).collect();
+    }
+    let mut out: Vec<usize> = (0..max)
+        .map(|m| ((m as f64) * (nz - 1) as f64 / (max - 1) as f64).round() as usize)
+        .collect();
+    out.dedup();
+    out
+}
+
+/// The smallest block edge `b` with `ceil(nx/b) * ceil(ny/b) <= limit`.
+pub(crate) fn block_size(nx: usize, ny: usize, limit: usize) -> usize {
+    let mut b = 1;
+    while nx.div_ceil(b) * ny.div_ceil(b) > limit {
+        b += 1;
+    }
+    b
+}
+
+/// Cautions that the results themselves call for, after [`CAUTION`] and the
+/// caller's own: a rate-controlled well that ran on its BHP limit, a large
+/// balance error, values that are not finite.
+pub(crate) fn derived_cautions(
+    case: &Case,
+    results: &RunResults,
+    table: &SeriesTable,
+) -> Vec<String> {
+    let mut out = Vec::new();
+    let time = table.time();
+    for well in &results.wells {
+        let Some((w, cw)) = case
+            .wells
+            .iter()
+            .enumerate()
+            .find(|(_, cw)| cw.name == well.name)
+        else {
+            continue;
+        };
+        let bhp_ever_asked = matches!(cw.control, Control::Bhp(_))
+            || case
+                .timeline
+                .events
+                .iter()
+                .flat_map(|e| &e.changes)
+                .any(|c| c.well == w && matches!(c.control, Some(Control::Bhp(_))));
+        if bhp_ever_asked {
+            continue;
+        }
+        let on_bhp: Vec<usize> = (0..well.mode.len())
+            .filter(|&n| well.mode[n] == ControlMode::Bhp)
+            .collect();
+        if let Some(&first) = on_bhp.first() {
+            out.push(format!(
+                "Well \"{}\" could not hold its target rate and ran on its BHP limit at {} of {} report times, from {} {}.",
+                well.name,
+                on_bhp.len(),
+                well.mode.len(),
+                human(time.values.get(first).copied().unwrap_or(f64::NAN)),
+                time.unit.name
+            ));
+        }
+    }
+    let worst = results
+        .balance_error
+        .iter()
+        .filter(|v| v.is_finite())
+        .fold(0.0f64, |m, v| m.max(v.abs()));
+    if worst > BALANCE_CAUTION {
+        out.push(format!(
+            "The relative mass balance error reached {} (above {}): treat the results with care.",
+            sci(worst),
+            sci(BALANCE_CAUTION)
+        ));
+    }
+    let bad: Vec<&str> = table
+        .columns
+        .iter()
+        .filter(|c| c.values.iter().any(|v| !v.is_finite()))
+        .map(|c| c.name.as_str())
+        .collect();
+    if !bad.is_empty() {
+        out.push(format!(
+            "Some values are not finite (written as NaN or null) in: {}.",
+            bad.join(", ")
+        ));
+    }
+    out
+}
+
+/// Relative balance error above which the report warns.
+pub(crate) const BALANCE_CAUTION: f64 = 1e-4;

@@ -1,0 +1,268 @@
+//! VTK XML maps: `maps/step_NNNN.vtr` (RectilinearGrid) per report time and
+//! the collection `maps/rill.pvd` that ParaView opens as one time series.
+//!
+//! Geometry and layout:
+//! - x runs east along `i`, y north along `j`, z is **elevation**
+//!   (z = −depth, in report length units), so ParaView shows layer 1 on top.
+//!   Coordinates must increase, so the VTK `k` index counts from the bottom
+//!   layer up: VTK `k` = `nz − layer`. The cell array `layer` holds the deck's
+//!   1-based layer number.
+//! - A rectilinear grid has one z per layer interface. With a per-column
+//!   `top` (or per-cell `dz`) the true geometry is not rectilinear: the map
+//!   uses, at every interface, the mean depth over all columns. The cell
+//!   array `depth` holds the true depth of every cell centre.
+//! - Cell data: `pressure` (NaN in inactive cells), `active` (1/0),
+//!   `porosity`, `kx`, `ky`, `kz`, `depth`, `layer`. Units are the report
+//!   system's; they are named in field data (`pressure_unit`, ...), as string
+//!   arrays, together with `TimeValue` (the report time, in `time_unit`).
+//! - Cell arrays are Float64 (UInt8 for `active`, Int32 for `layer`), inline
+//!   base64 binary compressed with zlib (`vtkZLibDataCompressor`, UInt64
+//!   headers): valid XML, and compact for the layer- or uniform-valued rock
+//!   arrays, which are encoded once and reused in every step file.
+
+use std::io::{self, Write};
+
+use base64::engine::general_purpose::STANDARD as B64;
+use base64::Engine as _;
+use flate2::write::ZlibEncoder;
+use flate2::Compression;
+use rill_model::derived::cell_center_depths;
+use rill_model::Case;
+
+use crate::text::{escape, push_shortest, shortest};
+use crate::units::{display_unit, Quantity};
+
+/// Uncompressed size of one zlib block (VTK's default).
+const BLOCK: usize = 32 * 1024;
+
+/// The parts of every step file that do not change with time, prepared once.
+pub(crate) struct MapWriter {
+    nx: usize,
+    ny: usize,
+    nz: usize,
+    /// `vtk_order[v]` = deck cell index of VTK cell `v`.
+    vtk_order: Vec<usize>,
+    active: Vec<bool>,
+    /// `<DataArray>` elements of the static cell arrays, encoded.
+    static_arrays: String,
+    coordinates: String,
+    field_units: String,
+    pressure_factor: f64,
+}
+
+impl MapWriter {
+    pub fn new(case: &Case) -> MapWriter {
+        let system = case.report.units;
+        let grid = &case.grid;
+        let rock = &case.rock;
+        let (nx, ny, nz) = (grid.nx, grid.ny, grid.nz);
+        let length = display_unit(Quantity::Length, system);
+        let perm = display_unit(Quantity::Permeability, system);
+        let pressure = display_unit(Quantity::Pressure, system);
+        let time = display_unit(Quantity::Time, system);
+
+        let mut vtk_order = Vec::with_capacity(grid.cell_count());
+        for kv in 0..nz {
+            let k = nz - 1 - kv;
+            for j in 0..ny {
+                for i in 0..nx {
+                    vtk_order.push(grid.index(i, j, k));
+                }
+            }
+        }
+        let active: Vec<bool> = (0..grid.cell_count()).map(|c| rock.is_active(c)).collect();
+        let depth = cell_center_depths(grid);
+        let gather = |values: &[f64], factor: f64| -> Vec<f64> {
+            vtk_order.iter().map(|&c| values[c] / factor).collect()
+        };
+
+        let mut static_arrays = String::new();
+        let u8s: Vec<u8> = vtk_order.iter().map(|&c| u8::from(active[c])).collect();
+        static_arrays.push_str(&data_array("UInt8", "active", &u8s));
+        static_arrays.push_str(&data_array_f64("porosity", &gather(&rock.porosity, 1.0)));
+        static_arrays.push_str(&data_array_f64("kx", &gather(&rock.kx, perm.factor)));
+        static_arrays.push_str(&data_array_f64("ky", &gather(&rock.ky, perm.factor)));
+        static_arrays.push_str(&data_array_f64("kz", &gather(&rock.kz, perm.factor)));
+        static_arrays.push_str(&data_array_f64("depth", &gather(&depth, length.factor)));
+        let layers: Vec<u8> = vtk_order
+            .iter()
+            .flat_map(|&c| ((c / (nx * ny)) as i32 + 1).to_le_bytes())
+            .collect();
+        static_arrays.push_str(&data_array("Int32", "layer", &layers));
+
+        // Coordinates: cumulative widths; interface depths averaged over columns.
+        let cumulative = |widths: &[f64]| -> Vec<f64> {
+            let mut acc = 0.0;
+            let mut out = vec![0.0];
+            for w in widths {
+                acc += w / length.factor;
+                out.push(acc);
+            }
+            out
+        };
+        let xs = cumulative(&grid.dx);
+        let ys = cumulative(&grid.dy);
+        let columns = (nx * ny).max(1) as f64;
+        let mut interface = vec![0.0; nz + 1];
+        for col in 0..nx * ny {
+            let mut d = grid.top[col];
+            interface[0] += d;
+            for k in 0..nz {
+                d += grid.dz[col + nx * ny * k];
+                interface[k + 1] += d;
+            }
+        }
+        let zs: Vec<f64> = interface
+            .iter()
+            .rev()
+            .map(|d| -(d / columns) / length.factor)
+            .collect();
+        let mut coordinates = String::new();
+        for (name, values) in [("x", &xs), ("y", &ys), ("z", &zs)] {
+            coordinates.push_str(&format!(
+                "        <DataArray type=\"Float64\" Name=\"{name}\" format=\"ascii\">{}</DataArray>\n",
+                join(values)
+            ));
+        }
+
+        let mut field_units = String::new();
+        for (name, value) in [
+            ("time_unit", time.name.as_str()),
+            ("pressure_unit", pressure.name.as_str()),
+            ("permeability_unit", perm.name.as_str()),
+            ("length_unit", length.name.as_str()),
+            ("z_axis", "elevation = -depth"),
+        ] {
+            field_units.push_str(&string_array(name, value));
+        }
+
+        MapWriter {
+            nx,
+            ny,
+            nz,
+            vtk_order,
+            active,
+            static_arrays,
+            coordinates,
+            field_units,
+            pressure_factor: pressure.factor,
+        }
+    }
+
+    /// Writes one step file: `pressure` in Pa per deck cell, `time` in report units.
+    pub fn write_step(&self, w: &mut dyn Write, pressure: &[f64], time: f64) -> io::Result<()> {
+        let values: Vec<f64> = self
+            .vtk_order
+            .iter()
+            .map(|&c| {
+                if self.active[c] {
+                    pressure[c] / self.pressure_factor
+                } else {
+                    f64::NAN
+                }
+            })
+            .collect();
+        let extent = format!("0 {} 0 {} 0 {}", self.nx, self.ny, self.nz);
+        write!(
+            w,
+            "<?xml version=\"1.0\"?>\n\
+             <VTKFile type=\"RectilinearGrid\" version=\"1.0\" byte_order=\"LittleEndian\" header_type=\"UInt64\" compressor=\"vtkZLibDataCompressor\">\n\
+             \x20 <RectilinearGrid WholeExtent=\"{extent}\">\n\
+             \x20   <FieldData>\n\
+             \x20     <DataArray type=\"Float64\" Name=\"TimeValue\" NumberOfTuples=\"1\" format=\"ascii\">{}</DataArray>\n\
+             {}\
+             \x20   </FieldData>\n\
+             \x20   <Piece Extent=\"{extent}\">\n\
+             \x20     <CellData Scalars=\"pressure\">\n",
+            shortest(time),
+            self.field_units,
+        )?;
+        w.write_all(data_array_f64("pressure", &values).as_bytes())?;
+        w.write_all(self.static_arrays.as_bytes())?;
+        write!(
+            w,
+            "      </CellData>\n\
+             \x20     <Coordinates>\n\
+             {}\
+             \x20     </Coordinates>\n\
+             \x20   </Piece>\n\
+             \x20 </RectilinearGrid>\n\
+             </VTKFile>\n",
+            self.coordinates
+        )
+    }
+}
+
+/// The `.pvd` collection: one `DataSet` per step file, `timestep` in report time units.
+pub(crate) fn write_pvd(w: &mut dyn Write, steps: &[(f64, String)]) -> io::Result<()> {
+    writeln!(w, "<?xml version=\"1.0\"?>")?;
+    writeln!(w, "<VTKFile type=\"Collection\" version=\"1.0\" byte_order=\"LittleEndian\" header_type=\"UInt64\">")?;
+    writeln!(w, "  <Collection>")?;
+    for (time, file) in steps {
+        writeln!(
+            w,
+            "    <DataSet timestep=\"{}\" group=\"\" part=\"0\" file=\"{}\"/>",
+            shortest(*time),
+            escape(file)
+        )?;
+    }
+    writeln!(w, "  </Collection>")?;
+    writeln!(w, "</VTKFile>")
+}
+
+fn join(values: &[f64]) -> String {
+    let mut s = String::new();
+    for (n, v) in values.iter().enumerate() {
+        if n > 0 {
+            s.push(' ');
+        }
+        push_shortest(&mut s, *v);
+    }
+    s
+}
+
+fn data_array_f64(name: &str, values: &[f64]) -> String {
+    let bytes: Vec<u8> = values.iter().flat_map(|v| v.to_le_bytes()).collect();
+    data_array("Float64", name, &bytes)
+}
+
+/// One `<DataArray>` with `bytes` (little-endian values) as zlib blocks in base64.
+fn data_array(vtk_type: &str, name: &str, bytes: &[u8]) -> String {
+    format!(
+        "        <DataArray type=\"{vtk_type}\" Name=\"{name}\" format=\"binary\">{}</DataArray>\n",
+        compressed_base64(bytes)
+    )
+}
+
+/// The text of a compressed inline binary array: the header
+/// `[blocks, block size, last partial block size, compressed sizes...]`
+/// (UInt64) and the concatenated zlib blocks, each encoded in base64
+/// separately, as VTK's reader expects.
+pub(crate) fn compressed_base64(bytes: &[u8]) -> String {
+    let mut blocks = Vec::new();
+    for chunk in bytes.chunks(BLOCK) {
+        let mut z = ZlibEncoder::new(Vec::new(), Compression::fast());
+        z.write_all(chunk).expect("writing to a Vec");
+        blocks.push(z.finish().expect("writing to a Vec"));
+    }
+    let mut header: Vec<u64> = vec![
+        blocks.len() as u64,
+        BLOCK as u64,
+        (bytes.len() % BLOCK) as u64,
+    ];
+    header.extend(blocks.iter().map(|b| b.len() as u64));
+    let header_bytes: Vec<u8> = header.iter().flat_map(|v| v.to_le_bytes()).collect();
+    let mut out = B64.encode(header_bytes);
+    out.push_str(&B64.encode(blocks.concat()));
+    out
+}
+
+/// A one-tuple VTK string array (ASCII: character codes, 0-terminated).
+fn string_array(name: &str, value: &str) -> String {
+    let mut codes: Vec<String> = value.bytes().map(|b| b.to_string()).collect();
+    codes.push("0".into());
+    format!(
+        "      <DataArray type=\"String\" Name=\"{name}\" NumberOfTuples=\"1\" format=\"ascii\">{}</DataArray>\n",
+        codes.join(" ")
+    )
+}
