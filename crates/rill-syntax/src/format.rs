@@ -17,7 +17,8 @@
 //!   `30 x 20 x 4`; tuples `(15, 10, 1)`; selectors `i = 12..14`.
 //! - Lists are `[a b c]` with single spaces and no commas, except that a
 //!   comma is kept where, without it, the next item would be read as the
-//!   unit of the one before or would extend a size (`[1, md]`, `[30, x]`).
+//!   unit of the one before or would make or extend a size (`[1, md]`,
+//!   `[30 x 2, x]`, `[0 x, 5]`).
 //!   A line longer than 100 columns is wrapped between list or tuple items,
 //!   filling each line; continuation lines are indented one level deeper.
 //!   A comment inside a list stays where it was, at the end of its line,
@@ -117,7 +118,19 @@ fn needs_comma(prev: &Atom, next: &Atom) -> bool {
             | AtomKind::List { unit: None, .. }
             | AtomKind::Size(_)
     );
-    takes_unit && matches!(next.kind, AtomKind::Ident(_) | AtomKind::Tuple { .. } | AtomKind::Selector { .. })
+    if takes_unit && matches!(next.kind, AtomKind::Ident(_) | AtomKind::Tuple { .. } | AtomKind::Selector { .. }) {
+        return true;
+    }
+    // `0 x` (the unit `x`) then `5` would be the size `0 x 5`.
+    let int_x = matches!(&prev.kind, AtomKind::Number { raw, unit: Some(u), .. }
+        if u.text == "x" && raw.bytes().all(|b| b.is_ascii_digit()));
+    let digit_first = match &next.kind {
+        AtomKind::Number { raw, .. } => raw.starts_with(|c: char| c.is_ascii_digit()),
+        AtomKind::Range { start, .. } => *start >= 0,
+        AtomKind::Size(_) => true,
+        _ => false,
+    };
+    int_x && digit_first
 }
 
 impl<'a> Fmt<'a> {

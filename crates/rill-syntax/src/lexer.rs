@@ -84,9 +84,23 @@ pub(crate) fn range_tail(i: &str) -> IResult<&str, &str> {
     preceded(tag(".."), int_lit)(i)
 }
 
-/// ` x 20 x 4` after the first integer of a size.
+/// ` x 20 x 4` after the first integer of a size. Each part is a whole
+/// number token: `30 x 2.5`, `30 x 2e3` and `30 x 1..5` are no sizes (the
+/// formatter never splits a number or a range, so this stays stable). A
+/// name glued after the last part does not matter (`30 x20x4ft` is a size,
+/// then the name `ft`): the formatter puts a space after every atom, and a
+/// size must stay a size.
 pub(crate) fn size_tail(i: &str) -> IResult<&str, Vec<&str>> {
-    many1(preceded(tuple((hspace0, char('x'), hspace0)), digit1))(i)
+    many1(preceded(tuple((hspace0, char('x'), hspace0)), size_part))(i)
+}
+
+fn size_part(i: &str) -> IResult<&str, &str> {
+    let (rest, digits) = digit1(i)?;
+    let whole = number(i).map_or(false, |(_, n)| n.len() == digits.len());
+    if !whole || rest.starts_with("..") {
+        return Err(nom::Err::Error(Error::new(i, ErrorKind::Digit)));
+    }
+    Ok((rest, digits))
 }
 
 /// `^2`, `^-1`, `^+3`.
@@ -99,7 +113,7 @@ fn unit_exponent(i: &str) -> IResult<&str, &str> {
 fn unit_term(i: &str, depth: u32) -> IResult<&str, &str> {
     alt((
         recognize(pair(ident, opt(unit_exponent))),
-        recognize(terminated(char('1'), not(satisfy(|c: char| c.is_ascii_digit())))),
+        recognize(terminated(char('1'), not(satisfy(|c: char| c.is_ascii_alphanumeric() || c == '_' || c == '.')))),
         tag("%"),
         recognize(pair(move |i| unit_group(i, depth), opt(unit_exponent))),
     ))(i)
@@ -204,7 +218,9 @@ pub(crate) fn unit_after(i: &str) -> Option<(usize, &str)> {
         return None;
     }
     let (rest, u) = unit_expr(r).ok()?;
-    if u == "at" {
+    // `at` is a word of the value (`3200 psi at 7150 ft`); a lone `1` is
+    // not a unit (`300 1/90` is `300`, `1`, `/`, `90`).
+    if u == "at" || u == "1" {
         return None;
     }
     let (after, _) = hspace0(rest).ok()?;

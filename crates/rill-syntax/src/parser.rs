@@ -21,7 +21,8 @@
 //! - Inside `[ ]` and `( )` line breaks are whitespace, except that a list or
 //!   tuple left open ends (with `syntax.unclosed` on its opening delimiter)
 //!   before a line break when the next line starts a new item: `key =`, a
-//!   line that starts with a name and contains `{` (a block header), or `}`.
+//!   block header (a name, then tokens up to a `{` on the same line, with no
+//!   `;` and no `]` or `)` closing a bracket opened before the line), or `}`.
 //!   It also ends at `;`, at a `}`, at the end of the file, and at a closing
 //!   delimiter of an enclosing bracket (`[(1, 2]` closes the list).
 //!   Only the first stray token inside one list is reported.
@@ -75,12 +76,22 @@ fn line_starts_item(text: &str, pos: usize) -> bool {
             if t == Tok::Eq {
                 return true;
             }
+            // A block header: `{` reached on this line without `;` and
+            // without closing a bracket that the line did not open (which
+            // would make it the continuation of the open list).
+            let mut depth = 0usize;
             loop {
                 match t {
-                    Tok::LBrace => return true,
-                    Tok::Newline | Tok::Eof => return false,
-                    _ => t = lx.next(None).tok,
+                    Tok::LBrace if depth == 0 => return true,
+                    Tok::LBracket | Tok::LParen => depth += 1,
+                    Tok::RBracket(_) | Tok::RParen => match depth.checked_sub(1) {
+                        Some(d) => depth = d,
+                        None => return false,
+                    },
+                    Tok::Newline | Tok::Eof | Tok::Semi | Tok::RBrace => return false,
+                    _ => {}
                 }
+                t = lx.next(None).tok;
             }
         }
         _ => false,

@@ -61,6 +61,9 @@ fn commas_kept_where_needed() {
     fmt("x = [1, (m)]\n", "x = [1, (m)]\n");
     fmt("x = [1 md, m]\n", "x = [1 md m]\n");
     fmt("x = [a, b]\n", "x = [a b]\n");
+    fmt("x = [0 x, 5]\n", "x = [0 x, 5]\n");
+    fmt("x = [0 x\n 5..6]\n", "x = [0 x, 5..6]\n");
+    fmt("x = [0 x, -5]\n", "x = [0 x -5]\n");
 }
 
 #[test]

@@ -144,8 +144,16 @@ fn sizes() {
     // `x` not followed by an integer is a unit (or a name).
     assert_eq!(one("3 x"), qty("3", "x"));
     assert_eq!(value("30 x 20 x 4 y"), vec![size.clone(), id("y")]);
+    // What is glued after the last integer does not change the size.
+    assert_eq!(value("30 x20a"), vec![AtomKind::Size(vec![30, 20]), id("a")]);
+    assert_eq!(value("30 x 20Ux 4"), vec![AtomKind::Size(vec![30, 20]), id("Ux"), num("4")]);
+    // Each part is a whole integer token.
+    assert_eq!(value("30 x 2.5"), vec![qty("30", "x"), num("2.5")]);
+    assert_eq!(value("30 x 2e3"), vec![qty("30", "x"), num("2e3")]);
+    assert_eq!(value("0 x 0 x 1..2"), vec![AtomKind::Size(vec![0, 0]), id("x"), AtomKind::Range { start: 1, end: 2 }]);
     // A negative or decimal number never starts a size.
     assert_eq!(value("2.5 x 3"), vec![qty("2.5", "x"), num("3")]);
+    assert_eq!(value("-2 x 3"), vec![qty("-2", "x"), num("3")]);
 }
 
 #[test]
@@ -202,6 +210,8 @@ fn operators_and_signs() {
     assert_eq!(value("rate -600 stb/day"), vec![id("rate"), qty("-600", "stb/day")]);
     assert_eq!(one("[1 -2 - 3 -4]"), list(vec![num("1"), num("-2"), op(Op::Sub), num("3"), num("-4")], None));
     assert_eq!(value("[1]-2"), vec![list(vec![num("1")], None), op(Op::Sub), num("2")]);
+    assert_eq!(value("300 1/90"), vec![num("300"), num("1"), op(Op::Div), num("90")]);
+    assert_eq!(value("[] md*1..3"), vec![list(vec![], Some("md")), op(Op::Mul), AtomKind::Range { start: 1, end: 3 }]);
     assert_eq!(value("5 md*2"), vec![qty("5", "md"), op(Op::Mul), num("2")]);
 }
 
