@@ -83,6 +83,7 @@ else
   step "vscode: npm ci" bash -c "cd '$vscode' && npm ci --no-audit --no-fund --loglevel=error"
   step "vscode: compile (tsc)" bash -c "cd '$vscode' && npx --no-install tsc -p ./"
   step "vscode: grammar tests" bash -c "cd '$vscode' && npx --no-install vscode-tmgrammar-test -g syntaxes/rill.tmLanguage.json 'test/grammar/*.rill'"
+  step "vscode: grammar on the example decks (node --test)" bash -c "cd '$vscode' && node --test test/grammar-decks/*.test.js"
   step "vscode: activation tests (node --test)" bash -c "cd '$vscode' && node --test test/activation/*.test.js"
   step "vscode: package .vsix (vsce)" bash -c "cd '$vscode' && npx --no-install vsce package --out '$tmp/rill.vsix' </dev/null && $(declare -f vsix_contents); tmp='$tmp' vsix_contents"
 fi

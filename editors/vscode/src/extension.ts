@@ -65,16 +65,21 @@ export function serverCommand(): string {
 }
 
 /**
- * Where `rill run` writes report.html for a deck: `runOutputDir` when set
- * (relative to the deck's folder), else `<deck name>.out/` beside the deck.
+ * Where a run writes report.html for a deck, as the server places it:
+ * `<runOutputDir>/<deck name>.out/` when the setting is given (a relative
+ * folder is taken from the first workspace folder, else the deck's folder),
+ * otherwise `<deck name>.out/` beside the deck.
  */
-export function expectedReportPath(deckPath: string, settings: RillSettings): string {
+export function expectedReportPath(deckPath: string, settings: RillSettings, workspaceRoot?: string): string {
   const deckDir = path.dirname(deckPath);
   const stem = path.basename(deckPath).replace(/\.rill$/i, '');
-  const outDir = settings.runOutputDir
-    ? path.resolve(deckDir, settings.runOutputDir)
-    : path.join(deckDir, `${stem}.out`);
-  return path.join(outDir, 'report.html');
+  const parent = settings.runOutputDir ? path.resolve(workspaceRoot ?? deckDir, settings.runOutputDir) : deckDir;
+  return path.join(parent, `${stem}.out`, 'report.html');
+}
+
+function workspaceRoot(): string | undefined {
+  const folder = vscode.workspace.workspaceFolders?.[0];
+  return folder && folder.uri.scheme === 'file' ? folder.uri.fsPath : undefined;
 }
 
 /** A report path the server may return from `rill.run` (a string, or an object with `report`). */
@@ -152,7 +157,7 @@ async function afterRun(deck: vscode.Uri, run: () => Thenable<unknown>): Promise
     return undefined;
   }
   if (deck.scheme === 'file') {
-    const reportPath = reportFromResult(result) ?? expectedReportPath(deck.fsPath, readSettings());
+    const reportPath = reportFromResult(result) ?? expectedReportPath(deck.fsPath, readSettings(), workspaceRoot());
     log(`run of ${deck.fsPath} accepted; report expected at ${reportPath}`);
     void offerReportWhenWritten(reportPath, startedAt, generation);
   }
@@ -296,7 +301,7 @@ async function openLastReport(): Promise<void> {
     void vscode.window.showWarningMessage('rill: open a .rill case first.');
     return;
   }
-  const report = expectedReportPath(deck.fsPath, readSettings());
+  const report = expectedReportPath(deck.fsPath, readSettings(), workspaceRoot());
   if (mtimeMs(report) === undefined) {
     void vscode.window.showWarningMessage(`rill: no report yet at ${report}; run the case first.`);
     return;

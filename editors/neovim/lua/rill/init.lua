@@ -121,15 +121,18 @@ local function show_document(err, result, ctx)
   return { success = true }
 end
 
+-- Where the server writes report.html: <runOutputDir>/<deck name>.out/
+-- (a relative runOutputDir is taken from the root folder), else
+-- <deck name>.out/ beside the deck.
 local function expected_report(fname)
   local dir = vim.fn.fnamemodify(fname, ':p:h')
+  local stem = vim.fn.fnamemodify(fname, ':t:r')
+  local parent = dir
   local out = M.config.settings and M.config.settings.runOutputDir
-  if out == nil or out == '' or out == vim.NIL then
-    out = dir .. '/' .. vim.fn.fnamemodify(fname, ':t:r') .. '.out'
-  elseif not out:match('^/') then
-    out = dir .. '/' .. out
+  if type(out) == 'string' and out ~= '' then
+    parent = out:match('^/') and out or (M.root_dir(fname) .. '/' .. out)
   end
-  return out .. '/report.html'
+  return parent .. '/' .. stem .. '.out/report.html'
 end
 
 local function rill_client(bufnr)

@@ -5,7 +5,7 @@
 // semantics: it reports one fixed diagnostic per opened document (on the
 // first line holding `kx =`, else the first line) and a fixed hover.
 const fs = require('fs');
-const os = require('os');
+const { fileURLToPath, pathToFileURL } = require('url');
 const path = require('path');
 const {
   createConnection, ProposedFeatures, TextDocumentSyncKind, DiagnosticSeverity,
@@ -50,16 +50,18 @@ connection.onDidChangeConfiguration((p) => { seen.configurationChanges.push(p.se
 connection.onExecuteCommand(async (p) => {
   seen.executed.push({ command: p.command, arguments: p.arguments ?? [] });
   if (p.command !== 'rill.run') throw new Error(`unknown command ${p.command}`);
-  const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'rill-stand-in-'));
-  process.on('exit', () => fs.rmSync(dir, { recursive: true, force: true }));
-  const report = path.join(dir, 'report.html');
+  // Like `rill lsp`: results in <deck name>.out/ beside the deck, and no
+  // result value (the run goes on in the background).
+  const deck = fileURLToPath(String(p.arguments?.[0] ?? ''));
+  const outDir = path.join(path.dirname(deck), `${path.basename(deck, '.rill')}.out`);
+  fs.mkdirSync(outDir, { recursive: true });
+  const report = path.join(outDir, 'report.html');
   fs.writeFileSync(report, '<!doctype html><title>stand-in report</title>\n');
-  const uri = require('url').pathToFileURL(report).toString();
   // RILL_STAND_IN_NO_SHOW=1: behave like a server that never sends showDocument.
   if (seen.showDocumentSupported && process.env.RILL_STAND_IN_NO_SHOW !== '1') {
-    await connection.window.showDocument({ uri, external: true });
+    await connection.window.showDocument({ uri: pathToFileURL(report).toString(), external: true });
   }
-  return { report: uri };
+  return null;
 });
 
 connection.onRequest('rillTest/seen', () => seen);
