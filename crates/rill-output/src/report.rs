@@ -80,6 +80,7 @@ svg { max-width: 100%; height: auto; font-family: inherit; }
 svg .tick { font-size: 11px; fill: #4b5563; }
 svg .axis-label { font-size: 12px; fill: #1f2933; }
 svg .legend-text { font-size: 12px; fill: #1f2933; }
+svg .mark-text { font-size: 11px; font-weight: 600; fill: #111827; }
 .maps { display: flex; flex-wrap: wrap; gap: 14px 22px; align-items: flex-start; }
 .maps figure { flex: 0 0 auto; }
 .note { color: var(--muted); font-size: 12.5px; }
@@ -542,8 +543,30 @@ impl Report<'_> {
         s.push_str(&colour_bar(range, &format!("Pressure [{}]", p_unit.name)));
         s.push_str("<div class=\"maps\">\n");
         let max_px = if layers.len() == 1 { 640.0 } else { 430.0 };
+        // Well completions, at their cell centres, per layer.
+        let centre = |widths: &[f64], n: usize| {
+            (widths[..n].iter().sum::<f64>() + 0.5 * widths[n]) / length.factor
+        };
+        let marks_in = |k: usize| -> Vec<(f64, f64, String)> {
+            let mut marks = Vec::new();
+            for well in &case.wells {
+                for c in well
+                    .completions
+                    .iter()
+                    .filter(|c| c.k == k && c.i < nx && c.j < ny)
+                {
+                    marks.push((
+                        centre(&grid.dx, c.i),
+                        centre(&grid.dy, c.j),
+                        well.name.clone(),
+                    ));
+                }
+            }
+            marks
+        };
         for (k, values, mean_depth) in &maps {
             let title = format!("Layer {}", k + 1);
+            let marks = marks_in(*k);
             let map = HeatMap {
                 title: &title,
                 x_edges: &x_edges,
@@ -552,6 +575,7 @@ impl Report<'_> {
                 range,
                 length_unit: &length.name,
                 max_px,
+                marks: &marks,
             };
             let (lmin, lmax) = values
                 .iter()
@@ -595,7 +619,7 @@ impl Report<'_> {
         }
         s.push_str(
             "<li>Plots and maps are drawn by rill's own small SVG code; the maps are seen from above with \
-             x to the east (i) and y to the north (j).</li>\n</ul>\n</section>\n",
+             x to the east (i) and y to the north (j). White dots mark well completions in the layer.</li>\n</ul>\n</section>\n",
         );
     }
 }

@@ -435,6 +435,8 @@ pub(crate) struct HeatMap<'a> {
     pub length_unit: &'a str,
     /// Largest drawing size of the grid, px.
     pub max_px: f64,
+    /// Marked points (well completions): x, y in the units of the edges, and a label.
+    pub marks: &'a [(f64, f64, String)],
 }
 
 impl HeatMap<'_> {
@@ -504,6 +506,28 @@ impl HeatMap<'_> {
             r1(w),
             r1(h)
         );
+        for (x, y, label) in self.marks {
+            let (cx, cy) = (px(*x), py(*y));
+            // Labels sit right of the mark, or left of it near the east edge.
+            let label = ellipsize(label, 16);
+            let right = cx + 6.0 + label.chars().count() as f64 * 6.5 < ml + w;
+            let (tx, anchor) = if right {
+                (cx + 6.0, "start")
+            } else {
+                (cx - 6.0, "end")
+            };
+            let _ = writeln!(
+                s,
+                "<g class=\"mark\"><circle cx=\"{}\" cy=\"{}\" r=\"3.5\" fill=\"#fff\" stroke=\"#111827\" stroke-width=\"1.5\"/>\
+                 <text x=\"{}\" y=\"{}\" text-anchor=\"{anchor}\" class=\"mark-text\" stroke=\"#fff\" stroke-width=\"3\" \
+                 paint-order=\"stroke\" stroke-linejoin=\"round\">{}</text></g>",
+                r1(cx),
+                r1(cy),
+                r1(tx),
+                r1(cy + 3.5),
+                escape(&label)
+            );
+        }
         // Distance ticks from the west and south edges.
         for (axis, len, pixels) in [('x', lx, w), ('y', ly, h)] {
             let ticks = Ticks::new(0.0, len, if pixels > 160.0 { 4 } else { 2 });

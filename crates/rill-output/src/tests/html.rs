@@ -32,6 +32,8 @@ fn report_has_plots_maps_summary_and_caution() {
     for k in 1..=3 {
         assert!(html.contains(&format!("<title>Layer {k}</title>")));
     }
+    // Both wells are completed in every layer: marked on each map.
+    assert_eq!(html.matches("<g class=\"mark\">").count(), 6);
     // One path per series: rates (2 wells + 1 boundary), cumulatives (3), BHP (2), average pressure (1).
     assert_eq!(html.matches("<g class=\"series\">").count(), 9);
     for name in [
