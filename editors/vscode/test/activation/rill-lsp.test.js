@@ -57,6 +57,39 @@ test('extension gets diagnostics from the real rill lsp', { timeout: 90000, skip
     assert.ok(unit, 'kx = 150 psi is reported as unit.dimension');
     const kxLine = broken.split('\n').findIndex((l) => l.includes('kx = 150 psi'));
     assert.equal(unit.range.start.line, kxLine);
+
+    // Hover on the key `viscosity`.
+    const line = broken.split('\n').findIndex((l) => /^\s*viscosity\s*=/.test(l));
+    const character = broken.split('\n')[line].indexOf('viscosity') + 2;
+    const hover = await client.sendRequest('textDocument/hover', { textDocument: { uri }, position: { line, character } });
+    assert.ok(hover && hover.contents, 'a hover on viscosity');
+    process.stdout.write(`# hover: ${JSON.stringify(hover.contents).slice(0, 200)}\n`);
+  } finally {
+    await ext.stop();
+  }
+});
+
+test('Run case on the teaching block opens report.html', { timeout: 180000, skip: reason ? `rill lsp not available: ${reason}` : false }, async () => {
+  const dir = tempDir('rill-lsp-run-');
+  const deck = path.join(dir, 'teaching-block.rill');
+  fs.copyFileSync(path.join(repo, 'examples', 'teaching-block.rill'), deck);
+  const ext = await startExtension({
+    configuration: { path: bin },
+    folder: dir,
+    documents: [{ file: deck, text: fs.readFileSync(deck, 'utf8') }],
+  });
+  try {
+    assert.ok(ext.api.client(), `the language client started \`${bin} lsp\``);
+    const uri = vscode.Uri.file(deck).toString();
+    // Let the first analysis finish (a clean deck may publish an empty list,
+    // or nothing at all: then go on after 10 s).
+    await waitFor('diagnostics for the deck', () => state.diagnostics.has(uri), 10000).catch(() => undefined);
+    await vscode.commands.executeCommand('rill.runCase', vscode.Uri.file(deck));
+    const report = path.join(dir, 'teaching-block.out', 'report.html');
+    const opened = await waitFor('report.html opened after the run', () => state.openedExternally[0], 150000);
+    assert.equal(vscode.Uri.parse(opened).fsPath, report);
+    assert.ok(fs.statSync(report).size > 0);
+    assert.deepEqual(state.messages.filter(([kind]) => kind === 'error'), []);
   } finally {
     await ext.stop();
   }
