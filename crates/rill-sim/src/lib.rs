@@ -2,9 +2,31 @@
 //! transmissibilities of `rill-model`, assembly, Newton, wells and
 //! boundaries, time stepping, mass balance checks, and the linear solvers.
 //!
-//! It must never parse text; it takes a checked `rill_model::Case`.
+//! It must never parse text; it takes a checked `rill_model::Case`. It does
+//! no file I/O: the first linear system goes to the [`Observer`], and the
+//! caller writes it if it wants to.
+//!
+//! Entry point: [`run`]. Modelling choices (each documented where it lives):
+//! * slightly compressible liquid, exponential `B(p)`, `rho(p)`, `phi(p)`
+//!   ([`pvt`](crate::pvt));
+//! * two-point fluxes with the `derived` geometric transmissibilities, the
+//!   mobility `1/(mu B)` averaged arithmetically at the face, and a face
+//!   density exactly consistent with the hydrostatic initial state, so a
+//!   model at equilibrium stays at rest to rounding ([`disc`](crate::disc));
+//! * wells: Peaceman completions, BHP at the centre of the shallowest
+//!   completion, wellbore fluid on the same hydrostat, rate control with the
+//!   BHP as an unknown, switching to and from the BHP limit after every
+//!   Newton update;
+//! * boundaries: half-cell transmissibility to a constant (or hydrostatic)
+//!   pressure at the face centre;
+//! * backward Euler, Newton with line search, step halving, report times
+//!   hit exactly; steady runs solve the incompressible pressure equation.
 
+mod disc;
 pub mod linear;
+mod pvt;
 pub mod results;
+mod run;
 
 pub use results::*;
+pub use run::{run, NewtonOptions, NoObserver, Observer, Progress, RunError, RunOptions};
