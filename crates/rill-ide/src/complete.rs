@@ -1,0 +1,517 @@
+//! Completion on possibly incomplete text: the block structure comes from
+//! the syntax tree (which recovers from errors), the statement being typed
+//! from a scan of the current line up to the cursor, since the tree of
+//! half-typed text (`kx = 150 `) does not say what comes next.
+
+use crate::hover::{key_dim, value_words};
+use crate::locate::{block_def, enclosing_blocks, locate, Node};
+use crate::{CompletionItem, CompletionKind, Snapshot};
+use rill_model::schema::{self, BlockDef, KeyDef, LabelRule, ValueKind};
+use rill_syntax::{AtomKind, Block, Item, Span};
+use rill_units::Dim;
+
+pub(crate) fn completion(snap: &Snapshot, offset: usize) -> Vec<CompletionItem> {
+    let off = snap.clamp(offset);
+    let text = snap.text();
+    let line_start = text[..off].rfind(['\n', '\r']).map_or(0, |p| p + 1);
+    let line_end = text[off..]
+        .find(['\n', '\r'])
+        .map_or(text.len(), |p| off + p);
+    let line = &text[line_start..off];
+    // Scan the line for strings, comments and statement separators.
+    let mut in_str = false;
+    let mut escaped = false;
+    let mut str_start = 0;
+    let mut seg_start = 0;
+    for (i, c) in line.char_indices() {
+        if in_str {
+            if escaped {
+                escaped = false;
+            } else if c == '\\' {
+                escaped = true;
+            } else if c == '"' {
+                in_str = false;
+            }
+            continue;
+        }
+        match c {
+            '"' => {
+                in_str = true;
+                str_start = i;
+            }
+            '#' => return Vec::new(),
+            ';' | '{' | '}' => seg_start = i + 1,
+            _ => {}
+        }
+    }
+    let tree = snap.tree();
+    let blocks = enclosing_blocks(&tree.items, off);
+    let seg = &line[seg_start..];
+    let t = seg.trim_start();
+    let t_off = line_start + seg_start + (seg.len() - t.len());
+    let innermost = blocks.last().map(|b| b.name.name.as_str());
+
+    if in_str {
+        // `well "LE|` in an event: well names.
+        let before_quote = line[seg_start..str_start].trim();
+        if before_quote == "well" && innermost == Some("at") {
+            let content_start = line_start + str_start + 1;
+            let rest = &text[off..line_end];
+            let end = rest.find('"').map_or(off, |p| off + p);
+            return well_names(snap)
+                .into_iter()
+                .map(|name| well_item(&name, escape_str(&name), Span::new(content_start, end)))
+                .collect();
+        }
+        return Vec::new();
+    }
+
+    let word_after = text[off..line_end]
+        .bytes()
+        .take_while(|b| b.is_ascii_alphanumeric() || *b == b'_')
+        .count();
+    if t.bytes().all(|b| b.is_ascii_alphanumeric() || b == b'_')
+        && !t.starts_with(|c: char| c.is_ascii_digit())
+    {
+        let replace = Span::new(t_off, off + word_after);
+        return statement_start(snap, &blocks, replace);
+    }
+    if innermost == Some("at") {
+        if let Some(rest) = t.strip_prefix("well") {
+            if rest.trim().is_empty() && rest.starts_with([' ', '\t']) {
+                return well_names(snap)
+                    .into_iter()
+                    .map(|name| {
+                        well_item(
+                            &name,
+                            format!("\"{}\"", escape_str(&name)),
+                            Span::new(off, off),
+                        )
+                    })
+                    .collect();
+            }
+        }
+    }
+
+    // `key = value...`: the key from the line, or from the tree when the
+    // cursor is on a continuation line of a list.
+    let (key, rest, rest_off) = match t.find('=') {
+        Some(eq) => (t[..eq].trim(), &t[eq + 1..], t_off + eq + 1),
+        None => {
+            let hit = locate(&tree.items, off.saturating_sub(1));
+            match hit.node {
+                Node::Value(s, _) if s.eq.end <= off => {
+                    (s.key.name.as_str(), &text[s.eq.end..off], s.eq.end)
+                }
+                _ => return Vec::new(),
+            }
+        }
+    };
+    if !key.bytes().all(|b| b.is_ascii_alphanumeric() || b == b'_') {
+        return Vec::new();
+    }
+    let Some(def) = block_def(&blocks) else {
+        return Vec::new();
+    };
+    let Some(kd) = def.key(key) else {
+        return Vec::new();
+    };
+    value_completion(snap, def, kd, rest, rest_off, off)
+}
+
+fn escape_str(s: &str) -> String {
+    s.replace('\\', "\\\\").replace('"', "\\\"")
+}
+
+fn well_item(name: &str, insert: String, replace: Span) -> CompletionItem {
+    CompletionItem {
+        label: name.to_string(),
+        kind: CompletionKind::Well,
+        detail: Some("well".into()),
+        documentation: None,
+        insert_text: insert,
+        snippet: false,
+        replace,
+        sort_text: name.to_string(),
+    }
+}
+
+/// Labels of the top-level `well` blocks of every deck of the analysis.
+pub(crate) fn well_names(snap: &Snapshot) -> Vec<String> {
+    let mut out = Vec::new();
+    for f in &snap.analysis().files {
+        let Some(tree) = &f.tree else { continue };
+        for item in &tree.items {
+            if let Item::Block(b) = item {
+                if b.name.name == "well" {
+                    if let Some(AtomKind::Str { value, .. }) = b.args.first().map(|a| &a.kind) {
+                        if !out.contains(value) {
+                            out.push(value.clone());
+                        }
+                    }
+                }
+            }
+        }
+    }
+    out
+}
+
+/// Block names and keys where a statement starts.
+fn statement_start(snap: &Snapshot, blocks: &[&Block], replace: Span) -> Vec<CompletionItem> {
+    let mut out = Vec::new();
+    let Some(inner) = blocks.last() else {
+        let present: Vec<&str> = snap
+            .tree()
+            .items
+            .iter()
+            .filter_map(|i| match i {
+                Item::Block(b)
+                    if b.name.span.end < replace.start || b.name.span.start > replace.end =>
+                {
+                    Some(b.name.name.as_str())
+                }
+                _ => None,
+            })
+            .collect();
+        for (n, def) in schema::TOP_LEVEL.iter().enumerate() {
+            if !def.repeatable && present.contains(&def.name) {
+                continue;
+            }
+            out.push(CompletionItem {
+                label: def.name.to_string(),
+                kind: CompletionKind::Block,
+                detail: Some("block".into()),
+                documentation: Some(def.doc.to_string()),
+                insert_text: block_snippet(def),
+                snippet: true,
+                replace,
+                sort_text: format!("{n:02}"),
+            });
+        }
+        out.push(CompletionItem {
+            label: "include".into(),
+            kind: CompletionKind::Keyword,
+            detail: Some("directive".into()),
+            documentation: Some("Reads the blocks of another deck, relative to this file.".into()),
+            insert_text: "include \"${1:more-wells.rill}\"$0".into(),
+            snippet: true,
+            replace,
+            sort_text: "99".into(),
+        });
+        return out;
+    };
+    let Some(def) = block_def(blocks) else {
+        return out;
+    };
+    let present: Vec<&str> = inner
+        .items
+        .iter()
+        .filter_map(|i| match i {
+            Item::Statement(s)
+                if !(s.key.span.start <= replace.end && replace.start <= s.key.span.end) =>
+            {
+                Some(s.key.name.as_str())
+            }
+            _ => None,
+        })
+        .collect();
+    for (n, k) in def.keys.iter().enumerate() {
+        if present.contains(&k.name) {
+            continue;
+        }
+        out.push(CompletionItem {
+            label: k.name.to_string(),
+            kind: CompletionKind::Key,
+            detail: Some(format!(
+                "{}{}",
+                if k.required { "required: " } else { "" },
+                value_words(k.kind)
+            )),
+            documentation: Some(k.doc.to_string()),
+            insert_text: format!("{} = ", k.name),
+            snippet: false,
+            replace,
+            sort_text: format!("{}{n:02}", if k.required { 0 } else { 1 }),
+        });
+    }
+    for (n, child) in def.children.iter().enumerate() {
+        let Some(cdef) = schema::child_block(def, child) else {
+            continue;
+        };
+        let insert = match *child {
+            "patch" => "patch i = ${1:1..2} {\n  ${2:kz} = $0\n}".to_string(),
+            "at" => "at ${1:180 day} {\n  $0\n}".to_string(),
+            "well" => "well \"$1\" { control = ${2:bhp 1500 psi} }$0".to_string(),
+            other => format!("{other} {{\n  $0\n}}"),
+        };
+        out.push(CompletionItem {
+            label: child.to_string(),
+            kind: CompletionKind::Block,
+            detail: Some("block".into()),
+            documentation: Some(cdef.doc.to_string()),
+            insert_text: insert,
+            snippet: true,
+            replace,
+            sort_text: format!("2{n:02}"),
+        });
+    }
+    out
+}
+
+/// A skeleton of a block with its required keys as placeholders.
+fn block_snippet(def: &BlockDef) -> String {
+    let mut s = def.name.to_string();
+    let mut n = 1;
+    if def.label == LabelRule::Required || def.name == "case" {
+        s.push_str(&format!(" \"${{{n}:name}}\""));
+        n += 1;
+    }
+    s.push_str(" {\n");
+    let mut any = false;
+    for k in def.keys.iter().filter(|k| k.required || def.name == "case") {
+        s.push_str(&format!(
+            "  {} = ${{{n}:{}}}\n",
+            k.name,
+            example(k).replace('}', "\\}")
+        ));
+        n += 1;
+        any = true;
+    }
+    if def.name == "well" {
+        s.push_str(&format!("  location = ${{{n}:(1, 1)}}\n"));
+    }
+    if !any {
+        s.push_str("  $0\n");
+        s.push('}');
+    } else {
+        s.push_str("}$0");
+    }
+    s
+}
+
+fn example(k: &KeyDef) -> String {
+    match k.kind {
+        ValueKind::Text => "\"title\"".into(),
+        ValueKind::Size => "10 x 10 x 1".into(),
+        ValueKind::Spacing(_) => "100 ft".into(),
+        ValueKind::Top => "5000 ft".into(),
+        ValueKind::PressureAtDepth => "3000 psi at 5000 ft".into(),
+        ValueKind::Choice(c) => c.first().copied().unwrap_or("").into(),
+        ValueKind::Column => "(1, 1)".into(),
+        ValueKind::LayerRange => "1..1".into(),
+        ValueKind::Cells => "[(1, 1, 1)]".into(),
+        ValueKind::Control => "rate 500 stb/day".into(),
+        ValueKind::Number => "0".into(),
+        ValueKind::Quantity(d) | ValueKind::Property(d) => match d {
+            Dim::NONE => "0.2".into(),
+            Dim::PERMEABILITY => "100 md".into(),
+            Dim::VISCOSITY => "1 cP".into(),
+            Dim::FVF => "1.0 rb/stb".into(),
+            Dim::DENSITY => "62.4 lb/ft^3".into(),
+            Dim::LENGTH => "0.3 ft".into(),
+            Dim::TIME => "365 day".into(),
+            Dim::PRESSURE => "3000 psi".into(),
+            Dim::COMPRESSIBILITY => "4e-6 1/psi".into(),
+            other => match rill_units::accepted_units(other).first() {
+                Some(u) => format!("1 {u}"),
+                None => "0".into(),
+            },
+        },
+    }
+}
+
+fn looks_like_number(tok: &str) -> bool {
+    let tok = tok.trim_start_matches('[').trim_start_matches('(');
+    !tok.is_empty() && tok.parse::<f64>().is_ok() && !tok.starts_with(['+', 'i', 'I', 'n', 'N'])
+}
+
+/// After `key =`: enum values, value forms, units after a number, `at`.
+fn value_completion(
+    snap: &Snapshot,
+    def: &BlockDef,
+    kd: &KeyDef,
+    rest: &str,
+    rest_off: usize,
+    off: usize,
+) -> Vec<CompletionItem> {
+    let _ = snap;
+    let is_unit_char = |c: char| {
+        c.is_ascii_alphanumeric()
+            || matches!(c, '_' | '/' | '*' | '^' | '(' | ')' | '%' | '-' | '.')
+    };
+    let word_len = rest
+        .chars()
+        .rev()
+        .take_while(|c| is_unit_char(*c))
+        .map(char::len_utf8)
+        .sum::<usize>();
+    let word = &rest[rest.len() - word_len..];
+    let before = rest[..rest.len() - word_len].trim_end();
+    let replace = Span::new(rest_off + rest.len() - word_len, off);
+    let tokens: Vec<&str> = before.split_whitespace().collect();
+    let mut out = Vec::new();
+    let is_ident_prefix = word.bytes().all(|b| b.is_ascii_alphanumeric() || b == b'_')
+        && !word.starts_with(|c: char| c.is_ascii_digit());
+    if tokens.is_empty() {
+        if !is_ident_prefix {
+            return out;
+        }
+        let names: &[&str] = match kd.kind {
+            ValueKind::Choice(names) => names,
+            ValueKind::Control => schema::CONTROL_MODES,
+            _ => &[],
+        };
+        for (n, name) in names.iter().enumerate() {
+            out.push(item(
+                name,
+                CompletionKind::EnumValue,
+                Some(value_words(kd.kind)),
+                kd.doc,
+                replace,
+                n,
+            ));
+        }
+        let forms: &[(&str, &str)] = match kd.kind {
+            ValueKind::Property(_) => &[
+                ("layers", "layers [${1}]"),
+                ("cells", "cells [${1}]"),
+                ("file", "file \"${1}\""),
+            ],
+            ValueKind::Spacing(schema::Axis::Z) => {
+                &[("cells", "cells [${1}]"), ("file", "file \"${1}\"")]
+            }
+            ValueKind::Top => &[("columns", "columns [${1}]"), ("file", "file \"${1}\"")],
+            ValueKind::PressureAtDepth => &[
+                ("layers", "layers [${1}]"),
+                ("cells", "cells [${1}]"),
+                ("file", "file \"${1}\""),
+            ],
+            _ => &[],
+        };
+        for (n, (label, snippet)) in forms.iter().enumerate() {
+            let mut it = item(
+                label,
+                CompletionKind::Keyword,
+                Some("value form".into()),
+                "",
+                replace,
+                10 + n,
+            );
+            it.insert_text = snippet.to_string();
+            it.snippet = true;
+            it.documentation = None;
+            out.push(it);
+        }
+        if matches!(kd.kind, ValueKind::Property(_)) && (def.name == "rock" || def.name == "patch")
+        {
+            out.extend(references(kd, replace));
+        }
+        return out;
+    }
+    let prev = tokens.last().copied().unwrap_or("");
+    let first = tokens.first().copied().unwrap_or("");
+    let has_at = tokens.contains(&"at");
+    let after_value = looks_like_number(prev)
+        || prev.ends_with(']')
+        || (prev.starts_with('"') && prev.ends_with('"') && prev.len() > 1);
+    let unit_word = word.is_empty()
+        || word.starts_with(|c: char| c.is_ascii_alphabetic() || c == '%' || c == '(')
+        || word.starts_with("1/");
+    if after_value && unit_word {
+        let dim = match kd.kind {
+            ValueKind::Control => match first {
+                "rate" => Some(Dim::SURFACE_RATE),
+                "bhp" => Some(Dim::PRESSURE),
+                _ => None,
+            },
+            ValueKind::PressureAtDepth if has_at => Some(Dim::LENGTH),
+            other => key_dim(other),
+        };
+        // Inside arithmetic (`0.1 * kx`) a bare factor needs no unit.
+        let arithmetic = tokens.iter().any(|t| matches!(*t, "*" | "/" | "+" | "-"));
+        if let (Some(dim), false) = (dim, arithmetic) {
+            for (n, u) in rill_units::accepted_units(dim)
+                .into_iter()
+                .filter(|u| u != "1")
+                .enumerate()
+            {
+                let detail = rill_units::lookup(&u)
+                    .map(|d| d.description.to_string())
+                    .or_else(|| Some(dim.describe().to_string()));
+                out.push(CompletionItem {
+                    label: u.clone(),
+                    kind: CompletionKind::Unit,
+                    detail,
+                    documentation: None,
+                    insert_text: u,
+                    snippet: false,
+                    replace,
+                    sort_text: format!("{n:02}"),
+                });
+            }
+        }
+        return out;
+    }
+    if !is_ident_prefix {
+        return out;
+    }
+    // `3200 psi |` -> `at`.
+    if kd.kind == ValueKind::PressureAtDepth
+        && !has_at
+        && tokens.len() >= 2
+        && looks_like_number(tokens[tokens.len() - 2])
+    {
+        out.push(item(
+            "at",
+            CompletionKind::Keyword,
+            Some("datum depth".into()),
+            "The depth at which the pressure holds.",
+            replace,
+            0,
+        ));
+        return out;
+    }
+    if matches!(prev, "*" | "/" | "+" | "-") && matches!(kd.kind, ValueKind::Property(_)) {
+        out.extend(references(kd, replace));
+    }
+    out
+}
+
+fn item(
+    label: &str,
+    kind: CompletionKind,
+    detail: Option<String>,
+    doc: &str,
+    replace: Span,
+    n: usize,
+) -> CompletionItem {
+    CompletionItem {
+        label: label.to_string(),
+        kind,
+        detail,
+        documentation: (!doc.is_empty()).then(|| doc.to_string()),
+        insert_text: label.to_string(),
+        snippet: false,
+        replace,
+        sort_text: format!("{n:02}"),
+    }
+}
+
+/// Other rock properties, for arithmetic (`kz = 0.1 * kx`).
+fn references(kd: &KeyDef, replace: Span) -> Vec<CompletionItem> {
+    schema::ROCK_KEYS
+        .iter()
+        .filter(|k| k.name != kd.name && matches!(k.kind, ValueKind::Property(_)))
+        .enumerate()
+        .map(|(n, k)| {
+            item(
+                k.name,
+                CompletionKind::Reference,
+                Some("property of this block".into()),
+                k.doc,
+                replace,
+                20 + n,
+            )
+        })
+        .collect()
+}

@@ -1,0 +1,459 @@
+//! `rill-ide` owns the editor questions on a rill case file, answered on
+//! the model: hover text (cell reports, well indices, unit conversions,
+//! schema docs), completion items, document symbols, semantic tokens,
+//! inlay hints, code actions (diagnostic fixes and unit conversions), go to
+//! definition and references, formatting edits, folding ranges and code
+//! lenses.
+//!
+//! Positions are byte offsets into the text of the open document (file 0 of
+//! the analysis); every answer carries byte spans. The language server
+//! (`rill-lsp`) converts positions and maps these types to the protocol.
+//!
+//! It must never depend on protocol types, never do I/O (included decks and
+//! array files come through `rill_model::Source`, once, in
+//! [`Snapshot::new`]), never panic on any input (an offset inside a
+//! multi-byte character or past the end is moved to a character boundary),
+//! and keep no global state. Heavy work happens once per document version
+//! in [`Snapshot::new`]; queries look things up by binary search on the
+//! syntax tree, so that hover stays fast on million-cell decks.
+
+mod actions;
+mod complete;
+mod hints;
+mod hover;
+mod locate;
+mod nav;
+mod outline;
+mod present;
+mod tokens;
+
+use rill_model::{Analysis, Diagnostic, Source};
+use rill_syntax::{AtomKind, Item, SourceFile};
+use std::collections::HashMap;
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+
+pub use rill_syntax::Span;
+
+/// Editor settings that change answers.
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
+pub struct Config {
+    /// Show inlay hints at all.
+    pub inlay_hints: bool,
+    /// The unit system of conversion hints; `None`: the other system than
+    /// the one written (field for metric and SI units, metric for field
+    /// units), or SI when that is written the same (`md`).
+    pub hint_system: Option<rill_units::System>,
+}
+
+/// Markdown shown on hover, and the span it describes.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Hover {
+    pub range: Span,
+    pub markdown: String,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum CompletionKind {
+    /// A block name (`grid`, `well`, `patch`).
+    Block,
+    /// A key of the block at the cursor.
+    Key,
+    /// A unit expression.
+    Unit,
+    /// One of the names a key takes (`producer`, `east`, `rate`).
+    EnumValue,
+    /// A well name (in an event).
+    Well,
+    /// A value form or connective (`layers`, `cells`, `file`, `at`, `include`).
+    Keyword,
+    /// Another property of the same block, for arithmetic (`0.1 * kx`).
+    Reference,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct CompletionItem {
+    pub label: String,
+    pub kind: CompletionKind,
+    pub detail: Option<String>,
+    pub documentation: Option<String>,
+    /// Text that replaces `replace`. When `snippet` is true it uses the
+    /// snippet syntax `${1:placeholder}`, `$0`.
+    pub insert_text: String,
+    pub snippet: bool,
+    /// The text the item replaces (the word typed so far; empty at the cursor).
+    pub replace: Span,
+    /// Orders the items (common units and required keys first).
+    pub sort_text: String,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum SymbolKind {
+    /// `case` metadata.
+    Case,
+    Grid,
+    Rock,
+    /// A `patch` inside `rock`.
+    Patch,
+    Fluid,
+    Initial,
+    Well,
+    Boundary,
+    Timeline,
+    /// An `at` event inside `timeline`.
+    Event,
+    /// A well change inside an event.
+    WellChange,
+    Report,
+    /// An `include` directive.
+    Include,
+    /// A block the schema does not know.
+    Unknown,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Symbol {
+    pub name: String,
+    pub detail: Option<String>,
+    pub kind: SymbolKind,
+    /// The whole block.
+    pub range: Span,
+    /// The part to select: the label, or the block name.
+    pub selection: Span,
+    pub children: Vec<Symbol>,
+}
+
+/// A place in some file of the analysis.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Target {
+    pub file: PathBuf,
+    pub span: Span,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum TokenKind {
+    Block,
+    Key,
+    Unit,
+    Number,
+    /// A label string (`well "LE-1"`).
+    Name,
+    String,
+    Comment,
+    EnumValue,
+    Operator,
+    /// `at`, `layers`, `cells`, `file`, `columns`, `include`.
+    Keyword,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct SemanticToken {
+    pub span: Span,
+    pub kind: TokenKind,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum InlayHintKind {
+    /// A quantity in another unit system (`≈ 220.6 bar`).
+    Conversion,
+    /// The number of cells of a grid size (`= 2400 cells`).
+    Count,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct InlayHint {
+    /// Byte offset the hint stands after.
+    pub offset: usize,
+    /// The hint text, without padding: the server adds a space before it.
+    pub label: String,
+    pub kind: InlayHintKind,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum CodeActionKind {
+    QuickFix,
+    Refactor,
+}
+
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct TextEdit {
+    pub span: Span,
+    pub new_text: String,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct CodeAction {
+    pub title: String,
+    pub kind: CodeActionKind,
+    /// Edits of the open document, not overlapping.
+    pub edits: Vec<TextEdit>,
+    /// Index into [`Snapshot::diagnostics`] of the diagnostic this fixes.
+    pub diagnostic: Option<usize>,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct CodeLens {
+    pub span: Span,
+    pub title: String,
+    /// The command to run (`rill.run`); `None` for a lens that only informs
+    /// (the case has errors and cannot run).
+    pub command: Option<String>,
+}
+
+/// Values of an array file used by a `file "..."` property: what hover shows.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct ArrayStats {
+    pub count: usize,
+    pub min: f64,
+    pub mean: f64,
+    pub max: f64,
+}
+
+/// One version of an open document with its analysis. Built once per
+/// version; every query borrows it and never re-runs the analysis.
+#[derive(Debug, Clone)]
+pub struct Snapshot {
+    path: PathBuf,
+    text: Arc<str>,
+    analysis: Analysis,
+    tree: Arc<SourceFile>,
+    /// Array files named by `file "..."` in any deck of the analysis, by
+    /// (file index, span of the string atom), in the values' own unit.
+    arrays: HashMap<(usize, Span), Result<ArrayStats, String>>,
+}
+
+impl Snapshot {
+    /// Analyses `text`, the document at `path`, reading includes and array
+    /// files through `source` (the only reads, all done here).
+    pub fn new(path: &Path, text: &str, source: &dyn Source) -> Snapshot {
+        let analysis = rill_model::analyze_text(path, text, source);
+        // The analysis parses the text it was given; keep its tree (file 0).
+        let tree = analysis
+            .files
+            .first()
+            .and_then(|f| f.tree.clone())
+            .unwrap_or_else(|| Arc::new(rill_syntax::parse(text)));
+        let text: Arc<str> = analysis
+            .files
+            .first()
+            .map(|f| f.text.clone())
+            .unwrap_or_else(|| text.into());
+        let arrays = read_arrays(&analysis, source);
+        Snapshot {
+            path: path.to_path_buf(),
+            text,
+            analysis,
+            tree,
+            arrays,
+        }
+    }
+
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+
+    pub fn text(&self) -> &str {
+        &self.text
+    }
+
+    pub fn analysis(&self) -> &Analysis {
+        &self.analysis
+    }
+
+    /// The syntax tree of the open document.
+    pub fn tree(&self) -> &SourceFile {
+        &self.tree
+    }
+
+    /// Every diagnostic of the analysis, in all files (`location.file`
+    /// indexes `analysis().files`); sorted by file, then position.
+    pub fn diagnostics(&self) -> &[Diagnostic] {
+        &self.analysis.diagnostics
+    }
+
+    /// What is under the cursor: a cell, a well, a quantity, a unit, a key or a block.
+    pub fn hover(&self, offset: usize) -> Option<Hover> {
+        hover::hover(self, offset)
+    }
+
+    /// Completion items at the cursor; works on incomplete text.
+    pub fn completion(&self, offset: usize) -> Vec<CompletionItem> {
+        complete::completion(self, offset)
+    }
+
+    /// The outline of the open document.
+    pub fn symbols(&self) -> Vec<Symbol> {
+        outline::symbols(self)
+    }
+
+    /// Where the name under the cursor is defined: a well name in an event
+    /// goes to its well block, an include path to the included file (span
+    /// `0..0`), a property reference (`ky = kx`) to the key it names.
+    pub fn definition(&self, offset: usize) -> Option<Target> {
+        nav::definition(self, offset)
+    }
+
+    /// For a well name (its block label or its name in an event): every
+    /// place in the open document that names the well.
+    pub fn references(&self, offset: usize) -> Vec<Span> {
+        nav::references(self, offset)
+    }
+
+    /// Semantic tokens of the whole document, sorted and non-overlapping.
+    pub fn semantic_tokens(&self) -> Vec<SemanticToken> {
+        tokens::semantic_tokens(self, Span::new(0, self.text.len()))
+    }
+
+    /// Semantic tokens overlapping `range` (for a visible range of a large deck).
+    pub fn semantic_tokens_in(&self, range: Span) -> Vec<SemanticToken> {
+        tokens::semantic_tokens(self, range)
+    }
+
+    /// Inlay hints inside `range`; none unless `config.inlay_hints`.
+    pub fn inlay_hints(&self, range: Span, config: &Config) -> Vec<InlayHint> {
+        hints::inlay_hints(self, range, config)
+    }
+
+    /// Fixes of the diagnostics overlapping `range`, and refactors of the
+    /// quantity at `range.start`.
+    pub fn code_actions(&self, range: Span) -> Vec<CodeAction> {
+        actions::code_actions(self, range)
+    }
+
+    /// Edits that turn the document into its canonical layout
+    /// (`rill_syntax::format`); `None` when it has syntax errors, an empty
+    /// list when it is already formatted.
+    pub fn format(&self) -> Option<Vec<TextEdit>> {
+        if !self.tree.errors.is_empty() {
+            return None;
+        }
+        let formatted = rill_syntax::format(&self.tree, &self.text);
+        Some(minimal_edit(&self.text, &formatted).into_iter().collect())
+    }
+
+    /// Foldable spans: blocks, lists over several lines, runs of comment lines.
+    pub fn folding_ranges(&self) -> Vec<Span> {
+        outline::folding_ranges(self)
+    }
+
+    /// "Run case" above the first block when the document is a case.
+    pub fn code_lenses(&self) -> Vec<CodeLens> {
+        outline::code_lenses(self)
+    }
+
+    /// The byte offset moved into the text and onto a character boundary (backwards).
+    pub(crate) fn clamp(&self, offset: usize) -> usize {
+        floor_boundary(&self.text, offset)
+    }
+}
+
+/// `offset` moved into `text` and back onto a character boundary.
+pub(crate) fn floor_boundary(text: &str, offset: usize) -> usize {
+    let mut o = offset.min(text.len());
+    while o > 0 && !text.is_char_boundary(o) {
+        o -= 1;
+    }
+    o
+}
+
+/// One edit turning `old` into `new`: the changed middle between the common
+/// prefix and suffix (on character boundaries). `None` when equal.
+pub(crate) fn minimal_edit(old: &str, new: &str) -> Option<TextEdit> {
+    if old == new {
+        return None;
+    }
+    let mut prefix = old
+        .bytes()
+        .zip(new.bytes())
+        .take_while(|(a, b)| a == b)
+        .count();
+    while prefix > 0 && !(old.is_char_boundary(prefix) && new.is_char_boundary(prefix)) {
+        prefix -= 1;
+    }
+    let max_suffix = (old.len() - prefix).min(new.len() - prefix);
+    let mut suffix = old
+        .bytes()
+        .rev()
+        .zip(new.bytes().rev())
+        .take(max_suffix)
+        .take_while(|(a, b)| a == b)
+        .count();
+    while suffix > 0
+        && !(old.is_char_boundary(old.len() - suffix) && new.is_char_boundary(new.len() - suffix))
+    {
+        suffix -= 1;
+    }
+    Some(TextEdit {
+        span: Span::new(prefix, old.len() - suffix),
+        new_text: new[prefix..new.len() - suffix].to_string(),
+    })
+}
+
+/// Reads (through `source`, once) every array file named by a `file "..."`
+/// value in the decks of the analysis, for hover statistics.
+fn read_arrays(
+    analysis: &Analysis,
+    source: &dyn Source,
+) -> HashMap<(usize, Span), Result<ArrayStats, String>> {
+    let mut out = HashMap::new();
+    let mut cache: HashMap<PathBuf, Result<ArrayStats, String>> = HashMap::new();
+    for (index, file) in analysis.files.iter().enumerate() {
+        let Some(tree) = &file.tree else { continue };
+        let mut found = Vec::new();
+        collect_file_refs(&tree.items, &mut found);
+        for (span, name) in found {
+            let path = rill_model::source::resolve(&file.path, &name);
+            let stats = cache
+                .entry(path.clone())
+                .or_insert_with(|| match source.read(&path) {
+                    Ok(bytes) => {
+                        let (values, bad) = rill_model::arrays::parse_numbers(&bytes);
+                        if !bad.is_empty() {
+                            Err(format!("{} malformed value(s)", bad.len()))
+                        } else if values.is_empty() {
+                            Err("no values".to_string())
+                        } else {
+                            let (mut min, mut max, mut sum) =
+                                (f64::INFINITY, f64::NEG_INFINITY, 0.0);
+                            for v in &values {
+                                min = min.min(*v);
+                                max = max.max(*v);
+                                sum += v;
+                            }
+                            Ok(ArrayStats {
+                                count: values.len(),
+                                min,
+                                mean: sum / values.len() as f64,
+                                max,
+                            })
+                        }
+                    }
+                    Err(e) => Err(e.to_string()),
+                })
+                .clone();
+            out.insert((index, span), stats);
+        }
+    }
+    out
+}
+
+/// `(span of the string atom, file name)` of every `key = file "..."`.
+fn collect_file_refs(items: &[Item], out: &mut Vec<(Span, String)>) {
+    for item in items {
+        match item {
+            Item::Block(b) => collect_file_refs(&b.items, out),
+            Item::Statement(s) => {
+                if let [first, second, ..] = s.value.atoms.as_slice() {
+                    if let (AtomKind::Ident(word), AtomKind::Str { value, .. }) =
+                        (&first.kind, &second.kind)
+                    {
+                        if word == "file" {
+                            out.push((second.span, value.clone()));
+                        }
+                    }
+                }
+            }
+            Item::Directive(_) => {}
+        }
+    }
+}

@@ -1,0 +1,273 @@
+//! Rendering model numbers for the editor: cell reports, wells and
+//! quantities in the report system and in SI, with the number format of
+//! `rill inspect` (`rill_units::format_number`), so that hover and the
+//! command line show the same digits.
+
+use rill_model::inspect::{cell_report, CellReport};
+use rill_model::{derived, Case, Control, Role};
+use rill_units::{display_unit, format_number, Dim, Kind, System};
+
+/// The display kind of a dimension; `perm` picks permeability over area.
+pub(crate) fn kind_of(dim: Dim, perm: bool) -> Option<Kind> {
+    if dim == Dim::AREA {
+        return Some(if perm { Kind::Permeability } else { Kind::Area });
+    }
+    Kind::ALL.into_iter().find(|k| k.dim() == dim)
+}
+
+/// Whether a unit expression is a permeability unit rather than an area.
+pub(crate) fn is_perm_unit(text: &str) -> bool {
+    text.contains("md") || text.contains("mD") || text.contains("darcy")
+}
+
+/// The system whose display unit of `kind` is written `unit`, if any.
+pub(crate) fn system_of(unit: &str, kind: Kind) -> Option<System> {
+    System::ALL
+        .into_iter()
+        .find(|s| display_unit(kind, *s).name == unit)
+}
+
+pub(crate) fn role_name(r: Role) -> &'static str {
+    match r {
+        Role::Producer => "producer",
+        Role::Injector => "injector",
+    }
+}
+
+/// `si` in the display unit of `kind` under `system`, e.g. `"1250.3 psi"`.
+pub(crate) fn show(si: f64, kind: Kind, system: System) -> String {
+    rill_units::format_si(si, kind, system)
+}
+
+fn num(si: f64, kind: Kind, system: System) -> String {
+    format_number(display_unit(kind, system).from_si(si))
+}
+
+/// The report system of a case, and the second system shown beside it (SI
+/// unless the report is in SI already).
+fn systems(case: &Case) -> (System, Option<System>) {
+    let sys = case.report.units;
+    (sys, (sys != System::Si).then_some(System::Si))
+}
+
+/// Markdown for the cell `(i, j, k)` (0-based) with a heading line; `None`
+/// outside the grid.
+pub(crate) fn cell_markdown(
+    case: &Case,
+    i: usize,
+    j: usize,
+    k: usize,
+    heading: &str,
+) -> Option<String> {
+    let r = cell_report(case, i, j, k)?;
+    Some(render_cell(case, &r, heading))
+}
+
+fn render_cell(case: &Case, r: &CellReport, heading: &str) -> String {
+    let (sys, second) = systems(case);
+    let len = display_unit(Kind::Length, sys).name;
+    let perm = display_unit(Kind::Permeability, sys).name;
+    let mut s = String::new();
+    s.push_str(&format!("**cell ({}, {}, {})**", r.i, r.j, r.k));
+    if !r.active {
+        s.push_str(" — inactive (porosity 0)");
+    }
+    if !heading.is_empty() {
+        s.push_str(" — ");
+        s.push_str(heading);
+    }
+    s.push_str("\n\n");
+    s.push_str("| property | value |\n|---|---|\n");
+    s.push_str(&format!(
+        "| size | {} x {} x {} {len} |\n",
+        num(r.size.0, Kind::Length, sys),
+        num(r.size.1, Kind::Length, sys),
+        num(r.size.2, Kind::Length, sys)
+    ));
+    s.push_str(&format!(
+        "| depth (centre) | {} {len} |\n",
+        num(r.depth, Kind::Length, sys)
+    ));
+    s.push_str(&format!("| porosity | {} |\n", format_number(r.porosity)));
+    s.push_str(&format!(
+        "| kx, ky, kz | {}, {}, {} {perm} |\n",
+        num(r.kx, Kind::Permeability, sys),
+        num(r.ky, Kind::Permeability, sys),
+        num(r.kz, Kind::Permeability, sys)
+    ));
+    s.push_str(&format!(
+        "| pore volume | {} |\n",
+        show(r.pore_volume, Kind::ReservoirVolume, sys)
+    ));
+    s.push('\n');
+    let t_unit = display_unit(Kind::Transmissibility, sys).name;
+    match second {
+        Some(si) => {
+            let t_si = display_unit(Kind::Transmissibility, si).name;
+            s.push_str(&format!(
+                "| face | neighbour | k_face [{perm}] | T [{t_unit}] | T [{t_si}] |\n|---|---|---:|---:|---:|\n"
+            ));
+        }
+        None => s.push_str(&format!(
+            "| face | neighbour | k_face [{perm}] | T [{t_unit}] |\n|---|---|---:|---:|\n"
+        )),
+    }
+    for f in &r.faces {
+        let neighbour = match (&f.neighbor, &f.boundary) {
+            (Some((i, j, k)), _) => format!("({i}, {j}, {k})"),
+            (None, Some(b)) => format!("boundary \"{}\"", escape_md(b)),
+            _ => "closed".to_string(),
+        };
+        s.push_str(&format!(
+            "| {} | {} | {} | {} |",
+            f.side.name(),
+            neighbour,
+            num(f.perm_face, Kind::Permeability, sys),
+            num(f.trans, Kind::Transmissibility, sys)
+        ));
+        if let Some(si) = second {
+            s.push_str(&format!(" {} |", num(f.trans, Kind::Transmissibility, si)));
+        }
+        s.push('\n');
+    }
+    for w in &r.wells {
+        s.push_str(&format!(
+            "\nwell \"{}\" ({}): r_eq {}, well index {}, productivity {}\n",
+            escape_md(&w.name),
+            role_name(w.role),
+            show(w.r_eq, Kind::Length, sys),
+            show(w.well_index, Kind::WellIndex, sys),
+            show(w.productivity, Kind::Productivity, sys)
+        ));
+    }
+    s
+}
+
+/// Markdown for the well named `name`: control, Peaceman radius, well index
+/// and productivity per completion.
+pub(crate) fn well_markdown(case: &Case, name: &str) -> Option<String> {
+    let w = case.wells.iter().find(|w| w.name == name)?;
+    let (sys, _) = systems(case);
+    let mut s = format!(
+        "**well \"{}\"** — {}\n\n",
+        escape_md(&w.name),
+        role_name(w.role)
+    );
+    let control = match w.control {
+        Control::Rate(q) => format!("rate {}", show(q, Kind::SurfaceRate, sys)),
+        Control::Bhp(p) => format!("bhp {}", show(p, Kind::Pressure, sys)),
+    };
+    s.push_str(&format!(
+        "radius {}, skin {}, control {}",
+        show(w.radius, Kind::Length, sys),
+        format_number(w.skin),
+        control
+    ));
+    if let Some(l) = w.bhp_limit {
+        s.push_str(&format!(", BHP limit {}", show(l, Kind::Pressure, sys)));
+    }
+    s.push_str("\n\n");
+    let len = display_unit(Kind::Length, sys).name;
+    let wi = display_unit(Kind::WellIndex, sys).name;
+    let pi = display_unit(Kind::Productivity, sys).name;
+    s.push_str(&format!(
+        "| completion | r_eq [{len}] | well index [{wi}] | productivity [{pi}] |\n|---|---:|---:|---:|\n"
+    ));
+    let mut total = 0.0;
+    for c in &w.completions {
+        if c.cell >= case.grid.cell_count() {
+            continue;
+        }
+        let index = derived::well_index(&case.grid, &case.rock, c, w.radius, w.skin);
+        let prod = derived::fluid_trans(case, index.geometric);
+        total += prod;
+        s.push_str(&format!(
+            "| ({}, {}, {}) | {} | {} | {} |\n",
+            c.i + 1,
+            c.j + 1,
+            c.k + 1,
+            num(index.r_eq, Kind::Length, sys),
+            num(index.geometric, Kind::WellIndex, sys),
+            num(prod, Kind::Productivity, sys)
+        ));
+    }
+    if w.completions.len() > 1 {
+        s.push_str(&format!(
+            "\ntotal productivity {}\n",
+            show(total, Kind::Productivity, sys)
+        ));
+    }
+    Some(s)
+}
+
+/// Escape the characters that break a markdown table cell or emphasis.
+pub(crate) fn escape_md(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        if matches!(c, '|' | '*' | '_' | '`' | '\\' | '[' | ']' | '<' | '>') {
+            out.push('\\');
+        }
+        out.push(c);
+    }
+    out
+}
+
+/// Superscript exponents for display (`m^2` -> `m²`).
+pub(crate) fn pretty_unit(unit: &str) -> String {
+    let mut out = String::with_capacity(unit.len());
+    let mut chars = unit.chars().peekable();
+    while let Some(c) = chars.next() {
+        if c != '^' {
+            out.push(c);
+            continue;
+        }
+        while let Some(&d) = chars.peek() {
+            let sup = match d {
+                '-' => '⁻',
+                '+' => '⁺',
+                '0' => '⁰',
+                '1' => '¹',
+                '2' => '²',
+                '3' => '³',
+                '4' => '⁴',
+                '5' => '⁵',
+                '6' => '⁶',
+                '7' => '⁷',
+                '8' => '⁸',
+                '9' => '⁹',
+                _ => break,
+            };
+            out.push(sup);
+            chars.next();
+        }
+    }
+    out
+}
+
+/// A short number: four significant digits, no trailing zeros, exponent
+/// form outside 1e-3..1e6 (for inlay hints).
+pub(crate) fn short(v: f64) -> String {
+    if !v.is_finite() {
+        return format!("{v}");
+    }
+    if v == 0.0 {
+        return "0".into();
+    }
+    let sci = format!("{v:.3e}");
+    let rounded: f64 = sci.parse().unwrap_or(v);
+    let a = rounded.abs();
+    let trim = |s: &str| -> String {
+        if s.contains('.') {
+            s.trim_end_matches('0').trim_end_matches('.').to_string()
+        } else {
+            s.to_string()
+        }
+    };
+    if !(1e-3..1e6).contains(&a) {
+        let (mant, exp) = sci.split_once('e').unwrap_or((&sci, "0"));
+        return format!("{}e{exp}", trim(mant));
+    }
+    let mag = a.log10().floor() as i32;
+    let decimals = (3 - mag).max(0) as usize;
+    trim(&format!("{rounded:.decimals$}"))
+}
