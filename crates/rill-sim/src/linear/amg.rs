@@ -98,6 +98,9 @@ impl Default for AmgOptions {
 }
 
 struct Level {
+    n: usize,
+    /// The operator of this level; empty on level 0, whose matrix the caller
+    /// passes to each cycle (no copy of the fine matrix is kept).
     a: CsrMatrix,
     /// 1 / a_ii (Gauss-Seidel) or 1 / sum_j |a_ij| (l1-Jacobi).
     inv_diag: Vec<f64>,
@@ -122,6 +125,7 @@ struct Work {
 /// A smoothed-aggregation hierarchy; also the V-cycle preconditioner.
 pub struct AmgHierarchy {
     levels: Vec<Level>,
+    nnz: Vec<usize>,
     coarse: DirectFactor,
     smoother: Smoother,
     sweeps: usize,
@@ -137,57 +141,114 @@ pub struct LevelInfo {
 
 impl AmgHierarchy {
     /// Builds the hierarchy for `a`. Errors: a zero diagonal or a singular
-    /// coarsest operator (`LinearError::Singular`).
+    /// coarsest operator (`LinearError::Singular`). The fine matrix itself is
+    /// not copied: it is passed again to [`AmgHierarchy::vcycle`].
     pub fn build(a: &CsrMatrix, opts: &AmgOptions) -> Result<Self, LinearError> {
-        let symmetric = a.is_symmetric(1e-12);
+        Self::build_with_symmetry(a, opts, a.is_symmetric(1e-12))
+    }
+
+    /// As [`AmgHierarchy::build`], with the symmetry of `a` known by the
+    /// caller (it selects Cholesky or LU for the coarsest level).
+    pub fn build_with_symmetry(a: &CsrMatrix, opts: &AmgOptions, symmetric: bool) -> Result<Self, LinearError> {
+        let trace = std::env::var_os("RILL_AMG_TRACE").is_some();
+        let t_start = std::time::Instant::now();
+        let lap = |what: &str, l: usize, t: &mut std::time::Instant| {
+            if trace {
+                eprintln!("amg setup level {l}: {what} {:.3}s", t.elapsed().as_secs_f64());
+            }
+            *t = std::time::Instant::now();
+        };
         let mut levels: Vec<Level> = Vec::new();
-        let mut cur = a.clone();
+        let mut owned: Option<CsrMatrix> = None;
         loop {
-            let inv_d = super::inverse_diagonal(&cur)?;
+            let cur: &CsrMatrix = owned.as_ref().unwrap_or(a);
+            let l = levels.len();
+            let mut t = std::time::Instant::now();
+            let inv_d = super::inverse_diagonal(cur)?;
             let last = cur.n <= opts.max_coarse.max(1) || levels.len() + 1 >= opts.max_levels.max(1);
             let rho = if !last || matches!(opts.smoother, Smoother::Chebyshev { .. }) {
-                spectral_radius_dinv_a(&cur, &inv_d, opts.power_iterations)
+                spectral_radius_dinv_a(cur, &inv_d, opts.power_iterations)
             } else {
                 0.0
             };
+            lap(&format!("n {} nnz {} rho(D^-1 A) {rho:.4}", cur.n, cur.nnz()), l, &mut t);
             let mut next = None;
             if !last {
-                let strong = strength(&cur, opts.strength_threshold);
+                let strong = strength(cur, opts.strength_threshold);
                 let (agg, nagg) = aggregate(cur.n, &strong.0, &strong.1);
+                lap(&format!("strength + aggregation ({nagg} aggregates)"), l, &mut t);
                 // Stop when coarsening stalls (or nothing aggregates).
                 if nagg > 0 && (nagg as f64) < 0.9 * cur.n as f64 {
                     let omega = opts.prolongator_omega / rho.max(f64::MIN_POSITIVE);
-                    let p = smoothed_prolongator(&cur, &inv_d, &agg, nagg, omega);
+                    let p = smoothed_prolongator(cur, &inv_d, &agg, nagg, omega);
                     let r = p.transpose();
-                    let ap = spgemm(&SpMat::from_square(&cur), &p);
-                    let ac = spgemm(&r, &ap).into_square();
+                    lap(&format!("prolongator (nnz {})", p.nnz()), l, &mut t);
+                    let ap = spgemm(cur.into(), p.view());
+                    lap(&format!("A P (nnz {})", ap.nnz()), l, &mut t);
+                    let ac = spgemm(r.view(), ap.view()).into_square();
+                    lap(&format!("P^T (A P) (nnz {})", ac.nnz()), l, &mut t);
                     next = Some((p, r, ac));
                 }
             }
             let smoother_inv = match opts.smoother {
-                Smoother::L1Jacobi => l1_inverse_diagonal(&cur),
+                Smoother::L1Jacobi => l1_inverse_diagonal(cur),
                 _ => inv_d,
             };
             let nb = opts.smoother_blocks.max(1).min(cur.n.max(1) / 512 + 1);
             let blocks = (0..=nb).map(|b| b * cur.n / nb).collect();
+            let n = cur.n;
+            let stored = |m: Option<CsrMatrix>| m.unwrap_or_else(|| CsrMatrix::zeros(0));
             match next {
                 Some((p, r, ac)) => {
-                    levels.push(Level { a: cur, inv_diag: smoother_inv, blocks, rho, p: Some(p), r: Some(r) });
-                    cur = ac;
+                    let a_l = stored(owned.take());
+                    levels.push(Level { n, a: a_l, inv_diag: smoother_inv, blocks, rho, p: Some(p), r: Some(r) });
+                    owned = Some(ac);
                 }
                 None => {
-                    levels.push(Level { a: cur, inv_diag: smoother_inv, blocks, rho, p: None, r: None });
+                    let a_l = stored(owned.take());
+                    levels.push(Level { n, a: a_l, inv_diag: smoother_inv, blocks, rho, p: None, r: None });
                     break;
                 }
             }
         }
-        let coarsest = &levels.last().unwrap().a;
+        let mut t = std::time::Instant::now();
+        let coarsest_l = levels.len() - 1;
+        let coarsest = if coarsest_l == 0 { a } else { &levels[coarsest_l].a };
         let coarse = factor_coarse(coarsest, symmetric)?;
+        lap("coarse factorization", coarsest_l, &mut t);
+        if trace {
+            eprintln!("amg setup total {:.3}s", t_start.elapsed().as_secs_f64());
+        }
         let work = levels
             .iter()
-            .map(|l| Work { b: vec![0.0; l.a.n], x: vec![0.0; l.a.n], r: vec![0.0; l.a.n], tmp: vec![0.0; l.a.n] })
+            .map(|l| Work { b: vec![0.0; l.n], x: vec![0.0; l.n], r: vec![0.0; l.n], tmp: vec![0.0; l.n] })
             .collect();
-        Ok(AmgHierarchy { levels, coarse, smoother: opts.smoother, sweeps: opts.sweeps.max(1), work: Mutex::new(work) })
+        let nnz: Vec<usize> =
+            levels.iter().enumerate().map(|(i, l)| if i == 0 { a.nnz() } else { l.a.nnz() }).collect();
+        Ok(AmgHierarchy {
+            levels,
+            nnz,
+            coarse,
+            smoother: opts.smoother,
+            sweeps: opts.sweeps.max(1),
+            work: Mutex::new(work),
+        })
+    }
+
+    /// Adopts a new fine matrix with the same pattern as the one the
+    /// hierarchy was built for: the fine-level smoother is updated, the
+    /// coarse levels are kept (the reuse of [`super::Solver`]).
+    pub fn refresh_fine(&mut self, a: &CsrMatrix) -> Result<(), LinearError> {
+        if a.n != self.levels[0].n {
+            return Err(LinearError::Dimension {
+                detail: format!("hierarchy built for n = {}, matrix has n = {}", self.levels[0].n, a.n),
+            });
+        }
+        self.levels[0].inv_diag = match self.smoother {
+            Smoother::L1Jacobi => l1_inverse_diagonal(a),
+            _ => super::inverse_diagonal(a)?,
+        };
+        Ok(())
     }
 
     /// Number of levels, the fine one included.
@@ -197,26 +258,37 @@ impl AmgHierarchy {
 
     /// sum over levels of nnz(A_l) / nnz(A_0).
     pub fn operator_complexity(&self) -> f64 {
-        let total: usize = self.levels.iter().map(|l| l.a.nnz()).sum();
-        total as f64 / self.levels[0].a.nnz().max(1) as f64
+        let total: usize = self.nnz.iter().sum();
+        total as f64 / self.nnz[0].max(1) as f64
     }
 
     /// Unknowns and stored entries per level.
     pub fn level_info(&self) -> Vec<LevelInfo> {
-        self.levels.iter().map(|l| LevelInfo { n: l.a.n, nnz: l.a.nnz() }).collect()
+        self.levels.iter().zip(&self.nnz).map(|(l, &nnz)| LevelInfo { n: l.n, nnz }).collect()
     }
 
-    /// z = one V-cycle applied to r (zero initial guess).
-    pub fn vcycle(&self, r: &[f64], z: &mut [f64]) {
+    /// z = one V-cycle for the fine matrix `a` applied to r (zero initial
+    /// guess). `a` is the matrix given to `build` (or `refresh_fine`).
+    ///
+    /// # Panics
+    /// If the lengths do not match the hierarchy.
+    pub fn vcycle(&self, a: &CsrMatrix, r: &[f64], z: &mut [f64]) {
+        assert_eq!(a.n, self.levels[0].n, "vcycle: matrix size differs from the hierarchy's");
         let mut work = self.work.lock().unwrap_or_else(|e| e.into_inner());
         let w = &mut work[..];
         w[0].b.copy_from_slice(r);
-        self.cycle(0, w);
+        self.cycle(0, a, w);
         z.copy_from_slice(&w[0].x);
     }
 
-    fn cycle(&self, l: usize, work: &mut [Work]) {
+    /// The hierarchy as a preconditioner for `a`.
+    pub(crate) fn preconditioner<'s>(&'s self, a: &'s CsrMatrix) -> AmgPreconditioner<'s> {
+        AmgPreconditioner { h: self, a }
+    }
+
+    fn cycle(&self, l: usize, a0: &CsrMatrix, work: &mut [Work]) {
         let lev = &self.levels[l];
+        let a_l = if l == 0 { a0 } else { &lev.a };
         let (Some(p), Some(r)) = (lev.p.as_ref(), lev.r.as_ref()) else {
             let w = &mut work[l];
             w.x.copy_from_slice(&w.b);
@@ -227,43 +299,59 @@ impl AmgHierarchy {
             let Work { b, x, r: res, tmp } = &mut work[l];
             x.iter_mut().for_each(|v| *v = 0.0);
             for s in 0..self.sweeps {
-                self.smooth(lev, b, x, tmp, res, true, s == 0);
+                self.smooth(lev, a_l, b, x, tmp, res, true, s == 0);
             }
-            lev.a.residual_into(b, x, res);
+            a_l.residual_into(b, x, res);
         }
         {
             let (here, below) = work.split_at_mut(l + 1);
             r.mul_vec_into(&here[l].r, &mut below[0].b);
         }
-        self.cycle(l + 1, work);
+        self.cycle(l + 1, a0, work);
         let (here, below) = work.split_at_mut(l + 1);
         let Work { b, x, r: res, tmp } = &mut here[l];
         p.mul_vec_add(&below[0].x, x);
         for _ in 0..self.sweeps {
-            self.smooth(lev, b, x, tmp, res, false, false);
+            self.smooth(lev, a_l, b, x, tmp, res, false, false);
         }
     }
 
     #[allow(clippy::too_many_arguments)]
-    fn smooth(&self, lev: &Level, b: &[f64], x: &mut [f64], tmp: &mut [f64], r: &mut [f64], forward: bool, x_is_zero: bool) {
+    fn smooth(
+        &self,
+        lev: &Level,
+        a: &CsrMatrix,
+        b: &[f64],
+        x: &mut [f64],
+        tmp: &mut [f64],
+        r: &mut [f64],
+        forward: bool,
+        x_is_zero: bool,
+    ) {
         match self.smoother {
-            Smoother::HybridGaussSeidel => hybrid_gs(lev, b, x, tmp, forward, x_is_zero),
+            Smoother::HybridGaussSeidel => hybrid_gs(lev, a, b, x, tmp, forward, x_is_zero),
             Smoother::L1Jacobi => {
-                lev.a.residual_into(b, x, r);
+                a.residual_into(b, x, r);
                 x.par_iter_mut()
                     .with_min_len(4096)
                     .zip(r.par_iter())
                     .zip(lev.inv_diag.par_iter())
                     .for_each(|((xi, ri), di)| *xi += ri * di);
             }
-            Smoother::Chebyshev { degree } => chebyshev(lev, b, x, tmp, r, degree.max(1)),
+            Smoother::Chebyshev { degree } => chebyshev(lev, a, b, x, tmp, r, degree.max(1)),
         }
     }
 }
 
-impl Preconditioner for AmgHierarchy {
+/// An [`AmgHierarchy`] together with the fine matrix it is applied to.
+pub(crate) struct AmgPreconditioner<'s> {
+    h: &'s AmgHierarchy,
+    a: &'s CsrMatrix,
+}
+
+impl Preconditioner for AmgPreconditioner<'_> {
     fn apply(&self, r: &[f64], z: &mut [f64]) {
-        self.vcycle(r, z)
+        self.h.vcycle(self.a, r, z)
     }
 }
 
@@ -295,29 +383,19 @@ fn factor_coarse(a: &CsrMatrix, symmetric: bool) -> Result<DirectFactor, LinearE
     Ok(f)
 }
 
-/// Strong-connection graph (CSR pattern without the diagonal).
+/// Strong-connection graph (CSR pattern without the diagonal), built in
+/// row blocks without per-row allocation.
 fn strength(a: &CsrMatrix, theta: f64) -> (Vec<usize>, Vec<usize>) {
-    let d = a.diagonal();
-    let rows: Vec<Vec<usize>> = (0..a.n)
-        .into_par_iter()
-        .with_min_len(4096)
-        .map(|i| {
-            let (c, v) = a.row(i);
-            c.iter()
-                .zip(v)
-                .filter(|(&j, &x)| j != i && x != 0.0 && (theta <= 0.0 || x.abs() >= theta * (d[i] * d[j]).abs().sqrt()))
-                .map(|(&j, _)| j)
-                .collect()
-        })
-        .collect();
-    let mut ptr = Vec::with_capacity(a.n + 1);
-    ptr.push(0);
-    let mut cols = Vec::with_capacity(a.nnz());
-    for r in rows {
-        cols.extend_from_slice(&r);
-        ptr.push(cols.len());
-    }
-    (ptr, cols)
+    let d = if theta > 0.0 { a.diagonal() } else { Vec::new() };
+    let g = build_rows(a.n, a.n, |i, rb| {
+        let (c, v) = a.row(i);
+        for (&j, &x) in c.iter().zip(v) {
+            if j != i && x != 0.0 && (theta <= 0.0 || x.abs() >= theta * (d[i] * d[j]).abs().sqrt()) {
+                rb.add(j, 1.0);
+            }
+        }
+    });
+    (g.row_ptr, g.col_idx)
 }
 
 const UNAGG: usize = usize::MAX;
@@ -463,8 +541,7 @@ fn l1_inverse_diagonal(a: &CsrMatrix) -> Vec<f64> {
 
 /// One hybrid Gauss-Seidel sweep. Off-block values are those from before
 /// the sweep (`old`), so the blocks are independent and run in parallel.
-fn hybrid_gs(lev: &Level, b: &[f64], x: &mut [f64], old: &mut [f64], forward: bool, x_is_zero: bool) {
-    let a = &lev.a;
+fn hybrid_gs(lev: &Level, a: &CsrMatrix, b: &[f64], x: &mut [f64], old: &mut [f64], forward: bool, x_is_zero: bool) {
     let inv_d = &lev.inv_diag;
     if !x_is_zero {
         old.copy_from_slice(x);
@@ -501,7 +578,7 @@ fn hybrid_gs(lev: &Level, b: &[f64], x: &mut [f64], old: &mut [f64], forward: bo
 }
 
 /// Chebyshev smoothing on [rho/30, 1.1 rho] of D^-1 A (degree `k`).
-fn chebyshev(lev: &Level, b: &[f64], x: &mut [f64], d: &mut [f64], r: &mut [f64], k: usize) {
+fn chebyshev(lev: &Level, a: &CsrMatrix, b: &[f64], x: &mut [f64], d: &mut [f64], r: &mut [f64], k: usize) {
     let upper = 1.1 * lev.rho;
     let lower = lev.rho / 30.0;
     let theta = 0.5 * (upper + lower);
@@ -509,7 +586,7 @@ fn chebyshev(lev: &Level, b: &[f64], x: &mut [f64], d: &mut [f64], r: &mut [f64]
     let sigma = theta / delta;
     let mut rho_k = 1.0 / sigma;
     let inv_d = &lev.inv_diag;
-    lev.a.residual_into(b, x, r);
+    a.residual_into(b, x, r);
     // d = D^-1 r / theta
     d.par_iter_mut().zip(r.par_iter()).zip(inv_d.par_iter()).for_each(|((di, ri), id)| *di = ri * id / theta);
     for step in 0..k {
@@ -517,7 +594,7 @@ fn chebyshev(lev: &Level, b: &[f64], x: &mut [f64], d: &mut [f64], r: &mut [f64]
         if step + 1 == k {
             break;
         }
-        lev.a.residual_into(b, x, r);
+        a.residual_into(b, x, r);
         let rho_next = 1.0 / (2.0 * sigma - rho_k);
         let c1 = rho_next * rho_k;
         let c2 = 2.0 * rho_next / delta;

@@ -25,6 +25,10 @@
 //! [`LinearStats`] is always recomputed from the final `x`, never the
 //! recursively updated one.
 
+// `!(x > 0.0)` is meant: it is also true for NaN.
+#![allow(clippy::neg_cmp_op_on_partial_ord)]
+#![allow(clippy::large_enum_variant)]
+
 pub mod amg;
 mod csr;
 mod direct;
@@ -393,27 +397,30 @@ impl Solver {
         };
         if !reusable {
             let t0 = Instant::now();
-            let hierarchy = AmgHierarchy::build(a, &self.opts.amg)?;
+            let hierarchy = AmgHierarchy::build_with_symmetry(a, &self.opts.amg, cg)?;
             setup_seconds = t0.elapsed().as_secs_f64();
             self.setup = Setup::Amg { pattern: Pattern::of(a), hierarchy, iterations_after_setup: None, stale: false };
         }
         let Setup::Amg { hierarchy, iterations_after_setup, stale, .. } = &mut self.setup else {
             unreachable!()
         };
+        if reusable {
+            hierarchy.refresh_fine(a)?;
+        }
         let t1 = Instant::now();
-        let mut out = run_krylov(a, b, x, &*hierarchy, cg, &self.opts);
+        let mut out = run_krylov(a, b, x, &hierarchy.preconditioner(a), cg, &self.opts);
         let mut reused = reusable;
         let mut retry_setup = 0.0;
         if reusable && !out.converged {
             // The old hierarchy is not good enough any more: rebuild and retry.
             x.copy_from_slice(&x0);
             let t0 = Instant::now();
-            *hierarchy = AmgHierarchy::build(a, &self.opts.amg)?;
+            *hierarchy = AmgHierarchy::build_with_symmetry(a, &self.opts.amg, cg)?;
             setup_seconds = t0.elapsed().as_secs_f64();
             retry_setup = setup_seconds;
             *iterations_after_setup = None;
             reused = false;
-            out = run_krylov(a, b, x, &*hierarchy, cg, &self.opts);
+            out = run_krylov(a, b, x, &hierarchy.preconditioner(a), cg, &self.opts);
         }
         match *iterations_after_setup {
             None => *iterations_after_setup = Some(out.iterations),

@@ -20,14 +20,8 @@ pub(crate) struct SpMat {
 const CHUNK: usize = 4096;
 
 impl SpMat {
-    pub fn from_square(a: &CsrMatrix) -> SpMat {
-        SpMat {
-            nrows: a.n,
-            ncols: a.n,
-            row_ptr: a.row_ptr.clone(),
-            col_idx: a.col_idx.clone(),
-            values: a.values.clone(),
-        }
+    pub fn view(&self) -> SpView<'_> {
+        SpView { nrows: self.nrows, ncols: self.ncols, row_ptr: &self.row_ptr, col_idx: &self.col_idx, values: &self.values }
     }
 
     pub fn into_square(self) -> CsrMatrix {
@@ -194,8 +188,24 @@ impl RowBuilder {
     }
 }
 
+/// Borrowed CSR (of an [`SpMat`] or a square [`CsrMatrix`]).
+#[derive(Clone, Copy)]
+pub(crate) struct SpView<'a> {
+    pub nrows: usize,
+    pub ncols: usize,
+    pub row_ptr: &'a [usize],
+    pub col_idx: &'a [usize],
+    pub values: &'a [f64],
+}
+
+impl<'a> From<&'a CsrMatrix> for SpView<'a> {
+    fn from(a: &'a CsrMatrix) -> Self {
+        SpView { nrows: a.n, ncols: a.n, row_ptr: &a.row_ptr, col_idx: &a.col_idx, values: &a.values }
+    }
+}
+
 /// C = A * B (Gustavson, row-blocked).
-pub(crate) fn spgemm(a: &SpMat, b: &SpMat) -> SpMat {
+pub(crate) fn spgemm(a: SpView<'_>, b: SpView<'_>) -> SpMat {
     assert_eq!(a.ncols, b.nrows);
     build_rows(a.nrows, b.ncols, |i, rb| {
         for ka in a.row_ptr[i]..a.row_ptr[i + 1] {

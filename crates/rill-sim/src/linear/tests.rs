@@ -66,7 +66,7 @@ fn tpfa_3d(nx: usize, ny: usize, nz: usize, perm: &[f64], diag: &[(usize, f64)])
     let n = nx * ny * nz;
     let idx = |i: usize, j: usize, k: usize| (k * ny + j) * nx + i;
     let mut t = Vec::with_capacity(7 * n + diag.len());
-    let mut face = |a: usize, b: usize, t: &mut Vec<(usize, usize, f64)>| {
+    let face = |a: usize, b: usize, t: &mut Vec<(usize, usize, f64)>| {
         let (ka, kb) = (perm[a], perm[b]);
         let tr = if ka > 0.0 && kb > 0.0 { 2.0 * ka * kb / (ka + kb) } else { 0.0 };
         t.push((a, a, tr));

@@ -1,0 +1,215 @@
+//! Solves a MatrixMarket system with rill's linear solvers and prints one
+//! JSON object with the timings (the benchmark against pyamg,
+//! `scripts/bench/solver_vs_pyamg.py`, drives it).
+//!
+//! ```text
+//! cargo run --release -p rill-sim --example solve_mtx -- A.mtx b.mtx \
+//!     [--method amg-cg|amg-bicgstab|direct|auto|jacobi-cg] [--tol 1e-8] \
+//!     [--smoother hgs|l1|cheb2|cheb3] [--sweeps 1] [--blocks 16] \
+//!     [--theta 0] [--max-coarse 3000] [--max-iter 500] [--repeat 1]
+//! ```
+//!
+//! The matrix may be `coordinate real general` or `coordinate real
+//! symmetric` (lower triangle); the right-hand side `array real general`
+//! (or coordinate). Without a right-hand side file, b = A * ones.
+
+use std::io::Read;
+use std::time::Instant;
+
+use rill_sim::linear::{solve, AmgOptions, CsrMatrix, Method, Smoother, SolverOptions};
+
+fn main() {
+    if let Err(e) = run() {
+        eprintln!("solve_mtx: {e}");
+        std::process::exit(1);
+    }
+}
+
+fn run() -> Result<(), String> {
+    let args: Vec<String> = std::env::args().skip(1).collect();
+    let mut files = Vec::new();
+    let mut opts = SolverOptions { rel_tol: 1e-8, ..Default::default() };
+    opts.method = Method::AmgCg;
+    let mut amg = AmgOptions::default();
+    let mut repeat = 1usize;
+    let mut it = args.iter();
+    while let Some(a) = it.next() {
+        let mut val = || it.next().cloned().ok_or_else(|| format!("{a} needs a value"));
+        match a.as_str() {
+            "--method" => {
+                opts.method = match val()?.as_str() {
+                    "amg-cg" => Method::AmgCg,
+                    "amg-bicgstab" => Method::AmgBicgstab,
+                    "direct" => Method::Direct,
+                    "auto" => Method::Auto,
+                    "jacobi-cg" => Method::JacobiCg,
+                    m => return Err(format!("unknown method {m}")),
+                }
+            }
+            "--tol" => opts.rel_tol = num(&val()?)?,
+            "--max-iter" => opts.max_iter = num::<usize>(&val()?)?,
+            "--smoother" => {
+                amg.smoother = match val()?.as_str() {
+                    "hgs" => Smoother::HybridGaussSeidel,
+                    "l1" => Smoother::L1Jacobi,
+                    "cheb2" => Smoother::Chebyshev { degree: 2 },
+                    "cheb3" => Smoother::Chebyshev { degree: 3 },
+                    s => return Err(format!("unknown smoother {s}")),
+                }
+            }
+            "--sweeps" => amg.sweeps = num(&val()?)?,
+            "--blocks" => amg.smoother_blocks = num(&val()?)?,
+            "--theta" => amg.strength_threshold = num(&val()?)?,
+            "--max-coarse" => amg.max_coarse = num(&val()?)?,
+            "--repeat" => repeat = num(&val()?)?,
+            f if !f.starts_with("--") => files.push(f.to_string()),
+            f => return Err(format!("unknown option {f}")),
+        }
+    }
+    opts.amg = amg;
+    if files.is_empty() || files.len() > 2 {
+        return Err("usage: solve_mtx A.mtx [b.mtx] [options]".into());
+    }
+    let t0 = Instant::now();
+    let a = read_matrix(&files[0])?;
+    let b = match files.get(1) {
+        Some(f) => read_vector(f, a.n)?,
+        None => a.mul_vec(&vec![1.0; a.n]),
+    };
+    let read_seconds = t0.elapsed().as_secs_f64();
+    let mut runs = Vec::new();
+    for _ in 0..repeat.max(1) {
+        let mut x = vec![0.0; a.n];
+        let s = solve(&a, &b, &mut x, &opts).map_err(|e| e.to_string())?;
+        // residual recomputed here too, independently of the solver
+        let ax = a.mul_vec(&x);
+        let rn: f64 = ax.iter().zip(&b).map(|(p, q)| (q - p) * (q - p)).sum::<f64>().sqrt();
+        let bn: f64 = b.iter().map(|v| v * v).sum::<f64>().sqrt();
+        runs.push((s, rn / bn));
+    }
+    // Level sizes (built once more, outside the timings).
+    let levels = if matches!(opts.method, Method::AmgCg | Method::AmgBicgstab) {
+        let h = rill_sim::linear::AmgHierarchy::build(&a, &opts.amg).map_err(|e| e.to_string())?;
+        h.level_info().iter().map(|l| format!("[{}, {}]", l.n, l.nnz)).collect::<Vec<_>>().join(", ")
+    } else {
+        String::new()
+    };
+    let (best, check) = runs
+        .iter()
+        .min_by(|p, q| (p.0.setup_seconds + p.0.solve_seconds).total_cmp(&(q.0.setup_seconds + q.0.solve_seconds)))
+        .unwrap();
+    println!(
+        "{{\"solver\": \"rill\", \"method\": \"{}\", \"n\": {}, \"nnz\": {}, \"threads\": {}, \"read_seconds\": {:.3}, \
+\"setup_seconds\": {:.4}, \"solve_seconds\": {:.4}, \"total_seconds\": {:.4}, \"iterations\": {}, \
+\"rel_residual\": {:.3e}, \"rel_residual_check\": {:.3e}, \"levels\": {}, \"operator_complexity\": {:.4}, \
+\"level_sizes\": [{}], \"runs\": {}, \"peak_rss_mib\": {:.1}}}",
+        best.method,
+        a.n,
+        a.nnz(),
+        rayon::current_num_threads(),
+        read_seconds,
+        best.setup_seconds,
+        best.solve_seconds,
+        best.setup_seconds + best.solve_seconds,
+        best.iterations,
+        best.rel_residual,
+        check,
+        best.levels,
+        best.operator_complexity,
+        levels,
+        runs.len(),
+        peak_rss_mib()
+    );
+    Ok(())
+}
+
+fn num<T: std::str::FromStr>(s: &str) -> Result<T, String> {
+    s.parse().map_err(|_| format!("bad number {s}"))
+}
+
+fn read_all(path: &str) -> Result<String, String> {
+    let mut s = String::new();
+    std::fs::File::open(path)
+        .and_then(|mut f| f.read_to_string(&mut s))
+        .map_err(|e| format!("{path}: {e}"))?;
+    Ok(s)
+}
+
+/// Header line and the data lines after the comments.
+fn split_header(text: &str) -> (String, impl Iterator<Item = &str>) {
+    let mut lines = text.lines();
+    let header = lines.next().unwrap_or("").to_ascii_lowercase();
+    (header, lines.filter(|l| !l.starts_with('%') && !l.trim().is_empty()))
+}
+
+fn read_matrix(path: &str) -> Result<CsrMatrix, String> {
+    let text = read_all(path)?;
+    let (header, mut lines) = split_header(&text);
+    if !header.starts_with("%%matrixmarket matrix coordinate") || header.contains("complex") {
+        return Err(format!("{path}: expected a real coordinate MatrixMarket matrix, got {header:?}"));
+    }
+    let symmetric = header.contains("symmetric");
+    let size = lines.next().ok_or("missing size line")?;
+    let dims: Vec<usize> = size.split_whitespace().map(num).collect::<Result<_, _>>()?;
+    if dims.len() != 3 || dims[0] != dims[1] {
+        return Err(format!("{path}: expected a square matrix, size line {size:?}"));
+    }
+    let (n, nnz) = (dims[0], dims[2]);
+    let mut t = Vec::with_capacity(if symmetric { 2 * nnz } else { nnz });
+    for line in lines {
+        let mut f = line.split_ascii_whitespace();
+        let i: usize = num(f.next().ok_or("short line")?)?;
+        let j: usize = num(f.next().ok_or("short line")?)?;
+        let v: f64 = num(f.next().ok_or("short line")?)?;
+        if i == 0 || j == 0 || i > n || j > n {
+            return Err(format!("{path}: index ({i}, {j}) out of range"));
+        }
+        t.push((i - 1, j - 1, v));
+        if symmetric && i != j {
+            t.push((j - 1, i - 1, v));
+        }
+    }
+    Ok(CsrMatrix::from_triplets(n, &t))
+}
+
+fn read_vector(path: &str, n: usize) -> Result<Vec<f64>, String> {
+    let text = read_all(path)?;
+    let (header, mut lines) = split_header(&text);
+    let size = lines.next().ok_or("missing size line")?;
+    let mut v = vec![0.0; n];
+    if header.contains("array") {
+        let mut k = 0;
+        for line in lines {
+            for tok in line.split_ascii_whitespace() {
+                if k >= n {
+                    return Err(format!("{path}: more than {n} values"));
+                }
+                v[k] = num(tok)?;
+                k += 1;
+            }
+        }
+        if k != n {
+            return Err(format!("{path}: {k} values for n = {n} (size line {size:?})"));
+        }
+    } else {
+        for line in lines {
+            let f: Vec<&str> = line.split_ascii_whitespace().collect();
+            let i: usize = num(f[0])?;
+            v[i - 1] = num(f[f.len() - 1])?;
+        }
+    }
+    Ok(v)
+}
+
+/// Peak resident set size of this process (Linux), MiB.
+fn peak_rss_mib() -> f64 {
+    std::fs::read_to_string("/proc/self/status")
+        .ok()
+        .and_then(|s| {
+            s.lines()
+                .find(|l| l.starts_with("VmHWM:"))
+                .and_then(|l| l.split_whitespace().nth(1).and_then(|k| k.parse::<f64>().ok()))
+        })
+        .map(|kb| kb / 1024.0)
+        .unwrap_or(f64::NAN)
+}
