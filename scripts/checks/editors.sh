@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
 # Checks the editor integrations under editors/: the VS Code extension
-# (npm ci, tsc, grammar tests, activation tests, .vsix packaging), the Helix
+# (npm ci, tsc and esbuild, grammar tests, activation tests, .vsix packaging), the Helix
 # config, Neovim (syntax, and the LSP set-up against a stand-in server and
 # the real `rill lsp`) and Emacs (byte-compile, ERT). Parts whose tool is
 # missing are skipped with the reason printed.
@@ -65,9 +65,10 @@ import sys, zipfile
 names = set(zipfile.ZipFile(sys.argv[1]).namelist())
 need = ["extension/package.json", "extension/out/extension.js",
         "extension/syntaxes/rill.tmLanguage.json", "extension/language-configuration.json",
-        "extension/node_modules/vscode-languageclient/package.json"]
+        "extension/LICENSE.txt"]
 missing = [n for n in need if n not in names]
-bad = [n for n in names if n.startswith(("extension/src/", "extension/test/"))]
+# One bundle: no sources, tests or node_modules inside.
+bad = [n for n in names if n.startswith(("extension/src/", "extension/test/", "extension/node_modules/"))]
 if missing or bad:
     print("vsix: missing", missing, "unexpected", bad)
     sys.exit(1)
@@ -81,11 +82,11 @@ if ! command -v node >/dev/null || ! command -v npm >/dev/null; then
   echo "-- FAILED: node and npm are needed for the VS Code extension"
 else
   step "vscode: npm ci" bash -c "cd '$vscode' && npm ci --no-audit --no-fund --loglevel=error"
-  step "vscode: compile (tsc)" bash -c "cd '$vscode' && npx --no-install tsc -p ./"
+  step "vscode: type-check (tsc) and bundle (esbuild)" bash -c "cd '$vscode' && npm run --silent compile"
   step "vscode: grammar tests" bash -c "cd '$vscode' && npx --no-install vscode-tmgrammar-test -g syntaxes/rill.tmLanguage.json 'test/grammar/*.rill'"
   step "vscode: grammar on the example decks (node --test)" bash -c "cd '$vscode' && node --test test/grammar-decks/*.test.js"
   step "vscode: activation tests (node --test)" bash -c "cd '$vscode' && node --test test/activation/*.test.js"
-  step "vscode: package .vsix (vsce)" bash -c "cd '$vscode' && npx --no-install vsce package --out '$tmp/rill.vsix' </dev/null && $(declare -f vsix_contents); tmp='$tmp' vsix_contents"
+  step "vscode: package .vsix (vsce)" bash -c "cd '$vscode' && npx --no-install vsce package --no-dependencies --out '$tmp/rill.vsix' </dev/null && $(declare -f vsix_contents); tmp='$tmp' vsix_contents"
 fi
 
 # ---- Helix ------------------------------------------------------------------
