@@ -39,7 +39,14 @@ end
 
 local function check_file(path)
   vim.cmd('edit! ' .. vim.fn.fnameescape(path))
-  vim.bo.filetype = 'rill'
+  -- ftdetect/rill.lua and ftplugin/rill.lua at work:
+  if vim.bo.filetype ~= 'rill' then
+    table.insert(failures, path .. ': filetype is "' .. vim.bo.filetype .. '", expected rill')
+    vim.bo.filetype = 'rill'
+  end
+  if vim.bo.commentstring ~= '# %s' then
+    table.insert(failures, path .. ': commentstring is "' .. vim.bo.commentstring .. '"')
+  end
   local lines = vim.api.nvim_buf_get_lines(0, 0, -1, false)
   local source_lnum
   for i, line in ipairs(lines) do
