@@ -26,3 +26,33 @@ test('absolute runOutputDir', () => {
   assert.equal(extension.expectedReportPath('/w/cases/tamsin-ridge.rill', settings('/scratch/out'), '/w'),
     '/scratch/out/tamsin-ridge.out/report.html');
 });
+
+test('rill.path: bare names stay for PATH lookup, relative paths come from the workspace folder', () => {
+  const { vscode, state } = require('./harness');
+  const os = require('os');
+  state.workspaceFolders = [{ uri: vscode.Uri.file('/w'), name: 'w', index: 0 }];
+  state.configuration = {};
+  assert.equal(extension.serverCommand(), 'rill');
+  state.configuration = { path: 'target/debug/rill' };
+  assert.equal(extension.serverCommand(), '/w/target/debug/rill');
+  state.configuration = { path: '/opt/rill/bin/rill' };
+  assert.equal(extension.serverCommand(), '/opt/rill/bin/rill');
+  state.configuration = { path: '~/.cargo/bin/rill' };
+  assert.equal(extension.serverCommand(), `${os.homedir()}/.cargo/bin/rill`);
+  state.configuration = { path: '  ' };
+  assert.equal(extension.serverCommand(), 'rill');
+});
+
+test('isExecutable looks on PATH for bare names and checks the file itself otherwise', () => {
+  assert.equal(extension.isExecutable('sh'), true);
+  assert.equal(extension.isExecutable(process.execPath), true);
+  assert.equal(extension.isExecutable('/nonexistent/rill'), false);
+  assert.equal(extension.isExecutable('surely-not-a-command-on-path-rill'), false);
+  assert.equal(extension.isExecutable(__filename), false, 'a file without the execute bit');
+});
+
+test('settings sent to the server drop blank runOutputDir and non-string include paths', () => {
+  const { state } = require('./harness');
+  state.configuration = { 'inlayHints.enabled': false, allowedIncludePaths: ['/a', 3, '/b'], runOutputDir: '   ' };
+  assert.deepEqual(extension.readSettings(), { inlayHints: { enabled: false }, allowedIncludePaths: ['/a', '/b'], runOutputDir: null });
+});
