@@ -16,7 +16,7 @@
 ;;   (add-hook 'rill-mode-hook #'eglot-ensure)   ; or #'lsp
 ;;
 ;; `rill-lsp-command' names the binary; `rill-lsp-settings' are sent as
-;; initializationOptions and under the section `rill'.
+;; initializationOptions (and, with lsp-mode, under the section `rill').
 
 ;;; Code:
 
@@ -179,14 +179,19 @@ The unit is not followed by `=' (that would be a key) and is not `at' or `x'."
   (list :rill rill-lsp-settings))
 
 ;; eglot: built in from Emacs 29, a package before.
+(defun rill--eglot-contact (&optional _interactive)
+  "The eglot contact: `rill-lsp-command' with `rill-lsp-settings'.
+A function, so that changes to the options after eglot is loaded count."
+  `(,@rill-lsp-command :initializationOptions ,rill-lsp-settings))
+
+;; Settings reach the server as initializationOptions.  To change them for
+;; one project while the server runs, eglot reads directory-local values:
+;;   ((rill-mode . ((eglot-workspace-configuration
+;;                   . (:rill (:inlayHints (:enabled :json-false)))))))
+;; in .dir-locals.el, then M-x eglot-signal-didChangeConfiguration.
 (with-eval-after-load 'eglot
   (defvar eglot-server-programs)
-  (defvar eglot-workspace-configuration)
-  (add-to-list 'eglot-server-programs
-               `(rill-mode . (,@rill-lsp-command :initializationOptions ,rill-lsp-settings)))
-  (add-hook 'rill-mode-hook
-            (lambda ()
-              (setq-local eglot-workspace-configuration (rill-lsp-settings-for-section)))))
+  (add-to-list 'eglot-server-programs '(rill-mode . rill--eglot-contact)))
 
 ;; lsp-mode.
 (with-eval-after-load 'lsp-mode

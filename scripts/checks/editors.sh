@@ -5,12 +5,12 @@
 # the real `rill lsp`) and Emacs (byte-compile, ERT). Parts whose tool is
 # missing are skipped with the reason printed.
 #
-# Needs: node >= 20 and npm (required); nvim, emacs (optional: apt-get
-# install -y neovim emacs-nox); python3 (TOML check).
+# Needs: node >= 20 and npm (required); python3 (TOML check); optional:
+#   apt-get install -y neovim emacs-nox elpa-eglot elpa-lsp-mode
 # Environment:
 #   RILL_BIN=path        rill binary to use (default: target/debug/rill, built
 #                        with `cargo build -p rill-cli` unless EDITORS_NO_BUILD=1)
-#   EDITORS_STRICT=1     a missing nvim or emacs is a failure, not a skip
+#   EDITORS_STRICT=1     a missing nvim, emacs, eglot or lsp-mode is a failure, not a skip
 # Ends with `editors: N passed, N failed, N skipped`; exits 1 on any failure.
 set -uo pipefail
 cd "$(dirname "$0")/../.."
@@ -145,17 +145,51 @@ else
 fi
 
 # ---- Emacs ------------------------------------------------------------------
+# Debian's elpa-* packages (elpa-eglot, elpa-lsp-mode) live outside the
+# load-path of `emacs -Q`; Emacs 29 has eglot built in.
+emacs_path=()
+for d in /usr/share/emacs/site-lisp/elpa/*/; do
+  [ -d "$d" ] && emacs_path+=(-L "$d")
+done
+emacs_has() {
+  emacs --batch -Q "${emacs_path[@]}" --eval "(require '$1)" >/dev/null 2>&1
+}
 emacs_compile() {
   mkdir -p "$tmp/emacs" && cp editors/emacs/rill-mode.el "$tmp/emacs/" &&
     emacs --batch -Q --eval '(setq byte-compile-error-on-warn t)' -f batch-byte-compile "$tmp/emacs/rill-mode.el" &&
     [ -f "$tmp/emacs/rill-mode.elc" ]
 }
+emacs_e2e() {
+  # emacs_e2e FILE: an end-to-end client check, with $RILL_LSP_CMD set.
+  timeout 120 emacs --batch -Q "${emacs_path[@]}" -L editors/emacs -l "editors/emacs/test/$1" </dev/null
+}
 if command -v emacs >/dev/null; then
   echo "== editors: $(emacs --version | head -1)"
   step "emacs: byte-compile rill-mode.el (warnings are errors)" emacs_compile
   # Against the compiled file when there is one, else the source.
-  step "emacs: ERT tests" bash -c "lib='$tmp/emacs'; [ -f \"\$lib/rill-mode.elc\" ] || lib=editors/emacs; \
-    emacs --batch -Q -L \"\$lib\" -l editors/emacs/test/rill-mode-test.el -f ert-run-tests-batch-and-exit"
+  emacs_lib="$tmp/emacs"
+  [ -f "$emacs_lib/rill-mode.elc" ] || emacs_lib=editors/emacs
+  step "emacs: ERT tests" emacs --batch -Q "${emacs_path[@]}" -L "$emacs_lib" \
+    -l editors/emacs/test/rill-mode-test.el -f ert-run-tests-batch-and-exit
+  stand_in="$(command -v node) $vscode/test/activation/stand-in-server.js lsp"
+  for client in eglot lsp-mode; do
+    if ! emacs_has "$client"; then
+      missing "emacs: $client" "$client is not installed (apt-get install -y elpa-$client)"
+      continue
+    fi
+    if [ -d "$vscode/node_modules/vscode-languageserver" ]; then
+      step "emacs: $client against the stand-in server" env RILL_STAND_IN=1 RILL_EXPECT_CODE=stand-in.check \
+        RILL_LSP_CMD="$stand_in" bash -c "$(declare -p emacs_path); $(declare -f emacs_e2e); emacs_e2e rill-$client-e2e.el"
+    else
+      skip "emacs: $client against the stand-in server" "editors/vscode/node_modules is missing (npm ci failed)"
+    fi
+    if [ -z "$lsp_reason" ]; then
+      step "emacs: $client diagnostics and hover from rill lsp" env RILL_LSP_CMD="$rill_bin lsp" \
+        bash -c "$(declare -p emacs_path); $(declare -f emacs_e2e); emacs_e2e rill-$client-e2e.el"
+    else
+      skip "emacs: $client diagnostics and hover from rill lsp" "$lsp_reason"
+    fi
+  done
 else
   missing "emacs" "emacs is not installed (apt-get install -y emacs-nox)"
 fi

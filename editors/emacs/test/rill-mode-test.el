@@ -126,12 +126,15 @@
     (provide 'eglot))
   (let ((entry (assq 'rill-mode eglot-server-programs)))
     (should entry)
-    (should (equal (seq-take (cdr entry) 2) '("rill" "lsp")))
-    (should (equal (plist-get (nthcdr 2 (cdr entry)) :initializationOptions) rill-lsp-settings))))
+    (let ((contact (funcall (cdr entry) nil)))
+      (should (equal (seq-take contact 2) '("rill" "lsp")))
+      (should (equal (plist-get (nthcdr 2 contact) :initializationOptions) rill-lsp-settings)))))
 
 (ert-deftest rill-mode-registers-with-lsp-mode ()
   (if (require 'lsp-mode nil t)
-      (should (assq 'rill-mode lsp-language-id-configuration))
+      (progn
+        (should (assq 'rill-mode lsp-language-id-configuration))
+        (should (gethash 'rill-lsp (symbol-value 'lsp-clients))))
     ;; No lsp-mode here: record what the registration passes.
     (let (registered)
       (setq lsp-language-id-configuration nil)
