@@ -43,6 +43,8 @@
                       (insert broken)
                       (goto-char (point-min))
                       (and (search-forward "kx = 150 psi" nil t) (line-number-at-pos)))))
+  ;; rill-e2e--fail leaves through kill-emacs, past any unwind-protect.
+  (add-hook 'kill-emacs-hook (lambda () (ignore-errors (delete-directory dir t))))
   (unwind-protect
       (progn
         (unless broken-line (rill-e2e--fail "examples/larkspur-east.rill has no kx line to break"))

@@ -50,6 +50,8 @@
         lsp-modeline-diagnostics-enable nil
         lsp-lens-enable nil
         lsp-diagnostics-provider :none)
+  ;; rill-e2e--fail leaves through kill-emacs, past any unwind-protect.
+  (add-hook 'kill-emacs-hook (lambda () (ignore-errors (delete-directory dir t))))
   (unwind-protect
       (progn
         (unless broken-line (rill-e2e--fail "examples/larkspur-east.rill has no kx line to break"))
