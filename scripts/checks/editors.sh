@@ -1,9 +1,11 @@
 #!/usr/bin/env bash
 # Checks the editor integrations under editors/: the VS Code extension
-# (npm ci, tsc and esbuild, grammar tests, activation tests, .vsix packaging), the Helix
-# config, Neovim (syntax, and the LSP set-up against a stand-in server and
-# the real `rill lsp`) and Emacs (byte-compile, ERT). Parts whose tool is
-# missing are skipped with the reason printed.
+# (npm ci, tsc and esbuild, grammar tests, activation tests, .vsix
+# packaging), the Helix config, Neovim (syntax; the LSP set-up against a
+# stand-in server and the real `rill lsp`) and Emacs (byte-compile, ERT,
+# eglot and lsp-mode sessions against the same two servers). Parts whose
+# tool is missing are skipped with the reason printed; so are the real-server
+# parts while `rill lsp` does not exist.
 #
 # Needs: node >= 20 and npm (required); python3 (TOML check); optional:
 #   apt-get install -y neovim emacs-nox elpa-eglot elpa-lsp-mode
@@ -24,7 +26,7 @@ failures=()
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
 
-# step NAME COMMAND...: runs COMMAND, its output to the log and on screen.
+# step NAME COMMAND...: runs COMMAND and counts it as passed or failed.
 step() {
   local name=$1
   shift
