@@ -282,7 +282,16 @@ async function runCase(arg?: vscode.Uri | string): Promise<unknown> {
     void vscode.window.showWarningMessage('rill: open a .rill case to run it.');
     return undefined;
   }
-  const open = vscode.workspace.textDocuments.find((d) => d.uri.toString() === deck.toString());
+  // The server runs what it has analysed: the deck must be open (and saved).
+  let open = vscode.workspace.textDocuments.find((d) => d.uri.toString() === deck.toString());
+  if (!open) {
+    try {
+      open = await vscode.workspace.openTextDocument(deck);
+    } catch (err) {
+      void vscode.window.showErrorMessage(`rill: cannot open ${deck.fsPath}: ${err instanceof Error ? err.message : String(err)}`);
+      return undefined;
+    }
+  }
   if (open?.isDirty) {
     await open.save();
   }
