@@ -33,8 +33,35 @@
 //! `sm3/day`, `sm3`; si: `s`, `Pa`, `sm3/s`, `sm3`); names are CSV-quoted
 //! when they need it; numbers are the shortest text that reads back to the
 //! same double. Rates are positive for production, negative for injection
-//! or inflow. See the `vtk` and `report` modules for the map geometry and
-//! the size limits of the page.
+//! or inflow. `series.json` holds the same columns (`name`, `quantity`,
+//! `unit`, `values`, and `well` or `boundary`), non-finite values as `null`,
+//! plus `units`, `title`, `wells` (role, control mode per report time),
+//! `solver` (steps, step cuts, Newton and linear iterations, linear solver,
+//! wall time) and `cautions` ([`CAUTION`] first).
+//!
+//! # The maps
+//! `maps/step_NNNN.vtr` are VTK XML RectilinearGrids (zlib-compressed inline
+//! base64 arrays; read back by VTK 9 in `scripts/check_vtk.py`): x east, y
+//! north, z elevation (−depth) in report length units, with VTK's `k`
+//! counting from the bottom layer up. With a per-column `top` the true
+//! geometry is not rectilinear: the interfaces use the mean depth over the
+//! columns, and the cell array `depth` holds the true cell-centre depth.
+//! Cell data: `pressure` (report units, NaN in inactive cells), `active`,
+//! `porosity`, `kx`, `ky`, `kz`, `depth`, `layer`; the units are named in
+//! field data (`pressure_unit`, `permeability_unit`, `length_unit`,
+//! `time_unit`) beside `TimeValue`.
+//!
+//! # The report
+//! One self-contained page (inline CSS and SVG, no scripts, no external
+//! resources) with the caution at the top, a summary, plots of rates,
+//! cumulatives, BHP and average pressure, and pressure maps per layer at the
+//! last report time, coloured with our own ramp *rill slate-to-amber* and
+//! marked with the well completions. Large grids stay small: at most 12
+//! layer maps (evenly chosen, listed on the page), and a layer of more than
+//! 20 000 columns is drawn as area-weighted block averages. The plotting
+//! code is ours (`svg` module): a plotting crate would pull in font
+//! rendering and a raster backend for what is a few hundred lines of SVG
+//! text. Every user string (names, titles, paths) is escaped.
 //!
 //! # Atomicity and refusals
 //! Everything is built in a hidden staging directory beside `out_dir` (same

@@ -220,3 +220,38 @@ fn inconsistent_results_are_an_error_not_a_panic() {
     );
     assert!(!dir.path().join("o").exists());
 }
+
+#[test]
+fn a_steady_run_with_one_report_time_writes_a_full_set() {
+    let (dir, deck) = deck_dir();
+    let case = case(3, 2, 2, UnitSystem::Field);
+    let mut results = results(&case);
+    for v in [
+        &mut results.times,
+        &mut results.pressure_avg,
+        &mut results.balance_error,
+    ] {
+        v.drain(..2);
+    }
+    results.pressure.drain(..2);
+    for w in &mut results.wells {
+        for s in [&mut w.bhp, &mut w.rate, &mut w.cumulative] {
+            s.drain(..2);
+        }
+        w.mode.clear(); // a simulator may leave the modes out
+    }
+    for b in &mut results.boundaries {
+        b.rate.drain(..2);
+        b.cumulative.drain(..2);
+    }
+    let files =
+        write_results(&dir.path().join("o"), &case, &results, &RunMeta::new(&deck)).unwrap();
+    let rows = parse_csv(&std::fs::read_to_string(&files.series_csv).unwrap());
+    assert_eq!(rows.len(), 2);
+    assert_eq!(files.maps.len(), 1);
+    let html = std::fs::read_to_string(&files.report_html).unwrap();
+    assert!(
+        html.contains("<circle"),
+        "a single point is drawn as a marker"
+    );
+}
