@@ -359,6 +359,25 @@ pub(crate) fn boundary_rate(pvt: &Pvt, f: &BFace, p_c: f64, p_b: f64) -> (f64, f
     (q, dq)
 }
 
+/// Only the well and boundary rates at `x` (no residual, no Jacobian).
+pub(crate) fn flows(d: &Disc, ctx: &Ctx, x: &[f64], well_rate: &mut [f64], bnd_rate: &mut [f64]) {
+    bnd_rate.fill(0.0);
+    for (f, &pb) in d.bfaces.iter().zip(ctx.bface_p) {
+        bnd_rate[f.boundary] += boundary_rate(ctx.pvt, f, x[f.cell], pb).0;
+    }
+    for (w, wg) in d.wells.iter().enumerate() {
+        let pw = x[d.n_cells + w];
+        well_rate[w] = if wg.wi_sum > 0.0 {
+            wg.comps
+                .iter()
+                .map(|cp| completion_rate(ctx.pvt, cp, x[cp.cell], pw).0)
+                .sum()
+        } else {
+            0.0
+        };
+    }
+}
+
 /// Assembles the residual and the Jacobian at `x`.
 ///
 /// Cells are assembled row by row in parallel (each face is evaluated from

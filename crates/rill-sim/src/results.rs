@@ -1,4 +1,14 @@
 //! What a run produces, in SI, one entry per report time (the first is t = 0).
+//!
+//! Transient runs report at t = 0, every `report_every`, at every event time
+//! and at the end, each hit exactly. At t = 0 the rates and cumulatives are
+//! zero and the BHP is the shut-in one (the BHP at which the well would not
+//! flow against the initial cell pressures). Rates at a later report time are
+//! those of the step that ended there (backward Euler: constant over the
+//! step), and cumulatives sum rate times step length.
+//!
+//! Steady runs report once, at `timeline.end` (0 without an end), with zero
+//! cumulatives.
 
 /// How a well was controlled over the step that ended at a report time.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -29,11 +39,16 @@ pub struct BoundarySeries {
 
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct SolverStats {
+    /// Accepted time steps (1 for a steady run).
     pub steps: usize,
+    /// Halvings of a step after a failed attempt.
     pub step_cuts: usize,
+    /// Newton iterations (linear solves), failed attempts included.
     pub newton_iterations: usize,
     pub linear_iterations: usize,
-    /// Name of the linear solver used ("direct", "amg-cg", ...).
+    /// Name of the linear solver of the last solve ("direct-cholesky",
+    /// "direct-lu", "amg-cg", "amg-bicgstab", ...; "none" when no system had
+    /// to be solved).
     pub linear_solver: String,
     pub wall_seconds: f64,
 }
@@ -46,9 +61,28 @@ pub struct RunResults {
     pub pressure_avg: Vec<f64>,
     pub wells: Vec<WellSeries>,
     pub boundaries: Vec<BoundarySeries>,
-    /// Relative mass balance error of the last step before each report time.
+    /// Relative mass balance error of the last step before each report time:
+    /// |change of surface volume in place + net outflow over the step| /
+    /// surface volume in place (0 at t = 0). Steady runs: |net outflow| over
+    /// half the sum of |rates| of all wells and boundaries.
     pub balance_error: Vec<f64>,
     /// Cell pressures per report time, Pa (NaN in inactive cells).
     pub pressure: Vec<Vec<f64>>,
     pub stats: SolverStats,
+}
+
+/// Where the wall time of a run went, s. Given to `Observer::timings` at the
+/// end of a successful run.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Timings {
+    /// Building the discretisation: numbering, transmissibilities, pattern.
+    pub setup: f64,
+    /// Residual and Jacobian assembly, all calls.
+    pub assembly: f64,
+    /// Linear solver set-up (factorisation, multigrid hierarchy), all calls.
+    pub linear_setup: f64,
+    /// Linear solver iterations or triangular solves, all calls.
+    pub linear_solve: f64,
+    /// The whole run.
+    pub total: f64,
 }

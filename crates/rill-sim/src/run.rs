@@ -2,13 +2,14 @@
 //! balance checks and the results at report times.
 
 use std::fmt;
+use std::sync::atomic::{AtomicU64, Ordering};
 use std::time::Instant;
 
 use rayon::prelude::*;
 use rill_model::derived;
 use rill_model::{Case, Control, Initial, Role, RunKind};
 
-use crate::disc::{assemble, completion_rate, Assembly, Ctx, Disc, WellDrive};
+use crate::disc::{assemble, completion_rate, flows, Assembly, Ctx, Disc, WellDrive};
 use crate::linear::{self, CsrMatrix, SolverOptions};
 use crate::pvt::Pvt;
 use crate::results::*;
@@ -100,6 +101,8 @@ pub trait Observer {
     /// Newton system `J dx = -R`. Unknowns: active cells in grid order, then
     /// one BHP per well.
     fn first_system(&mut self, _matrix: &CsrMatrix, _rhs: &[f64]) {}
+    /// Where the time went, once at the end of a successful run.
+    fn timings(&mut self, _t: &Timings) {}
 }
 
 /// An observer that watches nothing.
@@ -203,6 +206,9 @@ struct Runner<'a> {
     first_system_sent: bool,
     stats: SolverStats,
     last_method: &'static str,
+    timings: Timings,
+    /// Nanoseconds spent in assembly.
+    assembly_nanos: AtomicU64,
 }
 
 /// Runs a checked case.
@@ -219,6 +225,7 @@ pub fn run(
 ) -> Result<RunResults, RunError> {
     let start = Instant::now();
     let d = Disc::new(case);
+    let setup_seconds = start.elapsed().as_secs_f64();
     if d.n_cells == 0 {
         return Err(RunError::Setup(
             "the grid has no active cell (porosity 0 everywhere)".into(),
@@ -306,6 +313,8 @@ pub fn run(
         first_system_sent: false,
         stats: SolverStats::default(),
         last_method: "none",
+        timings: Timings::default(),
+        assembly_nanos: AtomicU64::new(0),
         d,
     };
     let compressible = pvt.c_f + pvt.c_r > 0.0;
@@ -368,6 +377,10 @@ pub fn run(
     }
     r.stats.linear_solver = r.last_method.to_string();
     r.stats.wall_seconds = start.elapsed().as_secs_f64();
+    r.timings.assembly = r.assembly_nanos.load(Ordering::Relaxed) as f64 * 1e-9;
+    r.timings.setup = setup_seconds;
+    r.timings.total = r.stats.wall_seconds;
+    observer.timings(&r.timings);
     results.stats = r.stats;
     Ok(results)
 }
@@ -551,6 +564,21 @@ impl Runner<'_> {
         switched
     }
 
+    /// [`assemble`] with the run's context, timed.
+    fn assemble_at(
+        &self,
+        dt: f64,
+        mass_old: Option<&[f64]>,
+        drive: &[WellDrive],
+        x: &[f64],
+        out: &mut Assembly,
+    ) {
+        let t0 = Instant::now();
+        assemble(&self.d, &self.ctx(dt, mass_old, drive), x, out);
+        self.assembly_nanos
+            .fetch_add(t0.elapsed().as_nanos() as u64, Ordering::Relaxed);
+    }
+
     fn ctx<'b>(&'b self, dt: f64, mass_old: Option<&'b [f64]>, drive: &'b [WellDrive]) -> Ctx<'b> {
         Ctx {
             pvt: &self.pvt,
@@ -623,6 +651,8 @@ impl Runner<'_> {
             Ok(st) => {
                 self.last_method = st.method;
                 self.stats.linear_iterations += st.iterations;
+                self.timings.linear_setup += st.setup_seconds;
+                self.timings.linear_solve += st.solve_seconds;
                 Ok(st.iterations)
             }
             Err(e) => Err(format!("linear solve failed: {e}")),
@@ -691,7 +721,7 @@ impl Runner<'_> {
                 return Err(RunError::Cancelled { time: 0.0 });
             }
             let drive: Vec<WellDrive> = wells.iter().map(WellState::drive).collect();
-            assemble(&self.d, &self.ctx(1.0, None, &drive), x, &mut asm);
+            self.assemble_at(1.0, None, &drive, x, &mut asm);
             // The problem is linear: A x - R(x) is the right-hand side of A p = b.
             asm.jac.mul_vec_into(x, &mut rhs);
             rhs.par_iter_mut()
@@ -708,7 +738,13 @@ impl Runner<'_> {
             }
         }
         let drive: Vec<WellDrive> = wells.iter().map(WellState::drive).collect();
-        assemble(&self.d, &self.ctx(1.0, None, &drive), x, &mut asm);
+        flows(
+            &self.d,
+            &self.ctx(1.0, None, &drive),
+            x,
+            &mut asm.well_rate,
+            &mut asm.bnd_rate,
+        );
         let net: f64 = asm.well_rate.iter().chain(&asm.bnd_rate).sum();
         let gross: f64 = 0.5
             * asm
@@ -974,7 +1010,7 @@ impl Runner<'_> {
         let nc = self.d.n_cells;
         let mut switched = self.update_controls(wells, x);
         let mut drive: Vec<WellDrive> = wells.iter().map(WellState::drive).collect();
-        assemble(&self.d, &self.ctx(dt, Some(mass_old), &drive), x, asm);
+        self.assemble_at(dt, Some(mass_old), &drive, x, asm);
         let (mut mc, mut mw, mut merit) = self.measure(asm, dt, &drive);
         let mut last_dp = f64::INFINITY;
         let mut rhs = vec![0.0; n];
@@ -1028,7 +1064,7 @@ impl Runner<'_> {
                 }
                 let sw = self.update_controls(&mut trial_wells, &mut xt);
                 let tdrive: Vec<WellDrive> = trial_wells.iter().map(WellState::drive).collect();
-                assemble(&self.d, &self.ctx(dt, Some(mass_old), &tdrive), &xt, trial);
+                self.assemble_at(dt, Some(mass_old), &tdrive, &xt, trial);
                 let (tc, tw, tm) = self.measure(trial, dt, &tdrive);
                 let good =
                     sw || tm <= merit || (tc <= no.mass_tolerance && tw <= no.well_tolerance);
