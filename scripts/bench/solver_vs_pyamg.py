@@ -113,6 +113,7 @@ def pyamg_child(npz, tol, max_coarse, sweep):
     b = d["b"]
     read_s = time.perf_counter() - t0
     smoother = ("gauss_seidel", {"sweep": sweep})
+    c0 = time.process_time()
     t0 = time.perf_counter()
     ml = pyamg.smoothed_aggregation_solver(
         A,
@@ -129,6 +130,7 @@ def pyamg_child(npz, tol, max_coarse, sweep):
     t0 = time.perf_counter()
     x = ml.solve(b, x0=np.zeros_like(b), tol=tol, accel="cg", maxiter=500, residuals=res)
     solve_s = time.perf_counter() - t0
+    cpu_s = time.process_time() - c0
     rel = float(np.linalg.norm(b - A @ x) / np.linalg.norm(b))
     try:
         from threadpoolctl import threadpool_info
@@ -142,7 +144,7 @@ def pyamg_child(npz, tol, max_coarse, sweep):
         "smoother": f"gauss_seidel sweep={sweep}",
         "n": A.shape[0], "nnz": int(A.nnz), "read_seconds": round(read_s, 3),
         "setup_seconds": round(setup_s, 4), "solve_seconds": round(solve_s, 4),
-        "total_seconds": round(setup_s + solve_s, 4),
+        "total_seconds": round(setup_s + solve_s, 4), "cpu_seconds": round(cpu_s, 3),
         "iterations": len(res) - 1, "rel_residual": rel,
         "levels": len(ml.levels), "operator_complexity": round(ml.operator_complexity(), 4),
         "level_sizes": [[int(l.A.shape[0]), int(l.A.nnz)] for l in ml.levels],
@@ -238,14 +240,16 @@ def main():
     if "rill" in results and "pyamg" in results:
         r, p = results["rill"], results["pyamg"]
         print()
-        print(f"{'':8} {'setup s':>9} {'solve s':>9} {'total s':>9} {'iters':>6} {'levels':>6} {'op.cx':>6} {'rel res':>9} {'peak MiB':>9}")
+        print(f"{'':8} {'setup s':>9} {'solve s':>9} {'total s':>9} {'cpu s':>7} {'iters':>6} {'levels':>6} {'op.cx':>6} {'rel res':>9} {'peak MiB':>9}")
         for name, d in (("rill", r), ("pyamg", p)):
-            print(f"{name:8} {d['setup_seconds']:9.3f} {d['solve_seconds']:9.3f} {d['total_seconds']:9.3f} "
+            print(f"{name:8} {d['setup_seconds']:9.3f} {d['solve_seconds']:9.3f} {d['total_seconds']:9.3f} {d['cpu_seconds']:7.2f} "
                   f"{d['iterations']:6d} {d['levels']:6d} {d['operator_complexity']:6.3f} {d['rel_residual']:9.2e} "
                   f"{d['peak_rss_mib']:9.1f}")
         print(f"pyamg / rill: setup {p['setup_seconds'] / r['setup_seconds']:.2f}x, "
               f"solve {p['solve_seconds'] / r['solve_seconds']:.2f}x, total {p['total_seconds'] / r['total_seconds']:.2f}x"
-              f" (rill on {r['threads']} threads)")
+              f", cpu time {p['cpu_seconds'] / r['cpu_seconds']:.2f}x (rill on {r['threads']} threads)")
+        load = os.getloadavg()
+        print(f"load average during the run: {load[0]:.2f} {load[1]:.2f} {load[2]:.2f} on {os.cpu_count()} cores")
 
 
 if __name__ == "__main__":

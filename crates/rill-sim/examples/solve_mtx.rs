@@ -80,12 +80,14 @@ fn run() -> Result<(), String> {
     let mut runs = Vec::new();
     for _ in 0..repeat.max(1) {
         let mut x = vec![0.0; a.n];
+        let c0 = cpu_seconds();
         let s = solve(&a, &b, &mut x, &opts).map_err(|e| e.to_string())?;
+        let cpu = cpu_seconds() - c0;
         // residual recomputed here too, independently of the solver
         let ax = a.mul_vec(&x);
         let rn: f64 = ax.iter().zip(&b).map(|(p, q)| (q - p) * (q - p)).sum::<f64>().sqrt();
         let bn: f64 = b.iter().map(|v| v * v).sum::<f64>().sqrt();
-        runs.push((s, rn / bn));
+        runs.push((s, rn / bn, cpu));
     }
     // Level sizes (built once more, outside the timings).
     let levels = if matches!(opts.method, Method::AmgCg | Method::AmgBicgstab) {
@@ -94,13 +96,13 @@ fn run() -> Result<(), String> {
     } else {
         String::new()
     };
-    let (best, check) = runs
+    let (best, check, cpu) = runs
         .iter()
         .min_by(|p, q| (p.0.setup_seconds + p.0.solve_seconds).total_cmp(&(q.0.setup_seconds + q.0.solve_seconds)))
         .unwrap();
     println!(
         "{{\"solver\": \"rill\", \"method\": \"{}\", \"n\": {}, \"nnz\": {}, \"threads\": {}, \"read_seconds\": {:.3}, \
-\"setup_seconds\": {:.4}, \"solve_seconds\": {:.4}, \"total_seconds\": {:.4}, \"iterations\": {}, \
+\"setup_seconds\": {:.4}, \"solve_seconds\": {:.4}, \"total_seconds\": {:.4}, \"cpu_seconds\": {:.3}, \"iterations\": {}, \
 \"rel_residual\": {:.3e}, \"rel_residual_check\": {:.3e}, \"levels\": {}, \"operator_complexity\": {:.4}, \
 \"level_sizes\": [{}], \"runs\": {}, \"peak_rss_mib\": {:.1}}}",
         best.method,
@@ -111,6 +113,7 @@ fn run() -> Result<(), String> {
         best.setup_seconds,
         best.solve_seconds,
         best.setup_seconds + best.solve_seconds,
+        cpu,
         best.iterations,
         best.rel_residual,
         check,
@@ -199,6 +202,21 @@ fn read_vector(path: &str, n: usize) -> Result<Vec<f64>, String> {
         }
     }
     Ok(v)
+}
+
+/// User + system CPU time of this process so far (Linux, 10 ms ticks).
+fn cpu_seconds() -> f64 {
+    std::fs::read_to_string("/proc/self/stat")
+        .ok()
+        .and_then(|s| {
+            let rest = &s[s.rfind(')')? + 2..];
+            let f: Vec<&str> = rest.split_whitespace().collect();
+            // fields 14 and 15 of stat (utime, stime) are 11 and 12 after the comm
+            let u: f64 = f.get(11)?.parse().ok()?;
+            let k: f64 = f.get(12)?.parse().ok()?;
+            Some((u + k) / 100.0)
+        })
+        .unwrap_or(f64::NAN)
 }
 
 /// Peak resident set size of this process (Linux), MiB.

@@ -11,8 +11,14 @@
 //!     positive definite matrices (the pressure equation).
 //!   - `Method::AmgBicgstab`: BiCGStab with the same preconditioner, for the
 //!     slightly unsymmetric Newton Jacobians (wells, compressibility upwinding).
-//!   - `Method::Auto`: direct up to [`SolverOptions::direct_max_n`] unknowns,
-//!     above that AMG-CG if the matrix is symmetric and AMG-BiCGStab if not.
+//!   - `Method::Auto`: direct up to [`SolverOptions::direct_max_n`] unknowns
+//!     (and up to [`SolverOptions::direct_max_n_2d`] for matrices with at
+//!     most 5.5 entries a row, i.e. 2D / areal grids, whose factors fill in
+//!     far less), above that AMG-CG if the matrix is symmetric and
+//!     AMG-BiCGStab if not. Measured on heterogeneous pressure matrices on 2
+//!     cores (`scripts/bench/README-solver.md`): AMG-CG overtakes the sparse
+//!     Cholesky at about 7 000 unknowns in 3D (9x faster at 50 000) but only
+//!     at about 100 000 in 2D.
 //!   - `Method::JacobiCg`, `Method::JacobiBicgstab`: diagonal preconditioning,
 //!     for tests and comparisons only.
 //! * [`Solver`] keeps the set-up (the AMG hierarchy, or the symbolic analysis
@@ -76,8 +82,11 @@ pub struct SolverOptions {
     pub max_iter: usize,
     pub method: Method,
     /// `Method::Auto` uses the direct solver up to this many unknowns
-    /// (default 50 000, measured: see `scripts/bench/README-solver.md`).
+    /// (default 10 000, measured: see `scripts/bench/README-solver.md`) ...
     pub direct_max_n: usize,
+    /// ... and up to this many (default 100 000) when the matrix has at most
+    /// 5.5 stored entries a row (2D five-point stencils).
+    pub direct_max_n_2d: usize,
     /// Multigrid parameters.
     pub amg: AmgOptions,
 }
@@ -89,13 +98,16 @@ impl Default for SolverOptions {
             max_iter: 500,
             method: Method::Auto,
             direct_max_n: DEFAULT_DIRECT_MAX_N,
+            direct_max_n_2d: DEFAULT_DIRECT_MAX_N_2D,
             amg: AmgOptions::default(),
         }
     }
 }
 
 /// Threshold of `Method::Auto` between the direct and the AMG solvers.
-pub const DEFAULT_DIRECT_MAX_N: usize = 50_000;
+pub const DEFAULT_DIRECT_MAX_N: usize = 10_000;
+/// Threshold of `Method::Auto` for matrices with <= 5.5 entries a row.
+pub const DEFAULT_DIRECT_MAX_N_2D: usize = 100_000;
 
 /// What a solve did.
 #[derive(Debug, Clone, PartialEq)]
@@ -259,7 +271,8 @@ impl Solver {
         check_inputs(a, b, x)?;
         let method = match self.opts.method {
             Method::Auto => {
-                if a.n <= self.opts.direct_max_n {
+                let two_d = (a.nnz() as f64) <= 5.5 * a.n as f64;
+                if a.n <= self.opts.direct_max_n || (two_d && a.n <= self.opts.direct_max_n_2d) {
                     Method::Direct
                 } else if a.is_symmetric(SYMMETRY_TOL) {
                     Method::AmgCg

@@ -382,18 +382,29 @@ fn amg_bicgstab_on_unsymmetric_convection_diffusion() {
     assert_eq!(s.method, "direct-lu");
     // Auto picks BiCGStab above the direct threshold.
     let mut x = vec![0.0; n];
-    let s = solve(&a, &b, &mut x, &SolverOptions { direct_max_n: 100, ..Default::default() }).unwrap();
+    let s = solve(&a, &b, &mut x, &SolverOptions { direct_max_n: 100, direct_max_n_2d: 100, ..Default::default() }).unwrap();
     assert_eq!(s.method, "amg-bicgstab");
 }
 
 #[test]
 fn auto_picks_direct_small_and_amg_cg_large() {
+    // 3D 7-point above direct_max_n: AMG; the same size in 2D: direct.
+    let a3 = poisson_3d(22);
+    assert!(a3.n > DEFAULT_DIRECT_MAX_N);
+    let mut x = vec![0.0; a3.n];
+    let s = solve(&a3, &rhs(a3.n, 1), &mut x, &SolverOptions::default()).unwrap();
+    assert_eq!(s.method, "amg-cg");
+    let a2 = poisson_2d(110);
+    assert!(a2.n > DEFAULT_DIRECT_MAX_N);
+    let mut x = vec![0.0; a2.n];
+    let s = solve(&a2, &rhs(a2.n, 1), &mut x, &SolverOptions::default()).unwrap();
+    assert_eq!(s.method, "direct-cholesky");
     let a = poisson_2d(30);
     let b = rhs(a.n, 11);
     let mut x = vec![0.0; a.n];
     assert!(solve(&a, &b, &mut x, &SolverOptions::default()).unwrap().method.starts_with("direct"));
     let mut x = vec![0.0; a.n];
-    let s = solve(&a, &b, &mut x, &SolverOptions { direct_max_n: 100, ..Default::default() }).unwrap();
+    let s = solve(&a, &b, &mut x, &SolverOptions { direct_max_n: 100, direct_max_n_2d: 100, ..Default::default() }).unwrap();
     assert_eq!(s.method, "amg-cg");
 }
 
