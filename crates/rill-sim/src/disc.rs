@@ -318,6 +318,8 @@ pub(crate) struct Assembly {
     pub well_rate: Vec<f64>,
     /// Surface rate out through each boundary.
     pub bnd_rate: Vec<f64>,
+    /// Scratch: 1/B of every cell.
+    bcell: Vec<f64>,
 }
 
 impl Assembly {
@@ -328,6 +330,7 @@ impl Assembly {
             mass: vec![0.0; d.n_cells],
             well_rate: vec![0.0; d.n_wells],
             bnd_rate: vec![0.0; n_boundaries],
+            bcell: vec![0.0; d.n()],
         }
     }
 }
@@ -416,6 +419,19 @@ pub(crate) fn assemble(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) {
             r0 = r1;
         }
     }
+    // 1/B of every cell, once (density is rho_ref B_ref / B).
+    let bcell = &mut out.bcell;
+    bcell
+        .par_chunks_mut(CHUNK)
+        .enumerate()
+        .for_each(|(k, chunk)| {
+            for (o, v) in chunk.iter_mut().enumerate() {
+                *v = pvt.b(x[k * CHUNK + o]).0;
+            }
+        });
+    let bcell = &out.bcell;
+    let rho_per_b = pvt.rho_ref * pvt.b_ref;
+    let c_f = pvt.c_f;
     tasks.into_par_iter().for_each(|(r0, r1, vals, res, mass)| {
         let base = rp[r0];
         for i in r0..r1 {
@@ -430,7 +446,8 @@ pub(crate) fn assemble(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) {
                 continue;
             }
             let pi = x[i];
-            let (bi, dbi) = pvt.b(pi);
+            let bi = bcell[i];
+            let dbi = c_f * bi;
             let mut r = 0.0;
             let mut jd = 0.0;
             if let Some(old) = ctx.mass_old {
@@ -452,11 +469,12 @@ pub(crate) fn assemble(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) {
                     continue;
                 }
                 let pj = x[j];
-                let (bj, dbj) = pvt.b(pj);
+                let bj = bcell[j];
+                let dbj = c_f * bj;
                 let (rho, dri, drj) = if i < j {
-                    pvt.face_rho(pi, pj)
+                    pvt.face_rho_from(rho_per_b * bi, pi, pj)
                 } else {
-                    let (r, a, b) = pvt.face_rho(pj, pi);
+                    let (r, a, b) = pvt.face_rho_from(rho_per_b * bj, pj, pi);
                     (r, b, a)
                 };
                 let dd = depth[i] - depth[j];

@@ -86,7 +86,12 @@ impl Pvt {
     /// get the same bits.
     #[inline]
     pub fn face_rho(&self, pa: f64, pb: f64) -> (f64, f64, f64) {
-        let (ra, _) = self.rho(pa);
+        self.face_rho_from(self.rho(pa).0, pa, pb)
+    }
+
+    /// [`Pvt::face_rho`] with `rho(pa)` already known.
+    #[inline]
+    pub fn face_rho_from(&self, ra: f64, pa: f64, pb: f64) -> (f64, f64, f64) {
         if self.c_f == 0.0 {
             return (ra, 0.0, 0.0);
         }

@@ -731,6 +731,10 @@ impl Runner<'_> {
             self.stats.newton_iterations += 1;
             self.solve_linear(&asm.jac, &rhs, &mut sol, observer)
                 .map_err(|e| fail(e, rounds))?;
+            // Held cells keep their pressure exactly.
+            for (i, _) in self.pinned.iter().enumerate().filter(|(_, p)| **p) {
+                sol[i] = x[i];
+            }
             *x = sol;
             rounds += 1;
             if !self.update_controls(wells, x) || rounds > 2 * self.opts.newton.max_switches + 1 {
@@ -811,6 +815,7 @@ impl Runner<'_> {
                 .filter(|&t| t > 0.0 && t < end),
         );
         stops.push(end);
+        stops.retain(|&t| t > 0.0);
         stops.sort_by(f64::total_cmp);
         stops.dedup_by(|a, b| (*a - *b).abs() <= 1e-9 * end.abs().max(1.0));
 
@@ -1054,6 +1059,9 @@ impl Runner<'_> {
                     linear: lin,
                 })?;
             lin += li;
+            for (i, _) in self.pinned.iter().enumerate().filter(|(_, p)| **p) {
+                delta[i] = 0.0;
+            }
             // Line search on the scaled residual.
             let mut alpha = 1.0;
             let mut accepted = None;

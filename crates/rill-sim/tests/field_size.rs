@@ -142,3 +142,32 @@ fn five_wells_steady_1_12_million_cells() {
         r.stats.wall_seconds
     );
 }
+
+fn transient(mut case: Case) -> Case {
+    case.timeline.kind = RunKind::Transient;
+    case.timeline.end = 30.0 * DAY;
+    case.timeline.first_step = 1.0 * DAY;
+    case.timeline.growth = 2.0;
+    case.timeline.max_step = 10.0 * DAY;
+    case.timeline.report_every = Some(10.0 * DAY);
+    case.rock.compressibility = 4e-6 / PSI;
+    case
+}
+
+#[test]
+fn five_wells_transient_small() {
+    let case = transient(field_case(30, 20, 4));
+    let r = run(&case, &RunOptions::default(), &mut NoObserverTimed).unwrap();
+    eprintln!("{:?}", r.stats);
+    assert_balanced(&r);
+    assert_eq!(r.times.len(), 4);
+}
+
+#[test]
+#[ignore = "160 000 cells transient: run in release (see the module doc)"]
+fn five_wells_transient_160k_cells() {
+    let case = transient(field_case(100, 80, 20));
+    let r = run(&case, &RunOptions::default(), &mut NoObserverTimed).unwrap();
+    eprintln!("{:?}", r.stats);
+    assert_balanced(&r);
+}

@@ -197,3 +197,48 @@ fn assembled_transmissibilities_are_the_derived_ones() {
         "the steady pressure matrix is symmetric"
     );
 }
+
+/// A steady run with nothing that fixes the pressure level (rate control
+/// only, closed outside) has no solution and says so.
+#[test]
+fn steady_without_pressure_support_is_a_setup_error() {
+    let mut case = steady(block(
+        vec![100.0 * FT; 4],
+        vec![100.0 * FT; 4],
+        vec![20.0 * FT],
+        5000.0 * FT,
+    ));
+    case.wells = vec![well(
+        &case,
+        "P",
+        Role::Producer,
+        1,
+        1,
+        0,
+        0,
+        Control::Rate(100.0 * STB_DAY),
+    )];
+    let err = run(&case, &RunOptions::default(), &mut NoObserver).unwrap_err();
+    assert!(matches!(err, rill_sim::RunError::Setup(_)), "{err:?}");
+    assert!(err.to_string().contains("\"P\""), "{err}");
+}
+
+/// A region cut off by inactive cells from every boundary and BHP well
+/// keeps its initial pressure; the rest solves normally.
+#[test]
+fn steady_isolated_region_keeps_its_initial_pressure() {
+    let mut case = steady(block(
+        vec![100.0 * FT; 5],
+        vec![100.0 * FT; 1],
+        vec![20.0 * FT],
+        5000.0 * FT,
+    ));
+    case.rock.porosity[2] = 0.0; // splits the row into two regions
+    case.initial = Initial::Cells(vec![2500.0 * PSI; 5]);
+    case.boundaries = vec![boundary("W", Side::West, 3000.0 * PSI, None)];
+    let r = run(&case, &RunOptions::default(), &mut NoObserver).unwrap();
+    let p = &r.pressure[0];
+    assert!((p[0] / PSI - 3000.0).abs() < 1e-6 && (p[1] / PSI - 3000.0).abs() < 1e-6);
+    assert!(p[2].is_nan());
+    assert_eq!((p[3], p[4]), (2500.0 * PSI, 2500.0 * PSI));
+}

@@ -300,6 +300,65 @@ fn hydrostatic_equilibrium_stays_at_rest() {
     }
 }
 
+/// Constant-pressure boundaries whose datum pressure lies on the initial
+/// hydrostat, on a side face and on the bottom face, and a BHP well held at
+/// its shut-in pressure, leave the equilibrium undisturbed: no flow anywhere
+/// (common practice, no published source).
+#[test]
+fn equilibrium_with_hydrostatic_boundaries_and_shut_in_well_stays_at_rest() {
+    let mut case = layered_column_case();
+    case.boundaries = vec![
+        boundary("west", Side::West, 3000.0 * PSI, Some(5000.0 * FT)),
+        boundary("bottom", Side::Bottom, 3000.0 * PSI, Some(5000.0 * FT)),
+    ];
+    // Datum of the well: its shallowest completion centre, on the initial hydrostat.
+    let mut probe = case.clone();
+    probe.wells = vec![well(
+        &case,
+        "W",
+        Role::Producer,
+        2,
+        1,
+        1,
+        3,
+        Control::Rate(0.0),
+    )];
+    let r0 = run(&probe, &RunOptions::default(), &mut NoObserver).unwrap();
+    let shut_in = r0.wells[0].bhp[0];
+    case.wells = vec![well(
+        &case,
+        "W",
+        Role::Producer,
+        2,
+        1,
+        1,
+        3,
+        Control::Bhp(shut_in),
+    )];
+    let r = run(&case, &RunOptions::default(), &mut NoObserver).unwrap();
+    let last = r.times.len() - 1;
+    let moved = r.pressure[0]
+        .iter()
+        .zip(&r.pressure[last])
+        .map(|(a, b)| (a - b).abs())
+        .fold(0.0, f64::max);
+    assert!(moved / PSI < 1e-3, "a cell moved by {} psi", moved / PSI);
+    for b in &r.boundaries {
+        assert!(
+            b.rate[last].abs() / STB_DAY < 1e-6,
+            "{}: {} stb/day",
+            b.name,
+            b.rate[last] / STB_DAY
+        );
+    }
+    assert!(
+        r.wells[0].rate[last].abs() / STB_DAY < 1e-6,
+        "well: {} stb/day",
+        r.wells[0].rate[last] / STB_DAY
+    );
+    assert_balanced(&r);
+}
+
 /// A uniform start is not in equilibrium: the fluid settles and pressure
 /// increases downward in every column afterwards, towards the hydrostatic
 /// gradient (common practice, no published source).
