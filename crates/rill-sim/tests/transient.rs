@@ -614,3 +614,45 @@ fn failed_step_names_step_and_time() {
     assert!(msg.starts_with("step 1 failed at t = 0 day"), "{msg}");
     assert!(msg.contains("Newton did not converge"), "{msg}");
 }
+
+/// An injector on rate control into a closed block switches to its upper
+/// BHP limit as the block fills (common practice, no published source).
+#[test]
+fn injector_switches_to_its_upper_bhp_limit() {
+    let mut case = block(
+        vec![100.0 * FT; 8],
+        vec![100.0 * FT; 8],
+        vec![20.0 * FT],
+        7000.0 * FT,
+    );
+    case.rock.compressibility = 4e-6 / PSI;
+    let mut w = well(
+        &case,
+        "I",
+        Role::Injector,
+        3,
+        4,
+        0,
+        0,
+        Control::Rate(300.0 * STB_DAY),
+    );
+    w.bhp_limit = Some(3600.0 * PSI);
+    case.wells = vec![w];
+    case.timeline.end = 40.0 * DAY;
+    case.timeline.max_step = 1.0 * DAY;
+    case.timeline.report_every = Some(4.0 * DAY);
+    let r = run(&case, &RunOptions::default(), &mut NoObserver).unwrap();
+    let s = &r.wells[0];
+    assert_eq!(s.mode[1], ControlMode::Rate);
+    assert!(
+        (s.rate[1] / (-300.0 * STB_DAY) - 1.0).abs() < 1e-8,
+        "injection is a negative rate"
+    );
+    assert!(s.cumulative[1] < 0.0);
+    let last = r.times.len() - 1;
+    assert_eq!(s.mode[last], ControlMode::Bhp);
+    assert_eq!(s.bhp[last], 3600.0 * PSI);
+    assert!(s.rate[last] < 0.0 && s.rate[last] > -300.0 * STB_DAY);
+    assert!(r.pressure_avg[last] > r.pressure_avg[0]);
+    assert_balanced(&r);
+}
