@@ -20,7 +20,13 @@
 //! * boundaries: half-cell transmissibility to a constant (or hydrostatic)
 //!   pressure at the face centre;
 //! * backward Euler, Newton with line search, step halving, report times
-//!   hit exactly; steady runs solve the incompressible pressure equation.
+//!   hit exactly; steady runs solve the incompressible pressure equation
+//!   (`B`, `rho` at their reference values, initial controls; events do not
+//!   apply) once, again only if a well switches to or from its limit.
+//!
+//! Acceptance tests against published results are in `tests/` (each names
+//! its source); `tests/field_size.rs` has the 1.12 million cell steady case
+//! (ignored in debug builds; run it with `--release -- --ignored`).
 
 mod disc;
 pub mod linear;
