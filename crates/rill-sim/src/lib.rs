@@ -8,11 +8,11 @@
 //!
 //! Entry point: [`run`]. Modelling choices (each documented where it lives):
 //! * slightly compressible liquid, exponential `B(p)`, `rho(p)`, `phi(p)`
-//!   ([`pvt`](crate::pvt));
+//!   (module `pvt`);
 //! * two-point fluxes with the `derived` geometric transmissibilities, the
 //!   mobility `1/(mu B)` averaged arithmetically at the face, and a face
 //!   density exactly consistent with the hydrostatic initial state, so a
-//!   model at equilibrium stays at rest to rounding ([`disc`](crate::disc));
+//!   model at equilibrium stays at rest to rounding (module `disc`);
 //! * wells: Peaceman completions, BHP at the centre of the shallowest
 //!   completion, wellbore fluid on the same hydrostat, rate control with the
 //!   BHP as an unknown, switching to and from the BHP limit after every
