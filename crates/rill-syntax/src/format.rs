@@ -18,7 +18,9 @@
 //! - Lists are `[a b c]` with single spaces and no commas, except that a
 //!   comma is kept where, without it, the next item would be read as the
 //!   unit of the one before or would make or extend a size (`[1, md]`,
-//!   `[30 x 2, x]`, `[0 x, 5]`).
+//!   `[30 x 2, x]`, `[0 x, 5]`). For the same reason a one-item tuple
+//!   after a number, string or list without a unit gets a trailing comma
+//!   outside lists: `12 (m,)`, since `12 (m)` is `12` with the unit `(m)`.
 //!   A line longer than 100 columns is wrapped between list or tuple items,
 //!   filling each line; continuation lines are indented one level deeper.
 //!   A comment inside a list stays where it was, at the end of its line,
@@ -108,16 +110,25 @@ fn with_unit(mut s: String, unit: &Option<UnitExpr>) -> String {
     s
 }
 
+/// Would a unit written right after this atom attach to it?
+fn takes_unit(a: &Atom) -> bool {
+    match &a.kind {
+        AtomKind::Number { unit: None, .. } | AtomKind::Str { unit: None, .. } | AtomKind::List { unit: None, .. } => true,
+        AtomKind::Selector { value, .. } => takes_unit(value),
+        _ => false,
+    }
+}
+
+/// A one-item tuple such as `(m)` written after an atom that takes a unit
+/// would be read as that unit; outside lists it gets a trailing comma: `(m,)`.
+fn needs_tuple_comma(prev: Option<&Atom>, next: &Atom) -> bool {
+    prev.is_some_and(takes_unit) && matches!(&next.kind, AtomKind::Tuple { items, .. } if items.len() == 1)
+}
+
 /// Would `next`, written after `prev` with only a space between them, be
 /// read as `prev`'s unit or as part of a size?
 fn needs_comma(prev: &Atom, next: &Atom) -> bool {
-    let takes_unit = matches!(
-        &prev.kind,
-        AtomKind::Number { unit: None, .. }
-            | AtomKind::Str { unit: None, .. }
-            | AtomKind::List { unit: None, .. }
-            | AtomKind::Size(_)
-    );
+    let takes_unit = takes_unit(prev) || matches!(prev.kind, AtomKind::Size(_));
     if takes_unit && matches!(next.kind, AtomKind::Ident(_) | AtomKind::Tuple { .. } | AtomKind::Selector { .. }) {
         return true;
     }
@@ -232,17 +243,13 @@ impl<'a> Fmt<'a> {
 
     fn statement_words(&mut self, s: &Statement) -> Vec<Word> {
         let mut words = vec![word(s.key.name.clone(), false, false), word("=".into(), true, false)];
-        for a in &s.value.atoms {
-            self.atom_words(a, &mut words, true, 0);
-        }
+        self.seq_words(&s.value.atoms, &mut words);
         words
     }
 
     fn directive_words(&mut self, d: &Directive) -> Vec<Word> {
         let mut words = vec![word(d.name.name.clone(), false, false)];
-        for a in &d.args {
-            self.atom_words(a, &mut words, true, 0);
-        }
+        self.seq_words(&d.args, &mut words);
         words
     }
 
@@ -262,9 +269,7 @@ impl<'a> Fmt<'a> {
             self.next = saved;
         }
         let mut words = vec![word(b.name.name.clone(), false, false)];
-        for a in &b.args {
-            self.atom_words(a, &mut words, true, 0);
-        }
+        self.seq_words(&b.args, &mut words);
         words.push(word("{".into(), true, false));
         let text = layout(&words, level);
         self.out.push_str(&indent(level));
@@ -284,7 +289,7 @@ impl<'a> Fmt<'a> {
     fn one_line_source(&self, b: &Block) -> bool {
         b.close.is_some()
             && !self.has_break(b.span.start, b.span.end)
-            && self.peek_comment().map_or(true, |c| c.span.start >= b.span.end)
+            && self.peek_comment().is_none_or(|c| c.span.start >= b.span.end)
     }
 
     fn inline_item(&mut self, item: &Item) -> String {
@@ -303,9 +308,7 @@ impl<'a> Fmt<'a> {
 
     fn inline_block(&mut self, b: &Block) -> String {
         let mut words = vec![word(b.name.name.clone(), false, false)];
-        for a in &b.args {
-            self.atom_words(a, &mut words, true, 0);
-        }
+        self.seq_words(&b.args, &mut words);
         let mut s = inline(&words);
         if b.items.is_empty() {
             s.push_str(" {}");
@@ -320,6 +323,20 @@ impl<'a> Fmt<'a> {
         }
         s.push_str(" }");
         s
+    }
+
+    /// Atoms in a row outside brackets: a value, header or directive arguments.
+    fn seq_words(&mut self, atoms: &[Atom], words: &mut Vec<Word>) {
+        for (i, a) in atoms.iter().enumerate() {
+            let guard = needs_tuple_comma(i.checked_sub(1).map(|p| &atoms[p]), a);
+            self.atom_words(a, words, true, 0);
+            if guard {
+                // The last word is the tuple's `)`.
+                if let Some(w) = words.last_mut() {
+                    w.text.insert(0, ',');
+                }
+            }
+        }
     }
 
     /// Comments before `limit` inside brackets, as words.

@@ -84,23 +84,16 @@ pub(crate) fn range_tail(i: &str) -> IResult<&str, &str> {
     preceded(tag(".."), int_lit)(i)
 }
 
-/// ` x 20 x 4` after the first integer of a size. Each part is a whole
-/// number token: `30 x 2.5`, `30 x 2e3` and `30 x 1..5` are no sizes (the
-/// formatter never splits a number or a range, so this stays stable). A
-/// name glued after the last part does not matter (`30 x20x4ft` is a size,
-/// then the name `ft`): the formatter puts a space after every atom, and a
-/// size must stay a size.
+/// ` x 20 x 4` after the first integer of a size.
+///
+/// What follows a part never matters except `..`: the formatter writes a
+/// space after every atom (`30x20x4ft` becomes `30 x 20 x 4 ft`), so a
+/// lexing decision that looked at glued text after the digits (a name, `.5`,
+/// `e3`) would change on the formatted text. Only `..` is looked at, since a
+/// range is always written glued: `0 x 1..5` is `0 x` then the range `1..5`.
+/// So `30 x 2.5` is the size `30 x 2` then `.5`, which the model reports.
 pub(crate) fn size_tail(i: &str) -> IResult<&str, Vec<&str>> {
-    many1(preceded(tuple((hspace0, char('x'), hspace0)), size_part))(i)
-}
-
-fn size_part(i: &str) -> IResult<&str, &str> {
-    let (rest, digits) = digit1(i)?;
-    let whole = number(i).map_or(false, |(_, n)| n.len() == digits.len());
-    if !whole || rest.starts_with("..") {
-        return Err(nom::Err::Error(Error::new(i, ErrorKind::Digit)));
-    }
-    Ok((rest, digits))
+    many1(preceded(tuple((hspace0, char('x'), hspace0)), terminated(digit1, not(tag("..")))))(i)
 }
 
 /// `^2`, `^-1`, `^+3`.
@@ -361,7 +354,7 @@ impl<'a> Lexer<'a> {
                 let start = self.pos;
                 let end = self.pos + (r.len() - r2.len());
                 if let Some(s) = sink.as_deref_mut() {
-                    if s.comments.last().map_or(true, |c| c.span.start < start) {
+                    if s.comments.last().is_none_or(|c| c.span.start < start) {
                         s.comments.push(Comment { text: body.to_string(), span: Span::new(start, end) });
                     }
                 }

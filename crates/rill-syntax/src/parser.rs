@@ -153,13 +153,11 @@ impl<'a> Parser<'a> {
     fn skip(&mut self, stop_at_brace: bool) -> bool {
         let mut depth = 0usize;
         loop {
+            if self.tok.tok == Tok::Newline && (depth == 0 || self.next_line_starts_item()) {
+                return false;
+            }
             match &self.tok.tok {
                 Tok::Eof | Tok::Semi => return false,
-                Tok::Newline => {
-                    if depth == 0 || self.next_line_starts_item() {
-                        return false;
-                    }
-                }
                 Tok::RBrace if self.blocks > 0 => return false,
                 Tok::LBrace if stop_at_brace && depth == 0 => return true,
                 Tok::LBracket | Tok::LParen => depth += 1,
@@ -198,8 +196,9 @@ impl<'a> Parser<'a> {
                     items.push(item);
                 }
                 _ => {
+                    // Not a stop token, so `skip` consumes it (and counts it
+                    // when it is a bracket).
                     self.unexpected("a key, a block or a directive");
-                    self.bump();
                     self.skip(false);
                 }
             }
@@ -474,13 +473,11 @@ impl<'a> Parser<'a> {
     fn skip_nested(&mut self, mut end: usize) -> usize {
         let mut level = 1usize;
         loop {
+            if self.tok.tok == Tok::Newline && self.next_line_starts_item() {
+                return end;
+            }
             match &self.tok.tok {
                 Tok::Eof | Tok::Semi | Tok::RBrace => return end,
-                Tok::Newline => {
-                    if self.next_line_starts_item() {
-                        return end;
-                    }
-                }
                 Tok::LBracket | Tok::LParen => level += 1,
                 Tok::RBracket(_) | Tok::RParen => {
                     level -= 1;

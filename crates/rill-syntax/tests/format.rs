@@ -36,6 +36,8 @@ fn spacing_and_atoms() {
     fmt("k = kx   -5\n", "k = kx -5\n");
     fmt("c = 30x20x4\n", "c = 30 x 20 x 4\n");
     fmt("c = 30 x20 x 4\n", "c = 30 x 20 x 4\n");
+    fmt("c = 0x10.1 day\n", "c = 0 x 10 .1 day\n");
+    fmt("c = 30x20x4ft\n", "c = 30 x 20 x 4 ft\n");
     fmt("p = 22%\n", "p = 22 %\n");
     fmt("p = 250md\n", "p = 250 md\n");
     fmt("d = 62.4\tlb/ft^3\n", "d = 62.4 lb/ft^3\n");
@@ -61,6 +63,11 @@ fn commas_kept_where_needed() {
     fmt("x = [1, (m)]\n", "x = [1, (m)]\n");
     fmt("x = [1 md, m]\n", "x = [1 md m]\n");
     fmt("x = [a, b]\n", "x = [a b]\n");
+    fmt("x = 12 ( x1)\n", "x = 12 (x1,)\n");
+    fmt("x = 12 (x1,)\n", "x = 12 (x1,)\n");
+    fmt("x = \"s\" ( m) (m, s)\n", "x = \"s\" (m,) (m, s)\n");
+    fmt("p i = 3 ( k) {\n}\n", "p i = 3 (k,) {\n}\n");
+    fmt("x = 12 md (m)\n", "x = 12 md (m)\n");
     fmt("x = [0 x, 5]\n", "x = [0 x, 5]\n");
     fmt("x = [0 x\n 5..6]\n", "x = [0 x, 5..6]\n");
     fmt("x = [0 x, -5]\n", "x = [0 x -5]\n");

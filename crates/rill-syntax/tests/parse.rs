@@ -147,10 +147,12 @@ fn sizes() {
     // What is glued after the last integer does not change the size.
     assert_eq!(value("30 x20a"), vec![AtomKind::Size(vec![30, 20]), id("a")]);
     assert_eq!(value("30 x 20Ux 4"), vec![AtomKind::Size(vec![30, 20]), id("Ux"), num("4")]);
-    // Each part is a whole integer token.
-    assert_eq!(value("30 x 2.5"), vec![qty("30", "x"), num("2.5")]);
-    assert_eq!(value("30 x 2e3"), vec![qty("30", "x"), num("2e3")]);
+    // Glued text after a part does not matter, except `..`.
+    assert_eq!(value("30 x 2.5"), vec![AtomKind::Size(vec![30, 2]), num(".5")]);
+    assert_eq!(value("30 x 2e3"), vec![AtomKind::Size(vec![30, 2]), id("e3")]);
+    assert_eq!(value("0x10.1 day"), vec![AtomKind::Size(vec![0, 10]), qty(".1", "day")]);
     assert_eq!(value("0 x 0 x 1..2"), vec![AtomKind::Size(vec![0, 0]), id("x"), AtomKind::Range { start: 1, end: 2 }]);
+    assert_eq!(value("0 x 1..2"), vec![qty("0", "x"), AtomKind::Range { start: 1, end: 2 }]);
     // A negative or decimal number never starts a size.
     assert_eq!(value("2.5 x 3"), vec![qty("2.5", "x"), num("3")]);
     assert_eq!(value("-2 x 3"), vec![qty("-2", "x"), num("3")]);
@@ -432,6 +434,8 @@ fn error_stray_tokens() {
     assert_eq!(e[0].4, "`=`");
     let e = errors("= 3\n");
     assert_eq!(e, vec![(SyntaxErrorKind::Unexpected, 0, 1, "a key, a block or a directive".into(), "`=`".into())]);
+    let e = errors("[1\n 2]\nx = 1\n");
+    assert_eq!(e.len(), 1, "{e:?}");
     let e = errors("}\n");
     assert_eq!((e[0].1, e[0].2), (0, 1));
     let e = errors("a = @@@ 4\n");

@@ -8,6 +8,11 @@
 //!    mutant happens to be clean it formats correctly.
 //! 3. Generated valid decks parse without errors and round-trip through the
 //!    formatter: idempotent, comment-preserving, meaning-preserving.
+//! 4. Token soup: lexical fragments glued by random separators (nothing,
+//!    space, tab, comma, line break) inside a value, a list, a tuple or a
+//!    block header. Never a panic; every soup that parses cleanly must
+//!    round-trip. This hunts lexing rules that depend on what is glued,
+//!    which the formatter (spacing every atom) would change.
 
 mod common;
 
@@ -15,6 +20,20 @@ use common::*;
 use proptest::prelude::*;
 use proptest::sample::select;
 use rill_syntax::*;
+
+/// With `RILL_SYNTAX_COUNT` set, prints every 100 000th case of each
+/// property, so that a long campaign shows how many cases really ran.
+fn count(name: &str, counter: &std::sync::atomic::AtomicUsize) {
+    let n = counter.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+    if n % 100_000 == 0 && std::env::var_os("RILL_SYNTAX_COUNT").is_some() {
+        eprintln!("{name}: {n} cases");
+    }
+}
+
+static SOUP: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+static BYTES: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+static MUTATED: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+static DECKS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
 
 fn check_bytes(bytes: &[u8]) {
     let (text, file) = parse_bytes(bytes);
@@ -344,9 +363,37 @@ fn deck() -> impl Strategy<Value = String> {
         })
 }
 
+const FRAGMENTS: &[&str] = &[
+    "0", "1", "12", "007", ".5", "1.5", "1e3", "2e+3", "-3", "-", "+", "*", "/", "..", "%", "^", "^2", "(", ")", "[", "]",
+    ",", "x", "x1", "x 2", "md", "at", "e", "e3", "ft", "m", "1/", "\"s\"", "\"a\\\"b\"", "=", "k =", ";", "#c\n", "{", "}",
+    "(m)", "(1)", "1/(", "-.5", "1..", "..3", "x2", "\r", "\r\n", "m^-1", "1*", "_", "é", "\u{0}", "1..5", "3 x 4",
+];
+
+fn soup() -> impl Strategy<Value = String> {
+    (
+        prop::collection::vec((0..FRAGMENTS.len(), select(vec!["", "", " ", " ", "\t", ",", "\n"])), 1..16),
+        select(vec!["x = {}\n", "x = [{}]\n", "x = ({})\n", "p {} {{\n}}\n", "x = [{}] md\n", "w {{ x = {} }}\n"]),
+    )
+        .prop_map(|(parts, shape)| {
+            let mut body = String::new();
+            for (f, sep) in parts {
+                body.push_str(FRAGMENTS[f]);
+                body.push_str(sep);
+            }
+            shape.replace("{}", &body).replace("{{", "{").replace("}}", "}")
+        })
+}
+
 proptest! {
     #[test]
+    fn token_soup_round_trips(text in soup()) {
+        count("token_soup_round_trips", &SOUP);
+        check_bytes(text.as_bytes());
+    }
+
+    #[test]
     fn random_bytes_never_panic(bytes in prop::collection::vec(byte(), 0..400)) {
+        count("random_bytes_never_panic", &BYTES);
         check_bytes(&bytes);
     }
 
@@ -355,6 +402,7 @@ proptest! {
         clean in any::<bool>(),
         muts in prop::collection::vec(mutation(), 1..8),
     ) {
+        count("mutated_deck_never_panics", &MUTATED);
         let mut bytes = if clean { clean_deck().into_bytes() } else { SPEC_DECK.as_bytes().to_vec() };
         for m in &muts {
             apply(&mut bytes, m);
@@ -364,6 +412,7 @@ proptest! {
 
     #[test]
     fn generated_decks_round_trip(text in deck()) {
+        count("generated_decks_round_trip", &DECKS);
         let file = parse(&text);
         prop_assert!(file.errors.is_empty(), "generated deck has errors {:#?}\n{}", file.errors, text);
         check_invariants(&text, &file);

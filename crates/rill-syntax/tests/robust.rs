@@ -90,7 +90,8 @@ fn time_is_linear() {
     // Patterns that exercise look-ahead: open lists whose continuation lines
     // are scanned, nested open lists ending at one line, many short items,
     // many errors, long units after numbers, strings followed by units.
-    let patterns: Vec<(&str, Box<dyn Fn(usize) -> String>)> = vec![
+    type Make = Box<dyn Fn(usize) -> String>;
+    let patterns: Vec<(&str, Make)> = vec![
         ("statements", Box::new(|n| "kx = layers [150 40 300 90] md # c\n".repeat(n / 36))),
         ("open list lines", Box::new(|n| format!("x = [{}", "a b c {\n".repeat(n / 8)))),
         ("nested open lists", Box::new(|n| format!("x = {}\nw {}{{\n}}\n", "[".repeat(100), "a ".repeat(n / 2)))),
