@@ -6,7 +6,7 @@
 //! cargo run --release -p rill-sim --example solve_mtx -- A.mtx b.mtx \
 //!     [--method amg-cg|amg-bicgstab|direct|auto|jacobi-cg] [--tol 1e-8] \
 //!     [--smoother hgs|l1|cheb2|cheb3] [--sweeps 1] [--blocks 16] \
-//!     [--theta 0] [--max-coarse 3000] [--max-iter 500] [--repeat 1]
+//!     [--theta 0] [--max-coarse 3000] [--max-iter 500] [--repeat 1] [--reuse-check]
 //! ```
 //!
 //! The matrix may be `coordinate real general` or `coordinate real
@@ -32,6 +32,7 @@ fn run() -> Result<(), String> {
     opts.method = Method::AmgCg;
     let mut amg = AmgOptions::default();
     let mut repeat = 1usize;
+    let mut reuse_check = false;
     let mut it = args.iter();
     while let Some(a) = it.next() {
         let mut val = || it.next().cloned().ok_or_else(|| format!("{a} needs a value"));
@@ -62,6 +63,7 @@ fn run() -> Result<(), String> {
             "--theta" => amg.strength_threshold = num(&val()?)?,
             "--max-coarse" => amg.max_coarse = num(&val()?)?,
             "--repeat" => repeat = num(&val()?)?,
+            "--reuse-check" => reuse_check = true,
             f if !f.starts_with("--") => files.push(f.to_string()),
             f => return Err(format!("unknown option {f}")),
         }
@@ -89,6 +91,30 @@ fn run() -> Result<(), String> {
         let bn: f64 = b.iter().map(|v| v * v).sum::<f64>().sqrt();
         runs.push((s, rn / bn, cpu));
     }
+    // Reuse across a "Newton iteration": a Solver keeps the set-up, the
+    // matrix changes values (diagonal +2%, as a changed accumulation term).
+    let reuse = if reuse_check {
+        let mut solver = rill_sim::linear::Solver::new(opts.clone());
+        let mut x = vec![0.0; a.n];
+        let s1 = solver.solve(&a, &b, &mut x).map_err(|e| e.to_string())?;
+        let mut a2 = a.clone();
+        for i in 0..a2.n {
+            for k in a2.row_ptr[i]..a2.row_ptr[i + 1] {
+                if a2.col_idx[k] == i {
+                    a2.values[k] *= 1.02;
+                }
+            }
+        }
+        let mut x = vec![0.0; a.n];
+        let s2 = solver.solve(&a2, &b, &mut x).map_err(|e| e.to_string())?;
+        format!(
+            ", \"reuse\": {{\"first\": {{\"setup_seconds\": {:.4}, \"solve_seconds\": {:.4}, \"iterations\": {}}}, \
+\"second\": {{\"reused\": {}, \"setup_seconds\": {:.4}, \"solve_seconds\": {:.4}, \"iterations\": {}}}}}",
+            s1.setup_seconds, s1.solve_seconds, s1.iterations, s2.reused_setup, s2.setup_seconds, s2.solve_seconds, s2.iterations
+        )
+    } else {
+        String::new()
+    };
     // Level sizes (built once more, outside the timings).
     let levels = if matches!(opts.method, Method::AmgCg | Method::AmgBicgstab) {
         let h = rill_sim::linear::AmgHierarchy::build(&a, &opts.amg).map_err(|e| e.to_string())?;
@@ -104,7 +130,7 @@ fn run() -> Result<(), String> {
         "{{\"solver\": \"rill\", \"method\": \"{}\", \"n\": {}, \"nnz\": {}, \"threads\": {}, \"read_seconds\": {:.3}, \
 \"setup_seconds\": {:.4}, \"solve_seconds\": {:.4}, \"total_seconds\": {:.4}, \"cpu_seconds\": {:.3}, \"iterations\": {}, \
 \"rel_residual\": {:.3e}, \"rel_residual_check\": {:.3e}, \"levels\": {}, \"operator_complexity\": {:.4}, \
-\"level_sizes\": [{}], \"runs\": {}, \"peak_rss_mib\": {:.1}}}",
+\"level_sizes\": [{}], \"runs\": {}, \"peak_rss_mib\": {:.1}{}}}",
         best.method,
         a.n,
         a.nnz(),
@@ -121,7 +147,8 @@ fn run() -> Result<(), String> {
         best.operator_complexity,
         levels,
         runs.len(),
-        peak_rss_mib()
+        peak_rss_mib(),
+        reuse
     );
     Ok(())
 }

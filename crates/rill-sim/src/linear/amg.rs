@@ -127,6 +127,7 @@ pub struct AmgHierarchy {
     levels: Vec<Level>,
     nnz: Vec<usize>,
     coarse: DirectFactor,
+    symmetric: bool,
     smoother: Smoother,
     sweeps: usize,
     work: Mutex<Vec<Work>>,
@@ -229,6 +230,7 @@ impl AmgHierarchy {
             levels,
             nnz,
             coarse,
+            symmetric,
             smoother: opts.smoother,
             sweeps: opts.sweeps.max(1),
             work: Mutex::new(work),
@@ -248,6 +250,36 @@ impl AmgHierarchy {
             Smoother::L1Jacobi => l1_inverse_diagonal(a),
             _ => super::inverse_diagonal(a)?,
         };
+        Ok(())
+    }
+
+    /// Recomputes the coarse operators P^T A P for a new fine matrix with the
+    /// same pattern, keeping the aggregates and prolongators, and refactors
+    /// the coarsest level.
+    pub fn refresh_galerkin(&mut self, a: &CsrMatrix) -> Result<(), LinearError> {
+        self.refresh_fine(a)?;
+        let nl = self.levels.len();
+        for l in 0..nl - 1 {
+            let ac = {
+                let a_l = if l == 0 { a } else { &self.levels[l].a };
+                let lev = &self.levels[l];
+                let (p, r) = (lev.p.as_ref().unwrap(), lev.r.as_ref().unwrap());
+                let ap = spgemm(a_l.into(), p.view());
+                spgemm(r.view(), ap.view()).into_square()
+            };
+            let next = &mut self.levels[l + 1];
+            next.inv_diag = match self.smoother {
+                Smoother::L1Jacobi => l1_inverse_diagonal(&ac),
+                _ => super::inverse_diagonal(&ac)?,
+            };
+            self.nnz[l + 1] = ac.nnz();
+            next.a = ac;
+        }
+        if nl > 1 {
+            self.coarse = factor_coarse(&self.levels[nl - 1].a, self.symmetric)?;
+        } else {
+            self.coarse = factor_coarse(a, self.symmetric)?;
+        }
         Ok(())
     }
 

@@ -449,7 +449,7 @@ fn solver_reuses_hierarchy_and_rebuilds_on_pattern_change() {
     let mut x = vec![0.0; a.n];
     let s2 = solver.solve(&a2, &b, &mut x).unwrap();
     assert!(s2.reused_setup, "{s2:?}");
-    assert_eq!(s2.setup_seconds, 0.0);
+    assert!(s2.setup_seconds < 0.5 * s1.setup_seconds, "{s2:?} vs {s1:?}");
     assert!(true_rel_residual(&a2, &b, &x) <= 1e-10);
     // different pattern: rebuilt
     let a3 = poisson_3d(15);
@@ -481,24 +481,39 @@ fn solver_rebuilds_when_stale_hierarchy_fails() {
     assert!(a1.same_pattern(&a2));
     let b = rhs(n, 8);
     let amg = AmgOptions { max_coarse: 50, ..Default::default() };
-    // How many iterations does a fresh hierarchy need on a2?
-    let mut fresh = Solver::new(SolverOptions { amg: amg.clone(), ..opts(Method::AmgCg) });
+    let mut solver = Solver::new(SolverOptions { amg, ..opts(Method::AmgCg) });
     let mut x = vec![0.0; n];
-    let k_fresh = fresh.solve(&a2, &b, &mut x).unwrap().iterations;
-    // A limit that the fresh hierarchy meets and the stale one (from a1) does not.
-    let mut stale = Solver::new(SolverOptions { amg: amg.clone(), ..opts(Method::AmgCg) });
-    let mut x = vec![0.0; n];
-    stale.solve(&a1, &b, &mut x).unwrap();
-    let mut x = vec![0.0; n];
-    let k_stale = stale.solve(&a2, &b, &mut x).unwrap().iterations;
-    assert!(k_stale > k_fresh, "stale {k_stale} vs fresh {k_fresh}");
-    let mut solver = Solver::new(SolverOptions { max_iter: k_fresh + 1, amg, ..opts(Method::AmgCg) });
-    let mut x = vec![0.0; n];
-    solver.solve(&a1, &b, &mut x).unwrap();
+    let k0 = solver.solve(&a1, &b, &mut x).unwrap().iterations;
+    let cap = (2 * k0).max(k0 + 4);
+    // Kept hierarchy, then (past `cap`) Galerkin refresh or rebuild: converges.
     let mut x = vec![0.0; n];
     let s = solver.solve(&a2, &b, &mut x).unwrap();
-    assert!(!s.reused_setup && s.setup_seconds > 0.0, "{s:?}");
     assert!(true_rel_residual(&a2, &b, &x) <= 1e-10, "{s:?}");
+    assert!(s.iterations > cap, "the stale hierarchy should have needed more than {cap} iterations: {s:?}");
+    assert!(s.setup_seconds > 0.0);
+    // ... so the next call rebuilds in full.
+    let mut x = vec![0.0; n];
+    let s3 = solver.solve(&a2, &b, &mut x).unwrap();
+    assert!(!s3.reused_setup, "{s3:?}");
+    // Diagonal +20% (an accumulation term): the kept hierarchy is poor for
+    // the low modes; the staged reuse still converges within a modest count.
+    let a4 = with_scaled_diagonal(&a2, 1.2);
+    let mut x = vec![0.0; n];
+    let s4 = solver.solve(&a4, &b, &mut x).unwrap();
+    assert!(s4.iterations <= 3 * s3.iterations + 8, "{s4:?} vs fresh {s3:?}");
+    assert!(true_rel_residual(&a4, &b, &x) <= 1e-10);
+}
+
+fn with_scaled_diagonal(a: &CsrMatrix, f: f64) -> CsrMatrix {
+    let mut m = a.clone();
+    for i in 0..m.n {
+        for k in m.row_ptr[i]..m.row_ptr[i + 1] {
+            if m.col_idx[k] == i {
+                m.values[k] *= f;
+            }
+        }
+    }
+    m
 }
 
 // ---------------------------------------------------------------- errors
