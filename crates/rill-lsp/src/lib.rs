@@ -1,0 +1,85 @@
+//! `rill-lsp` owns the rill language server, run as `rill lsp`: the
+//! document store on `ropey` with incremental sync, position encodings
+//! (UTF-16, or UTF-8 when the client offers it), conversion of analysis
+//! answers to protocol types, scheduling of analyses (debounce, stale
+//! results dropped, blocking threads), file watching, settings, and the
+//! `rill.run` command with progress and cancel.
+//!
+//! It must never contain analysis logic: every answer comes from
+//! `rill_ide::Snapshot` (which builds on `rill_model`), and files are read
+//! only through `rill_workspace::DiskSource`, confined to the workspace
+//! folders. It never writes a file except the result set of `rill.run`
+//! (through `rill_output`).
+//!
+//! Built on `tower-lsp` 0.20 rather than its community fork
+//! `tower-lsp-server`: 0.20 is the stable release, its `lsp-types` 0.94
+//! already has LSP 3.17 position encodings, and its `url::Url` converts to
+//! file paths directly; the fork's current line is a release candidate on
+//! newly generated protocol types and a newer minimum Rust, and neither
+//! fixes the two things this crate must handle itself anyway: handlers run
+//! concurrently (document changes are applied in order by [`sequencer`])
+//! and the server does not end after `exit` (also [`sequencer`]).
+
+mod answers;
+mod convert;
+pub mod document;
+pub mod position;
+mod runner;
+mod schedule;
+mod sequencer;
+mod server;
+pub mod settings;
+mod state;
+
+use tokio::io::{AsyncRead, AsyncWrite};
+use tokio::sync::oneshot;
+use tower_lsp::{LspService, Server};
+
+/// Serve the protocol on `input`/`output` until `exit` (or the end of the
+/// input). Returns the process exit code the protocol asks for: 0 when a
+/// `shutdown` request came before, 1 otherwise.
+pub async fn serve<I, O>(input: I, output: O) -> u8
+where
+    I: AsyncRead + Unpin,
+    O: AsyncWrite,
+{
+    let (service, socket) = LspService::build(server::Backend::new)
+        .custom_method(
+            "window/workDoneProgress/cancel",
+            server::Backend::work_done_progress_cancel,
+        )
+        .finish();
+    let shared = service.inner().shared.clone();
+    let (exit_tx, exit_rx) = oneshot::channel();
+    let service = sequencer::Sequencer::new(service, shared.clone(), exit_tx);
+    tokio::select! {
+        _ = Server::new(input, output, socket).serve(service) => {}
+        _ = exit_rx => {}
+    }
+    shared.runs.cancel_all();
+    if shared.is_shut_down() {
+        0
+    } else {
+        1
+    }
+}
+
+/// `rill lsp`: the server on stdin and stdout. Returns the exit code.
+pub fn run_stdio() -> u8 {
+    let runtime = match tokio::runtime::Builder::new_multi_thread()
+        .worker_threads(2)
+        .enable_all()
+        .build()
+    {
+        Ok(rt) => rt,
+        Err(e) => {
+            eprintln!("rill lsp: cannot start: {e}");
+            return 2;
+        }
+    };
+    let code = runtime.block_on(serve(tokio::io::stdin(), tokio::io::stdout()));
+    // Tokio's stdin reader is a blocking thread that may sit in `read` for
+    // ever; do not wait for it (nor for a cancelled run still unwinding).
+    runtime.shutdown_background();
+    code
+}

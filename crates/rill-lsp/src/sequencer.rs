@@ -1,0 +1,150 @@
+//! The order of document changes, and the end of the process.
+//!
+//! `tower-lsp` 0.20 runs handlers concurrently (up to four futures at a
+//! time, polled in no promised order), so two `didChange` notifications
+//! handled as async methods could be applied out of order. This service
+//! wraps the `LspService` and applies `didOpen`, `didChange` and `didClose`
+//! synchronously inside `call`, which the transport invokes once per
+//! message in the order the messages were read: document mutations are
+//! serialised by construction, with no lock held across an await.
+//!
+//! It also watches for `exit`: `tower-lsp` 0.20 keeps reading stdin after
+//! it and never returns, so the `serve` loop is raced against this signal.
+
+use crate::document::{uri_path, ChangeError};
+use crate::schedule;
+use crate::server::Backend;
+use crate::state::{display, lock, Shared};
+use serde::de::DeserializeOwned;
+use std::future::Future;
+use std::pin::Pin;
+use std::sync::atomic::Ordering;
+use std::sync::Arc;
+use std::task::{Context, Poll};
+use tokio::sync::oneshot;
+use tower_lsp::jsonrpc::{Request, Response};
+use tower_lsp::lsp_types::{
+    DidChangeTextDocumentParams, DidCloseTextDocumentParams, DidOpenTextDocumentParams, MessageType,
+};
+use tower_lsp::{ExitedError, LspService};
+use tower_service::Service;
+
+type BoxFuture<T> = Pin<Box<dyn Future<Output = T> + Send + 'static>>;
+
+pub struct Sequencer {
+    inner: LspService<Backend>,
+    shared: Arc<Shared>,
+    exit: Option<oneshot::Sender<()>>,
+}
+
+impl Sequencer {
+    pub fn new(inner: LspService<Backend>, shared: Arc<Shared>, exit: oneshot::Sender<()>) -> Self {
+        Sequencer {
+            inner,
+            shared,
+            exit: Some(exit),
+        }
+    }
+}
+
+impl Service<Request> for Sequencer {
+    type Response = Option<Response>;
+    type Error = ExitedError;
+    type Future = BoxFuture<Result<Option<Response>, ExitedError>>;
+
+    fn poll_ready(&mut self, cx: &mut Context<'_>) -> Poll<Result<(), Self::Error>> {
+        self.inner.poll_ready(cx)
+    }
+
+    fn call(&mut self, req: Request) -> Self::Future {
+        match req.method() {
+            "textDocument/didOpen" => {
+                if let Some(p) = params::<DidOpenTextDocumentParams>(&req) {
+                    did_open(&self.shared, p);
+                }
+                Box::pin(async { Ok(None) })
+            }
+            "textDocument/didChange" => {
+                if let Some(p) = params::<DidChangeTextDocumentParams>(&req) {
+                    did_change(&self.shared, p);
+                }
+                Box::pin(async { Ok(None) })
+            }
+            "textDocument/didClose" => {
+                let shared = self.shared.clone();
+                let targets = params::<DidCloseTextDocumentParams>(&req)
+                    .map(|p| did_close(&shared, &p))
+                    .unwrap_or_default();
+                Box::pin(async move {
+                    schedule::republish(&shared, targets).await;
+                    Ok(None)
+                })
+            }
+            "exit" => {
+                let fut = self.inner.call(req);
+                if let Some(tx) = self.exit.take() {
+                    let _ = tx.send(());
+                }
+                Box::pin(fut)
+            }
+            _ => Box::pin(self.inner.call(req)),
+        }
+    }
+}
+
+fn params<T: DeserializeOwned>(req: &Request) -> Option<T> {
+    serde_json::from_value(req.params()?.clone()).ok()
+}
+
+fn did_open(shared: &Arc<Shared>, p: DidOpenTextDocumentParams) {
+    if !shared.initialized.load(Ordering::SeqCst) {
+        return;
+    }
+    let doc = p.text_document;
+    lock(&shared.docs).open(doc.uri.clone(), doc.version, &doc.text);
+    if let Some(path) = uri_path(&doc.uri) {
+        if shared.add_fallback_root(&path) {
+            shared.rebuild_source();
+        } else {
+            shared.source().set_overlay(&path, &doc.text);
+        }
+    }
+    schedule::document_changed(shared, &doc.uri);
+}
+
+fn did_change(shared: &Arc<Shared>, p: DidChangeTextDocumentParams) {
+    if !shared.initialized.load(Ordering::SeqCst) {
+        return;
+    }
+    let uri = p.text_document.uri;
+    let enc = shared.encoding();
+    let outcome = {
+        let mut docs = lock(&shared.docs);
+        docs.change(&uri, p.text_document.version, &p.content_changes, enc)
+            .map(|doc| (doc.path.clone(), doc.text()))
+    };
+    match outcome {
+        Ok((path, text)) => {
+            if let Some(path) = path {
+                shared.source().set_overlay(&path, &text);
+            }
+            schedule::document_changed(shared, &uri);
+        }
+        Err(e @ ChangeError::Stale { .. }) => {
+            shared.log(MessageType::WARNING, format!("{}: {e}", display(&uri)));
+        }
+        Err(e) => shared.log(MessageType::WARNING, format!("{}: {e}", display(&uri))),
+    }
+}
+
+fn did_close(
+    shared: &Arc<Shared>,
+    p: &DidCloseTextDocumentParams,
+) -> Vec<tower_lsp::lsp_types::Url> {
+    let uri = &p.text_document.uri;
+    let doc = lock(&shared.docs).close(uri);
+    if let Some(path) = doc.and_then(|d| d.path) {
+        shared.source().clear_overlay(&path);
+    }
+    schedule::document_closed(shared, uri)
+}

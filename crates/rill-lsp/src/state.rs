@@ -1,0 +1,249 @@
+//! The server's only mutable state: open documents, the configuration
+//! negotiated at `initialize`, the `DiskSource`, and the analyses.
+//! Synchronous locks only, never held across an `.await`.
+
+use crate::document::{uri_path, Documents};
+use crate::position::Encoding;
+use crate::settings::Settings;
+use rill_workspace::DiskSource;
+use ropey::Rope;
+use std::collections::{HashMap, HashSet};
+use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::{Arc, Mutex, MutexGuard, RwLock};
+use std::time::Duration;
+use tokio::sync::{watch, Notify};
+use tower_lsp::lsp_types::{self as lsp, MessageType, Url};
+use tower_lsp::Client;
+
+/// What the client can do, from its capabilities.
+#[derive(Debug, Clone, Default)]
+pub struct ClientCaps {
+    pub watch_dynamic: bool,
+    pub work_done_progress: bool,
+    pub show_document: bool,
+    pub configuration: bool,
+    pub related_information: bool,
+    pub snippets: bool,
+    pub inlay_hint_refresh: bool,
+    pub hierarchical_symbols: bool,
+}
+
+#[derive(Debug, Clone, Default)]
+pub struct Config {
+    pub encoding: Encoding,
+    /// Workspace folders (or the root URI).
+    pub roots: Vec<PathBuf>,
+    /// Folders of open documents, used as roots when there are no workspace folders.
+    pub fallback_roots: Vec<PathBuf>,
+    pub settings: Settings,
+    pub caps: ClientCaps,
+}
+
+impl Config {
+    pub fn confinement_roots(&self) -> Vec<PathBuf> {
+        if self.roots.is_empty() {
+            self.fallback_roots.clone()
+        } else {
+            self.roots.clone()
+        }
+    }
+    /// The folder relative settings are taken from.
+    pub fn base(&self) -> Option<&Path> {
+        self.roots
+            .first()
+            .or(self.fallback_roots.first())
+            .map(PathBuf::as_path)
+    }
+}
+
+/// One analysed version of a document.
+pub struct Analyzed {
+    pub version: i32,
+    /// The text that was analysed, for position conversion.
+    pub rope: Rope,
+    pub snap: rill_ide::Snapshot,
+}
+
+/// The input of one analysis.
+pub struct Input {
+    pub version: i32,
+    pub path: PathBuf,
+    pub text: Arc<str>,
+    pub rope: Rope,
+    pub source: Arc<DiskSource>,
+}
+
+impl Input {
+    pub fn analyze(self) -> Analyzed {
+        let snap = rill_ide::Snapshot::new(&self.path, &self.text, &*self.source);
+        Analyzed {
+            version: self.version,
+            rope: self.rope,
+            snap,
+        }
+    }
+}
+
+/// A background analysis loop for one root document.
+pub struct Worker {
+    pub notify: Arc<Notify>,
+    pub stop: Arc<AtomicBool>,
+    pub latest: watch::Sender<Option<Arc<Analyzed>>>,
+}
+
+#[derive(Default)]
+pub struct Analyses {
+    /// Open documents analysed as decks of their own ("roots").
+    pub workers: HashMap<Url, Worker>,
+    /// The other files (includes, array files with diagnostics) of each root's last analysis.
+    pub includes: HashMap<Url, HashSet<PathBuf>>,
+    /// Diagnostics per target URI, per root that produced them.
+    pub contributions: HashMap<Url, HashMap<Url, Vec<lsp::Diagnostic>>>,
+    /// Analyses of open documents that are included by a root, on their
+    /// own, for requests on them (hover in an included deck).
+    pub standalone: HashMap<Url, Arc<Analyzed>>,
+}
+
+impl Analyses {
+    /// Roots whose last analysis read `path`.
+    pub fn roots_including(&self, path: &Path, except: &Url) -> Vec<Url> {
+        self.includes
+            .iter()
+            .filter(|(r, set)| *r != except && set.contains(path))
+            .map(|(r, _)| r.clone())
+            .collect()
+    }
+}
+
+pub struct Shared {
+    pub client: Client,
+    pub docs: Mutex<Documents>,
+    pub config: RwLock<Config>,
+    pub source: RwLock<Arc<DiskSource>>,
+    pub analyses: Mutex<Analyses>,
+    /// Held while checking that an analysis is current and publishing it,
+    /// so that an older version can never be published after a newer one.
+    pub publish_lock: tokio::sync::Mutex<()>,
+    pub initialized: AtomicBool,
+    pub shutdown: AtomicBool,
+    pub debounce: Duration,
+    pub runs: crate::runner::Runs,
+}
+
+/// Lock a mutex, recovering from poisoning: the data are plain maps whose
+/// invariants hold between statements, and the server must not die.
+pub fn lock<T>(m: &Mutex<T>) -> MutexGuard<'_, T> {
+    m.lock().unwrap_or_else(|e| e.into_inner())
+}
+
+impl Shared {
+    pub fn new(client: Client) -> Self {
+        Shared {
+            client,
+            docs: Mutex::new(Documents::default()),
+            config: RwLock::new(Config::default()),
+            source: RwLock::new(Arc::new(DiskSource::unconfined())),
+            analyses: Mutex::new(Analyses::default()),
+            publish_lock: tokio::sync::Mutex::new(()),
+            initialized: AtomicBool::new(false),
+            shutdown: AtomicBool::new(false),
+            debounce: Duration::from_millis(15),
+            runs: Default::default(),
+        }
+    }
+
+    pub fn config(&self) -> Config {
+        self.config
+            .read()
+            .unwrap_or_else(|e| e.into_inner())
+            .clone()
+    }
+
+    pub fn encoding(&self) -> Encoding {
+        self.config
+            .read()
+            .unwrap_or_else(|e| e.into_inner())
+            .encoding
+    }
+
+    pub fn source(&self) -> Arc<DiskSource> {
+        self.source
+            .read()
+            .unwrap_or_else(|e| e.into_inner())
+            .clone()
+    }
+
+    /// A log line in the client's output (not a popup).
+    pub fn log(&self, typ: MessageType, message: String) {
+        let client = self.client.clone();
+        tokio::spawn(async move { client.log_message(typ, message).await });
+    }
+
+    /// Build the `DiskSource` again (roots or allowed folders changed), with
+    /// the open buffers as overlays. The file cache starts empty.
+    pub fn rebuild_source(&self) {
+        let config = self.config();
+        let source = DiskSource::confined(
+            config.confinement_roots(),
+            config.settings.allowed_paths(config.base()),
+        );
+        {
+            let mut docs = lock(&self.docs);
+            for uri in docs.uris() {
+                if let Some(doc) = docs.get_mut(&uri) {
+                    if let Some(path) = doc.path.clone() {
+                        source.set_overlay(&path, &doc.text());
+                    }
+                }
+            }
+        }
+        *self.source.write().unwrap_or_else(|e| e.into_inner()) = Arc::new(source);
+    }
+
+    /// When there are no workspace folders, the folder of each open
+    /// document is a root. Returns true when a new one was added.
+    pub fn add_fallback_root(&self, path: &Path) -> bool {
+        let Some(dir) = path.parent() else {
+            return false;
+        };
+        let mut config = self.config.write().unwrap_or_else(|e| e.into_inner());
+        if !config.roots.is_empty() || config.fallback_roots.iter().any(|r| r == dir) {
+            return false;
+        }
+        config.fallback_roots.push(dir.to_path_buf());
+        true
+    }
+
+    pub fn doc_version(&self, uri: &Url) -> Option<i32> {
+        lock(&self.docs).get(uri).map(|d| d.version)
+    }
+
+    /// The current text of an open document, ready to analyse.
+    pub fn input(&self, uri: &Url) -> Option<Input> {
+        let mut docs = lock(&self.docs);
+        let doc = docs.get_mut(uri)?;
+        let path = doc
+            .path
+            .clone()
+            .unwrap_or_else(|| PathBuf::from(uri.path()));
+        Some(Input {
+            version: doc.version,
+            text: doc.text(),
+            rope: doc.rope.clone(),
+            path,
+            source: self.source(),
+        })
+    }
+
+    pub fn is_shut_down(&self) -> bool {
+        self.shutdown.load(Ordering::SeqCst)
+    }
+}
+
+/// File path of a URI, for messages.
+pub fn display(uri: &Url) -> String {
+    uri_path(uri)
+        .map(|p| p.display().to_string())
+        .unwrap_or_else(|| uri.to_string())
+}
