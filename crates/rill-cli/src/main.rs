@@ -56,6 +56,8 @@ enum Command {
     },
     /// Explain a diagnostic code: what it means and how to fix it.
     Explain { code: String },
+    /// The language server on stdin/stdout (for editors).
+    Lsp,
 }
 
 fn main() -> ExitCode {
@@ -76,6 +78,7 @@ fn main() -> ExitCode {
         Command::Inspect { file, cell, format } => inspect::run(&file, &cell, format),
         Command::Fmt { files, check } => fmt::run(&files, check),
         Command::Explain { code } => explain(&code),
+        Command::Lsp => rill_lsp::run_stdio(),
     };
     ExitCode::from(code)
 }

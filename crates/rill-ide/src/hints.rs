@@ -110,7 +110,13 @@ pub(crate) fn conversion(atom: &Atom, perm: bool, config: &Config) -> Option<Str
     }
     let v = du.from_si(si);
     let s = short(v);
-    let exact = s.parse::<f64>().is_ok_and(|x| x == v);
+    // A zero, or the same number in another name (`1.02 rb/stb` is `1.02 rm3/sm3`), says nothing new.
+    if *value == 0.0 || s == short(*value) {
+        return None;
+    }
+    let exact = s
+        .parse::<f64>()
+        .is_ok_and(|x| (x - v).abs() <= 1e-12 * v.abs());
     Some(format!(
         "{} {s} {}",
         if exact { "=" } else { "≈" },

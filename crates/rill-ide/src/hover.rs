@@ -20,7 +20,8 @@ pub(crate) fn hover(snap: &Snapshot, offset: usize) -> Option<Hover> {
         let prev = crate::floor_boundary(snap.text(), off - 1);
         found = hover_at(snap, prev);
     }
-    let diags = diagnostic_notes(snap, off);
+    let range = found.as_ref().map(|h| h.range);
+    let diags = diagnostic_notes(snap, off, range);
     match (found, diags) {
         (Some(mut h), Some((_, notes))) => {
             h.markdown.push_str("\n\n---\n\n");
@@ -37,13 +38,15 @@ pub(crate) fn hover(snap: &Snapshot, offset: usize) -> Option<Hover> {
 }
 
 /// The `rill explain` summaries of the diagnostics of the open document at `off`.
-fn diagnostic_notes(snap: &Snapshot, off: usize) -> Option<(Span, String)> {
+fn diagnostic_notes(snap: &Snapshot, off: usize, range: Option<Span>) -> Option<(Span, String)> {
     let mut out = String::new();
     let mut span: Option<Span> = None;
     let mut seen: Vec<&str> = Vec::new();
     for d in snap.diagnostics().iter().filter(|d| d.location.file == 0) {
         let s = d.location.span();
-        let hit = s.contains(off) || (s.is_empty() && s.start == off);
+        let hit = s.contains(off)
+            || (s.is_empty() && s.start == off)
+            || range.is_some_and(|r| s.start < r.end && r.start < s.end);
         if !hit || seen.contains(&d.code) {
             continue;
         }
@@ -291,6 +294,14 @@ fn value_hover(
                 markdown: md,
             })
         }
+        // A plain number (`porosity = 0.2`, `skin = 1.5`): what the key means.
+        AtomKind::Number { unit: None, .. } => {
+            let (def, key) = (def?, key?);
+            Some(Hover {
+                range: innermost.span,
+                markdown: key_doc(def.name, key),
+            })
+        }
         _ => None,
     }
 }
@@ -304,6 +315,9 @@ fn cell_hover(
     perm: bool,
 ) -> Option<Hover> {
     let atoms = &stmt.value.atoms;
+    let grid = case
+        .map(|c| (c.grid.nx, c.grid.ny, c.grid.nz))
+        .or_else(|| grid_size(snap));
     // `form [ ... ]` or a bare list, with the cursor on an item.
     let list_form = match (atoms.first().map(|a| &a.kind), steps) {
         (Some(AtomKind::Ident(form)), [list, item, ..])
@@ -316,90 +330,26 @@ fn cell_hover(
         }
         _ => None,
     };
-    let grid = case
-        .map(|c| (c.grid.nx, c.grid.ny, c.grid.nz))
-        .or_else(|| grid_size(snap));
-    if let Some((form, list, item)) = list_form {
-        let (nx, ny, nz) = grid?;
-        let n = item.index;
-        let key = stmt.key.name.as_str();
-        let (cell, what) = match (form, key) {
-            ("cells", _) | ("file", _) => {
-                let cells = nx * ny * nz;
-                if n >= cells {
-                    return None;
-                }
-                (
-                    (n % nx, (n / nx) % ny, n / (nx * ny)),
-                    format!("item {} of {cells} (i fastest)", n + 1),
-                )
-            }
-            ("layers", _) | ("", "dz") => {
-                if n >= nz {
-                    return None;
-                }
-                (
-                    (nx / 2, ny / 2, n),
-                    format!("layer {}; the cell at the middle column is shown", n + 1),
-                )
-            }
-            ("columns", _) => {
-                if n >= nx * ny {
-                    return None;
-                }
-                (
-                    (n % nx, n / nx, 0),
-                    format!(
-                        "column ({}, {}); the top layer is shown",
-                        n % nx + 1,
-                        n / nx + 1
-                    ),
-                )
-            }
-            ("", "dx") => {
-                if n >= nx {
-                    return None;
-                }
-                (
-                    (n, ny / 2, 0),
-                    format!(
-                        "column i = {}; the cell at the middle row, top layer is shown",
-                        n + 1
-                    ),
-                )
-            }
-            ("", "dy") => {
-                if n >= ny {
-                    return None;
-                }
-                (
-                    (nx / 2, n, 0),
-                    format!(
-                        "row j = {}; the cell at the middle column, top layer is shown",
-                        n + 1
-                    ),
-                )
-            }
-            _ => return None,
-        };
-        let mut heading = what;
-        if let Some(v) = item_value_line(item.atom, list, perm) {
-            heading = format!("{v}; {heading}");
+    if let (Some((form, list, item)), Some((nx, ny, nz))) = (list_form, grid) {
+        if let Some((cell, what)) = list_cell(form, &stmt.key.name, item.index, (nx, ny, nz)) {
+            let heading = match item_value_line(item.atom, list, perm) {
+                Some(v) => format!("{v}; {what}"),
+                None => what,
+            };
+            let md = match case {
+                Some(c) => cell_markdown(c, cell.0, cell.1, cell.2, &heading)?,
+                None => format!(
+                    "**cell ({}, {}, {})** — {heading}",
+                    cell.0 + 1,
+                    cell.1 + 1,
+                    cell.2 + 1
+                ),
+            };
+            return Some(Hover {
+                range: item.atom.span,
+                markdown: md,
+            });
         }
-        let range = item.atom.span;
-        let md = match case {
-            Some(c) => cell_markdown(c, cell.0, cell.1, cell.2, &heading)?,
-            None => format!(
-                "**cell ({}, {}, {})** — {heading}",
-                cell.0 + 1,
-                cell.1 + 1,
-                cell.2 + 1
-            ),
-        };
-        return Some(Hover {
-            range,
-            markdown: md,
-        });
     }
     // A cell tuple `(i, j, k)` or column `(i, j)`.
     let pos = steps
@@ -448,6 +398,61 @@ fn cell_hover(
         range: tuple.span,
         markdown: md,
     })
+}
+
+/// The cell (0-based) that item `n` of a `form` list of `key` stands for, and how.
+fn list_cell(
+    form: &str,
+    key: &str,
+    n: usize,
+    (nx, ny, nz): (usize, usize, usize),
+) -> Option<((usize, usize, usize), String)> {
+    match (form, key) {
+        ("cells", _) => {
+            let cells = nx * ny * nz;
+            (n < cells).then(|| {
+                (
+                    (n % nx, (n / nx) % ny, n / (nx * ny)),
+                    format!("item {} of {cells} (i fastest)", n + 1),
+                )
+            })
+        }
+        ("layers", _) | ("", "dz") => (n < nz).then(|| {
+            (
+                (nx / 2, ny / 2, n),
+                format!("layer {}; the cell at the middle column is shown", n + 1),
+            )
+        }),
+        ("columns", _) => (n < nx * ny).then(|| {
+            (
+                (n % nx, n / nx, 0),
+                format!(
+                    "column ({}, {}); the top layer is shown",
+                    n % nx + 1,
+                    n / nx + 1
+                ),
+            )
+        }),
+        ("", "dx") => (n < nx).then(|| {
+            (
+                (n, ny / 2, 0),
+                format!(
+                    "column i = {}; the cell at the middle row, top layer is shown",
+                    n + 1
+                ),
+            )
+        }),
+        ("", "dy") => (n < ny).then(|| {
+            (
+                (nx / 2, n, 0),
+                format!(
+                    "row j = {}; the cell at the middle column, top layer is shown",
+                    n + 1
+                ),
+            )
+        }),
+        _ => None,
+    }
 }
 
 /// `150 md = 1.48e-13 m^2` for a list item, with the list's unit.
@@ -574,7 +579,7 @@ pub(crate) fn unit_markdown(unit: &str, at: usize) -> String {
     let mut s = String::new();
     if let Some(def) = rill_units::lookup(name) {
         s.push_str(&format!(
-            "**{}** — {}\n\n{} ({}), 1 {} = {} SI{}",
+            "**{}** — {}\n\n{} ({}), 1 {} = {} {}{}",
             def.name,
             def.description,
             if def.dim.describe().is_empty() {
@@ -585,6 +590,7 @@ pub(crate) fn unit_markdown(unit: &str, at: usize) -> String {
             def.dim,
             def.name,
             format_number(def.factor),
+            si_name(def.dim),
             if def.gauge {
                 " plus one standard atmosphere"
             } else {
@@ -598,14 +604,15 @@ pub(crate) fn unit_markdown(unit: &str, at: usize) -> String {
         }
         match rill_units::parse(unit) {
             Ok(u) => s.push_str(&format!(
-                "`{unit}`: {} ({}), SI factor {}",
+                "`{unit}`: {} ({}), 1 {unit} = {} {}",
                 if u.dim.describe().is_empty() {
                     "dimension"
                 } else {
                     u.dim.describe()
                 },
                 u.dim,
-                format_number(u.factor)
+                format_number(u.factor),
+                si_name(u.dim)
             )),
             Err(e) => {
                 s.push_str(&format!("`{unit}`: {e}"));
@@ -624,6 +631,11 @@ pub(crate) fn unit_markdown(unit: &str, at: usize) -> String {
         }
     }
     s
+}
+
+/// The SI unit a dimension is shown in (`Pa`, `m^2`), or "SI" without a display kind.
+fn si_name(dim: Dim) -> &'static str {
+    kind_of(dim, true).map_or("SI", |k| rill_units::display_unit(k, System::Si).name)
 }
 
 pub(crate) fn block_doc(def: &schema::BlockDef) -> String {

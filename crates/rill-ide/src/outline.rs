@@ -140,10 +140,15 @@ pub(crate) fn folding_ranges(snap: &Snapshot) -> Vec<Span> {
                 }
                 Item::Statement(s) => {
                     for a in &s.value.atoms {
-                        if matches!(a.kind, AtomKind::List { .. } | AtomKind::Tuple { .. })
-                            && multi(a.span)
-                        {
-                            out.push(a.span);
+                        // Up to the closing bracket: the unit after it is not folded.
+                        let span = match &a.kind {
+                            AtomKind::List { close, .. } | AtomKind::Tuple { close, .. } => {
+                                Span::new(a.span.start, close.map_or(a.span.end, |c| c.end))
+                            }
+                            _ => continue,
+                        };
+                        if multi(span) {
+                            out.push(span);
                         }
                     }
                 }
