@@ -6,6 +6,7 @@ mod check;
 mod fmt;
 mod inspect;
 mod positions;
+mod run;
 
 use clap::{Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
@@ -54,6 +55,19 @@ enum Command {
         #[arg(long)]
         check: bool,
     },
+    /// Run the embedded simulator; results go to `<deck>.out/` (or --out).
+    Run {
+        file: PathBuf,
+        /// Output directory; never the deck's own directory.
+        #[arg(long, value_name = "DIR")]
+        out: Option<PathBuf>,
+        /// Also write the first pressure system as MatrixMarket `matrix.mtx` and `rhs.mtx` into DIR.
+        #[arg(long, value_name = "DIR")]
+        export_system: Option<PathBuf>,
+        /// No progress bar.
+        #[arg(long, short)]
+        quiet: bool,
+    },
     /// Explain a diagnostic code: what it means and how to fix it.
     Explain { code: String },
     /// The language server on stdin/stdout (for editors).
@@ -77,6 +91,17 @@ fn main() -> ExitCode {
         Command::Check { files, format } => check::run(&files, format),
         Command::Inspect { file, cell, format } => inspect::run(&file, &cell, format),
         Command::Fmt { files, check } => fmt::run(&files, check),
+        Command::Run {
+            file,
+            out,
+            export_system,
+            quiet,
+        } => run::run(run::Args {
+            file,
+            out,
+            export_system,
+            quiet,
+        }),
         Command::Explain { code } => explain(&code),
         Command::Lsp => rill_lsp::run_stdio(),
     };
