@@ -52,7 +52,12 @@ pub(crate) fn code_actions(snap: &Snapshot, range: Span) -> Vec<CodeAction> {
             out.extend(array_length_fix(snap, index, d));
         }
     }
-    out.extend(conversions(snap, range.start));
+    let single = conversions(snap, range.start);
+    if single.is_empty() {
+        out.extend(list_conversions(snap, range.start));
+    } else {
+        out.extend(single);
+    }
     out
 }
 
@@ -115,7 +120,7 @@ fn array_length_fix(
         })
         .filter(|_| close.start >= last.span.end)
     } else {
-        let keep = items.get(expected - 1)?;
+        let keep = items.get(expected.checked_sub(1)?)?;
         let last = items.last()?;
         Some(CodeAction {
             title: format!(
@@ -195,6 +200,83 @@ fn conversions(snap: &Snapshot, off: usize) -> Vec<CodeAction> {
                 span: atom.span,
                 new_text,
             }],
+            diagnostic: None,
+        });
+    }
+    out
+}
+
+/// Longest list converted in one action: each item is an edit.
+const MAX_CONVERTED_ITEMS: usize = 10_000;
+
+/// "Convert to field / metric units" for a list with one unit after `]`
+/// (`dz = [20 15] ft`): every item and the unit, keeping the layout.
+fn list_conversions(snap: &Snapshot, off: usize) -> Vec<CodeAction> {
+    let mut out = Vec::new();
+    let hit = locate(&snap.tree().items, off);
+    let Node::Value(stmt, steps) = &hit.node else {
+        return out;
+    };
+    let Some(list) = steps
+        .iter()
+        .rev()
+        .map(|s| s.atom)
+        .find(|a| matches!(&a.kind, AtomKind::List { unit: Some(_), .. }))
+    else {
+        return out;
+    };
+    let AtomKind::List {
+        items,
+        unit: Some(u),
+        ..
+    } = &list.kind
+    else {
+        return out;
+    };
+    if items.is_empty() || items.len() > MAX_CONVERTED_ITEMS {
+        return out;
+    }
+    let mut values = Vec::with_capacity(items.len());
+    for item in items {
+        match &item.kind {
+            AtomKind::Number {
+                value, unit: None, ..
+            } => values.push((*value, item.span)),
+            _ => return out,
+        }
+    }
+    let perm = block_def(&hit.blocks)
+        .and_then(|d| d.key(&stmt.key.name))
+        .is_some_and(|k| matches!(k.kind, ValueKind::Property(d) if d == Dim::PERMEABILITY));
+    let Ok(parsed) = rill_units::parse(&u.text) else {
+        return out;
+    };
+    let Some(kind) = kind_of(parsed.dim, perm || is_perm_unit(&u.text)) else {
+        return out;
+    };
+    for (sys, words) in [(System::Field, "field"), (System::Metric, "metric")] {
+        let du = display_unit(kind, sys);
+        if du.name == u.text {
+            continue;
+        }
+        let mut edits: Vec<TextEdit> = values
+            .iter()
+            .map(|(v, span)| TextEdit {
+                span: *span,
+                new_text: format_number(du.from_si(parsed.to_si(*v))),
+            })
+            .collect();
+        edits.push(TextEdit {
+            span: u.span,
+            new_text: du.name.to_string(),
+        });
+        out.push(CodeAction {
+            title: format!(
+                "convert the list from `{}` to {words} units (`{}`)",
+                u.text, du.name
+            ),
+            kind: CodeActionKind::Refactor,
+            edits,
             diagnostic: None,
         });
     }

@@ -317,7 +317,8 @@ fn cell_hover(
     let atoms = &stmt.value.atoms;
     let grid = case
         .map(|c| (c.grid.nx, c.grid.ny, c.grid.nz))
-        .or_else(|| grid_size(snap));
+        .or_else(|| grid_size(snap))
+        .filter(|(x, y, z)| *x > 0 && *y > 0 && *z > 0);
     // `form [ ... ]` or a bare list, with the cursor on an item.
     let list_form = match (atoms.first().map(|a| &a.kind), steps) {
         (Some(AtomKind::Ident(form)), [list, item, ..])

@@ -163,3 +163,24 @@ fn formatting_edits_reproduce_the_formatter() {
     let want = rill_syntax::format(&rill_syntax::parse(text), text);
     assert_eq!(apply(text, &edits), want);
 }
+
+#[test]
+fn convert_a_list_with_one_unit() {
+    let s = snap(BASE);
+    let off = at(BASE, "[20 30] ft", 1);
+    let actions = s.code_actions(Span::new(off, off));
+    let metric = actions
+        .iter()
+        .find(|a| a.title.contains("metric"))
+        .expect("list conversion");
+    let converted = apply(BASE, &metric.edits);
+    // ft = 0.3048 m exactly (NIST SP 811).
+    assert!(converted.contains("dz = [6.096 9.144] m"), "{converted}");
+    let s2 = snap(&converted);
+    assert!(s2.diagnostics().is_empty());
+    let (a, b) = (
+        &s.analysis().case.as_ref().unwrap().grid.dz,
+        &s2.analysis().case.as_ref().unwrap().grid.dz,
+    );
+    assert!(a.iter().zip(b).all(|(x, y)| (x - y).abs() < 1e-12));
+}
