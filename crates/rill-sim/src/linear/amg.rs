@@ -36,8 +36,13 @@
 //! before the coarse correction and backward after it, so that the V-cycle
 //! is a symmetric operator and CG applies. The block count is fixed (not the
 //! thread count), so results do not depend on the machine. l1-Jacobi and
-//! Chebyshev are there as alternatives; see `scripts/bench/README-solver.md`
-//! for which is fastest on the reference problem.
+//! Chebyshev are there as alternatives. Measured on the 1.12M-cell
+//! heterogeneous benchmark to 1e-8 (`scripts/bench/README-solver.md`):
+//! hybrid Gauss-Seidel, one sweep, 22 iterations and 4.6-5.1 CPU seconds
+//! for set-up and solve; Chebyshev of degree 2, 19 iterations and 5.1 s;
+//! l1-Jacobi, 32 iterations and 5.7 s; two Gauss-Seidel sweeps, 17
+//! iterations and 6.0 s. The hierarchy matched pyamg's (same aggregates,
+//! operator complexity 1.554), at about 3x less time than pyamg.
 
 use std::sync::Mutex;
 

@@ -230,14 +230,14 @@ impl Pattern {
 ///   1. the kept hierarchy, at most `cap` iterations;
 ///   2. if that did not converge: Galerkin coarse operators recomputed for
 ///      the new matrix with the kept aggregates and prolongators (about
-///      60% of a set-up), at most `cap` more iterations;
+///      80% of the time of a full set-up), at most `cap` more iterations;
 ///   3. if still not converged: full rebuild, the rest of `max_iter`.
-///   A change of the values that moves the low end of the spectrum (an
-///   accumulation term after a time-step change: +2% on the diagonal of the
-///   1.1M-cell benchmark took 22 -> 71 iterations with the kept hierarchy)
-///   is caught by stage 1's cap. After a call that needed more than `cap`
-///   iterations in total, the next call rebuilds in full. A pattern change
-///   always rebuilds.
+/// * Stage 1's cap catches changes of the values that move the low end of
+///   the spectrum (an accumulation term after a time-step change: +2% on the
+///   diagonal of the 1.1M-cell benchmark took 22 -> 71 iterations with the
+///   kept hierarchy, 44 + 4 with the staged reuse). After a call that needed
+///   more than `cap` iterations in total, the next call rebuilds in full. A
+///   pattern change always rebuilds.
 /// * [`Solver::invalidate`] forces a rebuild at the next call.
 pub struct Solver {
     opts: SolverOptions,
