@@ -48,6 +48,7 @@ where
             "window/workDoneProgress/cancel",
             server::Backend::work_done_progress_cancel,
         )
+        .custom_method("rill/documentText", server::Backend::document_text)
         .finish();
     let shared = service.inner().shared.clone();
     let (exit_tx, exit_rx) = oneshot::channel();

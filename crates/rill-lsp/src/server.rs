@@ -37,6 +37,16 @@ impl Backend {
         runner::cancel(&self.shared, params);
     }
 
+    /// `rill/documentText`: the server's copy of an open document and its
+    /// version, to check that incremental sync kept it identical to the
+    /// editor's (a diagnostic aid, and what the sync tests compare).
+    pub async fn document_text(&self, params: TextDocumentIdentifier) -> Result<Option<Value>> {
+        let mut docs = crate::state::lock(&self.shared.docs);
+        Ok(docs
+            .get_mut(&params.uri)
+            .map(|d| serde_json::json!({ "version": d.version, "text": &*d.text() })))
+    }
+
     fn caps(params: &InitializeParams) -> ClientCaps {
         let c = &params.capabilities;
         let td = c.text_document.as_ref();
