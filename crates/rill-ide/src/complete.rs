@@ -92,6 +92,14 @@ pub(crate) fn completion(snap: &Snapshot, offset: usize) -> Vec<CompletionItem> 
             }
         }
     }
+    // `patch i = 2..3 |`: the selectors not yet given.
+    if innermost == Some("rock") {
+        if let Some(rest) = t.strip_prefix("patch") {
+            if rest.starts_with([' ', '\t']) {
+                return patch_selectors(rest, off);
+            }
+        }
+    }
 
     // `key = value...`: the key from the line, or from the tree when the
     // cursor is on a continuation line of a list.
@@ -514,4 +522,44 @@ fn references(kd: &KeyDef, replace: Span) -> Vec<CompletionItem> {
             )
         })
         .collect()
+}
+
+/// Selector keys after `patch` (`i`, `j`, `k`), where a new selector may start.
+fn patch_selectors(rest: &str, off: usize) -> Vec<CompletionItem> {
+    let word = rest
+        .bytes()
+        .rev()
+        .take_while(|b| b.is_ascii_alphabetic())
+        .count();
+    let before = rest[..rest.len() - word].trim_end();
+    // Right after `=` a value is expected, not a key.
+    if before.ends_with('=') || (word > 0 && !rest[..rest.len() - word].ends_with([' ', '\t'])) {
+        return Vec::new();
+    }
+    let given: Vec<&str> = before
+        .split(|c: char| c.is_whitespace() || c == '=')
+        .filter(|w| matches!(*w, "i" | "j" | "k"))
+        .collect();
+    let replace = Span::new(off - word, off);
+    [
+        ("i", "columns along x"),
+        ("j", "rows along y"),
+        ("k", "layers, 1 at the top"),
+    ]
+    .iter()
+    .enumerate()
+    .filter(|(_, (name, _))| !given.contains(name))
+    .map(|(n, (name, what))| CompletionItem {
+        label: name.to_string(),
+        kind: CompletionKind::Key,
+        detail: Some(format!("patch selector: {what}")),
+        documentation: Some(
+            "An index or an inclusive range, e.g. `2..5`; an omitted axis means all.".into(),
+        ),
+        insert_text: format!("{name} = "),
+        snippet: false,
+        replace,
+        sort_text: format!("{n:02}"),
+    })
+    .collect()
 }

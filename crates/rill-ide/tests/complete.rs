@@ -201,3 +201,13 @@ fn nothing_in_comments_or_after_unknown_keys() {
     let (text, off) = typed("  ky = kx", "  nonsense = 150 ");
     assert!(snap(&text).completion(off).is_empty());
 }
+
+#[test]
+fn patch_selectors_not_yet_given() {
+    let (text, off) = typed("  patch i = 2..3", "  patch i = 2..3 ");
+    assert_eq!(labels(&snap(&text).completion(off)), vec!["j", "k"]);
+    let (text, off) = typed("  patch i = 2..3", "  patch ");
+    assert_eq!(labels(&snap(&text).completion(off)), vec!["i", "j", "k"]);
+    let (text, off) = typed("  patch i = 2..3", "  patch i = ");
+    assert!(snap(&text).completion(off).is_empty());
+}
