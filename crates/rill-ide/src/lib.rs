@@ -16,6 +16,22 @@
 //! and keep no global state. Heavy work happens once per document version
 //! in [`Snapshot::new`]; queries look things up by binary search on the
 //! syntax tree, so that hover stays fast on million-cell decks.
+//!
+//! Conventions for the server:
+//! - An offset inside a multi-byte character is moved back to its start; an
+//!   offset past the end means the end. Every span returned lies on
+//!   character boundaries of [`Snapshot::text`].
+//! - `hover(offset)` describes the node under the character at `offset`, or
+//!   the one that ends right before it (the cursor after `250 md|`).
+//! - `completion(offset)` takes the cursor between characters; each item
+//!   replaces its `replace` span (the word typed so far) with `insert_text`,
+//!   in snippet syntax when `snippet` is set; `sort_text` orders them.
+//! - Diagnostics keep their file index (`location.file` into
+//!   `analysis().files`); code actions only carry fixes whose edits are all
+//!   in the open document.
+//! - Cell numbers come from `rill_model::inspect::cell_report` and
+//!   `rill_model::derived`, shown with `rill_units::format_number` in the
+//!   deck's report units and in SI, as `rill inspect` prints them.
 
 mod actions;
 mod complete;
