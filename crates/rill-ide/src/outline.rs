@@ -91,11 +91,11 @@ fn block_symbol(text: &str, b: &Block, parents: &[&str]) -> Symbol {
         SymbolKind::Fluid => ("fluid".to_string(), lab.map(|l| l.0.to_string())),
         SymbolKind::Well => (
             lab.map_or("well".to_string(), |l| l.0.to_string()),
-            Some(key_text(text, b, "role").map_or("well".into(), |r| format!("well, {r}"))),
+            key_text(text, b, "role"),
         ),
         SymbolKind::Boundary => (
             lab.map_or("boundary".to_string(), |l| l.0.to_string()),
-            Some(key_text(text, b, "side").map_or("boundary".into(), |s| format!("boundary, {s}"))),
+            key_text(text, b, "side"),
         ),
         SymbolKind::Patch => (format!("patch {}", header_text(text, b)), None),
         SymbolKind::Event => (format!("at {}", header_text(text, b)), None),

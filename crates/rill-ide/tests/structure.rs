@@ -27,8 +27,8 @@ fn symbols_outline_the_deck() {
     );
     assert_eq!(syms[1].detail.as_deref(), Some("4 x 3 x 2"));
     assert_eq!(syms[3].detail.as_deref(), Some("brine"));
-    assert_eq!(syms[5].detail.as_deref(), Some("well, producer"));
-    assert_eq!(syms[6].detail.as_deref(), Some("boundary, east"));
+    assert_eq!(syms[5].detail.as_deref(), Some("producer"));
+    assert_eq!(syms[6].detail.as_deref(), Some("east"));
     let patch = &syms[2].children[0];
     assert_eq!(
         (patch.name.as_str(), patch.kind),
