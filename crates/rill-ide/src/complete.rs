@@ -334,6 +334,9 @@ fn looks_like_number(tok: &str) -> bool {
 }
 
 /// After `key =`: enum values, value forms, units after a number, `at`.
+/// Bytes of a value scanned back from the cursor.
+const MAX_SCAN: usize = 4096;
+
 fn value_completion(
     snap: &Snapshot,
     def: &BlockDef,
@@ -343,6 +346,17 @@ fn value_completion(
     off: usize,
 ) -> Vec<CompletionItem> {
     let _ = snap;
+    // Deep inside a long list only the last few tokens matter; the value's
+    // first token (`rate`, `bhp`, a form) is then far away and irrelevant.
+    let (rest, rest_off) = if rest.len() > MAX_SCAN {
+        let mut cut = rest.len() - MAX_SCAN;
+        while !rest.is_char_boundary(cut) {
+            cut += 1;
+        }
+        (&rest[cut..], rest_off + cut)
+    } else {
+        (rest, rest_off)
+    };
     let is_unit_char = |c: char| {
         c.is_ascii_alphanumeric()
             || matches!(c, '_' | '/' | '*' | '^' | '(' | ')' | '%' | '-' | '.')

@@ -182,6 +182,14 @@ proptest! {
     }
 }
 
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 48, ..ProptestConfig::default() })]
+    #[test]
+    fn arbitrary_text_never_panics(text in "([a-z]{1,6}|[ =\\[\\](){}\"#;,.*/x\\-]|[0-9]{1,3}|\n|Ω|🛢|é){0,60}") {
+        query_everywhere(&snap(&text));
+    }
+}
+
 #[test]
 fn hover_is_fast_on_a_million_cell_deck() {
     // 140 x 100 x 80 = 1,120,000 cells, kx given cell by cell.
@@ -229,6 +237,15 @@ fn hover_is_fast_on_a_million_cell_deck() {
     let h = s.hover(at(&text, "\"D-1\"", 1)).expect("well hover");
     times.push(t.elapsed());
     assert!(h.markdown.contains("(70, 50, 80)"));
+    // Completion deep inside the list scans only near the cursor.
+    let t = Instant::now();
+    let items = s.completion(last + 4);
+    let completion_time = t.elapsed();
+    assert!(items.iter().any(|i| i.label == "md"), "{items:?}");
+    assert!(
+        completion_time < Duration::from_millis(50),
+        "{completion_time:?}"
+    );
     times.sort();
     let median = times[times.len() / 2];
     eprintln!(
