@@ -1003,9 +1003,13 @@ impl<'s> Lowerer<'s> {
                     let Some(name) = PROPS.iter().copied().find(|p| *p == s.key.name) else {
                         continue;
                     };
-                    if defs.get(name).is_some_and(|d| !d.is_empty()) {
+                    if defs
+                        .get(name)
+                        .is_some_and(|d| d.iter().any(|d| d.cells.is_none()))
+                    {
                         continue; // duplicate, reported by the structure check
                     }
+                    // The base value goes first, even when a patch stands above it in the file.
                     match self.read_expr(
                         file,
                         &s.value,
@@ -1015,11 +1019,14 @@ impl<'s> Lowerer<'s> {
                         Forms::PROPERTY,
                         name,
                     ) {
-                        Some(expr) => defs.entry(name).or_default().push(Def {
-                            expr,
-                            cells: None,
-                            loc: Location::new(file, s.value.span),
-                        }),
+                        Some(expr) => defs.entry(name).or_default().insert(
+                            0,
+                            Def {
+                                expr,
+                                cells: None,
+                                loc: Location::new(file, s.value.span),
+                            },
+                        ),
                         None => ok = false,
                     }
                 }

@@ -251,3 +251,27 @@ fn examples_are_clean_and_in_canonical_format() {
         );
     }
 }
+
+#[test]
+fn a_patch_above_its_base_value_still_applies_after_it() {
+    let base =
+        std::fs::read_to_string(root().join("tests/fixtures/flow.isolated/clean.rill")).unwrap();
+    let patch = "  patch i = 1 j = 1 {\n    kx = 5 md\n  }\n";
+    assert!(base.contains(patch));
+    let first = base
+        .replacen(patch, "", 1)
+        .replacen("rock {\n", &format!("rock {{\n{patch}"), 1);
+    let a = analyze_text(Path::new("a.rill"), &base, &MemorySource::new());
+    let b = analyze_text(Path::new("b.rill"), &first, &MemorySource::new());
+    assert!(
+        !b.has_errors(),
+        "{:?}",
+        b.diagnostics.iter().map(|d| &d.message).collect::<Vec<_>>()
+    );
+    let (ka, kb) = (a.case.unwrap().rock.kx, b.case.unwrap().rock.kx);
+    assert_eq!(ka, kb);
+    assert!(
+        (ka[0] - 5.0 * 9.869233e-16).abs() < 1e-25,
+        "the patch wins over the base in cell (1, 1, 1)"
+    );
+}
