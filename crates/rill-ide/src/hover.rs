@@ -218,6 +218,19 @@ fn value_hover(
     if let Some(h) = cell_hover(snap, case, stmt, steps, perm) {
         return Some(h);
     }
+    // `layers = 1..4` of a well: the completions it makes.
+    if let (Some(c), [well]) = (case, hit.blocks.as_slice()) {
+        if well.name.name == "well" && stmt.key.name == "layers" {
+            if let Some(AtomKind::Str { value, .. }) = well.args.first().map(|a| &a.kind) {
+                if let Some(md) = well_markdown(c, value) {
+                    return Some(Hover {
+                        range: innermost.span,
+                        markdown: md,
+                    });
+                }
+            }
+        }
+    }
     match &innermost.kind {
         AtomKind::Str { value, .. } => {
             let is_file = steps.len() == 1

@@ -331,3 +331,14 @@ fn hover_in_metric_report_units() {
     let want = display_unit(Kind::Transmissibility, System::Metric).from_si(report.faces[1].trans);
     assert!(close6(t, want), "{east}");
 }
+
+#[test]
+fn hover_on_well_layers_lists_the_completions() {
+    let s = snap(BASE);
+    let h = s.hover(at(BASE, "1..2", 0)).expect("layers hover");
+    assert!(
+        h.markdown.contains("| (2, 2, 1) |") && h.markdown.contains("| (2, 2, 2) |"),
+        "{}",
+        h.markdown
+    );
+}
