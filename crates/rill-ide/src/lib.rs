@@ -337,14 +337,15 @@ impl Snapshot {
     }
 
     /// Edits that turn the document into its canonical layout
-    /// (`rill_syntax::format`); `None` when it has syntax errors, an empty
-    /// list when it is already formatted.
+    /// (`rill_syntax::format`), one per run of changed lines, sorted and not
+    /// overlapping; `None` when it has syntax errors, an empty list when it
+    /// is already formatted.
     pub fn format(&self) -> Option<Vec<TextEdit>> {
         if !self.tree.errors.is_empty() {
             return None;
         }
         let formatted = rill_syntax::format(&self.tree, &self.text);
-        Some(minimal_edit(&self.text, &formatted).into_iter().collect())
+        Some(line_edits(&self.text, &formatted))
     }
 
     /// Foldable spans: blocks, lists over several lines, runs of comment lines.
@@ -403,6 +404,82 @@ pub(crate) fn minimal_edit(old: &str, new: &str) -> Option<TextEdit> {
         span: Span::new(prefix, old.len() - suffix),
         new_text: new[prefix..new.len() - suffix].to_string(),
     })
+}
+
+/// Largest product of changed line counts diffed line by line (the table
+/// of the longest common subsequence); beyond it one edit replaces the
+/// changed middle.
+const MAX_DIFF_CELLS: usize = 4_000_000;
+
+/// Edits turning `old` into `new`, one per run of changed lines (a longest
+/// common subsequence of lines), so that editors keep the cursor and folds
+/// on the lines that did not change. Hand-written: a few dozen lines, no
+/// diff crate needed for line granularity.
+pub(crate) fn line_edits(old: &str, new: &str) -> Vec<TextEdit> {
+    if old == new {
+        return Vec::new();
+    }
+    let a: Vec<&str> = old.split_inclusive('\n').collect();
+    let b: Vec<&str> = new.split_inclusive('\n').collect();
+    let mut p = 0;
+    while p < a.len() && p < b.len() && a[p] == b[p] {
+        p += 1;
+    }
+    let mut q = 0;
+    while q < a.len() - p && q < b.len() - p && a[a.len() - 1 - q] == b[b.len() - 1 - q] {
+        q += 1;
+    }
+    let (am, bm) = (&a[p..a.len() - q], &b[p..b.len() - q]);
+    let (n, m) = (am.len(), bm.len());
+    if n.saturating_mul(m) > MAX_DIFF_CELLS {
+        return minimal_edit(old, new).into_iter().collect();
+    }
+    let w = m + 1;
+    let mut lcs = vec![0u32; (n + 1) * w];
+    for i in (0..n).rev() {
+        for j in (0..m).rev() {
+            lcs[i * w + j] = if am[i] == bm[j] {
+                lcs[(i + 1) * w + j + 1] + 1
+            } else {
+                lcs[(i + 1) * w + j].max(lcs[i * w + j + 1])
+            };
+        }
+    }
+    let mut edits = Vec::new();
+    let mut pos: usize = a[..p].iter().map(|l| l.len()).sum();
+    // The run being built: start in `old`, end in `old`, replacement.
+    let mut run: Option<(usize, usize, String)> = None;
+    let (mut i, mut j) = (0, 0);
+    while i < n || j < m {
+        if i < n && j < m && am[i] == bm[j] {
+            if let Some((s, e, t)) = run.take() {
+                edits.push(TextEdit {
+                    span: Span::new(s, e),
+                    new_text: t,
+                });
+            }
+            pos += am[i].len();
+            i += 1;
+            j += 1;
+        } else if j < m && (i == n || lcs[i * w + j + 1] >= lcs[(i + 1) * w + j]) {
+            run.get_or_insert_with(|| (pos, pos, String::new()))
+                .2
+                .push_str(bm[j]);
+            j += 1;
+        } else {
+            let r = run.get_or_insert_with(|| (pos, pos, String::new()));
+            r.1 += am[i].len();
+            pos += am[i].len();
+            i += 1;
+        }
+    }
+    if let Some((s, e, t)) = run {
+        edits.push(TextEdit {
+            span: Span::new(s, e),
+            new_text: t,
+        });
+    }
+    edits
 }
 
 /// Reads (through `source`, once) every array file named by a `file "..."`
@@ -470,6 +547,31 @@ fn collect_file_refs(items: &[Item], out: &mut Vec<(Span, String)>) {
                 }
             }
             Item::Directive(_) => {}
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn apply(text: &str, edits: &[TextEdit]) -> String {
+        let mut out = text.to_string();
+        for e in edits.iter().rev() {
+            out.replace_range(e.span.start..e.span.end, &e.new_text);
+        }
+        out
+    }
+
+    proptest! {
+        #[test]
+        fn line_edits_turn_old_into_new(old in "([ab]{0,3}\n?|Ω|\r\n){0,12}", new in "([ab]{0,3}\n?|Ω|\r\n){0,12}") {
+            let edits = line_edits(&old, &new);
+            prop_assert!(edits.windows(2).all(|w| w[0].span.end <= w[1].span.start));
+            prop_assert_eq!(apply(&old, &edits), new.clone());
+            let one: Vec<TextEdit> = minimal_edit(&old, &new).into_iter().collect();
+            prop_assert_eq!(apply(&old, &one), new);
         }
     }
 }

@@ -154,6 +154,20 @@ fn formatting_edits_reproduce_the_formatter() {
     assert!(!edits.is_empty());
     let want = rill_syntax::format(&rill_syntax::parse(messy), messy);
     assert_eq!(apply(messy, &edits), want);
+    // Unchanged lines are left alone: one edit per changed run.
+    let text =
+        "grid {\n  cells = 1 x 1 x 1\n  dx =  1 ft\n  dy = 1 ft\n  dz = 1 ft\n  top  = 1 ft\n}\n";
+    let edits = snap(text).format().unwrap();
+    assert_eq!(edits.len(), 2, "{edits:?}");
+    assert_eq!(
+        &text[edits[0].span.start..edits[0].span.end],
+        "  dx =  1 ft\n"
+    );
+    assert_eq!(edits[0].new_text, "  dx = 1 ft\n");
+    assert_eq!(
+        apply(text, &edits),
+        rill_syntax::format(&rill_syntax::parse(text), text)
+    );
     // Formatted already: no edits. Syntax errors: no formatting.
     assert_eq!(snap(&want).format(), Some(vec![]));
     assert_eq!(snap("grid { cells = [1 2\n").format(), None);
