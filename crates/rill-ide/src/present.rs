@@ -200,6 +200,69 @@ pub(crate) fn well_markdown(case: &Case, name: &str) -> Option<String> {
     Some(s)
 }
 
+/// Markdown for the boundary named `name`: its side, pressure, and the
+/// half-cell transmissibility summed over the faces it covers.
+pub(crate) fn boundary_markdown(case: &Case, name: &str) -> Option<String> {
+    let b = case.boundaries.iter().find(|b| b.name == name)?;
+    let (sys, _) = systems(case);
+    let g = &case.grid;
+    let mut s = format!(
+        "**boundary \"{}\"** — {} side, pressure {}",
+        escape_md(&b.name),
+        b.side.name(),
+        show(b.pressure, Kind::Pressure, sys)
+    );
+    match b.datum {
+        Some(d) => s.push_str(&format!(
+            " at {} (hydrostatic along the face)",
+            show(d, Kind::Length, sys)
+        )),
+        None => s.push_str(" at every face centre"),
+    }
+    // The cells on that side: a plane of the grid, never all cells.
+    let (ni, nj, nk) = (g.nx, g.ny, g.nz);
+    if ni == 0 || nj == 0 || nk == 0 {
+        return Some(s);
+    }
+    let cells: Vec<usize> = match b.side {
+        rill_model::Side::West => (0..nk)
+            .flat_map(|k| (0..nj).map(move |j| g.index(0, j, k)))
+            .collect(),
+        rill_model::Side::East => (0..nk)
+            .flat_map(|k| (0..nj).map(move |j| g.index(ni - 1, j, k)))
+            .collect(),
+        rill_model::Side::South => (0..nk)
+            .flat_map(|k| (0..ni).map(move |i| g.index(i, 0, k)))
+            .collect(),
+        rill_model::Side::North => (0..nk)
+            .flat_map(|k| (0..ni).map(move |i| g.index(i, nj - 1, k)))
+            .collect(),
+        rill_model::Side::Top => (0..nj)
+            .flat_map(|j| (0..ni).map(move |i| g.index(i, j, 0)))
+            .collect(),
+        rill_model::Side::Bottom => (0..nj)
+            .flat_map(|j| (0..ni).map(move |i| g.index(i, j, nk - 1)))
+            .collect(),
+    };
+    let total: f64 = cells
+        .iter()
+        .filter(|c| **c < g.cell_count())
+        .map(|c| {
+            derived::fluid_trans(
+                case,
+                derived::boundary_face(g, &case.rock, *c, b.side).geometric_trans,
+            )
+        })
+        .sum();
+    s.push_str(&format!(
+        "\n\n{} faces; half-cell transmissibility in total {} ({})",
+        cells.len(),
+        show(total, Kind::Transmissibility, sys),
+        show(total, Kind::Transmissibility, System::Si)
+    ));
+    Some(s)
+}
+
 /// Escape the characters that break a markdown table cell or emphasis.
 pub(crate) fn escape_md(text: &str) -> String {
     let mut out = String::with_capacity(text.len());

@@ -342,3 +342,37 @@ fn hover_on_well_layers_lists_the_completions() {
         h.markdown
     );
 }
+
+#[test]
+fn hover_on_a_boundary_sums_its_half_cells() {
+    let s = snap(BASE);
+    let h = s
+        .hover(at(BASE, "\"east aquifer\"", 2))
+        .expect("boundary hover");
+    assert!(
+        h.markdown
+            .contains("east side, pressure 3150 psi at 5000 ft"),
+        "{}",
+        h.markdown
+    );
+    assert!(h.markdown.contains("6 faces"), "{}", h.markdown);
+    // The same half-cells as the east faces that cell_report lists.
+    let case = s.analysis().case.clone().unwrap();
+    let mut total = 0.0;
+    for k in 0..2 {
+        for j in 0..3 {
+            let r = cell_report(&case, 3, j, k).unwrap();
+            total += r
+                .faces
+                .iter()
+                .find(|f| f.side == rill_model::Side::East)
+                .unwrap()
+                .trans;
+        }
+    }
+    let shown = format!(
+        "{} stb/day/psi",
+        rill_units::format_number(field(total, Kind::Transmissibility))
+    );
+    assert!(h.markdown.contains(&shown), "{shown} in {}", h.markdown);
+}
