@@ -57,6 +57,7 @@ impl Service<Request> for Sequencer {
     }
 
     fn call(&mut self, req: Request) -> Self::Future {
+        let req = without_null_params(req);
         match req.method() {
             "textDocument/didOpen" => {
                 if let Some(p) = params::<DidOpenTextDocumentParams>(&req) {
@@ -80,6 +81,13 @@ impl Service<Request> for Sequencer {
                     Ok(None)
                 })
             }
+            "shutdown" => {
+                // Noted in message order: an `exit` right behind it (a
+                // client that does not wait for the answer) still ends with 0.
+                self.shared.shutdown.store(true, Ordering::SeqCst);
+                self.shared.runs.cancel_all();
+                Box::pin(self.inner.call(req))
+            }
             "exit" => {
                 let fut = self.inner.call(req);
                 if let Some(tx) = self.exit.take() {
@@ -89,6 +97,21 @@ impl Service<Request> for Sequencer {
             }
             _ => Box::pin(self.inner.call(req)),
         }
+    }
+}
+
+/// `"params": null` as some clients send it with `shutdown` and `exit`:
+/// `tower-lsp` 0.20 rejects it for methods without parameters
+/// (`Unexpected params: null`), so it is taken as no parameters.
+fn without_null_params(req: Request) -> Request {
+    if req.params() != Some(&serde_json::Value::Null) {
+        return req;
+    }
+    let (method, id, _) = req.into_parts();
+    let builder = Request::build(method);
+    match id {
+        Some(id) => builder.id(id).finish(),
+        None => builder.finish(),
     }
 }
 
