@@ -1,0 +1,152 @@
+#!/usr/bin/env python3
+"""Latency of `rill lsp` on the 1.12-million-cell case (60 x 220 x 85, porosity
+and permeability in `file` arrays): time from each one-character `didChange`
+in the main file to the `publishDiagnostics` of that version, and of hovers.
+Not run in CI.
+
+usage: lsp_latency.py [--case DIR/field.rill] [--rill target/release/rill] [--edits 100] [--hovers 100]
+
+Without --case, the case is generated into a temporary folder with
+scripts/bench/gen_field_case.py (numpy).
+"""
+import argparse
+import json
+import os
+import queue
+import statistics
+import subprocess
+import sys
+import tempfile
+import threading
+import time
+from pathlib import Path
+
+REPO = Path(__file__).resolve().parents[2]
+
+
+class Server:
+    """A tiny JSON-RPC client over the server's stdio."""
+
+    def __init__(self, cmd):
+        self.p = subprocess.Popen(cmd, stdin=subprocess.PIPE, stdout=subprocess.PIPE)
+        self.q = queue.Queue()
+        self.next_id = 1
+        threading.Thread(target=self._read, daemon=True).start()
+
+    def _read(self):
+        out = self.p.stdout
+        while True:
+            head = b""
+            while not head.endswith(b"\r\n\r\n"):
+                c = out.read(1)
+                if not c:
+                    return
+                head += c
+            n = int(next(l for l in head.split(b"\r\n") if l.lower().startswith(b"content-length")).split(b":")[1])
+            msg = json.loads(out.read(n))
+            self.q.put((time.perf_counter(), msg))
+
+    def send(self, obj):
+        body = json.dumps(obj).encode()
+        self.p.stdin.write(b"Content-Length: %d\r\n\r\n" % len(body) + body)
+        self.p.stdin.flush()
+
+    def notify(self, method, params):
+        self.send({"jsonrpc": "2.0", "method": method, "params": params})
+
+    def request(self, method, params=None):
+        i = self.next_id
+        self.next_id += 1
+        msg = {"jsonrpc": "2.0", "id": i, "method": method}
+        if params is not None:
+            msg["params"] = params
+        self.send(msg)
+        return i
+
+    def wait(self, pred, timeout=600):
+        end = time.time() + timeout
+        while True:
+            t, msg = self.q.get(timeout=max(0.01, end - time.time()))
+            if "method" in msg and "id" in msg:  # a request from the server
+                self.send({"jsonrpc": "2.0", "id": msg["id"], "result": None})
+                continue
+            if pred(msg):
+                return t, msg
+
+
+def summary(name, xs):
+    xs = sorted(x * 1000 for x in xs)
+    print(f"{name}: n={len(xs)} median {statistics.median(xs):.1f} ms, "
+          f"p90 {xs[int(0.9 * (len(xs) - 1))]:.1f} ms, worst {xs[-1]:.1f} ms")
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--case")
+    ap.add_argument("--rill", default=str(REPO / "target" / "release" / "rill"))
+    ap.add_argument("--edits", type=int, default=100)
+    ap.add_argument("--hovers", type=int, default=100)
+    a = ap.parse_args()
+    tmp = None
+    if a.case:
+        deck = Path(a.case).resolve()
+    else:
+        tmp = tempfile.TemporaryDirectory()
+        subprocess.run([sys.executable, str(REPO / "scripts" / "bench" / "gen_field_case.py"), tmp.name], check=True)
+        deck = Path(tmp.name) / "field.rill"
+    text = deck.read_text()
+    uri = deck.as_uri()
+    s = Server([a.rill, "lsp"])
+    s.request("initialize", {"processId": os.getpid(), "rootUri": deck.parent.as_uri(), "capabilities": {}})
+    s.wait(lambda m: m.get("id") == 1)
+    s.notify("initialized", {})
+    t0 = time.perf_counter()
+    s.notify("textDocument/didOpen", {"textDocument": {"uri": uri, "languageId": "rill", "version": 1, "text": text}})
+    t1, first = s.wait(lambda m: m.get("method") == "textDocument/publishDiagnostics" and m["params"].get("version") == 1)
+    print(f"open (arrays read and parsed): {(t1 - t0) * 1000:.0f} ms, "
+          f"{len(first['params']['diagnostics'])} diagnostics")
+
+    # One character typed at a time at the end of the first comment line.
+    lines = text.split("\n")
+    line = 0
+    col = len(lines[0])
+    edits = []
+    for v in range(2, 2 + a.edits):
+        t = time.perf_counter()
+        s.notify("textDocument/didChange", {
+            "textDocument": {"uri": uri, "version": v},
+            "contentChanges": [{"range": {"start": {"line": line, "character": col}, "end": {"line": line, "character": col}}, "text": "x"}],
+        })
+        col += 1
+        t2, _ = s.wait(lambda m, v=v: m.get("method") == "textDocument/publishDiagnostics" and m["params"].get("version") == v)
+        edits.append(t2 - t)
+    summary("didChange -> publishDiagnostics", edits)
+
+    # Hovers on the kx array value, a well location and a number.
+    targets = []
+    for i, l in enumerate(lines):
+        if "kx = file" in l:
+            targets.append((i, l.index("file") + 1))
+        if "location = (" in l:
+            targets.append((i, l.index("(") + 1))
+        if "dx = 60 ft" in l:
+            targets.append((i, l.index("60")))
+    hovers = []
+    for n in range(a.hovers):
+        line_h, col_h = targets[n % len(targets)]
+        t = time.perf_counter()
+        i = s.request("textDocument/hover", {"textDocument": {"uri": uri}, "position": {"line": line_h, "character": col_h}})
+        t2, _ = s.wait(lambda m, i=i: m.get("id") == i)
+        hovers.append(t2 - t)
+    summary("hover", hovers)
+
+    i = s.request("shutdown")
+    s.wait(lambda m: m.get("id") == i)
+    s.notify("exit", None)
+    print("exit code", s.p.wait(10))
+    if tmp:
+        tmp.cleanup()
+
+
+if __name__ == "__main__":
+    main()
