@@ -67,7 +67,7 @@ fn e1_matches_abramowitz_stegun_table_5_1() {
 
 /// Constant-rate drawdown of an infinite-acting layer, against the line
 /// source: p_wf = p_i + 70.6 q B mu / (k h) Ei(-948 phi mu c_t r_w^2 / (k t))
-/// - 141.2 q B mu s / (k h), field units, t in hours, and the semilog slope
+/// minus 141.2 q B mu s / (k h), field units, t in hours, and the semilog slope
 /// 162.6 q B mu / (k h) (Earlougher, SPE Monograph 5, 1977; Lee, Well
 /// Testing, 1982; from memory). The well-block pressure is converted to the
 /// BHP by Peaceman's well index, which is what the simulator reports.

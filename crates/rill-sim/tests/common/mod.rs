@@ -79,6 +79,7 @@ pub fn geometric(first: f64, ratio: f64, n: usize) -> Vec<f64> {
 }
 
 /// A vertical well in column `(i, j)` (0-based) through layers `k0..=k1`.
+#[allow(clippy::too_many_arguments)] // a test builder: every argument is a well property
 pub fn well(
     case: &Case,
     name: &str,
