@@ -11,7 +11,6 @@ Needs a release build: cargo build --release -p rill-cli
 """
 import argparse
 import os
-import resource
 import statistics
 import subprocess
 import sys
@@ -23,13 +22,14 @@ ROOT = os.path.dirname(os.path.dirname(HERE))
 
 
 def peak_rss_mb_of(cmd):
-    """Run cmd once and return (seconds, peak RSS in MB) of the child."""
-    before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+    """Run cmd once and return (seconds, peak RSS in MB) of that child alone."""
     t0 = time.perf_counter()
-    subprocess.run(cmd, check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    p = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    _, status, usage = os.wait4(p.pid, 0)
     dt = time.perf_counter() - t0
-    after = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
-    return dt, max(before, after) / 1024.0
+    if status != 0:
+        sys.exit(f"failed: {' '.join(cmd)}")
+    return dt, usage.ru_maxrss / 1024.0
 
 
 def main():

@@ -499,35 +499,44 @@ fn read_arrays(
             let stats = cache
                 .entry(path.clone())
                 .or_insert_with(|| match source.read(&path) {
-                    Ok(bytes) => {
-                        let (values, bad) = rill_model::arrays::parse_numbers(&bytes);
-                        if !bad.is_empty() {
-                            Err(format!("{} malformed value(s)", bad.len()))
-                        } else if values.is_empty() {
-                            Err("no values".to_string())
-                        } else {
-                            let (mut min, mut max, mut sum) =
-                                (f64::INFINITY, f64::NEG_INFINITY, 0.0);
-                            for v in &values {
-                                min = min.min(*v);
-                                max = max.max(*v);
-                                sum += v;
+                    // The analysis has just parsed this file; a source that keeps
+                    // parsed arrays hands them back without a second parse.
+                    Ok(bytes) => match source.parsed_numbers(&path, &bytes) {
+                        Some(kept) => stats_of(&kept),
+                        None => {
+                            let (values, bad) = rill_model::arrays::parse_numbers(&bytes);
+                            if bad.is_empty() {
+                                stats_of(&values)
+                            } else {
+                                Err(format!("{} malformed value(s)", bad.len()))
                             }
-                            Ok(ArrayStats {
-                                count: values.len(),
-                                min,
-                                mean: sum / values.len() as f64,
-                                max,
-                            })
                         }
-                    }
+                    },
                     Err(e) => Err(e.to_string()),
-                })
-                .clone();
-            out.insert((index, span), stats);
+                });
+            out.insert((index, span), stats.clone());
         }
     }
     out
+}
+
+/// Count, min, mean and max of an array file's values.
+fn stats_of(values: &[f64]) -> Result<ArrayStats, String> {
+    if values.is_empty() {
+        return Err("no values".to_string());
+    }
+    let (mut min, mut max, mut sum) = (f64::INFINITY, f64::NEG_INFINITY, 0.0);
+    for v in values {
+        min = min.min(*v);
+        max = max.max(*v);
+        sum += v;
+    }
+    Ok(ArrayStats {
+        count: values.len(),
+        min,
+        mean: sum / values.len() as f64,
+        max,
+    })
 }
 
 /// `(span of the string atom, file name)` of every `key = file "..."`.
