@@ -478,3 +478,142 @@ async fn random_incremental_edits_keep_the_text_utf16() {
 async fn random_incremental_edits_keep_the_text_utf8() {
     random_edits(0x5eed_1234_abcd_0002, true, 3000).await;
 }
+
+const BLOCK: &str = include_str!("../../../examples/teaching-block.rill");
+
+/// Wait for diagnostics published for `uri` that satisfy `pred`.
+async fn diagnostics_until(
+    c: &mut Client,
+    uri: &str,
+    pred: impl Fn(&[Value]) -> bool,
+) -> Vec<Value> {
+    loop {
+        let d = c.notification("textDocument/publishDiagnostics").await;
+        if d["uri"] == json!(uri) {
+            let list = d["diagnostics"].as_array().cloned().unwrap_or_default();
+            if pred(&list) {
+                return list;
+            }
+        }
+    }
+}
+
+fn has(code: &str) -> impl Fn(&[Value]) -> bool + '_ {
+    move |list: &[Value]| list.iter().any(|d| d["code"] == code)
+}
+
+const WELLS_BAD: &str = "well \"W2\" {\n  role = producer\n  location = (2, 2)\n  radius = 0.3 ft\n  control = rate 10 bbl/day\n  bhp_limit = 500 psi\n}\n";
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn include_diagnostics_go_to_their_file_and_clear() {
+    let dir = tempfile::tempdir().unwrap();
+    let main = dir.path().join("main.rill");
+    let wells = dir.path().join("wells.rill");
+    let main_text = format!("{BLOCK}\ninclude \"wells.rill\"\n");
+    std::fs::write(&main, &main_text).unwrap();
+    std::fs::write(&wells, WELLS_BAD).unwrap();
+    let (main_uri, wells_uri) = (url(&main), url(&wells));
+    let mut c = Client::start();
+    c.initialize(dir.path(), &[]).await;
+    c.notify(
+        "textDocument/didOpen",
+        json!({"textDocument": {"uri": main_uri, "languageId": "rill", "version": 1, "text": main_text}}),
+    )
+    .await;
+    // A reservoir rate where a surface rate is meant, in the included file.
+    let list = diagnostics_until(&mut c, &wells_uri, has("unit.volume-kind")).await;
+    let d = list
+        .iter()
+        .find(|d| d["code"] == "unit.volume-kind")
+        .unwrap();
+    assert_eq!(d["range"]["start"]["line"], 4);
+    // Fixed on disk: the watched-file notice makes the server read it again.
+    std::fs::write(&wells, WELLS_BAD.replace("bbl/day", "stb/day")).unwrap();
+    c.notify(
+        "workspace/didChangeWatchedFiles",
+        json!({"changes": [{"uri": wells_uri, "type": 2}]}),
+    )
+    .await;
+    diagnostics_until(&mut c, &wells_uri, |l| l.is_empty()).await;
+    // Broken again, then the include line goes: its diagnostics are cleared.
+    std::fs::write(&wells, WELLS_BAD).unwrap();
+    c.notify(
+        "workspace/didChangeWatchedFiles",
+        json!({"changes": [{"uri": wells_uri, "type": 2}]}),
+    )
+    .await;
+    diagnostics_until(&mut c, &wells_uri, has("unit.volume-kind")).await;
+    let last_line = main_text.lines().count() - 1;
+    c.notify(
+        "textDocument/didChange",
+        json!({"textDocument": {"uri": main_uri, "version": 2},
+               "contentChanges": [{"range": {"start": {"line": last_line, "character": 0}, "end": {"line": last_line + 1, "character": 0}}, "text": ""}]}),
+    )
+    .await;
+    diagnostics_until(&mut c, &wells_uri, |l| l.is_empty()).await;
+    let t = c
+        .request("rill/documentText", json!({"uri": main_uri}))
+        .await;
+    assert!(!t["text"].as_str().unwrap().contains("include"));
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn include_outside_the_workspace_is_refused_unless_allowed() {
+    let dir = tempfile::tempdir().unwrap();
+    let ws = dir.path().join("ws");
+    let outside = dir.path().join("shared");
+    std::fs::create_dir_all(&ws).unwrap();
+    std::fs::create_dir_all(&outside).unwrap();
+    std::fs::write(
+        outside.join("wells.rill"),
+        WELLS_BAD.replace("bbl/day", "stb/day"),
+    )
+    .unwrap();
+    let main = ws.join("main.rill");
+    let main_text = format!("{BLOCK}\ninclude \"../shared/wells.rill\"\n");
+    std::fs::write(&main, &main_text).unwrap();
+    let main_uri = url(&main);
+    let mut c = Client::start();
+    c.initialize(&ws, &[]).await;
+    c.notify(
+        "textDocument/didOpen",
+        json!({"textDocument": {"uri": main_uri, "languageId": "rill", "version": 1, "text": main_text}}),
+    )
+    .await;
+    diagnostics_until(&mut c, &main_uri, has("deck.include")).await;
+    c.notify(
+        "workspace/didChangeConfiguration",
+        json!({"settings": {"rill": {"allowedIncludePaths": [outside]}}}),
+    )
+    .await;
+    let list = diagnostics_until(&mut c, &main_uri, |l| !has("deck.include")(l)).await;
+    assert!(list.is_empty(), "{list:?}");
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn inlay_hints_follow_the_setting() {
+    let dir = tempfile::tempdir().unwrap();
+    let deck = dir.path().join("b.rill");
+    std::fs::write(&deck, BLOCK).unwrap();
+    let uri = url(&deck);
+    let mut c = Client::start();
+    c.initialize(dir.path(), &[]).await;
+    c.notify(
+        "textDocument/didOpen",
+        json!({"textDocument": {"uri": uri, "languageId": "rill", "version": 1, "text": BLOCK}}),
+    )
+    .await;
+    let whole = json!({"textDocument": {"uri": uri}, "range": {"start": {"line": 0, "character": 0}, "end": {"line": 999, "character": 0}}});
+    let on = c.request("textDocument/inlayHint", whole.clone()).await;
+    assert!(
+        !on.as_array().unwrap().is_empty(),
+        "hints are on by default"
+    );
+    c.notify(
+        "workspace/didChangeConfiguration",
+        json!({"settings": {"rill": {"inlayHints": {"enabled": false}}}}),
+    )
+    .await;
+    let off = c.request("textDocument/inlayHint", whole).await;
+    assert_eq!(off, json!([]));
+}
