@@ -368,13 +368,11 @@ fn flow_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
             has_well[c.cell] = true;
         }
     }
-    // A cell flows if a connection or a boundary face with positive
-    // transmissibility touches it: one pass over the connections rather than
-    // six faces per cell.
-    let mut flows = has_well;
-    for conn in derived::connections(grid, &case.rock) {
-        flows[conn.a] = true;
-        flows[conn.b] = true;
+    // A cell flows if a face with positive transmissibility or a well
+    // touches it: one parallel pass, no list of connections.
+    let mut flows = derived::cells_with_flow(grid, &case.rock);
+    for (f, w) in flows.iter_mut().zip(&has_well) {
+        *f |= *w;
     }
     for b in &case.boundaries {
         for c in derived::cells_on_side(grid, b.side) {

@@ -319,6 +319,33 @@ pub fn connections(grid: &Grid, rock: &Rock) -> Vec<Connection> {
     out
 }
 
+/// For every cell, whether one of its interior faces has a positive
+/// transmissibility (the checker's `flow.isolated`). Layers in parallel,
+/// each cell looking at its own six faces.
+pub fn cells_with_flow(grid: &Grid, rock: &Rock) -> Vec<bool> {
+    use rayon::prelude::*;
+    let plane = grid.nx * grid.ny;
+    let mut flows = vec![false; grid.cell_count()];
+    if plane == 0 {
+        return flows;
+    }
+    flows
+        .par_chunks_mut(plane)
+        .enumerate()
+        .for_each(|(k, layer)| {
+            for j in 0..grid.ny {
+                for i in 0..grid.nx {
+                    let c = grid.index(i, j, k);
+                    layer[c - k * plane] = Side::ALL.into_iter().any(|side| {
+                        face_at(grid, rock, c, (i, j, k), side)
+                            .is_some_and(|f| f.geometric_trans > 0.0)
+                    });
+                }
+            }
+        });
+    flows
+}
+
 /// Peaceman's equivalent radius for an anisotropic, non-square block
 /// (Peaceman 1983): `0.28 sqrt(sqrt(ky/kx) dx^2 + sqrt(kx/ky) dy^2) / ((ky/kx)^(1/4) + (kx/ky)^(1/4))`.
 /// For a square isotropic block this is `0.1980 dx` (Peaceman 1978).

@@ -1234,7 +1234,9 @@ impl<'s> Lowerer<'s> {
             };
             finals.insert(name, field);
         }
-        let get = |n: &str| finals.get(n).map(|f| f.to_cells(shape));
+        // Drop the other holders of each array before taking it, so that most
+        // arrays move into the case without a copy.
+        let mut take = |n: &str| finals.remove(n).map(|f| f.into_cells(shape));
         let compressibility = match find(block, "compressibility") {
             Some(s) => {
                 spans.rock_compressibility = Some(Location::new(file, s.value.span));
@@ -1246,11 +1248,13 @@ impl<'s> Lowerer<'s> {
             Some(s) => self.quantity(file, s, Dim::PRESSURE, Gauge::Allowed)?,
             None => datum?,
         };
+        let (kz, ky, porosity) = (take("kz")?, take("ky")?, take("porosity")?);
+        let kx = take("kx")?;
         Some(Rock {
-            porosity: get("porosity")?,
-            kx: get("kx")?,
-            ky: get("ky")?,
-            kz: get("kz")?,
+            porosity,
+            kx,
+            ky,
+            kz,
             compressibility,
             ref_pressure,
         })

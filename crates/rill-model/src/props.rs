@@ -54,6 +54,14 @@ impl Field {
             Field::Cells(v) => v[c],
         }
     }
+    /// One value per cell, taking the array without a copy when nothing else holds it.
+    pub fn into_cells(self, shape: Shape) -> Vec<f64> {
+        match self {
+            Field::Cells(v) => Arc::try_unwrap(v).unwrap_or_else(|shared| shared.as_ref().clone()),
+            other => other.to_cells(shape),
+        }
+    }
+
     pub fn to_cells(&self, shape: Shape) -> Vec<f64> {
         match self {
             Field::Cells(v) => v.as_ref().clone(),
@@ -827,6 +835,17 @@ pub fn evaluate(e: &Expr, shape: Shape, lookup: &dyn Fn(&str) -> Option<Field>) 
                 (Field::Uniform(x), Field::Layers(y)) => {
                     Field::Layers(y.iter().map(|q| f(*x, *q)).collect())
                 }
+                // Per-cell arrays reach a million values and are re-evaluated
+                // on every keystroke in an editor: keep the common pairs tight.
+                (Field::Cells(x), Field::Uniform(y)) => {
+                    Field::Cells(Arc::new(x.iter().map(|p| f(*p, *y)).collect()))
+                }
+                (Field::Uniform(x), Field::Cells(y)) => {
+                    Field::Cells(Arc::new(y.iter().map(|q| f(*x, *q)).collect()))
+                }
+                (Field::Cells(x), Field::Cells(y)) => Field::Cells(Arc::new(
+                    x.iter().zip(y.iter()).map(|(p, q)| f(*p, *q)).collect(),
+                )),
                 _ => Field::Cells(Arc::new(
                     (0..shape.cells())
                         .map(|c| f(a.at(c, shape), b.at(c, shape)))

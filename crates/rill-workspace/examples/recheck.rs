@@ -1,0 +1,46 @@
+//! Re-check latency: analyse a deck once (reading and parsing its arrays),
+//! then again N times through the same `DiskSource`, as the language server
+//! does after each edit of the main file. Prints the first time and the
+//! median and worst of the re-checks.
+//!
+//! usage: cargo run --release -p rill-workspace --example recheck -- DECK [N]
+
+use rill_workspace::DiskSource;
+use std::time::Instant;
+
+fn main() {
+    let mut args = std::env::args().skip(1);
+    let Some(deck) = args.next() else {
+        eprintln!("usage: recheck DECK [N]");
+        std::process::exit(2);
+    };
+    let n: usize = args.next().and_then(|a| a.parse().ok()).unwrap_or(20);
+    let path = std::path::PathBuf::from(deck);
+    let text = match std::fs::read_to_string(&path) {
+        Ok(t) => t,
+        Err(e) => {
+            eprintln!("cannot read {}: {e}", path.display());
+            std::process::exit(2);
+        }
+    };
+    let source = DiskSource::unconfined();
+    let t0 = Instant::now();
+    let first = rill_model::analyze_text(&path, &text, &source);
+    let first_ms = t0.elapsed().as_secs_f64() * 1e3;
+    let mut times = Vec::with_capacity(n);
+    for i in 0..n {
+        // A one-character edit in a comment at the end, as a typist would make.
+        let edited = format!("{text}#{}\n", i % 10);
+        let t = Instant::now();
+        let a = rill_model::analyze_text(&path, &edited, &source);
+        times.push(t.elapsed().as_secs_f64() * 1e3);
+        assert_eq!(a.diagnostics.len(), first.diagnostics.len());
+    }
+    times.sort_by(f64::total_cmp);
+    println!(
+        "first check {first_ms:.1} ms; {n} re-checks: median {:.1} ms, worst {:.1} ms; {} diagnostics",
+        times[n / 2],
+        times[n - 1],
+        first.diagnostics.len()
+    );
+}
