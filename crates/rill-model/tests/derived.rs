@@ -254,9 +254,9 @@ fn cells_with_flow_agrees_with_the_faces_of_each_cell() {
     c.rock.porosity[5] = 0.0; // an inactive cell cuts its faces too
     let flows = cells_with_flow(&c.grid, &c.rock);
     for (cell, flows_here) in flows.iter().enumerate() {
-        let by_faces = Side::ALL
-            .into_iter()
-            .any(|s| interior_face(&c.grid, &c.rock, cell, s).is_some_and(|f| f.geometric_trans > 0.0));
+        let by_faces = Side::ALL.into_iter().any(|s| {
+            interior_face(&c.grid, &c.rock, cell, s).is_some_and(|f| f.geometric_trans > 0.0)
+        });
         assert_eq!(*flows_here, by_faces, "cell {cell}");
     }
     assert!(!flows[5]);

@@ -28,7 +28,10 @@ fn main() {
 fn run() -> Result<(), String> {
     let args: Vec<String> = std::env::args().skip(1).collect();
     let mut files = Vec::new();
-    let mut opts = SolverOptions { rel_tol: 1e-8, ..Default::default() };
+    let mut opts = SolverOptions {
+        rel_tol: 1e-8,
+        ..Default::default()
+    };
     opts.method = Method::AmgCg;
     let mut amg = AmgOptions::default();
     let mut repeat = 1usize;
@@ -36,7 +39,11 @@ fn run() -> Result<(), String> {
     let mut reuse_factor = 1.02f64;
     let mut it = args.iter();
     while let Some(a) = it.next() {
-        let mut val = || it.next().cloned().ok_or_else(|| format!("{a} needs a value"));
+        let mut val = || {
+            it.next()
+                .cloned()
+                .ok_or_else(|| format!("{a} needs a value"))
+        };
         match a.as_str() {
             "--method" => {
                 opts.method = match val()?.as_str() {
@@ -89,7 +96,12 @@ fn run() -> Result<(), String> {
         let cpu = cpu_seconds() - c0;
         // residual recomputed here too, independently of the solver
         let ax = a.mul_vec(&x);
-        let rn: f64 = ax.iter().zip(&b).map(|(p, q)| (q - p) * (q - p)).sum::<f64>().sqrt();
+        let rn: f64 = ax
+            .iter()
+            .zip(&b)
+            .map(|(p, q)| (q - p) * (q - p))
+            .sum::<f64>()
+            .sqrt();
         let bn: f64 = b.iter().map(|v| v * v).sum::<f64>().sqrt();
         runs.push((s, rn / bn, cpu));
     }
@@ -121,13 +133,20 @@ fn run() -> Result<(), String> {
     // Level sizes (built once more, outside the timings).
     let levels = if matches!(opts.method, Method::AmgCg | Method::AmgBicgstab) {
         let h = rill_sim::linear::AmgHierarchy::build(&a, &opts.amg).map_err(|e| e.to_string())?;
-        h.level_info().iter().map(|l| format!("[{}, {}]", l.n, l.nnz)).collect::<Vec<_>>().join(", ")
+        h.level_info()
+            .iter()
+            .map(|l| format!("[{}, {}]", l.n, l.nnz))
+            .collect::<Vec<_>>()
+            .join(", ")
     } else {
         String::new()
     };
     let (best, check, cpu) = runs
         .iter()
-        .min_by(|p, q| (p.0.setup_seconds + p.0.solve_seconds).total_cmp(&(q.0.setup_seconds + q.0.solve_seconds)))
+        .min_by(|p, q| {
+            (p.0.setup_seconds + p.0.solve_seconds)
+                .total_cmp(&(q.0.setup_seconds + q.0.solve_seconds))
+        })
         .unwrap();
     println!(
         "{{\"solver\": \"rill\", \"method\": \"{}\", \"n\": {}, \"nnz\": {}, \"threads\": {}, \"read_seconds\": {:.3}, \
@@ -172,20 +191,27 @@ fn read_all(path: &str) -> Result<String, String> {
 fn split_header(text: &str) -> (String, impl Iterator<Item = &str>) {
     let mut lines = text.lines();
     let header = lines.next().unwrap_or("").to_ascii_lowercase();
-    (header, lines.filter(|l| !l.starts_with('%') && !l.trim().is_empty()))
+    (
+        header,
+        lines.filter(|l| !l.starts_with('%') && !l.trim().is_empty()),
+    )
 }
 
 fn read_matrix(path: &str) -> Result<CsrMatrix, String> {
     let text = read_all(path)?;
     let (header, mut lines) = split_header(&text);
     if !header.starts_with("%%matrixmarket matrix coordinate") || header.contains("complex") {
-        return Err(format!("{path}: expected a real coordinate MatrixMarket matrix, got {header:?}"));
+        return Err(format!(
+            "{path}: expected a real coordinate MatrixMarket matrix, got {header:?}"
+        ));
     }
     let symmetric = header.contains("symmetric");
     let size = lines.next().ok_or("missing size line")?;
     let dims: Vec<usize> = size.split_whitespace().map(num).collect::<Result<_, _>>()?;
     if dims.len() != 3 || dims[0] != dims[1] {
-        return Err(format!("{path}: expected a square matrix, size line {size:?}"));
+        return Err(format!(
+            "{path}: expected a square matrix, size line {size:?}"
+        ));
     }
     let (n, nnz) = (dims[0], dims[2]);
     let mut t = Vec::with_capacity(if symmetric { 2 * nnz } else { nnz });
@@ -222,7 +248,9 @@ fn read_vector(path: &str, n: usize) -> Result<Vec<f64>, String> {
             }
         }
         if k != n {
-            return Err(format!("{path}: {k} values for n = {n} (size line {size:?})"));
+            return Err(format!(
+                "{path}: {k} values for n = {n} (size line {size:?})"
+            ));
         }
     } else {
         for line in lines {
@@ -254,9 +282,11 @@ fn peak_rss_mib() -> f64 {
     std::fs::read_to_string("/proc/self/status")
         .ok()
         .and_then(|s| {
-            s.lines()
-                .find(|l| l.starts_with("VmHWM:"))
-                .and_then(|l| l.split_whitespace().nth(1).and_then(|k| k.parse::<f64>().ok()))
+            s.lines().find(|l| l.starts_with("VmHWM:")).and_then(|l| {
+                l.split_whitespace()
+                    .nth(1)
+                    .and_then(|k| k.parse::<f64>().ok())
+            })
         })
         .map(|kb| kb / 1024.0)
         .unwrap_or(f64::NAN)

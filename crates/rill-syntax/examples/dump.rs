@@ -14,7 +14,10 @@ fn main() {
         return;
     }
     for e in &file.errors {
-        println!("error {:?} {}..{}: expected {}, found {}", e.kind, e.span.start, e.span.end, e.expected, e.found);
+        println!(
+            "error {:?} {}..{}: expected {}, found {}",
+            e.kind, e.span.start, e.span.end, e.expected, e.found
+        );
     }
     println!("{:#?}", file.items);
 }

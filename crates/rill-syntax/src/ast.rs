@@ -16,7 +16,10 @@ impl Span {
     }
     /// The smallest span covering both.
     pub fn join(self, other: Span) -> Span {
-        Span { start: self.start.min(other.start), end: self.end.max(other.end) }
+        Span {
+            start: self.start.min(other.start),
+            end: self.end.max(other.end),
+        }
     }
     pub fn len(self) -> usize {
         self.end - self.start
@@ -122,17 +125,31 @@ pub struct Atom {
 pub enum AtomKind {
     /// `12`, `-3`, `0.25`, `1.5e-6`, optionally followed by a unit: `250 md`.
     /// `raw` keeps the number as written, so that the formatter never changes it.
-    Number { value: f64, raw: String, unit: Option<UnitExpr> },
+    Number {
+        value: f64,
+        raw: String,
+        unit: Option<UnitExpr>,
+    },
     /// `producer`, `kx`, `layers`, `at`.
     Ident(String),
     /// `"text"` (escapes resolved), optionally followed by a unit: `file "kx.txt" md`.
-    Str { value: String, unit: Option<UnitExpr> },
+    Str {
+        value: String,
+        unit: Option<UnitExpr>,
+    },
     /// `[ a b, c ]` with an optional unit after `]` that applies to every item.
-    List { items: Vec<Atom>, unit: Option<UnitExpr>, close: Option<Span> },
+    List {
+        items: Vec<Atom>,
+        unit: Option<UnitExpr>,
+        close: Option<Span>,
+    },
     /// `1..5`, inclusive.
     Range { start: i64, end: i64 },
     /// `(i, j, k)` or `(i, j)`; items may be numbers or ranges.
-    Tuple { items: Vec<Atom>, close: Option<Span> },
+    Tuple {
+        items: Vec<Atom>,
+        close: Option<Span>,
+    },
     /// `30 x 20 x 4`.
     Size(Vec<u64>),
     /// An arithmetic operator between atoms: `0.1 * kx`.

@@ -19,11 +19,17 @@ pub fn same_meaning(a: &SourceFile, b: &SourceFile) -> bool {
 const Z: Span = Span { start: 0, end: 0 };
 
 fn strip_ident(i: &Ident) -> Ident {
-    Ident { name: i.name.clone(), span: Z }
+    Ident {
+        name: i.name.clone(),
+        span: Z,
+    }
 }
 
 fn strip_unit(u: &Option<UnitExpr>) -> Option<UnitExpr> {
-    u.as_ref().map(|u| UnitExpr { text: u.text.clone(), span: Z })
+    u.as_ref().map(|u| UnitExpr {
+        text: u.text.clone(),
+        span: Z,
+    })
 }
 
 fn strip_item(item: &Item) -> Item {
@@ -31,7 +37,10 @@ fn strip_item(item: &Item) -> Item {
         Item::Statement(s) => Item::Statement(Statement {
             key: strip_ident(&s.key),
             eq: Z,
-            value: Value { atoms: s.value.atoms.iter().map(strip_atom).collect(), span: Z },
+            value: Value {
+                atoms: s.value.atoms.iter().map(strip_atom).collect(),
+                span: Z,
+            },
             span: Z,
         }),
         Item::Block(b) => Item::Block(Block {
@@ -52,19 +61,35 @@ fn strip_item(item: &Item) -> Item {
 
 fn strip_atom(a: &Atom) -> Atom {
     let kind = match &a.kind {
-        AtomKind::Number { value, raw, unit } => AtomKind::Number { value: *value, raw: raw.clone(), unit: strip_unit(unit) },
+        AtomKind::Number { value, raw, unit } => AtomKind::Number {
+            value: *value,
+            raw: raw.clone(),
+            unit: strip_unit(unit),
+        },
         AtomKind::Ident(n) => AtomKind::Ident(n.clone()),
-        AtomKind::Str { value, unit } => AtomKind::Str { value: value.clone(), unit: strip_unit(unit) },
+        AtomKind::Str { value, unit } => AtomKind::Str {
+            value: value.clone(),
+            unit: strip_unit(unit),
+        },
         AtomKind::List { items, unit, close } => AtomKind::List {
             items: items.iter().map(strip_atom).collect(),
             unit: strip_unit(unit),
             close: close.map(|_| Z),
         },
-        AtomKind::Range { start, end } => AtomKind::Range { start: *start, end: *end },
-        AtomKind::Tuple { items, close } => AtomKind::Tuple { items: items.iter().map(strip_atom).collect(), close: close.map(|_| Z) },
+        AtomKind::Range { start, end } => AtomKind::Range {
+            start: *start,
+            end: *end,
+        },
+        AtomKind::Tuple { items, close } => AtomKind::Tuple {
+            items: items.iter().map(strip_atom).collect(),
+            close: close.map(|_| Z),
+        },
         AtomKind::Size(v) => AtomKind::Size(v.clone()),
         AtomKind::Op(o) => AtomKind::Op(*o),
-        AtomKind::Selector { key, value } => AtomKind::Selector { key: strip_ident(key), value: Box::new(strip_atom(value)) },
+        AtomKind::Selector { key, value } => AtomKind::Selector {
+            key: strip_ident(key),
+            value: Box::new(strip_atom(value)),
+        },
     };
     Atom { kind, span: Z }
 }

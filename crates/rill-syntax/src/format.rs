@@ -49,7 +49,12 @@ pub fn format(file: &SourceFile, text: &str) -> String {
     if !file.errors.is_empty() || file.len != text.len() {
         return text.to_string();
     }
-    let mut f = Fmt { text, comments: &file.comments, next: 0, out: String::new() };
+    let mut f = Fmt {
+        text,
+        comments: &file.comments,
+        next: 0,
+        out: String::new(),
+    };
     f.container(&file.items, 0, true, text.len());
     // Comments that no container claimed (not reached for a tree from `parse`).
     while f.next < f.comments.len() {
@@ -78,7 +83,12 @@ struct Word {
 }
 
 fn word(text: String, space: bool, brk: bool) -> Word {
-    Word { text, space, brk, comment: false }
+    Word {
+        text,
+        space,
+        brk,
+        comment: false,
+    }
 }
 
 fn comment_text(c: &Comment) -> String {
@@ -113,7 +123,9 @@ fn with_unit(mut s: String, unit: &Option<UnitExpr>) -> String {
 /// Would a unit written right after this atom attach to it?
 fn takes_unit(a: &Atom) -> bool {
     match &a.kind {
-        AtomKind::Number { unit: None, .. } | AtomKind::Str { unit: None, .. } | AtomKind::List { unit: None, .. } => true,
+        AtomKind::Number { unit: None, .. }
+        | AtomKind::Str { unit: None, .. }
+        | AtomKind::List { unit: None, .. } => true,
         AtomKind::Selector { value, .. } => takes_unit(value),
         _ => false,
     }
@@ -122,14 +134,20 @@ fn takes_unit(a: &Atom) -> bool {
 /// A one-item tuple such as `(m)` written after an atom that takes a unit
 /// would be read as that unit; outside lists it gets a trailing comma: `(m,)`.
 fn needs_tuple_comma(prev: Option<&Atom>, next: &Atom) -> bool {
-    prev.is_some_and(takes_unit) && matches!(&next.kind, AtomKind::Tuple { items, .. } if items.len() == 1)
+    prev.is_some_and(takes_unit)
+        && matches!(&next.kind, AtomKind::Tuple { items, .. } if items.len() == 1)
 }
 
 /// Would `next`, written after `prev` with only a space between them, be
 /// read as `prev`'s unit or as part of a size?
 fn needs_comma(prev: &Atom, next: &Atom) -> bool {
     let takes_unit = takes_unit(prev) || matches!(prev.kind, AtomKind::Size(_));
-    if takes_unit && matches!(next.kind, AtomKind::Ident(_) | AtomKind::Tuple { .. } | AtomKind::Selector { .. }) {
+    if takes_unit
+        && matches!(
+            next.kind,
+            AtomKind::Ident(_) | AtomKind::Tuple { .. } | AtomKind::Selector { .. }
+        )
+    {
         return true;
     }
     // `0 x` (the unit `x`) then `5` would be the size `0 x 5`.
@@ -166,7 +184,10 @@ impl<'a> Fmt<'a> {
 
     /// Is there a line break in the source between two offsets?
     fn has_break(&self, a: usize, b: usize) -> bool {
-        self.text.get(a.min(b)..b).unwrap_or("").contains(['\n', '\r'])
+        self.text
+            .get(a.min(b)..b)
+            .unwrap_or("")
+            .contains(['\n', '\r'])
     }
 
     fn peek_comment(&self) -> Option<&'a Comment> {
@@ -242,7 +263,10 @@ impl<'a> Fmt<'a> {
     }
 
     fn statement_words(&mut self, s: &Statement) -> Vec<Word> {
-        let mut words = vec![word(s.key.name.clone(), false, false), word("=".into(), true, false)];
+        let mut words = vec![
+            word(s.key.name.clone(), false, false),
+            word("=".into(), true, false),
+        ];
         self.seq_words(&s.value.atoms, &mut words);
         words
     }
@@ -289,7 +313,9 @@ impl<'a> Fmt<'a> {
     fn one_line_source(&self, b: &Block) -> bool {
         b.close.is_some()
             && !self.has_break(b.span.start, b.span.end)
-            && self.peek_comment().is_none_or(|c| c.span.start >= b.span.end)
+            && self
+                .peek_comment()
+                .is_none_or(|c| c.span.start >= b.span.end)
     }
 
     fn inline_item(&mut self, item: &Item) -> String {
@@ -342,7 +368,12 @@ impl<'a> Fmt<'a> {
     /// Comments before `limit` inside brackets, as words.
     fn stream_comments(&mut self, limit: usize, words: &mut Vec<Word>) {
         while let Some(c) = self.peek_comment().filter(|c| c.span.start < limit) {
-            words.push(Word { text: comment_text(c), space: true, brk: true, comment: true });
+            words.push(Word {
+                text: comment_text(c),
+                space: true,
+                brk: true,
+                comment: true,
+            });
             self.next += 1;
         }
     }
@@ -350,10 +381,16 @@ impl<'a> Fmt<'a> {
     fn atom_words(&mut self, atom: &Atom, words: &mut Vec<Word>, space: bool, inside: usize) {
         let brk = inside > 0;
         match &atom.kind {
-            AtomKind::Number { raw, unit, .. } => words.push(word(with_unit(raw.clone(), unit), space, brk)),
+            AtomKind::Number { raw, unit, .. } => {
+                words.push(word(with_unit(raw.clone(), unit), space, brk))
+            }
             AtomKind::Ident(name) => words.push(word(name.clone(), space, brk)),
-            AtomKind::Str { value, unit } => words.push(word(with_unit(quote_str(value), unit), space, brk)),
-            AtomKind::Range { start, end } => words.push(word(format!("{start}..{end}"), space, brk)),
+            AtomKind::Str { value, unit } => {
+                words.push(word(with_unit(quote_str(value), unit), space, brk))
+            }
+            AtomKind::Range { start, end } => {
+                words.push(word(format!("{start}..{end}"), space, brk))
+            }
             AtomKind::Size(v) => {
                 let parts: Vec<String> = v.iter().map(|n| n.to_string()).collect();
                 words.push(word(parts.join(" x "), space, brk));

@@ -93,7 +93,10 @@ pub(crate) fn range_tail(i: &str) -> IResult<&str, &str> {
 /// range is always written glued: `0 x 1..5` is `0 x` then the range `1..5`.
 /// So `30 x 2.5` is the size `30 x 2` then `.5`, which the model reports.
 pub(crate) fn size_tail(i: &str) -> IResult<&str, Vec<&str>> {
-    many1(preceded(tuple((hspace0, char('x'), hspace0)), terminated(digit1, not(tag("..")))))(i)
+    many1(preceded(
+        tuple((hspace0, char('x'), hspace0)),
+        terminated(digit1, not(tag(".."))),
+    ))(i)
 }
 
 /// `^2`, `^-1`, `^+3`.
@@ -106,7 +109,12 @@ fn unit_exponent(i: &str) -> IResult<&str, &str> {
 fn unit_term(i: &str, depth: u32) -> IResult<&str, &str> {
     alt((
         recognize(pair(ident, opt(unit_exponent))),
-        recognize(terminated(char('1'), not(satisfy(|c: char| c.is_ascii_alphanumeric() || c == '_' || c == '.')))),
+        recognize(terminated(
+            char('1'),
+            not(satisfy(|c: char| {
+                c.is_ascii_alphanumeric() || c == '_' || c == '.'
+            })),
+        )),
         tag("%"),
         recognize(pair(move |i| unit_group(i, depth), opt(unit_exponent))),
     ))(i)
@@ -116,7 +124,11 @@ fn unit_group(i: &str, depth: u32) -> IResult<&str, &str> {
     if depth >= MAX_UNIT_DEPTH {
         return Err(nom::Err::Error(Error::new(i, ErrorKind::TooLarge)));
     }
-    recognize(delimited(char('('), move |i| unit_expr_at(i, depth + 1), char(')')))(i)
+    recognize(delimited(
+        char('('),
+        move |i| unit_expr_at(i, depth + 1),
+        char(')'),
+    ))(i)
 }
 
 fn unit_expr_at(i: &str, depth: u32) -> IResult<&str, &str> {
@@ -175,7 +187,11 @@ pub(crate) fn string_lit(i: &str) -> IResult<&str, StrLit> {
                     Some(other) => {
                         value.push('\\');
                         value.push(other);
-                        bad_escapes.push((at, at + 1 + other.len_utf8(), format!("`\\{}`", printable(other))));
+                        bad_escapes.push((
+                            at,
+                            at + 1 + other.len_utf8(),
+                            format!("`\\{}`", printable(other)),
+                        ));
                     }
                     None => {
                         value.push('\\');
@@ -189,7 +205,15 @@ pub(crate) fn string_lit(i: &str) -> IResult<&str, StrLit> {
     }
     let (rest, close) = opt(char('"'))(rest)?;
     let len = i.len() - rest.len();
-    Ok((rest, StrLit { value, closed: close.is_some(), bad_escapes, len }))
+    Ok((
+        rest,
+        StrLit {
+            value,
+            closed: close.is_some(),
+            bad_escapes,
+            len,
+        },
+    ))
 }
 
 /// A comment body after `#`, up to (not including) the end of the line.
@@ -206,7 +230,8 @@ pub(crate) fn newline(i: &str) -> IResult<&str, &str> {
 /// `i` (after spaces/tabs) and its text.
 pub(crate) fn unit_after(i: &str) -> Option<(usize, &str)> {
     let (r, ws) = hspace0(i).ok()?;
-    let starts = r.starts_with(|c: char| c.is_ascii_alphabetic() || c == '%' || c == '(') || r.starts_with("1/");
+    let starts = r.starts_with(|c: char| c.is_ascii_alphabetic() || c == '%' || c == '(')
+        || r.starts_with("1/");
     if !starts {
         return None;
     }
@@ -228,7 +253,9 @@ fn starts_token(c: char, next: Option<char>) -> bool {
     match c {
         'a'..='z' | 'A'..='Z' | '0'..='9' => true,
         '.' => matches!(next, Some('0'..='9')),
-        '"' | '[' | ']' | '(' | ')' | '{' | '}' | '=' | ';' | ',' | '+' | '-' | '*' | '/' | '#' => true,
+        '"' | '[' | ']' | '(' | ')' | '{' | '}' | '=' | ';' | ',' | '+' | '-' | '*' | '/' | '#' => {
+            true
+        }
         ' ' | '\t' | '\n' | '\r' => true,
         _ => false,
     }
@@ -265,10 +292,20 @@ pub(crate) fn quote(text: &str) -> String {
 #[derive(Debug, Clone, PartialEq)]
 pub(crate) enum Tok {
     Ident(String),
-    Number { value: f64, raw: String, unit: Option<UnitExpr> },
-    Range { start: i64, end: i64 },
+    Number {
+        value: f64,
+        raw: String,
+        unit: Option<UnitExpr>,
+    },
+    Range {
+        start: i64,
+        end: i64,
+    },
     Size(Vec<u64>),
-    Str { value: String, unit: Option<UnitExpr> },
+    Str {
+        value: String,
+        unit: Option<UnitExpr>,
+    },
     LBracket,
     /// `]` with the unit that follows it, if any; the token span covers `]` only.
     RBracket(Option<UnitExpr>),
@@ -318,8 +355,19 @@ pub(crate) struct Sink {
 }
 
 impl Sink {
-    pub fn error(&mut self, kind: SyntaxErrorKind, span: Span, expected: impl Into<String>, found: impl Into<String>) {
-        self.errors.push(SyntaxError { kind, span, expected: expected.into(), found: found.into() });
+    pub fn error(
+        &mut self,
+        kind: SyntaxErrorKind,
+        span: Span,
+        expected: impl Into<String>,
+        found: impl Into<String>,
+    ) {
+        self.errors.push(SyntaxError {
+            kind,
+            span,
+            expected: expected.into(),
+            found: found.into(),
+        });
     }
 }
 
@@ -333,7 +381,11 @@ pub(crate) struct Lexer<'a> {
 
 impl<'a> Lexer<'a> {
     pub fn new(text: &'a str, pos: usize) -> Self {
-        Lexer { text, pos, last_value_end: usize::MAX }
+        Lexer {
+            text,
+            pos,
+            last_value_end: usize::MAX,
+        }
     }
 
     /// Skips spaces, tabs, a byte-order mark at the very start, and comments
@@ -355,7 +407,10 @@ impl<'a> Lexer<'a> {
                 let end = self.pos + (r.len() - r2.len());
                 if let Some(s) = sink.as_deref_mut() {
                     if s.comments.last().is_none_or(|c| c.span.start < start) {
-                        s.comments.push(Comment { text: body.to_string(), span: Span::new(start, end) });
+                        s.comments.push(Comment {
+                            text: body.to_string(),
+                            span: Span::new(start, end),
+                        });
                     }
                 }
                 self.pos = end;
@@ -368,7 +423,10 @@ impl<'a> Lexer<'a> {
     fn unit_at(&self, pos: usize) -> Option<UnitExpr> {
         let (off, u) = unit_after(&self.text[pos..])?;
         let start = pos + off;
-        Some(UnitExpr { text: u.to_string(), span: Span::new(start, start + u.len()) })
+        Some(UnitExpr {
+            text: u.to_string(),
+            span: Span::new(start, start + u.len()),
+        })
     }
 
     /// The next token. Comments and lexical errors go to `sink` when given.
@@ -379,7 +437,10 @@ impl<'a> Lexer<'a> {
         let mut chars = rest.chars();
         let Some(c) = chars.next() else {
             self.last_value_end = usize::MAX;
-            return Token { tok: Tok::Eof, span: Span::new(start, start) };
+            return Token {
+                tok: Tok::Eof,
+                span: Span::new(start, start),
+            };
         };
         let next = chars.next();
         let glued_to_value = self.last_value_end == start;
@@ -392,7 +453,8 @@ impl<'a> Lexer<'a> {
             '.' if matches!(next, Some('0'..='9')) => self.number_token(start, &mut sink),
             '-' if !glued_to_value
                 && (matches!(next, Some('0'..='9'))
-                    || (next == Some('.') && rest[2..].starts_with(|c: char| c.is_ascii_digit()))) =>
+                    || (next == Some('.')
+                        && rest[2..].starts_with(|c: char| c.is_ascii_digit()))) =>
             {
                 self.number_token(start, &mut sink)
             }
@@ -469,7 +531,14 @@ impl<'a> Lexer<'a> {
         let value = raw.parse::<f64>().unwrap_or(f64::INFINITY);
         let unit = self.unit_at(after);
         let end = unit.as_ref().map_or(after, |u| u.span.end);
-        (Tok::Number { value, raw: raw.to_string(), unit }, end)
+        (
+            Tok::Number {
+                value,
+                raw: raw.to_string(),
+                unit,
+            },
+            end,
+        )
     }
 
     fn string_token(&self, start: usize, sink: &mut Option<&mut Sink>) -> (Tok, usize) {
@@ -488,15 +557,30 @@ impl<'a> Lexer<'a> {
                 );
             }
             if !lit.closed {
-                let found = if end >= self.text.len() { "end of file" } else { "end of line" };
-                s.error(SyntaxErrorKind::Unclosed, Span::new(start, start + 1), "`\"` closing the string", found);
+                let found = if end >= self.text.len() {
+                    "end of file"
+                } else {
+                    "end of line"
+                };
+                s.error(
+                    SyntaxErrorKind::Unclosed,
+                    Span::new(start, start + 1),
+                    "`\"` closing the string",
+                    found,
+                );
             }
         }
         let unit = if lit.closed { self.unit_at(end) } else { None };
         if let Some(u) = &unit {
             end = u.span.end;
         }
-        (Tok::Str { value: lit.value, unit }, end)
+        (
+            Tok::Str {
+                value: lit.value,
+                unit,
+            },
+            end,
+        )
     }
 }
 
@@ -505,7 +589,12 @@ fn parse_i64(raw: &str, span: Span, sink: &mut Option<&mut Sink>) -> i64 {
         Ok(v) => v,
         Err(_) => {
             if let Some(s) = sink.as_deref_mut() {
-                s.error(SyntaxErrorKind::Unexpected, span, "an integer of at most 18 digits in a range", format!("number {}", quote(raw)));
+                s.error(
+                    SyntaxErrorKind::Unexpected,
+                    span,
+                    "an integer of at most 18 digits in a range",
+                    format!("number {}", quote(raw)),
+                );
             }
             if raw.starts_with('-') {
                 i64::MIN
@@ -521,7 +610,12 @@ fn parse_u64(raw: &str, span: Span, sink: &mut Option<&mut Sink>) -> u64 {
         Ok(v) => v,
         Err(_) => {
             if let Some(s) = sink.as_deref_mut() {
-                s.error(SyntaxErrorKind::Unexpected, span, "an integer of at most 19 digits in a size", format!("number {}", quote(raw)));
+                s.error(
+                    SyntaxErrorKind::Unexpected,
+                    span,
+                    "an integer of at most 19 digits in a size",
+                    format!("number {}", quote(raw)),
+                );
             }
             u64::MAX
         }
@@ -563,7 +657,16 @@ mod tests {
 
     #[test]
     fn numbers_with_nom() {
-        for (s, raw) in [("12", "12"), ("-3", "-3"), ("0.25", "0.25"), (".5", ".5"), ("1.5e-6", "1.5e-6"), ("1E6", "1E6"), ("1..5", "1"), ("1.x", "1")] {
+        for (s, raw) in [
+            ("12", "12"),
+            ("-3", "-3"),
+            ("0.25", "0.25"),
+            (".5", ".5"),
+            ("1.5e-6", "1.5e-6"),
+            ("1E6", "1E6"),
+            ("1..5", "1"),
+            ("1.x", "1"),
+        ] {
             assert_eq!(number(s).unwrap().1, raw, "{s}");
         }
         assert!(number("x").is_err());
@@ -572,7 +675,20 @@ mod tests {
 
     #[test]
     fn units_with_nom() {
-        for u in ["m3", "ft^3", "lb/ft^3", "1/psi", "rb/stb", "Pa*s", "%", "stb/day/psi", "(m/s)^2", "m^-1", "m^+2", "1/(psi*day)"] {
+        for u in [
+            "m3",
+            "ft^3",
+            "lb/ft^3",
+            "1/psi",
+            "rb/stb",
+            "Pa*s",
+            "%",
+            "stb/day/psi",
+            "(m/s)^2",
+            "m^-1",
+            "m^+2",
+            "1/(psi*day)",
+        ] {
             assert_eq!(unit_expr(u).unwrap(), ("", u), "{u}");
         }
         assert_eq!(unit_expr("md,").unwrap(), (",", "md"));
@@ -599,6 +715,9 @@ mod tests {
     #[test]
     fn unknown_runs_are_one_token() {
         assert_eq!(toks("@@@ é\u{0}"), vec![Tok::Unknown, Tok::Unknown]);
-        assert_eq!(toks("a@b"), vec![Tok::Ident("a".into()), Tok::Unknown, Tok::Ident("b".into())]);
+        assert_eq!(
+            toks("a@b"),
+            vec![Tok::Ident("a".into()), Tok::Unknown, Tok::Ident("b".into())]
+        );
     }
 }

@@ -82,8 +82,8 @@ mod parser;
 
 pub use ast::*;
 pub use compare::{same_meaning, strip_spans};
-pub use parser::MAX_DEPTH;
 pub use format::WIDTH;
+pub use parser::MAX_DEPTH;
 
 /// Parses a case file. Never panics; runs in time linear in the text.
 pub fn parse(text: &str) -> SourceFile {
@@ -121,7 +121,8 @@ pub fn parse_bytes(bytes: &[u8]) -> (String, SourceFile) {
         // The parser sees a replacement character where the decoder already
         // reported the bytes: keep the decoder's error only.
         let spans: std::collections::HashSet<Span> = bad.iter().map(|e| e.span).collect();
-        file.errors.retain(|e| !(e.kind == SyntaxErrorKind::Unexpected && spans.contains(&e.span)));
+        file.errors
+            .retain(|e| !(e.kind == SyntaxErrorKind::Unexpected && spans.contains(&e.span)));
         file.errors.extend(bad);
         file.errors.sort_by_key(|e| (e.span.start, e.span.end));
     }

@@ -103,14 +103,27 @@ impl<'a> Parser<'a> {
         let mut sink = Sink::default();
         let mut lx = Lexer::new(text, 0);
         let tok = lx.next(Some(&mut sink));
-        Parser { text, lx, tok, sink, open: Vec::new(), blocks: 0, line_memo: None }
+        Parser {
+            text,
+            lx,
+            tok,
+            sink,
+            open: Vec::new(),
+            blocks: 0,
+            line_memo: None,
+        }
     }
 
     pub fn parse_file(mut self) -> SourceFile {
         let items = self.items(0);
         let mut errors = self.sink.errors;
         errors.sort_by_key(|e| (e.span.start, e.span.end));
-        SourceFile { items, comments: self.sink.comments, errors, len: self.text.len() }
+        SourceFile {
+            items,
+            comments: self.sink.comments,
+            errors,
+            len: self.text.len(),
+        }
     }
 
     /// Does the line after the current line break start a new item?
@@ -137,12 +150,14 @@ impl<'a> Parser<'a> {
 
     fn unexpected(&mut self, expected: impl Into<String>) {
         let found = describe(&self.tok, self.text);
-        self.sink.error(SyntaxErrorKind::Unexpected, self.tok.span, expected, found);
+        self.sink
+            .error(SyntaxErrorKind::Unexpected, self.tok.span, expected, found);
     }
 
     fn unclosed(&mut self, open: Span, expected: impl Into<String>) {
         let found = describe(&self.tok, self.text);
-        self.sink.error(SyntaxErrorKind::Unclosed, open, expected, found);
+        self.sink
+            .error(SyntaxErrorKind::Unclosed, open, expected, found);
     }
 
     /// Skips the rest of a statement: up to a line break or `;` outside
@@ -209,7 +224,10 @@ impl<'a> Parser<'a> {
         let t = self.bump();
         let name = match t.tok {
             Tok::Ident(name) => Ident { name, span: t.span },
-            _ => Ident { name: String::new(), span: t.span },
+            _ => Ident {
+                name: String::new(),
+                span: t.span,
+            },
         };
         if self.tok.tok == Tok::Eq {
             Item::Statement(self.statement(name, depth))
@@ -246,7 +264,15 @@ impl<'a> Parser<'a> {
             _ => Span::new(eq.end, eq.end),
         };
         let span = key.span.join(eq).join(value_span);
-        Statement { key, eq, value: Value { atoms, span: value_span }, span }
+        Statement {
+            key,
+            eq,
+            value: Value {
+                atoms,
+                span: value_span,
+            },
+            span,
+        }
     }
 
     /// A block header or a directive, after its name.
@@ -258,17 +284,28 @@ impl<'a> Parser<'a> {
                     let t = self.bump();
                     let key = match t.tok {
                         Tok::Ident(name) => Ident { name, span: t.span },
-                        _ => Ident { name: String::new(), span: t.span },
+                        _ => Ident {
+                            name: String::new(),
+                            span: t.span,
+                        },
                     };
                     self.bump(); // `=`
                     if starts_atom(&self.tok.tok) {
                         let value = self.atom(depth);
                         let span = key.span.join(value.span);
-                        args.push(Atom { kind: AtomKind::Selector { key, value: Box::new(value) }, span });
+                        args.push(Atom {
+                            kind: AtomKind::Selector {
+                                key,
+                                value: Box::new(value),
+                            },
+                            span,
+                        });
                     } else {
                         self.unexpected(format!("a value after `{} =`", key.name));
-                        if !matches!(self.tok.tok, Tok::LBrace | Tok::Newline | Tok::Semi | Tok::Eof | Tok::RBrace)
-                            && self.skip(true)
+                        if !matches!(
+                            self.tok.tok,
+                            Tok::LBrace | Tok::Newline | Tok::Semi | Tok::Eof | Tok::RBrace
+                        ) && self.skip(true)
                         {
                             return Item::Block(self.block(name, args, depth));
                         }
@@ -281,7 +318,10 @@ impl<'a> Parser<'a> {
                     let expected = if args.is_empty() {
                         format!("`=` or `{{` after `{}`", name.name)
                     } else {
-                        format!("`{{` or the end of the line after the header of `{}`", name.name)
+                        format!(
+                            "`{{` or the end of the line after the header of `{}`",
+                            name.name
+                        )
                     };
                     self.unexpected(expected);
                     if self.skip(true) {
@@ -298,7 +338,10 @@ impl<'a> Parser<'a> {
     /// A block from its `{` (the current token).
     fn block(&mut self, name: Ident, args: Vec<Atom>, depth: usize) -> Block {
         let open = self.bump().span;
-        let head = args.iter().fold(name.span, |s, a| s.join(a.span)).join(open);
+        let head = args
+            .iter()
+            .fold(name.span, |s, a| s.join(a.span))
+            .join(open);
         if depth + 1 > MAX_DEPTH {
             self.sink.error(
                 SyntaxErrorKind::Unexpected,
@@ -326,7 +369,14 @@ impl<'a> Parser<'a> {
                 }
                 end = self.bump().span.end;
             }
-            return Block { name, args, items: Vec::new(), open, close, span: head.join(Span::new(end, end)) };
+            return Block {
+                name,
+                args,
+                items: Vec::new(),
+                open,
+                close,
+                span: head.join(Span::new(end, end)),
+            };
         }
         self.blocks += 1;
         let items = self.items(depth + 1);
@@ -344,7 +394,14 @@ impl<'a> Parser<'a> {
         if let Some(c) = close {
             span = span.join(c);
         }
-        Block { name, args, items, open, close, span }
+        Block {
+            name,
+            args,
+            items,
+            open,
+            close,
+            span,
+        }
     }
 
     fn atom(&mut self, depth: usize) -> Atom {
@@ -374,9 +431,16 @@ impl<'a> Parser<'a> {
         let (open_ch, close_ch) = if is_list { ('[', ']') } else { ('(', ')') };
         let empty = |span: Span| Atom {
             kind: if is_list {
-                AtomKind::List { items: Vec::new(), unit: None, close: None }
+                AtomKind::List {
+                    items: Vec::new(),
+                    unit: None,
+                    close: None,
+                }
             } else {
-                AtomKind::Tuple { items: Vec::new(), close: None }
+                AtomKind::Tuple {
+                    items: Vec::new(),
+                    close: None,
+                }
             },
             span,
         };

@@ -21,10 +21,13 @@ fn spec_deck_layout() {
     assert!(out.starts_with("case \"Larkspur east lobe\" {  # optional metadata\n  title = \"pilot producer, 1 year\"\n}\n\ngrid {\n"));
     assert!(out.contains("\n  cells = 30 x 20 x 4  # NX x NY x NZ\n"));
     assert!(out.contains("\n  patch i = 12..14 k = 3 {  # overrides inside a sub-block; omitted axes mean all\n    kz = 0 md  # a sealing streak\n  }\n"));
-    assert!(out.contains("\n  # completions = [(15, 10, 1), (16, 10, 2)]   # alternative: explicit cells\n"));
+    assert!(out.contains(
+        "\n  # completions = [(15, 10, 1), (16, 10, 2)]   # alternative: explicit cells\n"
+    ));
     assert!(out.contains("\n  at 180 day {  # a change of controls\n    well \"LE-1\" { control = bhp 1500 psi }\n  }\n"));
     assert!(out.contains("  pressure = 3150 psi at 7150 ft  # constant pressure, hydrostatic along the face;\n  # without `at`, the value holds at every face centre\n}\n"));
-    assert!(out.ends_with("}\n\ninclude \"more-wells.rill\"  # top level only; relative to this file\n"));
+    assert!(out
+        .ends_with("}\n\ninclude \"more-wells.rill\"  # top level only; relative to this file\n"));
 }
 
 #[test]
@@ -42,14 +45,20 @@ fn spacing_and_atoms() {
     fmt("p = 250md\n", "p = 250 md\n");
     fmt("d = 62.4\tlb/ft^3\n", "d = 62.4 lb/ft^3\n");
     fmt("n = 1E6 .5 1.50e-6\n", "n = 1E6 .5 1.50e-6\n");
-    fmt("t = \"say \\\"hi\\\" \\\\\"\n", "t = \"say \\\"hi\\\" \\\\\"\n");
+    fmt(
+        "t = \"say \\\"hi\\\" \\\\\"\n",
+        "t = \"say \\\"hi\\\" \\\\\"\n",
+    );
     fmt("f = file \"kx.txt\"md\n", "f = file \"kx.txt\" md\n");
     fmt("l = (15,10 , 1)\n", "l = (15, 10, 1)\n");
     fmt("r = 1..5\n", "r = 1..5\n");
     fmt("x = [ 1,2 , 3 ]ft\n", "x = [1 2 3] ft\n");
     fmt("x = [[1,2],[3]]\n", "x = [[1 2] [3]]\n");
     fmt("x = [1 -2 - 3]\n", "x = [1 -2 - 3]\n");
-    fmt("x = [(15, 10, 1), (16, 10, 2)]\n", "x = [(15, 10, 1) (16, 10, 2)]\n");
+    fmt(
+        "x = [(15, 10, 1), (16, 10, 2)]\n",
+        "x = [(15, 10, 1) (16, 10, 2)]\n",
+    );
 }
 
 #[test]
@@ -76,29 +85,53 @@ fn commas_kept_where_needed() {
 #[test]
 fn statements_split_and_indented() {
     fmt("a = 1; b = 2\n", "a = 1\nb = 2\n");
-    fmt("grid {\ncells = 1\n      dx = 2\n}\n", "grid {\n  cells = 1\n  dx = 2\n}\n");
+    fmt(
+        "grid {\ncells = 1\n      dx = 2\n}\n",
+        "grid {\n  cells = 1\n  dx = 2\n}\n",
+    );
     fmt("a { b { c = 1\n} }\n", "a {\n  b {\n    c = 1\n  }\n}\n");
 }
 
 #[test]
 fn one_line_blocks() {
-    fmt("well \"A\" {control = bhp 1500 psi}\n", "well \"A\" { control = bhp 1500 psi }\n");
-    fmt("well \"A\" { a = 1;b = 2 }\n", "well \"A\" { a = 1; b = 2 }\n");
-    fmt("at 180 day { well \"LE-1\" { control = bhp 1500 psi } }\n", "at 180 day { well \"LE-1\" { control = bhp 1500 psi } }\n");
+    fmt(
+        "well \"A\" {control = bhp 1500 psi}\n",
+        "well \"A\" { control = bhp 1500 psi }\n",
+    );
+    fmt(
+        "well \"A\" { a = 1;b = 2 }\n",
+        "well \"A\" { a = 1; b = 2 }\n",
+    );
+    fmt(
+        "at 180 day { well \"LE-1\" { control = bhp 1500 psi } }\n",
+        "at 180 day { well \"LE-1\" { control = bhp 1500 psi } }\n",
+    );
     fmt("grid { }\n", "grid {}\n");
     fmt("grid {\n}\n", "grid {\n}\n");
     // Too long for one line: expanded.
     let long = format!("well \"A\" {{ a = \"{}\"; b = 2 }}\n", "x".repeat(80));
-    fmt(&long, &format!("well \"A\" {{\n  a = \"{}\"\n  b = 2\n}}\n", "x".repeat(80)));
+    fmt(
+        &long,
+        &format!("well \"A\" {{\n  a = \"{}\"\n  b = 2\n}}\n", "x".repeat(80)),
+    );
     // A multi-line block stays multi-line.
     fmt("w {\n  a = 1 }\n", "w {\n  a = 1\n}\n");
 }
 
 #[test]
 fn blank_lines() {
-    fmt("\n\na = 1\n\n\n\nb = 2\nc = 3\n\n\n", "a = 1\n\nb = 2\nc = 3\n");
-    fmt("a {\n}\nb {\n}\nc = 1\nd {\n}\n", "a {\n}\n\nb {\n}\n\nc = 1\n\nd {\n}\n");
-    fmt("a {\n\n\n  x = 1\n\n\n\n  y = 2\n\n}\n", "a {\n  x = 1\n\n  y = 2\n}\n");
+    fmt(
+        "\n\na = 1\n\n\n\nb = 2\nc = 3\n\n\n",
+        "a = 1\n\nb = 2\nc = 3\n",
+    );
+    fmt(
+        "a {\n}\nb {\n}\nc = 1\nd {\n}\n",
+        "a {\n}\n\nb {\n}\n\nc = 1\n\nd {\n}\n",
+    );
+    fmt(
+        "a {\n\n\n  x = 1\n\n\n\n  y = 2\n\n}\n",
+        "a {\n  x = 1\n\n  y = 2\n}\n",
+    );
     // A comment right above a block stays attached to it.
     fmt("a = 1\n# about b\nb {\n}\n", "a = 1\n\n# about b\nb {\n}\n");
     fmt("a {\n}\n# tail\n", "a {\n}\n\n# tail\n");
@@ -106,8 +139,14 @@ fn blank_lines() {
 
 #[test]
 fn comments() {
-    fmt("# head\n\n\n# two\na = 1    # trailing   \n", "# head\n\n# two\na = 1  # trailing\n");
-    fmt("a {   # open\n  # first\n  x = 1\n  # last\n}   # close\n", "a {  # open\n  # first\n  x = 1\n  # last\n}  # close\n");
+    fmt(
+        "# head\n\n\n# two\na = 1    # trailing   \n",
+        "# head\n\n# two\na = 1  # trailing\n",
+    );
+    fmt(
+        "a {   # open\n  # first\n  x = 1\n  # last\n}   # close\n",
+        "a {  # open\n  # first\n  x = 1\n  # last\n}  # close\n",
+    );
     fmt("a {\n    # only\n}\n", "a {\n  # only\n}\n");
     fmt("a = 1; # after semicolon\n", "a = 1  # after semicolon\n");
     fmt("a = 1; b = 2 # on b\n", "a = 1\nb = 2  # on b\n");
@@ -130,12 +169,19 @@ fn long_lists_wrap() {
     let f = parse(&text);
     let out = check_format(&text, &f);
     for line in out.lines() {
-        assert!(line.chars().count() <= rill_syntax::format::WIDTH, "{line:?} too long");
+        assert!(
+            line.chars().count() <= rill_syntax::format::WIDTH,
+            "{line:?} too long"
+        );
     }
     let lines: Vec<&str> = out.lines().collect();
     assert!(lines.len() > 4);
     assert!(lines[1].starts_with("  kx = layers [100 101 "));
-    assert!(lines[2].starts_with("    1"), "continuation one level deeper: {:?}", lines[2]);
+    assert!(
+        lines[2].starts_with("    1"),
+        "continuation one level deeper: {:?}",
+        lines[2]
+    );
     assert!(out.contains("159] md\n}\n"));
     // Numbers keep their spelling when wrapped.
     let text = format!("x = [{}]\n", vec!["1.50e-6"; 40].join(" "));
@@ -149,7 +195,10 @@ fn long_lists_wrap() {
 
 #[test]
 fn crlf_and_cr_become_lf() {
-    fmt("a = 1\r\nb {\r\n  c = 2\r\n}\r\n", "a = 1\n\nb {\n  c = 2\n}\n");
+    fmt(
+        "a = 1\r\nb {\r\n  c = 2\r\n}\r\n",
+        "a = 1\n\nb {\n  c = 2\n}\n",
+    );
     fmt("a = 1\rb = 2\r", "a = 1\nb = 2\n");
 }
 
@@ -168,5 +217,8 @@ fn meaning_helper_sees_differences() {
     let c = parse("x = [1 2]\nmd\n");
     assert!(same_meaning(&a, &b));
     assert!(!same_meaning(&a, &c));
-    assert!(!same_meaning(&parse("x = 1.0\n"), &parse("x = 1\n")), "raw spellings are meaning for the formatter");
+    assert!(
+        !same_meaning(&parse("x = 1.0\n"), &parse("x = 1\n")),
+        "raw spellings are meaning for the formatter"
+    );
 }

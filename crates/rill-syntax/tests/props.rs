@@ -54,9 +54,54 @@ fn byte() -> impl Strategy<Value = u8> {
 
 /// Tokens spliced into the deck by mutations.
 const TOKENS: &[&str] = &[
-    "[", "]", "(", ")", "{", "}", "\"", "=", ";", ",", "#", "\n", "\r", "\r\n", "\t", "..", "x", " x ", "-", "-5", "*",
-    "/", "1/", "1e999", "99999999999999999999", "é", "\u{0}", "\u{FEFF}", "md", " at ", "\\", "\\\"", "^", "%", "(m",
-    "1..", "k = 3", "well \"A\" {", "a = ", "}\n}", "[[[[", "((((", "{{{{", " # c\n", "0x1", ".5", "e", "\u{FFFD}",
+    "[",
+    "]",
+    "(",
+    ")",
+    "{",
+    "}",
+    "\"",
+    "=",
+    ";",
+    ",",
+    "#",
+    "\n",
+    "\r",
+    "\r\n",
+    "\t",
+    "..",
+    "x",
+    " x ",
+    "-",
+    "-5",
+    "*",
+    "/",
+    "1/",
+    "1e999",
+    "99999999999999999999",
+    "é",
+    "\u{0}",
+    "\u{FEFF}",
+    "md",
+    " at ",
+    "\\",
+    "\\\"",
+    "^",
+    "%",
+    "(m",
+    "1..",
+    "k = 3",
+    "well \"A\" {",
+    "a = ",
+    "}\n}",
+    "[[[[",
+    "((((",
+    "{{{{",
+    " # c\n",
+    "0x1",
+    ".5",
+    "e",
+    "\u{FFFD}",
 ];
 
 #[derive(Debug, Clone)]
@@ -78,7 +123,8 @@ fn mutation() -> impl Strategy<Value = Mutation> {
         (pos.clone(), 1usize..6).prop_map(|(p, n)| Mutation::DeleteBytes(p, n)),
         (pos.clone(), byte()).prop_map(|(p, b)| Mutation::ReplaceByte(p, b)),
         (pos.clone(), 0..TOKENS.len()).prop_map(|(p, t)| Mutation::InsertToken(p, t)),
-        (pos.clone(), 1usize..4, 0..TOKENS.len()).prop_map(|(p, n, t)| Mutation::ReplaceWithToken(p, n, t)),
+        (pos.clone(), 1usize..4, 0..TOKENS.len())
+            .prop_map(|(p, n, t)| Mutation::ReplaceWithToken(p, n, t)),
         pos.clone().prop_map(Mutation::DuplicateLine),
         pos.clone().prop_map(Mutation::DeleteLine),
         pos.prop_map(Mutation::SwapHalves),
@@ -88,8 +134,14 @@ fn mutation() -> impl Strategy<Value = Mutation> {
 fn apply(bytes: &mut Vec<u8>, m: &Mutation) {
     let at = |p: f64, len: usize| ((p * len as f64) as usize).min(len);
     let line_bounds = |b: &[u8], i: usize| {
-        let start = b[..i].iter().rposition(|&c| c == b'\n').map_or(0, |s| s + 1);
-        let end = b[i..].iter().position(|&c| c == b'\n').map_or(b.len(), |e| i + e + 1);
+        let start = b[..i]
+            .iter()
+            .rposition(|&c| c == b'\n')
+            .map_or(0, |s| s + 1);
+        let end = b[i..]
+            .iter()
+            .position(|&c| c == b'\n')
+            .map_or(b.len(), |e| i + e + 1);
         (start, end)
     };
     match *m {
@@ -139,7 +191,11 @@ fn apply(bytes: &mut Vec<u8>, m: &Mutation) {
 
 fn ident() -> impl Strategy<Value = String> {
     prop_oneof![
-        select(vec!["kx", "ky", "producer", "layers", "cells", "file", "rate", "bhp", "at", "md", "field", "top"]).prop_map(String::from),
+        select(vec![
+            "kx", "ky", "producer", "layers", "cells", "file", "rate", "bhp", "at", "md", "field",
+            "top"
+        ])
+        .prop_map(String::from),
         // `x` or `x` then a digit after an integer makes a size (`30 x 20`,
         // `30 x20`): not a name to generate.
         "[a-zA-Z][a-zA-Z0-9_]{0,6}".prop_filter("not x, x<digit>", |s| {
@@ -150,15 +206,38 @@ fn ident() -> impl Strategy<Value = String> {
 
 fn number() -> impl Strategy<Value = String> {
     prop_oneof![
-        select(vec!["12", "-3", "0.25", ".5", "1.5e-6", "1E6", "0", "-0.5", "1e999", "007", "3.0", "-.25", "2e+3"]).prop_map(String::from),
+        select(vec![
+            "12", "-3", "0.25", ".5", "1.5e-6", "1E6", "0", "-0.5", "1e999", "007", "3.0", "-.25",
+            "2e+3"
+        ])
+        .prop_map(String::from),
         (-100000i64..100000).prop_map(|n| n.to_string()),
-        (any::<f64>()).prop_filter("finite", |f| f.is_finite()).prop_map(|f| format!("{f:e}")),
+        (any::<f64>())
+            .prop_filter("finite", |f| f.is_finite())
+            .prop_map(|f| format!("{f:e}")),
     ]
 }
 
 fn unit() -> impl Strategy<Value = String> {
-    select(vec!["md", "ft", "psi", "1/psi", "lb/ft^3", "stb/day", "rb/stb", "Pa*s", "%", "cP", "m3", "ft^3", "stb/day/psi", "(m/s)^2", "m^-1", "day"])
-        .prop_map(String::from)
+    select(vec![
+        "md",
+        "ft",
+        "psi",
+        "1/psi",
+        "lb/ft^3",
+        "stb/day",
+        "rb/stb",
+        "Pa*s",
+        "%",
+        "cP",
+        "m3",
+        "ft^3",
+        "stb/day/psi",
+        "(m/s)^2",
+        "m^-1",
+        "day",
+    ])
+    .prop_map(String::from)
 }
 
 fn unit_gap() -> impl Strategy<Value = String> {
@@ -207,8 +286,12 @@ fn list_sep() -> impl Strategy<Value = String> {
 fn atom() -> impl Strategy<Value = String> {
     scalar().prop_recursive(4, 48, 8, |inner| {
         prop_oneof![
-            (prop::collection::vec((inner.clone(), list_sep()), 0..8), prop::option::of(unit()), list_sep()).prop_map(
-                |(items, u, first)| {
+            (
+                prop::collection::vec((inner.clone(), list_sep()), 0..8),
+                prop::option::of(unit()),
+                list_sep()
+            )
+                .prop_map(|(items, u, first)| {
                     let mut s = String::from("[");
                     if first.contains('#') {
                         s.push_str(&first);
@@ -225,11 +308,14 @@ fn atom() -> impl Strategy<Value = String> {
                         s.push_str(&u);
                     }
                     s
-                }
-            ),
+                }),
             (prop::collection::vec((inner, list_sep()), 1..4)).prop_map(|items| {
                 let parts: Vec<String> = items.iter().map(|(a, _)| a.clone()).collect();
-                let sep = if items[0].1.contains('\n') { ",\n  " } else { ", " };
+                let sep = if items[0].1.contains('\n') {
+                    ",\n  "
+                } else {
+                    ", "
+                };
                 format!("({})", parts.join(sep))
             }),
         ]
@@ -238,18 +324,23 @@ fn atom() -> impl Strategy<Value = String> {
 
 fn value() -> impl Strategy<Value = String> {
     let op = select(vec![" * ", " + ", " - ", " / ", "*", "-", "+", " -"]);
-    (atom(), prop::collection::vec((op, atom()), 0..3), prop::collection::vec(atom(), 0..2)).prop_map(|(first, rest, more)| {
-        let mut s = first;
-        for (o, a) in rest {
-            s.push_str(o);
-            s.push_str(&a);
-        }
-        for a in more {
-            s.push(' ');
-            s.push_str(&a);
-        }
-        s
-    })
+    (
+        atom(),
+        prop::collection::vec((op, atom()), 0..3),
+        prop::collection::vec(atom(), 0..2),
+    )
+        .prop_map(|(first, rest, more)| {
+            let mut s = first;
+            for (o, a) in rest {
+                s.push_str(o);
+                s.push_str(&a);
+            }
+            for a in more {
+                s.push(' ');
+                s.push_str(&a);
+            }
+            s
+        })
 }
 
 fn trailing() -> impl Strategy<Value = String> {
@@ -257,7 +348,8 @@ fn trailing() -> impl Strategy<Value = String> {
 }
 
 fn statement() -> impl Strategy<Value = String> {
-    (ident(), select(vec![" = ", "=", "\t= ", " =  "]), value()).prop_map(|(k, eq, v)| format!("{k}{eq}{v}"))
+    (ident(), select(vec![" = ", "=", "\t= ", " =  "]), value())
+        .prop_map(|(k, eq, v)| format!("{k}{eq}{v}"))
 }
 
 fn header_arg() -> impl Strategy<Value = String> {
@@ -273,7 +365,12 @@ fn header_arg() -> impl Strategy<Value = String> {
 enum GenItem {
     Statement(String, String),
     Directive(String, String),
-    Block { head: String, items: Vec<GenItem>, one_line: bool, comment: String },
+    Block {
+        head: String,
+        items: Vec<GenItem>,
+        one_line: bool,
+        comment: String,
+    },
     Comment(String),
 }
 
@@ -285,7 +382,13 @@ fn item() -> impl Strategy<Value = GenItem> {
         1 => "[a-z #]{0,12}".prop_map(|c| GenItem::Comment(format!("# {c}"))),
     ];
     leaf.prop_recursive(3, 40, 6, |inner| {
-        (ident(), prop::collection::vec(header_arg(), 0..3), prop::collection::vec(inner, 0..6), any::<bool>(), trailing())
+        (
+            ident(),
+            prop::collection::vec(header_arg(), 0..3),
+            prop::collection::vec(inner, 0..6),
+            any::<bool>(),
+            trailing(),
+        )
             .prop_map(|(n, args, items, one_line, comment)| GenItem::Block {
                 head: format!("{n} {}", args.join(" ")),
                 items,
@@ -295,7 +398,12 @@ fn item() -> impl Strategy<Value = GenItem> {
     })
 }
 
-fn render(item: &GenItem, level: usize, out: &mut String, seps: &mut impl Iterator<Item = &'static str>) {
+fn render(
+    item: &GenItem,
+    level: usize,
+    out: &mut String,
+    seps: &mut impl Iterator<Item = &'static str>,
+) {
     let ind = "  ".repeat(level);
     match item {
         GenItem::Statement(s, t) | GenItem::Directive(s, t) => {
@@ -307,7 +415,12 @@ fn render(item: &GenItem, level: usize, out: &mut String, seps: &mut impl Iterat
             out.push_str(&ind);
             out.push_str(c);
         }
-        GenItem::Block { head, items, one_line, comment } => {
+        GenItem::Block {
+            head,
+            items,
+            one_line,
+            comment,
+        } => {
             out.push_str(&ind);
             out.push_str(head);
             out.push_str(" {");
@@ -341,7 +454,10 @@ fn render(item: &GenItem, level: usize, out: &mut String, seps: &mut impl Iterat
 fn deck() -> impl Strategy<Value = String> {
     (
         prop::collection::vec(item(), 0..8),
-        prop::collection::vec(select(vec!["\n", "\n", "\n", "\n\n", "\n\n\n", ";\n", "\n \t\n"]), 64),
+        prop::collection::vec(
+            select(vec!["\n", "\n", "\n", "\n\n", "\n\n\n", ";\n", "\n \t\n"]),
+            64,
+        ),
         any::<bool>(),
         select(vec!["", "\n", "\n\n"]),
     )
@@ -354,7 +470,13 @@ fn deck() -> impl Strategy<Value = String> {
                 out.push_str(&s);
                 // `;` cannot follow a comment on the same line: it would be part of it.
                 let sep = it.next().unwrap_or("\n");
-                out.push_str(if sep.starts_with(';') && s.lines().last().is_some_and(|l| l.contains('#')) { "\n" } else { sep });
+                out.push_str(
+                    if sep.starts_with(';') && s.lines().last().is_some_and(|l| l.contains('#')) {
+                        "\n"
+                    } else {
+                        sep
+                    },
+                );
             }
             if crlf {
                 out = out.replace('\n', "\r\n");
@@ -364,15 +486,81 @@ fn deck() -> impl Strategy<Value = String> {
 }
 
 const FRAGMENTS: &[&str] = &[
-    "0", "1", "12", "007", ".5", "1.5", "1e3", "2e+3", "-3", "-", "+", "*", "/", "..", "%", "^", "^2", "(", ")", "[", "]",
-    ",", "x", "x1", "x 2", "md", "at", "e", "e3", "ft", "m", "1/", "\"s\"", "\"a\\\"b\"", "=", "k =", ";", "#c\n", "{", "}",
-    "(m)", "(1)", "1/(", "-.5", "1..", "..3", "x2", "\r", "\r\n", "m^-1", "1*", "_", "é", "\u{0}", "1..5", "3 x 4",
+    "0",
+    "1",
+    "12",
+    "007",
+    ".5",
+    "1.5",
+    "1e3",
+    "2e+3",
+    "-3",
+    "-",
+    "+",
+    "*",
+    "/",
+    "..",
+    "%",
+    "^",
+    "^2",
+    "(",
+    ")",
+    "[",
+    "]",
+    ",",
+    "x",
+    "x1",
+    "x 2",
+    "md",
+    "at",
+    "e",
+    "e3",
+    "ft",
+    "m",
+    "1/",
+    "\"s\"",
+    "\"a\\\"b\"",
+    "=",
+    "k =",
+    ";",
+    "#c\n",
+    "{",
+    "}",
+    "(m)",
+    "(1)",
+    "1/(",
+    "-.5",
+    "1..",
+    "..3",
+    "x2",
+    "\r",
+    "\r\n",
+    "m^-1",
+    "1*",
+    "_",
+    "é",
+    "\u{0}",
+    "1..5",
+    "3 x 4",
 ];
 
 fn soup() -> impl Strategy<Value = String> {
     (
-        prop::collection::vec((0..FRAGMENTS.len(), select(vec!["", "", " ", " ", "\t", ",", "\n"])), 1..16),
-        select(vec!["x = {}\n", "x = [{}]\n", "x = ({})\n", "p {} {{\n}}\n", "x = [{}] md\n", "w {{ x = {} }}\n"]),
+        prop::collection::vec(
+            (
+                0..FRAGMENTS.len(),
+                select(vec!["", "", " ", " ", "\t", ",", "\n"]),
+            ),
+            1..16,
+        ),
+        select(vec![
+            "x = {}\n",
+            "x = [{}]\n",
+            "x = ({})\n",
+            "p {} {{\n}}\n",
+            "x = [{}] md\n",
+            "w {{ x = {} }}\n",
+        ]),
     )
         .prop_map(|(parts, shape)| {
             let mut body = String::new();
@@ -380,7 +568,10 @@ fn soup() -> impl Strategy<Value = String> {
                 body.push_str(FRAGMENTS[f]);
                 body.push_str(sep);
             }
-            shape.replace("{}", &body).replace("{{", "{").replace("}}", "}")
+            shape
+                .replace("{}", &body)
+                .replace("{{", "{")
+                .replace("}}", "}")
         })
 }
 

@@ -38,8 +38,12 @@ fn fifty_megabyte_single_lines() {
     let (f, _) = timed(&cases[0].1);
     assert!(matches!(&f.items[0], Item::Directive(d) if d.name.name.len() == n));
     let (f, _) = timed(&cases[3].1);
-    let Item::Statement(s) = &f.items[0] else { panic!() };
-    assert!(matches!(&s.value.atoms[0].kind, AtomKind::Number { value, raw, .. } if value.is_infinite() && raw.len() == n));
+    let Item::Statement(s) = &f.items[0] else {
+        panic!()
+    };
+    assert!(
+        matches!(&s.value.atoms[0].kind, AtomKind::Number { value, raw, .. } if value.is_infinite() && raw.len() == n)
+    );
 }
 
 #[test]
@@ -63,18 +67,35 @@ fn hundred_thousand_nested_delimiters() {
     for text in &cases {
         let (f, dt) = timed(text);
         check_invariants(text, &f);
-        assert!(f.errors.len() <= 2 * MAX_DEPTH + 4, "{} errors for {:?}…", f.errors.len(), &text[..20]);
-        assert!(dt < Duration::from_secs(10), "{dt:?} for {:?}…", &text[..20]);
+        assert!(
+            f.errors.len() <= 2 * MAX_DEPTH + 4,
+            "{} errors for {:?}…",
+            f.errors.len(),
+            &text[..20]
+        );
+        assert!(
+            dt < Duration::from_secs(10),
+            "{dt:?} for {:?}…",
+            &text[..20]
+        );
     }
     // Nesting within the limit is kept; the statement after an overflow parses.
     let (f, _) = timed(&cases[10]);
     assert_eq!(f.items.len(), 2);
     // Formatting a deep but valid file does not overflow either.
-    let ok = format!("x = {}1{}\n", "[".repeat(MAX_DEPTH - 1), "]".repeat(MAX_DEPTH - 1));
+    let ok = format!(
+        "x = {}1{}\n",
+        "[".repeat(MAX_DEPTH - 1),
+        "]".repeat(MAX_DEPTH - 1)
+    );
     let f = parse(&ok);
     assert!(f.errors.is_empty());
     check_format(&ok, &f);
-    let blocks = format!("{}{}", "a {\n".repeat(MAX_DEPTH - 1), "}\n".repeat(MAX_DEPTH - 1));
+    let blocks = format!(
+        "{}{}",
+        "a {\n".repeat(MAX_DEPTH - 1),
+        "}\n".repeat(MAX_DEPTH - 1)
+    );
     let f = parse(&blocks);
     assert!(f.errors.is_empty());
     check_format(&blocks, &f);
@@ -92,20 +113,38 @@ fn time_is_linear() {
     // many errors, long units after numbers, strings followed by units.
     type Make = Box<dyn Fn(usize) -> String>;
     let patterns: Vec<(&str, Make)> = vec![
-        ("statements", Box::new(|n| "kx = layers [150 40 300 90] md # c\n".repeat(n / 36))),
-        ("open list lines", Box::new(|n| format!("x = [{}", "a b c {\n".repeat(n / 8)))),
-        ("nested open lists", Box::new(|n| format!("x = {}\nw {}{{\n}}\n", "[".repeat(100), "a ".repeat(n / 2)))),
+        (
+            "statements",
+            Box::new(|n| "kx = layers [150 40 300 90] md # c\n".repeat(n / 36)),
+        ),
+        (
+            "open list lines",
+            Box::new(|n| format!("x = [{}", "a b c {\n".repeat(n / 8))),
+        ),
+        (
+            "nested open lists",
+            Box::new(|n| format!("x = {}\nw {}{{\n}}\n", "[".repeat(100), "a ".repeat(n / 2))),
+        ),
         ("errors", Box::new(|n| "a = ]\n}\n".repeat(n / 8))),
         ("units", Box::new(|n| "x = 1 (m*m*m*m*m ".repeat(n / 17))),
-        ("headers", Box::new(|n| "w \"a\" i = 1..2 k = 3 \"s\" md {\n}\n".repeat(n / 30))),
-        ("list items", Box::new(|n| format!("x = [{}]", "1.5e-6 md, ".repeat(n / 11)))),
+        (
+            "headers",
+            Box::new(|n| "w \"a\" i = 1..2 k = 3 \"s\" md {\n}\n".repeat(n / 30)),
+        ),
+        (
+            "list items",
+            Box::new(|n| format!("x = [{}]", "1.5e-6 md, ".repeat(n / 11))),
+        ),
     ];
     for (what, make) in &patterns {
         let small = make(MB / 4);
         let large = make(2 * MB);
         let (ts, tl) = (best_of(&small), best_of(&large));
         let ratio = tl.as_secs_f64() / ts.as_secs_f64().max(1e-4);
-        assert!(ratio < 24.0, "{what}: {ts:?} for 0.25 MB, {tl:?} for 2 MB (ratio {ratio:.1})");
+        assert!(
+            ratio < 24.0,
+            "{what}: {ts:?} for 0.25 MB, {tl:?} for 2 MB (ratio {ratio:.1})"
+        );
     }
 }
 

@@ -155,12 +155,19 @@ impl AmgHierarchy {
 
     /// As [`AmgHierarchy::build`], with the symmetry of `a` known by the
     /// caller (it selects Cholesky or LU for the coarsest level).
-    pub fn build_with_symmetry(a: &CsrMatrix, opts: &AmgOptions, symmetric: bool) -> Result<Self, LinearError> {
+    pub fn build_with_symmetry(
+        a: &CsrMatrix,
+        opts: &AmgOptions,
+        symmetric: bool,
+    ) -> Result<Self, LinearError> {
         let trace = std::env::var_os("RILL_AMG_TRACE").is_some();
         let t_start = std::time::Instant::now();
         let lap = |what: &str, l: usize, t: &mut std::time::Instant| {
             if trace {
-                eprintln!("amg setup level {l}: {what} {:.3}s", t.elapsed().as_secs_f64());
+                eprintln!(
+                    "amg setup level {l}: {what} {:.3}s",
+                    t.elapsed().as_secs_f64()
+                );
             }
             *t = std::time::Instant::now();
         };
@@ -171,18 +178,27 @@ impl AmgHierarchy {
             let l = levels.len();
             let mut t = std::time::Instant::now();
             let inv_d = super::inverse_diagonal(cur)?;
-            let last = cur.n <= opts.max_coarse.max(1) || levels.len() + 1 >= opts.max_levels.max(1);
+            let last =
+                cur.n <= opts.max_coarse.max(1) || levels.len() + 1 >= opts.max_levels.max(1);
             let rho = if !last || matches!(opts.smoother, Smoother::Chebyshev { .. }) {
                 spectral_radius_dinv_a(cur, &inv_d, opts.power_iterations)
             } else {
                 0.0
             };
-            lap(&format!("n {} nnz {} rho(D^-1 A) {rho:.4}", cur.n, cur.nnz()), l, &mut t);
+            lap(
+                &format!("n {} nnz {} rho(D^-1 A) {rho:.4}", cur.n, cur.nnz()),
+                l,
+                &mut t,
+            );
             let mut next = None;
             if !last {
                 let strong = strength(cur, opts.strength_threshold);
                 let (agg, nagg) = aggregate(cur.n, &strong.0, &strong.1);
-                lap(&format!("strength + aggregation ({nagg} aggregates)"), l, &mut t);
+                lap(
+                    &format!("strength + aggregation ({nagg} aggregates)"),
+                    l,
+                    &mut t,
+                );
                 // Stop when coarsening stalls (or nothing aggregates).
                 if nagg > 0 && (nagg as f64) < 0.9 * cur.n as f64 {
                     let omega = opts.prolongator_omega / rho.max(f64::MIN_POSITIVE);
@@ -207,19 +223,39 @@ impl AmgHierarchy {
             match next {
                 Some((p, r, ac)) => {
                     let a_l = stored(owned.take());
-                    levels.push(Level { n, a: a_l, inv_diag: smoother_inv, blocks, rho, p: Some(p), r: Some(r) });
+                    levels.push(Level {
+                        n,
+                        a: a_l,
+                        inv_diag: smoother_inv,
+                        blocks,
+                        rho,
+                        p: Some(p),
+                        r: Some(r),
+                    });
                     owned = Some(ac);
                 }
                 None => {
                     let a_l = stored(owned.take());
-                    levels.push(Level { n, a: a_l, inv_diag: smoother_inv, blocks, rho, p: None, r: None });
+                    levels.push(Level {
+                        n,
+                        a: a_l,
+                        inv_diag: smoother_inv,
+                        blocks,
+                        rho,
+                        p: None,
+                        r: None,
+                    });
                     break;
                 }
             }
         }
         let mut t = std::time::Instant::now();
         let coarsest_l = levels.len() - 1;
-        let coarsest = if coarsest_l == 0 { a } else { &levels[coarsest_l].a };
+        let coarsest = if coarsest_l == 0 {
+            a
+        } else {
+            &levels[coarsest_l].a
+        };
         let coarse = factor_coarse(coarsest, symmetric)?;
         lap("coarse factorization", coarsest_l, &mut t);
         if trace {
@@ -227,10 +263,18 @@ impl AmgHierarchy {
         }
         let work = levels
             .iter()
-            .map(|l| Work { b: vec![0.0; l.n], x: vec![0.0; l.n], r: vec![0.0; l.n], tmp: vec![0.0; l.n] })
+            .map(|l| Work {
+                b: vec![0.0; l.n],
+                x: vec![0.0; l.n],
+                r: vec![0.0; l.n],
+                tmp: vec![0.0; l.n],
+            })
             .collect();
-        let nnz: Vec<usize> =
-            levels.iter().enumerate().map(|(i, l)| if i == 0 { a.nnz() } else { l.a.nnz() }).collect();
+        let nnz: Vec<usize> = levels
+            .iter()
+            .enumerate()
+            .map(|(i, l)| if i == 0 { a.nnz() } else { l.a.nnz() })
+            .collect();
         Ok(AmgHierarchy {
             levels,
             nnz,
@@ -248,7 +292,10 @@ impl AmgHierarchy {
     pub fn refresh_fine(&mut self, a: &CsrMatrix) -> Result<(), LinearError> {
         if a.n != self.levels[0].n {
             return Err(LinearError::Dimension {
-                detail: format!("hierarchy built for n = {}, matrix has n = {}", self.levels[0].n, a.n),
+                detail: format!(
+                    "hierarchy built for n = {}, matrix has n = {}",
+                    self.levels[0].n, a.n
+                ),
             });
         }
         self.levels[0].inv_diag = match self.smoother {
@@ -301,7 +348,11 @@ impl AmgHierarchy {
 
     /// Unknowns and stored entries per level.
     pub fn level_info(&self) -> Vec<LevelInfo> {
-        self.levels.iter().zip(&self.nnz).map(|(l, &nnz)| LevelInfo { n: l.n, nnz }).collect()
+        self.levels
+            .iter()
+            .zip(&self.nnz)
+            .map(|(l, &nnz)| LevelInfo { n: l.n, nnz })
+            .collect()
     }
 
     /// z = one V-cycle for the fine matrix `a` applied to r (zero initial
@@ -310,7 +361,10 @@ impl AmgHierarchy {
     /// # Panics
     /// If the lengths do not match the hierarchy.
     pub fn vcycle(&self, a: &CsrMatrix, r: &[f64], z: &mut [f64]) {
-        assert_eq!(a.n, self.levels[0].n, "vcycle: matrix size differs from the hierarchy's");
+        assert_eq!(
+            a.n, self.levels[0].n,
+            "vcycle: matrix size differs from the hierarchy's"
+        );
         let mut work = self.work.lock().unwrap_or_else(|e| e.into_inner());
         let w = &mut work[..];
         w[0].b.copy_from_slice(r);
@@ -403,18 +457,23 @@ fn factor_coarse(a: &CsrMatrix, symmetric: bool) -> Result<DirectFactor, LinearE
     }
     let s = DirectSymbolic::analyse(a, false)?;
     let f = s.factor(a).map_err(|e| match e {
-        LinearError::Singular { detail } => {
-            LinearError::Singular { detail: format!("coarsest multigrid operator ({} unknowns): {detail}", a.n) }
-        }
+        LinearError::Singular { detail } => LinearError::Singular {
+            detail: format!("coarsest multigrid operator ({} unknowns): {detail}", a.n),
+        },
         e => e,
     })?;
     // LU with partial pivoting does not flag a numerically zero pivot:
     // probe with a random vector.
-    let mut v: Vec<f64> = (0..a.n).map(|i| 1.0 + ((i * 7919) % 101) as f64 / 101.0).collect();
+    let mut v: Vec<f64> = (0..a.n)
+        .map(|i| 1.0 + ((i * 7919) % 101) as f64 / 101.0)
+        .collect();
     f.solve_in_place(&mut v);
     if v.iter().any(|x| !x.is_finite()) {
         return Err(LinearError::Singular {
-            detail: format!("coarsest multigrid operator ({} unknowns) is numerically singular", a.n),
+            detail: format!(
+                "coarsest multigrid operator ({} unknowns) is numerically singular",
+                a.n
+            ),
         });
     }
     Ok(f)
@@ -423,11 +482,16 @@ fn factor_coarse(a: &CsrMatrix, symmetric: bool) -> Result<DirectFactor, LinearE
 /// Strong-connection graph (CSR pattern without the diagonal), built in
 /// row blocks without per-row allocation.
 fn strength(a: &CsrMatrix, theta: f64) -> (Vec<usize>, Vec<usize>) {
-    let d = if theta > 0.0 { a.diagonal() } else { Vec::new() };
+    let d = if theta > 0.0 {
+        a.diagonal()
+    } else {
+        Vec::new()
+    };
     let g = build_rows(a.n, a.n, |i, rb| {
         let (c, v) = a.row(i);
         for (&j, &x) in c.iter().zip(v) {
-            if j != i && x != 0.0 && (theta <= 0.0 || x.abs() >= theta * (d[i] * d[j]).abs().sqrt()) {
+            if j != i && x != 0.0 && (theta <= 0.0 || x.abs() >= theta * (d[i] * d[j]).abs().sqrt())
+            {
                 rb.add(j, 1.0);
             }
         }
@@ -490,14 +554,29 @@ fn aggregate(n: usize, ptr: &[usize], cols: &[usize]) -> (Vec<usize>, usize) {
 }
 
 /// P = (I - omega D^-1 A) T with T the normalized-constant tentative prolongator.
-fn smoothed_prolongator(a: &CsrMatrix, inv_d: &[f64], agg: &[usize], nagg: usize, omega: f64) -> SpMat {
+fn smoothed_prolongator(
+    a: &CsrMatrix,
+    inv_d: &[f64],
+    agg: &[usize],
+    nagg: usize,
+    omega: f64,
+) -> SpMat {
     let mut size = vec![0usize; nagg];
     for &g in agg {
         if g < nagg {
             size[g] += 1;
         }
     }
-    let t: Vec<f64> = agg.iter().map(|&g| if g < nagg { 1.0 / (size[g] as f64).sqrt() } else { 0.0 }).collect();
+    let t: Vec<f64> = agg
+        .iter()
+        .map(|&g| {
+            if g < nagg {
+                1.0 / (size[g] as f64).sqrt()
+            } else {
+                0.0
+            }
+        })
+        .collect();
     build_rows(a.n, nagg, |i, rb| {
         if agg[i] < nagg {
             rb.add(agg[i], t[i]);
@@ -535,19 +614,23 @@ fn spectral_radius_dinv_a(a: &CsrMatrix, inv_d: &[f64], iters: usize) -> f64 {
     let mut rho = 0.0;
     for _ in 0..iters.max(1) {
         a.mul_vec_into(&x, &mut y); // y = A x
-        // Rayleigh quotient in the D inner product: (x, A x) / (x, D x).
+                                    // Rayleigh quotient in the D inner product: (x, A x) / (x, D x).
         let xax = dot(&x, &y);
         let xdx: f64 = x.iter().zip(inv_d).map(|(v, id)| v * v / id).sum(); // sequential: deterministic
         if xdx > 0.0 {
             rho = (xax / xdx).abs();
         }
         // x = D^-1 A x, normalized
-        y.par_iter_mut().zip(inv_d.par_iter()).for_each(|(v, id)| *v *= id);
+        y.par_iter_mut()
+            .zip(inv_d.par_iter())
+            .for_each(|(v, id)| *v *= id);
         let nrm = dot(&y, &y).sqrt();
         if !(nrm > 0.0) || !nrm.is_finite() {
             break;
         }
-        x.par_iter_mut().zip(y.par_iter()).for_each(|(xv, yv)| *xv = yv / nrm);
+        x.par_iter_mut()
+            .zip(y.par_iter())
+            .for_each(|(xv, yv)| *xv = yv / nrm);
     }
     // Gershgorin: a true upper bound, tight for diagonally dominant rows.
     let gershgorin = (0..n)
@@ -582,7 +665,15 @@ fn l1_inverse_diagonal(a: &CsrMatrix) -> Vec<f64> {
 
 /// One hybrid Gauss-Seidel sweep. Off-block values are those from before
 /// the sweep (`old`), so the blocks are independent and run in parallel.
-fn hybrid_gs(lev: &Level, a: &CsrMatrix, b: &[f64], x: &mut [f64], old: &mut [f64], forward: bool, x_is_zero: bool) {
+fn hybrid_gs(
+    lev: &Level,
+    a: &CsrMatrix,
+    b: &[f64],
+    x: &mut [f64],
+    old: &mut [f64],
+    forward: bool,
+    x_is_zero: bool,
+) {
     let inv_d = &lev.inv_diag;
     if !x_is_zero {
         old.copy_from_slice(x);
@@ -619,7 +710,15 @@ fn hybrid_gs(lev: &Level, a: &CsrMatrix, b: &[f64], x: &mut [f64], old: &mut [f6
 }
 
 /// Chebyshev smoothing on [rho/30, 1.1 rho] of D^-1 A (degree `k`).
-fn chebyshev(lev: &Level, a: &CsrMatrix, b: &[f64], x: &mut [f64], d: &mut [f64], r: &mut [f64], k: usize) {
+fn chebyshev(
+    lev: &Level,
+    a: &CsrMatrix,
+    b: &[f64],
+    x: &mut [f64],
+    d: &mut [f64],
+    r: &mut [f64],
+    k: usize,
+) {
     let upper = 1.1 * lev.rho;
     let lower = lev.rho / 30.0;
     let theta = 0.5 * (upper + lower);
@@ -629,9 +728,14 @@ fn chebyshev(lev: &Level, a: &CsrMatrix, b: &[f64], x: &mut [f64], d: &mut [f64]
     let inv_d = &lev.inv_diag;
     a.residual_into(b, x, r);
     // d = D^-1 r / theta
-    d.par_iter_mut().zip(r.par_iter()).zip(inv_d.par_iter()).for_each(|((di, ri), id)| *di = ri * id / theta);
+    d.par_iter_mut()
+        .zip(r.par_iter())
+        .zip(inv_d.par_iter())
+        .for_each(|((di, ri), id)| *di = ri * id / theta);
     for step in 0..k {
-        x.par_iter_mut().zip(d.par_iter()).for_each(|(xi, di)| *xi += di);
+        x.par_iter_mut()
+            .zip(d.par_iter())
+            .for_each(|(xi, di)| *xi += di);
         if step + 1 == k {
             break;
         }

@@ -23,7 +23,12 @@ pub struct CsrMatrix {
 impl CsrMatrix {
     /// The n x n zero matrix (no stored entries).
     pub fn zeros(n: usize) -> Self {
-        CsrMatrix { n, row_ptr: vec![0; n + 1], col_idx: Vec::new(), values: Vec::new() }
+        CsrMatrix {
+            n,
+            row_ptr: vec![0; n + 1],
+            col_idx: Vec::new(),
+            values: Vec::new(),
+        }
     }
 
     /// The n x n identity.
@@ -49,7 +54,10 @@ impl CsrMatrix {
         // Counting sort by row.
         let mut counts = vec![0usize; n + 1];
         for &(i, j, _) in triplets {
-            assert!(i < n && j < n, "triplet ({i}, {j}) out of range for a {n} x {n} matrix");
+            assert!(
+                i < n && j < n,
+                "triplet ({i}, {j}) out of range for a {n} x {n} matrix"
+            );
             counts[i + 1] += 1;
         }
         for i in 0..n {
@@ -87,17 +95,24 @@ impl CsrMatrix {
         {
             let mut cols = split_rows_mut(&mut col_idx, &row_ptr);
             let mut vals = split_rows_mut(&mut values, &row_ptr);
-            cols.par_iter_mut().zip(vals.par_iter_mut()).enumerate().with_min_len(ROW_CHUNK).for_each(
-                |(i, (c, v))| {
+            cols.par_iter_mut()
+                .zip(vals.par_iter_mut())
+                .enumerate()
+                .with_min_len(ROW_CHUNK)
+                .for_each(|(i, (c, v))| {
                     let src = &tmp[start[i]..start[i] + c.len()];
                     for (k, &(j, x)) in src.iter().enumerate() {
                         c[k] = j;
                         v[k] = x;
                     }
-                },
-            );
+                });
         }
-        CsrMatrix { n, row_ptr, col_idx, values }
+        CsrMatrix {
+            n,
+            row_ptr,
+            col_idx,
+            values,
+        }
     }
 
     /// Builds from raw CSR arrays, sorting each row and merging duplicate
@@ -109,7 +124,10 @@ impl CsrMatrix {
         values: Vec<f64>,
     ) -> Result<Self, String> {
         if row_ptr.len() != n + 1 || row_ptr[0] != 0 {
-            return Err(format!("row_ptr must have n + 1 = {} entries starting at 0", n + 1));
+            return Err(format!(
+                "row_ptr must have n + 1 = {} entries starting at 0",
+                n + 1
+            ));
         }
         if row_ptr.windows(2).any(|w| w[0] > w[1]) {
             return Err("row_ptr must be non-decreasing".into());
@@ -126,10 +144,17 @@ impl CsrMatrix {
             return Err(format!("column index {j} out of range for n = {n}"));
         }
         let sorted = (0..n).into_par_iter().with_min_len(ROW_CHUNK).all(|i| {
-            col_idx[row_ptr[i]..row_ptr[i + 1]].windows(2).all(|w| w[0] < w[1])
+            col_idx[row_ptr[i]..row_ptr[i + 1]]
+                .windows(2)
+                .all(|w| w[0] < w[1])
         });
         if sorted {
-            return Ok(CsrMatrix { n, row_ptr, col_idx, values });
+            return Ok(CsrMatrix {
+                n,
+                row_ptr,
+                col_idx,
+                values,
+            });
         }
         let mut trip = Vec::with_capacity(nnz);
         for i in 0..n {
@@ -173,8 +198,20 @@ impl CsrMatrix {
     /// # Panics
     /// If `x` or `y` does not have length `n`.
     pub fn mul_vec_into(&self, x: &[f64], y: &mut [f64]) {
-        assert_eq!(x.len(), self.n, "mul_vec: x has length {} for n = {}", x.len(), self.n);
-        assert_eq!(y.len(), self.n, "mul_vec: y has length {} for n = {}", y.len(), self.n);
+        assert_eq!(
+            x.len(),
+            self.n,
+            "mul_vec: x has length {} for n = {}",
+            x.len(),
+            self.n
+        );
+        assert_eq!(
+            y.len(),
+            self.n,
+            "mul_vec: y has length {} for n = {}",
+            y.len(),
+            self.n
+        );
         let rp = &self.row_ptr;
         let ci = &self.col_idx;
         let va = &self.values;
@@ -236,16 +273,19 @@ impl CsrMatrix {
     /// True when |a_ij - a_ji| <= tol * max(|a_ij|, |a_ji|) for every pair,
     /// with an absent entry counting as zero. `tol = 0` asks for exact symmetry.
     pub fn is_symmetric(&self, tol: f64) -> bool {
-        (0..self.n).into_par_iter().with_min_len(ROW_CHUNK).all(|i| {
-            let (c, v) = self.row(i);
-            c.iter().zip(v).all(|(&j, &aij)| {
-                if j == i {
-                    return true;
-                }
-                let aji = self.get(j, i);
-                (aij - aji).abs() <= tol * aij.abs().max(aji.abs())
+        (0..self.n)
+            .into_par_iter()
+            .with_min_len(ROW_CHUNK)
+            .all(|i| {
+                let (c, v) = self.row(i);
+                c.iter().zip(v).all(|(&j, &aij)| {
+                    if j == i {
+                        return true;
+                    }
+                    let aji = self.get(j, i);
+                    (aij - aji).abs() <= tol * aij.abs().max(aji.abs())
+                })
             })
-        })
     }
 
     /// The transpose, in O(nnz) by counting sort (rows come out sorted).
@@ -271,7 +311,12 @@ impl CsrMatrix {
                 next[j] = d + 1;
             }
         }
-        CsrMatrix { n, row_ptr, col_idx, values }
+        CsrMatrix {
+            n,
+            row_ptr,
+            col_idx,
+            values,
+        }
     }
 
     /// Same sparsity pattern as `other` (values may differ).

@@ -47,12 +47,18 @@ pub(crate) fn axpy(alpha: f64, x: &[f64], y: &mut [f64]) {
 /// y = x + beta y
 pub(crate) fn xpby(x: &[f64], beta: f64, y: &mut [f64]) {
     if y.len() <= VEC_CHUNK {
-        y.iter_mut().zip(x).for_each(|(yi, xi)| *yi = xi + beta * *yi);
+        y.iter_mut()
+            .zip(x)
+            .for_each(|(yi, xi)| *yi = xi + beta * *yi);
         return;
     }
     y.par_chunks_mut(VEC_CHUNK)
         .zip(x.par_chunks(VEC_CHUNK))
-        .for_each(|(ys, xs)| ys.iter_mut().zip(xs).for_each(|(yi, xi)| *yi = xi + beta * *yi));
+        .for_each(|(ys, xs)| {
+            ys.iter_mut()
+                .zip(xs)
+                .for_each(|(yi, xi)| *yi = xi + beta * *yi)
+        });
 }
 
 /// Applies z = M^{-1} r. Implementations must be linear (and, for CG,
@@ -70,14 +76,20 @@ impl Preconditioner for Jacobi {
     fn apply(&self, r: &[f64], z: &mut [f64]) {
         let d = &self.inv_diag;
         if r.len() <= VEC_CHUNK {
-            z.iter_mut().zip(r).zip(d).for_each(|((zi, ri), di)| *zi = ri * di);
+            z.iter_mut()
+                .zip(r)
+                .zip(d)
+                .for_each(|((zi, ri), di)| *zi = ri * di);
             return;
         }
         z.par_chunks_mut(VEC_CHUNK)
             .zip(r.par_chunks(VEC_CHUNK))
             .zip(d.par_chunks(VEC_CHUNK))
             .for_each(|((zs, rs), ds)| {
-                zs.iter_mut().zip(rs).zip(ds).for_each(|((zi, ri), di)| *zi = ri * di)
+                zs.iter_mut()
+                    .zip(rs)
+                    .zip(ds)
+                    .for_each(|((zi, ri), di)| *zi = ri * di)
             });
     }
 }
@@ -106,7 +118,12 @@ pub(crate) fn pcg<P: Preconditioner>(
     let bnorm = norm2(b);
     if bnorm == 0.0 {
         x.iter_mut().for_each(|v| *v = 0.0);
-        return KrylovOutcome { converged: true, breakdown: false, iterations: 0, rel_residual: 0.0 };
+        return KrylovOutcome {
+            converged: true,
+            breakdown: false,
+            iterations: 0,
+            rel_residual: 0.0,
+        };
     }
     let mut r = vec![0.0; n];
     let mut z = vec![0.0; n];
@@ -119,7 +136,12 @@ pub(crate) fn pcg<P: Preconditioner>(
         a.residual_into(b, x, &mut r);
         let mut rnorm = norm2(&r);
         if !rnorm.is_finite() {
-            return KrylovOutcome { converged: false, breakdown: true, iterations: it, rel_residual: f64::NAN };
+            return KrylovOutcome {
+                converged: false,
+                breakdown: true,
+                iterations: it,
+                rel_residual: f64::NAN,
+            };
         }
         if rnorm <= rel_tol * bnorm || it >= max_iter || breakdown {
             return KrylovOutcome {
@@ -170,7 +192,12 @@ pub(crate) fn pbicgstab<P: Preconditioner>(
     let bnorm = norm2(b);
     if bnorm == 0.0 {
         x.iter_mut().for_each(|v| *v = 0.0);
-        return KrylovOutcome { converged: true, breakdown: false, iterations: 0, rel_residual: 0.0 };
+        return KrylovOutcome {
+            converged: true,
+            breakdown: false,
+            iterations: 0,
+            rel_residual: 0.0,
+        };
     }
     let mut r = vec![0.0; n];
     let mut r0 = vec![0.0; n];
@@ -186,7 +213,12 @@ pub(crate) fn pbicgstab<P: Preconditioner>(
         a.residual_into(b, x, &mut r);
         let rnorm0 = norm2(&r);
         if !rnorm0.is_finite() {
-            return KrylovOutcome { converged: false, breakdown: true, iterations: it, rel_residual: f64::NAN };
+            return KrylovOutcome {
+                converged: false,
+                breakdown: true,
+                iterations: it,
+                rel_residual: f64::NAN,
+            };
         }
         if rnorm0 <= rel_tol * bnorm || it >= max_iter || (breakdown && restarts > 3) {
             return KrylovOutcome {

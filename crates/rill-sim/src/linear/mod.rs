@@ -156,7 +156,13 @@ pub enum LinearError {
 impl fmt::Display for LinearError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            LinearError::NotConverged { method, iterations, rel_residual, rel_tol, breakdown } => {
+            LinearError::NotConverged {
+                method,
+                iterations,
+                rel_residual,
+                rel_tol,
+                breakdown,
+            } => {
                 write!(
                     f,
                     "linear solver {method} did not converge: relative residual {rel_residual:.3e} after {iterations} iterations (tolerance {rel_tol:.1e})"
@@ -193,8 +199,16 @@ const SYMMETRY_TOL: f64 = 1e-12;
 
 enum Setup {
     None,
-    Direct { pattern: Pattern, symbolic: DirectSymbolic },
-    Amg { pattern: Pattern, hierarchy: AmgHierarchy, iterations_after_setup: Option<usize>, stale: bool },
+    Direct {
+        pattern: Pattern,
+        symbolic: DirectSymbolic,
+    },
+    Amg {
+        pattern: Pattern,
+        hierarchy: AmgHierarchy,
+        iterations_after_setup: Option<usize>,
+        stale: bool,
+    },
     Jacobi,
 }
 
@@ -206,7 +220,10 @@ struct Pattern {
 
 impl Pattern {
     fn of(a: &CsrMatrix) -> Self {
-        Pattern { row_ptr: a.row_ptr.clone(), col_idx: a.col_idx.clone() }
+        Pattern {
+            row_ptr: a.row_ptr.clone(),
+            col_idx: a.col_idx.clone(),
+        }
     }
     fn matches(&self, a: &CsrMatrix) -> bool {
         self.row_ptr == a.row_ptr && self.col_idx == a.col_idx
@@ -246,7 +263,10 @@ pub struct Solver {
 
 impl Solver {
     pub fn new(opts: SolverOptions) -> Self {
-        Solver { opts, setup: Setup::None }
+        Solver {
+            opts,
+            setup: Setup::None,
+        }
     }
 
     pub fn options(&self) -> &SolverOptions {
@@ -275,7 +295,12 @@ impl Solver {
     }
 
     /// Solves A x = b; `x` is the initial guess on entry.
-    pub fn solve(&mut self, a: &CsrMatrix, b: &[f64], x: &mut [f64]) -> Result<LinearStats, LinearError> {
+    pub fn solve(
+        &mut self,
+        a: &CsrMatrix,
+        b: &[f64],
+        x: &mut [f64],
+    ) -> Result<LinearStats, LinearError> {
         check_inputs(a, b, x)?;
         let method = match self.opts.method {
             Method::Auto => {
@@ -319,7 +344,12 @@ impl Solver {
         }
     }
 
-    fn solve_direct(&mut self, a: &CsrMatrix, b: &[f64], x: &mut [f64]) -> Result<LinearStats, LinearError> {
+    fn solve_direct(
+        &mut self,
+        a: &CsrMatrix,
+        b: &[f64],
+        x: &mut [f64],
+    ) -> Result<LinearStats, LinearError> {
         let t0 = Instant::now();
         let mut reused = false;
         let symbolic = match std::mem::replace(&mut self.setup, Setup::None) {
@@ -354,12 +384,19 @@ impl Solver {
         factor.solve_in_place(&mut sol);
         if sol.iter().any(|v| !v.is_finite()) {
             return Err(LinearError::Singular {
-                detail: format!("{} produced non-finite values: the matrix is numerically singular", factor.name()),
+                detail: format!(
+                    "{} produced non-finite values: the matrix is numerically singular",
+                    factor.name()
+                ),
             });
         }
         let mut r = vec![0.0; a.n];
         a.residual_into(b, &sol, &mut r);
-        let mut rel = if bnorm > 0.0 { krylov::norm2(&r) / bnorm } else { 0.0 };
+        let mut rel = if bnorm > 0.0 {
+            krylov::norm2(&r) / bnorm
+        } else {
+            0.0
+        };
         // A few steps of iterative refinement if rounding left us above tol.
         let mut steps = 0;
         while rel > self.opts.rel_tol && steps < 3 {
@@ -408,7 +445,13 @@ impl Solver {
         })
     }
 
-    fn solve_amg(&mut self, a: &CsrMatrix, b: &[f64], x: &mut [f64], cg: bool) -> Result<LinearStats, LinearError> {
+    fn solve_amg(
+        &mut self,
+        a: &CsrMatrix,
+        b: &[f64],
+        x: &mut [f64],
+        cg: bool,
+    ) -> Result<LinearStats, LinearError> {
         let name = if cg { "amg-cg" } else { "amg-bicgstab" };
         let mut setup_seconds = 0.0;
         let reusable = match &self.setup {
@@ -419,9 +462,20 @@ impl Solver {
             let t0 = Instant::now();
             let hierarchy = AmgHierarchy::build_with_symmetry(a, &self.opts.amg, cg)?;
             setup_seconds = t0.elapsed().as_secs_f64();
-            self.setup = Setup::Amg { pattern: Pattern::of(a), hierarchy, iterations_after_setup: None, stale: false };
+            self.setup = Setup::Amg {
+                pattern: Pattern::of(a),
+                hierarchy,
+                iterations_after_setup: None,
+                stale: false,
+            };
         }
-        let Setup::Amg { hierarchy, iterations_after_setup, stale, .. } = &mut self.setup else {
+        let Setup::Amg {
+            hierarchy,
+            iterations_after_setup,
+            stale,
+            ..
+        } = &mut self.setup
+        else {
             unreachable!()
         };
         let t1 = Instant::now();
@@ -503,7 +557,11 @@ fn run_krylov<P: Preconditioner>(
     }
 }
 
-fn finish(out: KrylovOutcome, stats: LinearStats, opts: &SolverOptions) -> Result<LinearStats, LinearError> {
+fn finish(
+    out: KrylovOutcome,
+    stats: LinearStats,
+    opts: &SolverOptions,
+) -> Result<LinearStats, LinearError> {
     if out.converged {
         Ok(stats)
     } else {
@@ -518,22 +576,38 @@ fn finish(out: KrylovOutcome, stats: LinearStats, opts: &SolverOptions) -> Resul
 }
 
 fn check_inputs(a: &CsrMatrix, b: &[f64], x: &[f64]) -> Result<(), LinearError> {
-    if a.row_ptr.len() != a.n + 1 || a.col_idx.len() != a.values.len() || a.row_ptr[a.n] != a.values.len() {
-        return Err(LinearError::Dimension { detail: "inconsistent CSR arrays".into() });
+    if a.row_ptr.len() != a.n + 1
+        || a.col_idx.len() != a.values.len()
+        || a.row_ptr[a.n] != a.values.len()
+    {
+        return Err(LinearError::Dimension {
+            detail: "inconsistent CSR arrays".into(),
+        });
     }
     if b.len() != a.n || x.len() != a.n {
         return Err(LinearError::Dimension {
-            detail: format!("matrix is {n} x {n}, b has {} entries, x has {}", b.len(), x.len(), n = a.n),
+            detail: format!(
+                "matrix is {n} x {n}, b has {} entries, x has {}",
+                b.len(),
+                x.len(),
+                n = a.n
+            ),
         });
     }
     if let Some((i, j)) = a.first_non_finite() {
-        return Err(LinearError::NonFinite { detail: format!("matrix entry ({i}, {j}) is {}", a.get(i, j)) });
+        return Err(LinearError::NonFinite {
+            detail: format!("matrix entry ({i}, {j}) is {}", a.get(i, j)),
+        });
     }
     if let Some(i) = b.iter().position(|v| !v.is_finite()) {
-        return Err(LinearError::NonFinite { detail: format!("right-hand side entry {i} is {}", b[i]) });
+        return Err(LinearError::NonFinite {
+            detail: format!("right-hand side entry {i} is {}", b[i]),
+        });
     }
     if let Some(i) = x.iter().position(|v| !v.is_finite()) {
-        return Err(LinearError::NonFinite { detail: format!("initial guess entry {i} is {}", x[i]) });
+        return Err(LinearError::NonFinite {
+            detail: format!("initial guess entry {i} is {}", x[i]),
+        });
     }
     Ok(())
 }

@@ -21,12 +21,23 @@ const CHUNK: usize = 4096;
 
 impl SpMat {
     pub fn view(&self) -> SpView<'_> {
-        SpView { nrows: self.nrows, ncols: self.ncols, row_ptr: &self.row_ptr, col_idx: &self.col_idx, values: &self.values }
+        SpView {
+            nrows: self.nrows,
+            ncols: self.ncols,
+            row_ptr: &self.row_ptr,
+            col_idx: &self.col_idx,
+            values: &self.values,
+        }
     }
 
     pub fn into_square(self) -> CsrMatrix {
         debug_assert_eq!(self.nrows, self.ncols);
-        CsrMatrix { n: self.nrows, row_ptr: self.row_ptr, col_idx: self.col_idx, values: self.values }
+        CsrMatrix {
+            n: self.nrows,
+            row_ptr: self.row_ptr,
+            col_idx: self.col_idx,
+            values: self.values,
+        }
     }
 
     pub fn nnz(&self) -> usize {
@@ -55,7 +66,13 @@ impl SpMat {
                 next[j] = d + 1;
             }
         }
-        SpMat { nrows: self.ncols, ncols: self.nrows, row_ptr, col_idx, values }
+        SpMat {
+            nrows: self.ncols,
+            ncols: self.nrows,
+            row_ptr,
+            col_idx,
+            values,
+        }
     }
 
     /// y = self * x
@@ -76,7 +93,9 @@ impl SpMat {
         if self.nrows <= CHUNK {
             kernel(0, y);
         } else {
-            y.par_chunks_mut(CHUNK).enumerate().for_each(|(c, ys)| kernel(c * CHUNK, ys));
+            y.par_chunks_mut(CHUNK)
+                .enumerate()
+                .for_each(|(c, ys)| kernel(c * CHUNK, ys));
         }
     }
 
@@ -98,7 +117,9 @@ impl SpMat {
         if self.nrows <= CHUNK {
             kernel(0, y);
         } else {
-            y.par_chunks_mut(CHUNK).enumerate().for_each(|(c, ys)| kernel(c * CHUNK, ys));
+            y.par_chunks_mut(CHUNK)
+                .enumerate()
+                .for_each(|(c, ys)| kernel(c * CHUNK, ys));
         }
     }
 }
@@ -108,7 +129,10 @@ impl SpMat {
 pub(crate) fn row_blocks(n: usize, min_rows: usize) -> Vec<(usize, usize)> {
     let want = (4 * rayon::current_num_threads()).max(1);
     let nb = (n / min_rows.max(1)).clamp(1, want);
-    (0..nb).map(|b| (b * n / nb, (b + 1) * n / nb)).filter(|(s, e)| e > s).collect()
+    (0..nb)
+        .map(|b| (b * n / nb, (b + 1) * n / nb))
+        .filter(|(s, e)| e > s)
+        .collect()
 }
 
 /// Builds a matrix of `nrows` x `ncols` row by row in parallel blocks. For
@@ -152,7 +176,13 @@ where
         col_idx.extend_from_slice(&cols);
         values.extend_from_slice(&vals);
     }
-    SpMat { nrows, ncols, row_ptr, col_idx, values }
+    SpMat {
+        nrows,
+        ncols,
+        row_ptr,
+        col_idx,
+        values,
+    }
 }
 
 /// Sparse accumulator of one row (see [`build_rows`]).
@@ -200,7 +230,13 @@ pub(crate) struct SpView<'a> {
 
 impl<'a> From<&'a CsrMatrix> for SpView<'a> {
     fn from(a: &'a CsrMatrix) -> Self {
-        SpView { nrows: a.n, ncols: a.n, row_ptr: &a.row_ptr, col_idx: &a.col_idx, values: &a.values }
+        SpView {
+            nrows: a.n,
+            ncols: a.n,
+            row_ptr: &a.row_ptr,
+            col_idx: &a.col_idx,
+            values: &a.values,
+        }
     }
 }
 

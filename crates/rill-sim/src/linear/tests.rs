@@ -23,12 +23,19 @@ impl Rng {
 }
 
 fn dense_mul(d: &[Vec<f64>], x: &[f64]) -> Vec<f64> {
-    d.iter().map(|row| row.iter().zip(x).map(|(a, b)| a * b).sum()).collect()
+    d.iter()
+        .map(|row| row.iter().zip(x).map(|(a, b)| a * b).sum())
+        .collect()
 }
 
 fn true_rel_residual(a: &CsrMatrix, b: &[f64], x: &[f64]) -> f64 {
     let ax = a.mul_vec(x);
-    let r: f64 = ax.iter().zip(b).map(|(p, q)| (q - p) * (q - p)).sum::<f64>().sqrt();
+    let r: f64 = ax
+        .iter()
+        .zip(b)
+        .map(|(p, q)| (q - p) * (q - p))
+        .sum::<f64>()
+        .sqrt();
     let bn: f64 = b.iter().map(|v| v * v).sum::<f64>().sqrt();
     r / bn
 }
@@ -68,7 +75,11 @@ fn tpfa_3d(nx: usize, ny: usize, nz: usize, perm: &[f64], diag: &[(usize, f64)])
     let mut t = Vec::with_capacity(7 * n + diag.len());
     let face = |a: usize, b: usize, t: &mut Vec<(usize, usize, f64)>| {
         let (ka, kb) = (perm[a], perm[b]);
-        let tr = if ka > 0.0 && kb > 0.0 { 2.0 * ka * kb / (ka + kb) } else { 0.0 };
+        let tr = if ka > 0.0 && kb > 0.0 {
+            2.0 * ka * kb / (ka + kb)
+        } else {
+            0.0
+        };
         t.push((a, a, tr));
         t.push((b, b, tr));
         t.push((a, b, -tr));
@@ -119,7 +130,9 @@ fn heterogeneous_3d(nx: usize, ny: usize, nz: usize) -> CsrMatrix {
     let n = nx * ny * nz;
     let idx = |i: usize, j: usize, k: usize| (k * ny + j) * nx + i;
     let mut rng = Rng(0x1234_5678_9abc_def1);
-    let mut perm: Vec<f64> = (0..n).map(|_| (1.5 * rng.normal()).exp().clamp(1e-2, 1e2)).collect();
+    let mut perm: Vec<f64> = (0..n)
+        .map(|_| (1.5 * rng.normal()).exp().clamp(1e-2, 1e2))
+        .collect();
     let mut diag = Vec::new();
     // streak: a wall at i = nx/2 over half of y, all z
     for k in 0..nz {
@@ -143,7 +156,12 @@ fn heterogeneous_3d(nx: usize, ny: usize, nz: usize) -> CsrMatrix {
         }
     }
     diag.push((idx(2, 2, 2), 10.0));
-    for &(i, j) in &[(nx - 2, ny - 2), (nx / 4, ny - 3), (nx - 3, 2), (3 * nx / 4, ny / 2)] {
+    for &(i, j) in &[
+        (nx - 2, ny - 2),
+        (nx / 4, ny - 3),
+        (nx - 3, 2),
+        (3 * nx / 4, ny / 2),
+    ] {
         for k in 0..nz {
             diag.push((idx(i, j, k), 5.0 * perm[idx(i, j, k)].max(1e-2)));
         }
@@ -152,18 +170,31 @@ fn heterogeneous_3d(nx: usize, ny: usize, nz: usize) -> CsrMatrix {
 }
 
 fn opts(method: Method) -> SolverOptions {
-    SolverOptions { method, ..Default::default() }
+    SolverOptions {
+        method,
+        ..Default::default()
+    }
 }
 
 /// Solves, checks the claimed residual against a recomputed one, and
 /// returns the stats.
 fn solve_checked(a: &CsrMatrix, b: &[f64], method: Method, tol: f64) -> LinearStats {
     let mut x = vec![0.0; a.n];
-    let o = SolverOptions { rel_tol: tol, ..opts(method) };
+    let o = SolverOptions {
+        rel_tol: tol,
+        ..opts(method)
+    };
     let s = solve(a, b, &mut x, &o).unwrap_or_else(|e| panic!("{method:?}: {e}"));
     let r = true_rel_residual(a, b, &x);
-    assert!(r <= tol * 1.0001, "{method:?}: true residual {r:e} above {tol:e} ({s:?})");
-    assert!((r - s.rel_residual).abs() <= 1e-2 * r + 1e-15, "reported {} vs true {r}", s.rel_residual);
+    assert!(
+        r <= tol * 1.0001,
+        "{method:?}: true residual {r:e} above {tol:e} ({s:?})"
+    );
+    assert!(
+        (r - s.rel_residual).abs() <= 1e-2 * r + 1e-15,
+        "reported {} vs true {r}",
+        s.rel_residual
+    );
     eprintln!(
         "{method:?} n={} : {} it, rel {:.2e}, levels {}, complexity {:.2}, setup {:.3}s solve {:.3}s",
         a.n, s.iterations, s.rel_residual, s.levels, s.operator_complexity, s.setup_seconds, s.solve_seconds
@@ -180,7 +211,15 @@ fn rhs(n: usize, seed: u64) -> Vec<f64> {
 
 #[test]
 fn from_triplets_sums_duplicates_and_sorts_rows() {
-    let t = [(1, 2, 1.0), (0, 0, 2.0), (1, 0, -1.0), (1, 2, 3.0), (2, 2, 5.0), (0, 0, 1.0), (2, 0, 0.0)];
+    let t = [
+        (1, 2, 1.0),
+        (0, 0, 2.0),
+        (1, 0, -1.0),
+        (1, 2, 3.0),
+        (2, 2, 5.0),
+        (0, 0, 1.0),
+        (2, 0, 0.0),
+    ];
     let a = CsrMatrix::from_triplets(3, &t);
     assert_eq!(a.row_ptr, vec![0, 1, 3, 5]);
     assert_eq!(a.col_idx, vec![0, 0, 2, 0, 2]);
@@ -206,7 +245,10 @@ fn random_matrix_spmv_matches_dense_reference() {
     let a = CsrMatrix::from_triplets(n, &t);
     for i in 0..n {
         let (c, _) = a.row(i);
-        assert!(c.windows(2).all(|w| w[0] < w[1]), "row {i} not strictly sorted");
+        assert!(
+            c.windows(2).all(|w| w[0] < w[1]),
+            "row {i} not strictly sorted"
+        );
     }
     assert_eq!(a.to_dense(), dense);
     let x: Vec<f64> = (0..n).map(|_| rng.next()).collect();
@@ -266,14 +308,25 @@ fn direct_solves_small_spd_and_unsymmetric_systems() {
     assert_eq!(s.method, "direct-cholesky");
     assert!(x.iter().zip(&xs).all(|(p, q)| (p - q).abs() < 1e-10));
     // unsymmetric (and needing pivoting: zero diagonal in row 0)
-    let t = [(0, 1, 2.0), (0, 2, 1.0), (1, 0, 1.0), (1, 1, 1.0), (2, 0, 3.0), (2, 2, -1.0), (1, 2, 4.0)];
+    let t = [
+        (0, 1, 2.0),
+        (0, 2, 1.0),
+        (1, 0, 1.0),
+        (1, 1, 1.0),
+        (2, 0, 3.0),
+        (2, 2, -1.0),
+        (1, 2, 4.0),
+    ];
     let a = CsrMatrix::from_triplets(3, &t);
     let xs = vec![1.0, -2.0, 0.5];
     let b = a.mul_vec(&xs);
     let mut x = vec![0.0; 3];
     let s = solve(&a, &b, &mut x, &opts(Method::Direct)).unwrap();
     assert_eq!(s.method, "direct-lu");
-    assert!(x.iter().zip(&xs).all(|(p, q)| (p - q).abs() < 1e-12), "{x:?}");
+    assert!(
+        x.iter().zip(&xs).all(|(p, q)| (p - q).abs() < 1e-12),
+        "{x:?}"
+    );
     // symmetric indefinite falls back to LU
     let a = CsrMatrix::from_triplets(2, &[(0, 0, 1.0), (0, 1, 2.0), (1, 0, 2.0), (1, 1, 1.0)]);
     let mut x = vec![0.0; 2];
@@ -304,7 +357,12 @@ fn amg_cg_on_3d_poisson_is_mesh_independent() {
     let s20 = solve_checked(&a20, &rhs(a20.n, 1), Method::AmgCg, 1e-10);
     let s40 = solve_checked(&a40, &rhs(a40.n, 1), Method::AmgCg, 1e-10);
     assert!(s40.iterations < 40, "40^3: {s40:?}");
-    assert!(s40.iterations <= s20.iterations + 6, "20^3: {} it, 40^3: {} it", s20.iterations, s40.iterations);
+    assert!(
+        s40.iterations <= s20.iterations + 6,
+        "20^3: {} it, 40^3: {} it",
+        s20.iterations,
+        s40.iterations
+    );
     assert!(s40.operator_complexity < 2.0, "{s40:?}");
     let s = solve_checked(&a40, &rhs(a40.n, 2), Method::AmgBicgstab, 1e-10);
     assert!(s.iterations < 30, "{s:?}");
@@ -324,24 +382,49 @@ fn amg_on_heterogeneous_field_with_zero_permeability_streak_and_enclosed_block()
     let mut xd = vec![0.0; a.n];
     solve(&a, &b, &mut xd, &opts(Method::Direct)).unwrap();
     let mut xa = vec![0.0; a.n];
-    solve(&a, &b, &mut xa, &SolverOptions { rel_tol: 1e-12, ..opts(Method::AmgCg) }).unwrap();
+    solve(
+        &a,
+        &b,
+        &mut xa,
+        &SolverOptions {
+            rel_tol: 1e-12,
+            ..opts(Method::AmgCg)
+        },
+    )
+    .unwrap();
     let scale = xd.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    let err = xd.iter().zip(&xa).fold(0.0f64, |m, (p, q)| m.max((p - q).abs()));
-    assert!(err <= 1e-5 * scale, "max difference {err:e} vs scale {scale:e}");
+    let err = xd
+        .iter()
+        .zip(&xa)
+        .fold(0.0f64, |m, (p, q)| m.max((p - q).abs()));
+    assert!(
+        err <= 1e-5 * scale,
+        "max difference {err:e} vs scale {scale:e}"
+    );
 }
 
 #[test]
 fn amg_options_smoothers_and_threshold() {
     let a = heterogeneous_3d(16, 16, 8);
     let b = rhs(a.n, 9);
-    for smoother in [Smoother::HybridGaussSeidel, Smoother::L1Jacobi, Smoother::Chebyshev { degree: 2 }] {
+    for smoother in [
+        Smoother::HybridGaussSeidel,
+        Smoother::L1Jacobi,
+        Smoother::Chebyshev { degree: 2 },
+    ] {
         for theta in [0.0, 0.1] {
             let o = SolverOptions {
-                amg: AmgOptions { smoother, strength_threshold: theta, max_coarse: 50, ..Default::default() },
+                amg: AmgOptions {
+                    smoother,
+                    strength_threshold: theta,
+                    max_coarse: 50,
+                    ..Default::default()
+                },
                 ..opts(Method::AmgCg)
             };
             let mut x = vec![0.0; a.n];
-            let s = solve(&a, &b, &mut x, &o).unwrap_or_else(|e| panic!("{smoother:?} {theta}: {e}"));
+            let s =
+                solve(&a, &b, &mut x, &o).unwrap_or_else(|e| panic!("{smoother:?} {theta}: {e}"));
             assert!(true_rel_residual(&a, &b, &x) <= 1e-10);
             assert!(s.levels >= 3, "{s:?}");
         }
@@ -382,7 +465,17 @@ fn amg_bicgstab_on_unsymmetric_convection_diffusion() {
     assert_eq!(s.method, "direct-lu");
     // Auto picks BiCGStab above the direct threshold.
     let mut x = vec![0.0; n];
-    let s = solve(&a, &b, &mut x, &SolverOptions { direct_max_n: 100, direct_max_n_2d: 100, ..Default::default() }).unwrap();
+    let s = solve(
+        &a,
+        &b,
+        &mut x,
+        &SolverOptions {
+            direct_max_n: 100,
+            direct_max_n_2d: 100,
+            ..Default::default()
+        },
+    )
+    .unwrap();
     assert_eq!(s.method, "amg-bicgstab");
 }
 
@@ -402,9 +495,22 @@ fn auto_picks_direct_small_and_amg_cg_large() {
     let a = poisson_2d(30);
     let b = rhs(a.n, 11);
     let mut x = vec![0.0; a.n];
-    assert!(solve(&a, &b, &mut x, &SolverOptions::default()).unwrap().method.starts_with("direct"));
+    assert!(solve(&a, &b, &mut x, &SolverOptions::default())
+        .unwrap()
+        .method
+        .starts_with("direct"));
     let mut x = vec![0.0; a.n];
-    let s = solve(&a, &b, &mut x, &SolverOptions { direct_max_n: 100, direct_max_n_2d: 100, ..Default::default() }).unwrap();
+    let s = solve(
+        &a,
+        &b,
+        &mut x,
+        &SolverOptions {
+            direct_max_n: 100,
+            direct_max_n_2d: 100,
+            ..Default::default()
+        },
+    )
+    .unwrap();
     assert_eq!(s.method, "amg-cg");
 }
 
@@ -438,18 +544,27 @@ fn solver_reuses_hierarchy_and_rebuilds_on_pattern_change() {
     assert!(!s1.reused_setup && s1.setup_seconds > 0.0);
     // same pattern, values changed by 10%: reused
     let mut a2 = a.clone();
-    a2.values.iter_mut().enumerate().for_each(|(k, v)| *v *= 1.0 + 0.1 * ((k % 7) as f64 / 7.0));
+    a2.values
+        .iter_mut()
+        .enumerate()
+        .for_each(|(k, v)| *v *= 1.0 + 0.1 * ((k % 7) as f64 / 7.0));
     // keep it symmetric: rebuild from the symmetric part
     let a2 = {
         let at = a2.transpose();
         let mut s = a2.clone();
-        s.values.iter_mut().zip(&at.values).for_each(|(p, q)| *p = 0.5 * (*p + q));
+        s.values
+            .iter_mut()
+            .zip(&at.values)
+            .for_each(|(p, q)| *p = 0.5 * (*p + q));
         s
     };
     let mut x = vec![0.0; a.n];
     let s2 = solver.solve(&a2, &b, &mut x).unwrap();
     assert!(s2.reused_setup, "{s2:?}");
-    assert!(s2.setup_seconds < 0.5 * s1.setup_seconds, "{s2:?} vs {s1:?}");
+    assert!(
+        s2.setup_seconds < 0.5 * s1.setup_seconds,
+        "{s2:?} vs {s1:?}"
+    );
     assert!(true_rel_residual(&a2, &b, &x) <= 1e-10);
     // different pattern: rebuilt
     let a3 = poisson_3d(15);
@@ -480,8 +595,14 @@ fn solver_rebuilds_when_stale_hierarchy_fails() {
     let a2 = tpfa_3d(m, m, m, &perm2, &wells);
     assert!(a1.same_pattern(&a2));
     let b = rhs(n, 8);
-    let amg = AmgOptions { max_coarse: 50, ..Default::default() };
-    let mut solver = Solver::new(SolverOptions { amg, ..opts(Method::AmgCg) });
+    let amg = AmgOptions {
+        max_coarse: 50,
+        ..Default::default()
+    };
+    let mut solver = Solver::new(SolverOptions {
+        amg,
+        ..opts(Method::AmgCg)
+    });
     let mut x = vec![0.0; n];
     let k0 = solver.solve(&a1, &b, &mut x).unwrap().iterations;
     let cap = (2 * k0).max(k0 + 4);
@@ -489,7 +610,10 @@ fn solver_rebuilds_when_stale_hierarchy_fails() {
     let mut x = vec![0.0; n];
     let s = solver.solve(&a2, &b, &mut x).unwrap();
     assert!(true_rel_residual(&a2, &b, &x) <= 1e-10, "{s:?}");
-    assert!(s.iterations > cap, "the stale hierarchy should have needed more than {cap} iterations: {s:?}");
+    assert!(
+        s.iterations > cap,
+        "the stale hierarchy should have needed more than {cap} iterations: {s:?}"
+    );
     assert!(s.setup_seconds > 0.0);
     // ... so the next call rebuilds in full.
     let mut x = vec![0.0; n];
@@ -500,7 +624,10 @@ fn solver_rebuilds_when_stale_hierarchy_fails() {
     let a4 = with_scaled_diagonal(&a2, 1.2);
     let mut x = vec![0.0; n];
     let s4 = solver.solve(&a4, &b, &mut x).unwrap();
-    assert!(s4.iterations <= 3 * s3.iterations + 8, "{s4:?} vs fresh {s3:?}");
+    assert!(
+        s4.iterations <= 3 * s3.iterations + 8,
+        "{s4:?} vs fresh {s3:?}"
+    );
     assert!(true_rel_residual(&a4, &b, &x) <= 1e-10);
 }
 
@@ -524,12 +651,23 @@ fn singular_matrices_give_errors_not_panics() {
     let m = 8;
     let a = tpfa_3d(m, m, m, &vec![1.0; m * m * m], &[]);
     let b = rhs(a.n, 1);
-    for method in [Method::Direct, Method::AmgCg, Method::AmgBicgstab, Method::Auto] {
+    for method in [
+        Method::Direct,
+        Method::AmgCg,
+        Method::AmgBicgstab,
+        Method::Auto,
+    ] {
         let mut x = vec![0.0; a.n];
-        let o = SolverOptions { max_iter: 200, ..opts(method) };
+        let o = SolverOptions {
+            max_iter: 200,
+            ..opts(method)
+        };
         let e = solve(&a, &b, &mut x, &o).expect_err("singular system must fail");
         assert!(
-            matches!(e, LinearError::Singular { .. } | LinearError::NotConverged { .. }),
+            matches!(
+                e,
+                LinearError::Singular { .. } | LinearError::NotConverged { .. }
+            ),
             "{method:?}: {e}"
         );
     }
@@ -547,7 +685,10 @@ fn singular_matrices_give_errors_not_panics() {
     // Structurally singular (empty column) for LU.
     let a = CsrMatrix::from_triplets(2, &[(0, 0, 1.0), (1, 0, 1.0)]);
     let mut x = vec![0.0; 2];
-    assert!(matches!(solve(&a, &[1.0, 1.0], &mut x, &opts(Method::Direct)), Err(LinearError::Singular { .. })));
+    assert!(matches!(
+        solve(&a, &[1.0, 1.0], &mut x, &opts(Method::Direct)),
+        Err(LinearError::Singular { .. })
+    ));
 }
 
 #[test]
@@ -559,7 +700,10 @@ fn non_finite_values_are_reported() {
         let mut x = vec![0.0; a.n];
         let e = solve(&a, &b, &mut x, &opts(method)).unwrap_err();
         assert!(matches!(e, LinearError::NonFinite { .. }), "{e}");
-        assert!(e.to_string().contains("non-finite") && e.to_string().contains("NaN"), "{e}");
+        assert!(
+            e.to_string().contains("non-finite") && e.to_string().contains("NaN"),
+            "{e}"
+        );
     }
     let a = poisson_2d(5);
     let mut bb = b.clone();
@@ -568,7 +712,10 @@ fn non_finite_values_are_reported() {
     let e = solve(&a, &bb, &mut x, &opts(Method::AmgCg)).unwrap_err();
     assert!(e.to_string().contains("right-hand side entry 3"), "{e}");
     let mut x = vec![0.0; a.n - 1];
-    assert!(matches!(solve(&a, &b, &mut x, &opts(Method::AmgCg)), Err(LinearError::Dimension { .. })));
+    assert!(matches!(
+        solve(&a, &b, &mut x, &opts(Method::AmgCg)),
+        Err(LinearError::Dimension { .. })
+    ));
 }
 
 #[test]
@@ -577,11 +724,22 @@ fn non_convergence_within_max_iter_is_an_error() {
     let b = rhs(a.n, 2);
     for method in [Method::JacobiCg, Method::AmgCg, Method::AmgBicgstab] {
         let mut x = vec![0.0; a.n];
-        let amg = AmgOptions { max_coarse: 50, ..Default::default() };
-        let o = SolverOptions { max_iter: 2, amg, ..opts(method) };
+        let amg = AmgOptions {
+            max_coarse: 50,
+            ..Default::default()
+        };
+        let o = SolverOptions {
+            max_iter: 2,
+            amg,
+            ..opts(method)
+        };
         let e = solve(&a, &b, &mut x, &o).unwrap_err();
         match &e {
-            LinearError::NotConverged { iterations, rel_residual, .. } => {
+            LinearError::NotConverged {
+                iterations,
+                rel_residual,
+                ..
+            } => {
                 assert_eq!(*iterations, 2, "{method:?}");
                 assert!(*rel_residual > 1e-10 && rel_residual.is_finite());
                 // x holds the last iterate, and the residual is the true one
@@ -590,6 +748,9 @@ fn non_convergence_within_max_iter_is_an_error() {
             _ => panic!("{method:?}: {e}"),
         }
         let msg = e.to_string();
-        assert!(msg.contains("did not converge") && msg.contains("after 2 iterations"), "{msg}");
+        assert!(
+            msg.contains("did not converge") && msg.contains("after 2 iterations"),
+            "{msg}"
+        );
     }
 }

@@ -81,17 +81,30 @@ include "more-wells.rill"             # top level only; relative to this file
 
 /// The spec deck with the elision written out, so that it parses cleanly.
 pub fn clean_deck() -> String {
-    SPEC_DECK.replace("[40 40 60 60 ...] ft", "[40 40 60 60 60 60 40 40 40 40 40 40 40 40 40 40 40 40 40 40] ft")
+    SPEC_DECK.replace(
+        "[40 40 60 60 ...] ft",
+        "[40 40 60 60 60 60 40 40 40 40 40 40 40 40 40 40 40 40 40 40] ft",
+    )
 }
 
 fn check_span(text: &str, span: Span, what: &str) {
     assert!(span.start <= span.end, "{what}: reversed span {span:?}");
-    assert!(span.end <= text.len(), "{what}: span {span:?} past the end {}", text.len());
-    assert!(text.is_char_boundary(span.start) && text.is_char_boundary(span.end), "{what}: span {span:?} not on char boundaries");
+    assert!(
+        span.end <= text.len(),
+        "{what}: span {span:?} past the end {}",
+        text.len()
+    );
+    assert!(
+        text.is_char_boundary(span.start) && text.is_char_boundary(span.end),
+        "{what}: span {span:?} not on char boundaries"
+    );
 }
 
 fn within(outer: Span, inner: Span, what: &str) {
-    assert!(outer.start <= inner.start && inner.end <= outer.end, "{what}: {inner:?} outside {outer:?}");
+    assert!(
+        outer.start <= inner.start && inner.end <= outer.end,
+        "{what}: {inner:?} outside {outer:?}"
+    );
 }
 
 fn check_atom(text: &str, a: &Atom) {
@@ -217,25 +230,49 @@ pub fn check_all(text: &str) -> SourceFile {
     if file.errors.is_empty() {
         check_format(text, &file);
     } else {
-        assert_eq!(format(&file, text), text, "a file with errors is returned unchanged");
+        assert_eq!(
+            format(&file, text),
+            text,
+            "a file with errors is returned unchanged"
+        );
     }
     file
 }
 
 pub fn comment_texts(file: &SourceFile) -> Vec<String> {
-    file.comments.iter().map(|c| c.text.trim_end().to_string()).collect()
+    file.comments
+        .iter()
+        .map(|c| c.text.trim_end().to_string())
+        .collect()
 }
 
 pub fn check_format(text: &str, file: &SourceFile) -> String {
     let once = format(file, text);
     let again = parse(&once);
-    assert!(again.errors.is_empty(), "formatted text has errors {:?}\n--- input\n{text}\n--- output\n{once}", again.errors);
-    assert!(same_meaning(file, &again), "formatting changed the meaning\n--- input\n{text:?}\n--- output\n{once}");
-    assert_eq!(comment_texts(file), comment_texts(&again), "formatting lost or moved comments\n--- input\n{text}\n--- output\n{once}");
+    assert!(
+        again.errors.is_empty(),
+        "formatted text has errors {:?}\n--- input\n{text}\n--- output\n{once}",
+        again.errors
+    );
+    assert!(
+        same_meaning(file, &again),
+        "formatting changed the meaning\n--- input\n{text:?}\n--- output\n{once}"
+    );
+    assert_eq!(
+        comment_texts(file),
+        comment_texts(&again),
+        "formatting lost or moved comments\n--- input\n{text}\n--- output\n{once}"
+    );
     let twice = format(&again, &once);
-    assert_eq!(once, twice, "formatting is not idempotent\n--- input\n{text:?}");
+    assert_eq!(
+        once, twice,
+        "formatting is not idempotent\n--- input\n{text:?}"
+    );
     if !once.is_empty() {
-        assert!(once.ends_with('\n') && !once.ends_with("\n\n"), "output must end with one line break");
+        assert!(
+            once.ends_with('\n') && !once.ends_with("\n\n"),
+            "output must end with one line break"
+        );
     }
     once
 }
