@@ -13,6 +13,8 @@ struct Client {
     buf: Vec<u8>,
     /// Notifications seen while waiting for something else.
     pending: VecDeque<Value>,
+    /// Requests the server sent to the client.
+    server_requests: Vec<Value>,
     next_id: i64,
     server: Option<JoinHandle<u8>>,
 }
@@ -30,6 +32,7 @@ impl Client {
             read,
             buf: Vec::new(),
             pending: VecDeque::new(),
+            server_requests: Vec::new(),
             next_id: 1,
             server: Some(server),
         }
@@ -59,6 +62,7 @@ impl Client {
                         Value::Null
                     };
                     let id = msg["id"].clone();
+                    self.server_requests.push(msg.clone());
                     self.send(json!({"jsonrpc": "2.0", "id": id, "result": result}))
                         .await;
                     continue;
@@ -616,4 +620,73 @@ async fn inlay_hints_follow_the_setting() {
     .await;
     let off = c.request("textDocument/inlayHint", whole).await;
     assert_eq!(off, json!([]));
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn run_is_one_per_case_and_cancellable() {
+    let dir = tempfile::tempdir().unwrap();
+    let deck = dir.path().join("long.rill");
+    // Thousands of small steps: long enough to be cancelled while it runs.
+    let text = BLOCK
+        .replace("cells = 11 x 11 x 1", "cells = 30 x 30 x 2")
+        .replace("end = 180 day", "end = 36500 day")
+        .replace("first_step = 0.05 day", "first_step = 0.001 day")
+        .replace("max_step = 10 day", "max_step = 0.01 day");
+    std::fs::write(&deck, &text).unwrap();
+    let uri = url(&deck);
+    let mut c = Client::start();
+    let root = url(dir.path());
+    c.request(
+        "initialize",
+        json!({"processId": null, "rootUri": root,
+               "capabilities": {"window": {"workDoneProgress": true}}}),
+    )
+    .await;
+    c.notify("initialized", json!({})).await;
+    c.notify(
+        "textDocument/didOpen",
+        json!({"textDocument": {"uri": uri, "languageId": "rill", "version": 1, "text": text}}),
+    )
+    .await;
+    let clean = diagnostics_until(&mut c, &uri, |_| true).await;
+    assert!(clean.iter().all(|d| d["severity"] != 1), "{clean:?}");
+    let run = json!({"command": "rill.run", "arguments": [uri]});
+    assert_eq!(
+        c.request("workspace/executeCommand", run.clone()).await,
+        Value::Null
+    );
+    // The run has begun reporting progress.
+    let begin = c.notification("$/progress").await;
+    assert_eq!(begin["value"]["kind"], "begin");
+    assert_eq!(begin["value"]["cancellable"], true);
+    let token = begin["token"].clone();
+    assert!(c
+        .server_requests
+        .iter()
+        .any(|r| r["method"] == "window/workDoneProgress/create" && r["params"]["token"] == token));
+    // A second run of the same case is refused while the first goes on.
+    c.request("workspace/executeCommand", run).await;
+    loop {
+        let m = c.notification("window/showMessage").await;
+        let text = m["message"].as_str().unwrap_or_default().to_string();
+        assert!(
+            !text.contains("finished"),
+            "the run ended before it could be refused: {text}"
+        );
+        if text.contains("already running") {
+            break;
+        }
+    }
+    c.notify("window/workDoneProgress/cancel", json!({"token": token}))
+        .await;
+    loop {
+        let m = c.notification("window/showMessage").await;
+        let text = m["message"].as_str().unwrap_or_default().to_string();
+        assert!(!text.contains("finished"), "{text}");
+        if text.contains("cancelled") {
+            break;
+        }
+    }
+    // Nothing was written for the cancelled run.
+    assert!(!dir.path().join("long.out").exists());
 }
