@@ -19,6 +19,26 @@
 //! fixes the two things this crate must handle itself anyway: handlers run
 //! concurrently (document changes are applied in order by [`sequencer`])
 //! and the server does not end after `exit` (also [`sequencer`]).
+//!
+//! What the client sees:
+//! - sync: incremental; positions in UTF-16, or UTF-8 when offered in
+//!   `general.positionEncodings`; stale versions dropped with a log line;
+//! - diagnostics: after a 15 ms debounce, for the deck and, on their own
+//!   URIs, for its includes and array files; `code` is the diagnostic code,
+//!   labels are `relatedInformation`, fixes travel in `data`;
+//! - hover, completion (triggers `=`, `/`, `*`, `"`, space), code actions,
+//!   formatting (whole document, and ranges whose edits fall inside),
+//!   symbols, definition, references, semantic tokens (full and range),
+//!   inlay hints, folding ranges, the "Run case" code lens;
+//! - `workspace/executeCommand rill.run [uri]`, see `runner`;
+//! - `rill/documentText {uri}` -> `{version, text}`: the server's copy of a
+//!   buffer, to check synchronisation;
+//! - settings (`initializationOptions`, `workspace/didChangeConfiguration`,
+//!   or pulled with `workspace/configuration`), section `rill`:
+//!   `inlayHints.enabled`, `allowedIncludePaths`, `runOutputDir`;
+//! - `workspace/didChangeWatchedFiles` registered for decks and array files
+//!   (dynamic registration), invalidating the `DiskSource` cache;
+//! - exit code 0 after `shutdown` then `exit`, 1 for `exit` alone.
 
 mod answers;
 mod convert;
