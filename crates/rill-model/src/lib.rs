@@ -89,6 +89,7 @@ pub fn analyze_text(path: &Path, text: &str, source: &dyn Source) -> Analysis {
             checks::run(case, &spans, &mut diagnostics);
         }
     }
+    drop_cascades(&lowerer.files, &mut diagnostics);
     diagnostics.sort_by(|a, b| {
         (a.location.file, a.location.start, a.location.end, a.code).cmp(&(
             b.location.file,
@@ -104,4 +105,49 @@ pub fn analyze_text(path: &Path, text: &str, source: &dyn Source) -> Analysis {
         case,
         spans,
     }
+}
+
+/// A statement with a syntax error inside has no reliable value: drop the
+/// other diagnostics on it, which would only repeat the syntax error in
+/// other words (a list left open that lost its unit, say).
+fn drop_cascades(files: &[FileInfo], diagnostics: &mut Vec<Diagnostic>) {
+    fn broken(
+        items: &[rill_syntax::Item],
+        errors: &[rill_syntax::SyntaxError],
+        out: &mut Vec<rill_syntax::Span>,
+    ) {
+        for item in items {
+            match item {
+                rill_syntax::Item::Statement(s) => {
+                    if errors
+                        .iter()
+                        .any(|e| e.span.start < s.span.end && s.span.start <= e.span.start)
+                    {
+                        out.push(s.span);
+                    }
+                }
+                rill_syntax::Item::Block(b) => broken(&b.items, errors, out),
+                rill_syntax::Item::Directive(_) => {}
+            }
+        }
+    }
+    let mut spans: Vec<(usize, rill_syntax::Span)> = Vec::new();
+    for (index, file) in files.iter().enumerate() {
+        if let Some(tree) = &file.tree {
+            if !tree.errors.is_empty() {
+                let mut out = Vec::new();
+                broken(&tree.items, &tree.errors, &mut out);
+                spans.extend(out.into_iter().map(|s| (index, s)));
+            }
+        }
+    }
+    if spans.is_empty() {
+        return;
+    }
+    diagnostics.retain(|d| {
+        d.code.starts_with("syntax.")
+            || !spans.iter().any(|(f, s)| {
+                *f == d.location.file && s.start <= d.location.start && d.location.end <= s.end
+            })
+    });
 }

@@ -95,7 +95,7 @@ impl<'s> Lowerer<'s> {
                         format!("expected {}, found {}", e.expected, e.found)
                     }
                     rill_syntax::SyntaxErrorKind::Unclosed => {
-                        format!("{} is never closed: expected {}", e.found, e.expected)
+                        format!("unclosed: expected {}, found {}", e.expected, e.found)
                     }
                 };
                 self.diags
@@ -497,8 +497,20 @@ impl<'s> Lowerer<'s> {
             }
         }
         // Required keys (the well's `location`/`completions` pair is checked by the well).
+        // A misspelt required key is reported once, as unknown with its fix,
+        // not again as missing.
+        let misspelt: Vec<&str> = block
+            .items
+            .iter()
+            .filter_map(|i| match i {
+                Item::Statement(s) if def.key(&s.key.name).is_none() => {
+                    schema::nearest(&s.key.name, def.keys.iter().map(|k| k.name))
+                }
+                _ => None,
+            })
+            .collect();
         for k in def.keys.iter().filter(|k| k.required) {
-            if !seen.contains_key(k.name) {
+            if !seen.contains_key(k.name) && !misspelt.contains(&k.name) {
                 let at = Location::new(file, block.name.span);
                 let mut d = Diagnostic::error(
                     "deck.missing-key",

@@ -1,0 +1,33 @@
+//! One mistake, one diagnostic: follow-on errors that only repeat a mistake
+//! in other words are not reported.
+
+use rill_model::{analyze_text, MemorySource};
+use std::path::Path;
+
+fn codes(fixture: &str) -> Vec<&'static str> {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../../tests/fixtures")
+        .join(fixture)
+        .join("broken.rill");
+    let text = std::fs::read_to_string(&path).unwrap();
+    analyze_text(&path, &text, &MemorySource::new())
+        .diagnostics
+        .iter()
+        .map(|d| d.code)
+        .collect()
+}
+
+#[test]
+fn an_unclosed_list_is_reported_once() {
+    assert_eq!(codes("syntax.unclosed"), vec!["syntax.unclosed"]);
+}
+
+#[test]
+fn a_misspelt_required_key_is_unknown_not_also_missing() {
+    assert_eq!(codes("deck.unknown-key"), vec!["deck.unknown-key"]);
+}
+
+#[test]
+fn a_missing_key_without_a_near_miss_is_still_missing() {
+    assert_eq!(codes("deck.missing-key"), vec!["deck.missing-key"]);
+}
