@@ -435,6 +435,33 @@ async fn random_edits(seed: u64, utf8: bool, edits: usize) {
             json!({"textDocument": {"uri": uri, "version": version}, "contentChanges": changes}),
         )
         .await;
+        if rng.below(40) == 0 {
+            // Requests on the text as it stands now, at any position, answer
+            // without error (whatever state the random text is in).
+            let (line, character) = random_position(&mut rng, &text, utf8);
+            let at = json!({"textDocument": {"uri": uri}, "position": {"line": line, "character": character}});
+            for method in [
+                "textDocument/hover",
+                "textDocument/completion",
+                "textDocument/definition",
+            ] {
+                c.request(method, at.clone()).await;
+            }
+            for method in [
+                "textDocument/semanticTokens/full",
+                "textDocument/documentSymbol",
+                "textDocument/foldingRange",
+                "textDocument/codeLens",
+            ] {
+                c.request(method, json!({"textDocument": {"uri": uri}}))
+                    .await;
+            }
+            c.request(
+                "textDocument/formatting",
+                json!({"textDocument": {"uri": uri}, "options": {"tabSize": 2, "insertSpaces": true}}),
+            )
+            .await;
+        }
         if rng.below(50) == 0 {
             // A repeated version: the server drops it.
             c.notify(
@@ -689,4 +716,44 @@ async fn run_is_one_per_case_and_cancellable() {
     }
     // Nothing was written for the cancelled run.
     assert!(!dir.path().join("long.out").exists());
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn without_workspace_folders_the_deck_folder_is_the_root() {
+    let dir = tempfile::tempdir().unwrap();
+    let ws = dir.path().join("cases");
+    std::fs::create_dir_all(&ws).unwrap();
+    let good = WELLS_BAD.replace("bbl/day", "stb/day");
+    std::fs::write(ws.join("wells.rill"), &good).unwrap();
+    std::fs::write(dir.path().join("wells.rill"), &good).unwrap();
+    let main = ws.join("main.rill");
+    let uri = url(&main);
+    let mut c = Client::start();
+    c.request("initialize", json!({"processId": null, "capabilities": {}}))
+        .await;
+    c.notify("initialized", json!({})).await;
+    // Beside the deck: read; one folder up: outside, refused.
+    for (v, inc, refused) in [(1, "wells.rill", false), (2, "../wells.rill", true)] {
+        let text = format!("{BLOCK}\ninclude \"{inc}\"\n");
+        if v == 1 {
+            c.notify(
+                "textDocument/didOpen",
+                json!({"textDocument": {"uri": uri, "languageId": "rill", "version": v, "text": text}}),
+            )
+            .await;
+        } else {
+            c.notify(
+                "textDocument/didChange",
+                json!({"textDocument": {"uri": uri, "version": v}, "contentChanges": [{"text": text}]}),
+            )
+            .await;
+        }
+        let list = loop {
+            let d = c.notification("textDocument/publishDiagnostics").await;
+            if d["uri"] == json!(uri) && d["version"] == v {
+                break d["diagnostics"].as_array().cloned().unwrap_or_default();
+            }
+        };
+        assert_eq!(has("deck.include")(&list), refused, "{inc}: {list:?}");
+    }
 }
