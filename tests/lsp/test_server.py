@@ -158,6 +158,59 @@ async def test_hover_on_a_cell_matches_inspect(client: LanguageClient, workspace
             assert nb == "({}, {}, {})".format(*face["neighbor"])
 
 
+def utf16_len(s: str) -> int:
+    return sum(2 if ord(ch) > 0xFFFF else 1 for ch in s)
+
+
+def face_rows(md: str) -> dict:
+    rows = {}
+    for row in md.split("\n"):
+        cells = [c.strip() for c in row.strip().strip("|").split("|")]
+        if len(cells) == 5 and cells[0] in ("west", "east", "south", "north", "top", "bottom"):
+            rows[cells[0]] = cells
+    return rows
+
+
+async def test_hover_on_a_layered_anisotropic_deck_after_multibyte_text(client: LanguageClient, workspace: Path):
+    """Non-uniform column widths, kz = 0.1 kx, and a sealing streak (kz = 0 md
+    in layer 2 under the well): the hover's face table equals `rill inspect`,
+    at a position right after a line whose well name holds Ω and an emoji."""
+    source = (Path(__file__).resolve().parents[2] / "examples" / "larkspur-east.rill").read_text()
+    old = 'well "LE-1" {\n  role = producer\n  location = (15, 10)\n'
+    assert old in source
+    # Column 8 lies between a 60 ft and a 50 ft column; the streak is widened to reach it.
+    text = source.replace(old, 'well "LE-Ω😀" {\n  location = (8, 10)\n  role = producer\n')
+    text = text.replace('well "LE-1"', 'well "LE-Ω😀"').replace("patch i = 10..22 k = 2", "patch i = 7..22 k = 2")
+    assert "patch i = 7..22 k = 2" in text
+    deck = workspace / "lobe.rill"
+    deck.write_text(text, encoding="utf-8")
+    uri = open_deck(client, deck, text)
+    await wait_for(client, lambda: clean(client, uri), "a clean deck")
+    lines = text.split("\n")
+    line = next(i for i, l in enumerate(lines) if "location = (8, 10)" in l)
+    assert "Ω😀" in lines[line - 1]
+    col = utf16_len(lines[line][: lines[line].index("(8, 10)") + 1])
+    hover = await client.text_document_hover_async(
+        types.HoverParams(text_document=types.TextDocumentIdentifier(uri=uri), position=types.Position(line=line, character=col))
+    )
+    assert hover is not None
+    md = hover.contents.value
+    assert "cell (8, 10, 1)" in md, md
+    rows = face_rows(md)
+    assert len(rows) == 6, md
+    expected = inspect_json(deck, "8,10,1")
+    for face in expected["faces"]:
+        _, nb, k_face, t_field, t_si = rows[face["side"]]
+        assert float(k_face) == pytest.approx(face["perm_face_md"], rel=1e-5, abs=1e-12)
+        assert float(t_field) == pytest.approx(face["trans_stb_day_psi"], rel=1e-5, abs=1e-12)
+        assert float(t_si) == pytest.approx(face["trans_si"], rel=1e-4, abs=1e-30)
+    bottom = next(f for f in expected["faces"] if f["side"] == "bottom")
+    assert bottom["perm_face_md"] == 0.0 and bottom["trans_si"] == 0.0  # the sealing streak
+    east = next(f for f in expected["faces"] if f["side"] == "east")
+    west = next(f for f in expected["faces"] if f["side"] == "west")
+    assert east["trans_si"] != west["trans_si"]  # unequal column widths
+
+
 async def test_completion_offers_units_after_a_number(client: LanguageClient, workspace: Path):
     deck = workspace / "block.rill"
     text = deck.read_text()
