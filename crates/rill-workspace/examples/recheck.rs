@@ -6,6 +6,10 @@
 //! usage: cargo run --release -p rill-workspace --example recheck -- DECK [N]
 
 use rill_workspace::DiskSource;
+
+// The same allocator as the `rill` binary, so the timings match the server.
+#[global_allocator]
+static GLOBAL: mimalloc::MiMalloc = mimalloc::MiMalloc;
 use std::time::Instant;
 
 fn main() {
