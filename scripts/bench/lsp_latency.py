@@ -85,6 +85,7 @@ def main():
     ap.add_argument("--case")
     ap.add_argument("--rill", default=str(REPO / "target" / "release" / "rill"))
     ap.add_argument("--edits", type=int, default=100)
+    ap.add_argument("--raw", action="store_true", help="print every edit's latency in order")
     ap.add_argument("--hovers", type=int, default=100)
     a = ap.parse_args()
     tmp = None
@@ -120,6 +121,8 @@ def main():
         col += 1
         t2, _ = s.wait(lambda m, v=v: m.get("method") == "textDocument/publishDiagnostics" and m["params"].get("version") == v)
         edits.append(t2 - t)
+    if a.raw:
+        print("per edit (ms):", " ".join(f"{x * 1000:.0f}" for x in edits))
     summary("didChange -> publishDiagnostics", edits)
 
     # Hovers on the kx array value, a well location and a number.

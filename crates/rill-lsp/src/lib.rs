@@ -23,7 +23,7 @@
 //! What the client sees:
 //! - sync: incremental; positions in UTF-16, or UTF-8 when offered in
 //!   `general.positionEncodings`; stale versions dropped with a log line;
-//! - diagnostics: after a 15 ms debounce, for the deck and, on their own
+//! - diagnostics: after a 5 ms debounce, for the deck and, on their own
 //!   URIs, for its includes and array files; `code` is the diagnostic code,
 //!   labels are `relatedInformation`, fixes travel in `data`;
 //! - hover, completion (triggers `=`, `/`, `*`, `"`, space), code actions,

@@ -148,7 +148,9 @@ impl Shared {
             publish_lock: tokio::sync::Mutex::new(()),
             initialized: AtomicBool::new(false),
             shutdown: AtomicBool::new(false),
-            debounce: Duration::from_millis(15),
+            // Short: bursts coalesce anyway, since a change that arrives during an
+            // analysis is taken up by the next one.
+            debounce: Duration::from_millis(5),
             runs: Default::default(),
         }
     }
