@@ -2006,7 +2006,15 @@ impl<'s> Lowerer<'s> {
                 if wb.name.name != "well" {
                     continue;
                 }
-                let Some(wname) = label_of(wb) else { continue };
+                let Some(wname) = label_of(wb) else {
+                    self.diags.push(Diagnostic::error(
+                        "deck.missing-key",
+                        Location::new(file, wb.name.span),
+                        "a change in an event names its well: well \"NAME\" { control = ... }",
+                    ));
+                    ok = false;
+                    continue;
+                };
                 let Some(index) = wells.iter().position(|w| w.name == wname) else {
                     let span = wb.args.first().map(|a| a.span).unwrap_or(wb.name.span);
                     let mut d = Diagnostic::error(

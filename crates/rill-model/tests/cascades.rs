@@ -31,3 +31,21 @@ fn a_misspelt_required_key_is_unknown_not_also_missing() {
 fn a_missing_key_without_a_near_miss_is_still_missing() {
     assert_eq!(codes("deck.missing-key"), vec!["deck.missing-key"]);
 }
+
+#[test]
+fn an_event_change_without_a_well_name_is_reported() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../examples/larkspur-east.rill");
+    let text = std::fs::read_to_string(&path).unwrap().replace(
+        "    well \"LE-1\" {\n      control = bhp",
+        "    well {\n      control = bhp",
+    );
+    let a = analyze_text(&path, &text, &MemorySource::new());
+    assert!(
+        a.diagnostics
+            .iter()
+            .any(|d| d.code == "deck.missing-key" && d.message.contains("names its well")),
+        "{:?}",
+        a.diagnostics
+    );
+    assert!(a.case.is_none());
+}
