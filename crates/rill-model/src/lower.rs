@@ -15,6 +15,10 @@ use std::collections::HashMap;
 use std::path::PathBuf;
 use std::sync::Arc;
 
+/// Largest grid checked: a slip such as `600 x 2200 x 850` would otherwise
+/// allocate gigabytes per property, on every keystroke in an editor.
+const MAX_CELLS: u64 = 20_000_000;
+
 /// Deepest chain of includes followed.
 const MAX_INCLUDE_DEPTH: usize = 16;
 
@@ -687,12 +691,18 @@ impl<'s> Lowerer<'s> {
                     return None;
                 }
                 let total = parts.iter().try_fold(1u64, |acc, p| acc.checked_mul(*p));
-                if total.is_none_or(|t| t > 200_000_000) {
-                    self.diags.push(Diagnostic::error(
-                        "grid.spacing",
-                        Location::new(file, *span),
-                        "`cells` gives more than 200 million cells, beyond what rill can hold",
-                    ));
+                if total.is_none_or(|t| t > MAX_CELLS) {
+                    let found = total
+                        .map(|t| t.to_string())
+                        .unwrap_or_else(|| "more than 2^64".into());
+                    self.diags.push(
+                        Diagnostic::error(
+                            "grid.spacing",
+                            Location::new(file, *span),
+                            format!("`cells` gives {found} cells; rill holds at most {MAX_CELLS} (a typo in a count?)"),
+                        )
+                        .with_note("every per-cell property takes 8 bytes a cell, re-checked on each edit"),
+                    );
                     return None;
                 }
                 (parts[0] as usize, parts[1] as usize, parts[2] as usize)

@@ -49,3 +49,22 @@ fn an_event_change_without_a_well_name_is_reported() {
     );
     assert!(a.case.is_none());
 }
+
+#[test]
+fn a_grid_far_too_large_is_refused_before_anything_is_allocated() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../examples/teaching-block.rill");
+    let text = std::fs::read_to_string(&path)
+        .unwrap()
+        .replace("cells = 11 x 11 x 1", "cells = 1000 x 1000 x 1000");
+    let a = analyze_text(&path, &text, &MemorySource::new());
+    let d: Vec<_> = a
+        .diagnostics
+        .iter()
+        .map(|d| (d.code, d.message.clone()))
+        .collect();
+    assert!(
+        d.iter()
+            .any(|(c, m)| *c == "grid.spacing" && m.contains("1000000000 cells")),
+        "{d:?}"
+    );
+}
