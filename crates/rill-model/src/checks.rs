@@ -15,6 +15,24 @@ const CP: f64 = 1e-3;
 const FT: f64 = 0.3048;
 const INCH: f64 = 0.0254;
 
+/// How many values match `bad`, and the first that does, in one parallel
+/// pass (per-cell arrays hold a million values, checked on every edit).
+fn offenders(values: &[f64], bad: impl Fn(f64) -> bool + Sync) -> Option<(usize, usize)> {
+    use rayon::prelude::*;
+    let (count, first) = values
+        .par_iter()
+        .enumerate()
+        .fold(
+            || (0usize, usize::MAX),
+            |(n, f), (c, v)| if bad(*v) { (n + 1, f.min(c)) } else { (n, f) },
+        )
+        .reduce(
+            || (0, usize::MAX),
+            |(n1, f1), (n2, f2)| (n1 + n2, f1.min(f2)),
+        );
+    (count > 0).then_some((count, first))
+}
+
 fn cell_name(grid: &Grid, c: usize) -> String {
     let (i, j, k) = grid.ijk(c);
     format!("({}, {}, {})", i + 1, j + 1, k + 1)
@@ -46,17 +64,14 @@ fn rock_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
             .unwrap_or(spans.main)
     };
     let phi = &case.rock.porosity;
-    let bad: Vec<usize> = (0..phi.len())
-        .filter(|&c| !(0.0..=1.0).contains(&phi[c]))
-        .collect();
-    if let Some(&c) = bad.first() {
+    if let Some((bad, c)) = offenders(phi, |v| !(0.0..=1.0).contains(&v)) {
         out.push(
             Diagnostic::error(
                 "sanity.porosity",
                 at("porosity"),
                 format!(
                     "porosity must lie between 0 and 1; {} cell(s) are outside, the first {} with {}",
-                    bad.len(),
+                    bad,
                     cell_name(grid, c),
                     phi[c]
                 ),
@@ -64,14 +79,13 @@ fn rock_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
             .with_note("write a fraction (0.22) or a percentage with its unit (22 %)"),
         );
     } else {
-        let high: Vec<usize> = (0..phi.len()).filter(|&c| phi[c] > 0.45).collect();
-        if let Some(&c) = high.first() {
+        if let Some((high, c)) = offenders(phi, |v| v > 0.45) {
             out.push(Diagnostic::warning(
                 "sanity.porosity",
                 at("porosity"),
                 format!(
                     "porosity above 0.45 in {} cell(s), the first {} with {}; reservoir rock rarely exceeds 0.40 (common practice, no published source)",
-                    high.len(),
+                    high,
                     cell_name(grid, c),
                     phi[c]
                 ),
@@ -83,29 +97,27 @@ fn rock_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
         ("ky", &case.rock.ky),
         ("kz", &case.rock.kz),
     ] {
-        let neg: Vec<usize> = (0..k.len()).filter(|&c| k[c] < 0.0).collect();
-        if let Some(&c) = neg.first() {
+        if let Some((neg, c)) = offenders(k, |v| v < 0.0) {
             out.push(Diagnostic::error(
                 "sanity.permeability",
                 at(key),
                 format!(
                     "`{key}` is negative in {} cell(s), the first {} with {} md",
-                    neg.len(),
+                    neg,
                     cell_name(grid, c),
                     k[c] / MD
                 ),
             ));
             continue;
         }
-        let high: Vec<usize> = (0..k.len()).filter(|&c| k[c] > 20_000.0 * MD).collect();
-        if let Some(&c) = high.first() {
+        if let Some((high, c)) = offenders(k, |v| v > 20_000.0 * MD) {
             out.push(
                 Diagnostic::warning(
                     "sanity.permeability",
                     at(key),
                     format!(
                         "`{key}` is above 20 darcy in {} cell(s), the first {} with {} md; check the unit (md, not darcy?)",
-                        high.len(),
+                        high,
                         cell_name(grid, c),
                         crate::values::short_number(k[c] / MD)
                     ),
