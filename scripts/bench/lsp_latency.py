@@ -86,6 +86,8 @@ def main():
     ap.add_argument("--rill", default=str(REPO / "target" / "release" / "rill"))
     ap.add_argument("--edits", type=int, default=100)
     ap.add_argument("--raw", action="store_true", help="print every edit's latency in order")
+    ap.add_argument("--settle", type=float, default=0.0, help="seconds to wait after opening before the first edit")
+    ap.add_argument("--pause", type=float, default=0.0, help="seconds between edits, as a typist pauses (0: back to back)")
     ap.add_argument("--hovers", type=int, default=100)
     a = ap.parse_args()
     tmp = None
@@ -107,12 +109,14 @@ def main():
     print(f"open (arrays read and parsed): {(t1 - t0) * 1000:.0f} ms, "
           f"{len(first['params']['diagnostics'])} diagnostics")
 
+    time.sleep(a.settle)
     # One character typed at a time at the end of the first comment line.
     lines = text.split("\n")
     line = 0
     col = len(lines[0])
     edits = []
     for v in range(2, 2 + a.edits):
+        time.sleep(a.pause)
         t = time.perf_counter()
         s.notify("textDocument/didChange", {
             "textDocument": {"uri": uri, "version": v},
