@@ -1,7 +1,7 @@
 //! Re-check latency: analyse a deck once (reading and parsing its arrays),
 //! then again N times through the same `DiskSource`, as the language server
 //! does after each edit of the main file. Prints the first time and the
-//! median and worst of the re-checks.
+//! median and worst of the re-checks (`RECHECK_RAW=1`: each re-check too).
 //!
 //! usage: cargo run --release -p rill-workspace --example recheck -- DECK [N]
 
@@ -38,6 +38,9 @@ fn main() {
         let t = Instant::now();
         let a = rill_model::analyze_text(&path, &edited, &source);
         times.push(t.elapsed().as_secs_f64() * 1e3);
+        if std::env::var_os("RECHECK_RAW").is_some() {
+            eprint!("{:.0} ", times[times.len() - 1]);
+        }
         assert_eq!(a.diagnostics.len(), first.diagnostics.len());
     }
     times.sort_by(f64::total_cmp);
