@@ -212,26 +212,7 @@ impl CsrMatrix {
             y.len(),
             self.n
         );
-        let rp = &self.row_ptr;
-        let ci = &self.col_idx;
-        let va = &self.values;
-        let kernel = |i0: usize, ys: &mut [f64]| {
-            for (di, yi) in ys.iter_mut().enumerate() {
-                let i = i0 + di;
-                let mut s = 0.0;
-                for k in rp[i]..rp[i + 1] {
-                    s += va[k] * x[ci[k]];
-                }
-                *yi = s;
-            }
-        };
-        if self.n <= ROW_CHUNK {
-            kernel(0, y);
-        } else {
-            y.par_chunks_mut(ROW_CHUNK)
-                .enumerate()
-                .for_each(|(c, ys)| kernel(c * ROW_CHUNK, ys));
-        }
+        spmv_rows(&self.row_ptr, &self.col_idx, &self.values, x, y, false);
     }
 
     /// r = b - A x, row-parallel.
@@ -345,6 +326,39 @@ impl CsrMatrix {
 }
 
 /// Splits `data` into consecutive mutable row slices delimited by `ptr`.
+/// `y = A x` (or `y += A x` with `add`) for CSR arrays, rows in parallel
+/// chunks: the one sparse matrix-vector kernel of the solvers.
+pub(crate) fn spmv_rows(
+    rp: &[usize],
+    ci: &[usize],
+    va: &[f64],
+    x: &[f64],
+    y: &mut [f64],
+    add: bool,
+) {
+    let kernel = |i0: usize, ys: &mut [f64]| {
+        for (di, yi) in ys.iter_mut().enumerate() {
+            let i = i0 + di;
+            let mut s = 0.0;
+            for k in rp[i]..rp[i + 1] {
+                s += va[k] * x[ci[k]];
+            }
+            if add {
+                *yi += s;
+            } else {
+                *yi = s;
+            }
+        }
+    };
+    if y.len() <= ROW_CHUNK {
+        kernel(0, y);
+    } else {
+        y.par_chunks_mut(ROW_CHUNK)
+            .enumerate()
+            .for_each(|(c, ys)| kernel(c * ROW_CHUNK, ys));
+    }
+}
+
 pub(crate) fn split_rows_mut<'a, T>(mut data: &'a mut [T], ptr: &[usize]) -> Vec<&'a mut [T]> {
     let n = ptr.len().saturating_sub(1);
     let mut out = Vec::with_capacity(n);

@@ -16,9 +16,6 @@ pub(crate) struct SpMat {
     pub values: Vec<f64>,
 }
 
-/// Rows per task of the vector kernels of this module.
-const CHUNK: usize = 4096;
-
 impl SpMat {
     pub fn view(&self) -> SpView<'_> {
         SpView {
@@ -79,48 +76,14 @@ impl SpMat {
     pub fn mul_vec_into(&self, x: &[f64], y: &mut [f64]) {
         debug_assert_eq!(x.len(), self.ncols);
         debug_assert_eq!(y.len(), self.nrows);
-        let (rp, ci, va) = (&self.row_ptr, &self.col_idx, &self.values);
-        let kernel = |i0: usize, ys: &mut [f64]| {
-            for (d, yi) in ys.iter_mut().enumerate() {
-                let i = i0 + d;
-                let mut s = 0.0;
-                for k in rp[i]..rp[i + 1] {
-                    s += va[k] * x[ci[k]];
-                }
-                *yi = s;
-            }
-        };
-        if self.nrows <= CHUNK {
-            kernel(0, y);
-        } else {
-            y.par_chunks_mut(CHUNK)
-                .enumerate()
-                .for_each(|(c, ys)| kernel(c * CHUNK, ys));
-        }
+        super::csr::spmv_rows(&self.row_ptr, &self.col_idx, &self.values, x, y, false);
     }
 
     /// y += self * x
     pub fn mul_vec_add(&self, x: &[f64], y: &mut [f64]) {
         debug_assert_eq!(x.len(), self.ncols);
         debug_assert_eq!(y.len(), self.nrows);
-        let (rp, ci, va) = (&self.row_ptr, &self.col_idx, &self.values);
-        let kernel = |i0: usize, ys: &mut [f64]| {
-            for (d, yi) in ys.iter_mut().enumerate() {
-                let i = i0 + d;
-                let mut s = 0.0;
-                for k in rp[i]..rp[i + 1] {
-                    s += va[k] * x[ci[k]];
-                }
-                *yi += s;
-            }
-        };
-        if self.nrows <= CHUNK {
-            kernel(0, y);
-        } else {
-            y.par_chunks_mut(CHUNK)
-                .enumerate()
-                .for_each(|(c, ys)| kernel(c * CHUNK, ys));
-        }
+        super::csr::spmv_rows(&self.row_ptr, &self.col_idx, &self.values, x, y, true);
     }
 }
 
