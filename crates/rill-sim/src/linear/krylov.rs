@@ -105,6 +105,19 @@ pub(crate) struct KrylovOutcome {
     pub rel_residual: f64,
 }
 
+impl KrylovOutcome {
+    /// `b = 0`: the solution is `x = 0`, exactly.
+    fn zero_rhs(x: &mut [f64]) -> Self {
+        x.iter_mut().for_each(|v| *v = 0.0);
+        KrylovOutcome {
+            converged: true,
+            breakdown: false,
+            iterations: 0,
+            rel_residual: 0.0,
+        }
+    }
+}
+
 /// Preconditioned CG. `x` holds the initial guess on entry.
 pub(crate) fn pcg<P: Preconditioner>(
     a: &CsrMatrix,
@@ -117,13 +130,7 @@ pub(crate) fn pcg<P: Preconditioner>(
     let n = a.n;
     let bnorm = norm2(b);
     if bnorm == 0.0 {
-        x.iter_mut().for_each(|v| *v = 0.0);
-        return KrylovOutcome {
-            converged: true,
-            breakdown: false,
-            iterations: 0,
-            rel_residual: 0.0,
-        };
+        return KrylovOutcome::zero_rhs(x);
     }
     let mut r = vec![0.0; n];
     let mut z = vec![0.0; n];
@@ -191,13 +198,7 @@ pub(crate) fn pbicgstab<P: Preconditioner>(
     let n = a.n;
     let bnorm = norm2(b);
     if bnorm == 0.0 {
-        x.iter_mut().for_each(|v| *v = 0.0);
-        return KrylovOutcome {
-            converged: true,
-            breakdown: false,
-            iterations: 0,
-            rel_residual: 0.0,
-        };
+        return KrylovOutcome::zero_rhs(x);
     }
     let mut r = vec![0.0; n];
     let mut r0 = vec![0.0; n];
