@@ -776,13 +776,7 @@ pub fn infer_dim(
                                 describe_found(other)
                             ),
                         );
-                        for u in rill_units::accepted_units(other).into_iter().take(3) {
-                            d = d.with_replacement(
-                                format!("add the unit `{u}`"),
-                                r.loc(Span::new(span.end, span.end)),
-                                format!(" {u}"),
-                            );
-                        }
+                        d = crate::values::with_unit_fixes(d, r, span, other);
                         r.push(d);
                     } else {
                         r.push(Diagnostic::error(

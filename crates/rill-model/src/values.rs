@@ -153,6 +153,16 @@ pub fn short_number(v: f64) -> String {
     }
 }
 
+/// Offer the usual units of `dim` as fixes, each inserted after the bare
+/// number at `number_span`.
+pub fn with_unit_fixes(mut d: Diagnostic, r: &Reporter, number_span: Span, dim: Dim) -> Diagnostic {
+    let end = r.loc(Span::new(number_span.end, number_span.end));
+    for u in rill_units::accepted_units(dim).into_iter().take(3) {
+        d = d.with_replacement(format!("add the unit `{u}`"), end, format!(" {u}"));
+    }
+    d
+}
+
 /// Convert `value` written with `unit` to SI, checking the dimension.
 /// `number_span` covers the number (and unit) for placing fixes.
 pub fn to_si(
@@ -195,10 +205,7 @@ pub fn checked_unit(
                 describe_expected(expected)
             ),
         );
-        let end = Span::new(number_span.end, number_span.end);
-        for u in rill_units::accepted_units(expected).into_iter().take(3) {
-            d = d.with_replacement(format!("add the unit `{u}`"), r.loc(end), format!(" {u}"));
-        }
+        d = with_unit_fixes(d, r, number_span, expected);
         r.push(d.with_note(
             "every dimensional number carries its unit: there is no implicit unit system",
         ));
