@@ -258,8 +258,18 @@ fn run_writes_series_maps_and_report_for_every_example() {
         let json: Value =
             serde_json::from_str(&std::fs::read_to_string(out.join("series.json")).unwrap())
                 .unwrap();
-        let text = json.to_string();
-        assert!(text.contains("balance_error"));
+        let balance = json["series"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|s| s["name"] == "balance_error")
+            .expect("a balance_error series");
+        let values = balance["values"].as_array().unwrap();
+        assert_eq!(Some(values.len() as u64), json["report_times"].as_u64());
+        for v in values {
+            let e = v.as_f64().unwrap_or(0.0);
+            assert!(e <= 1e-8, "{}: balance error {e}", deck.display());
+        }
     }
 }
 
