@@ -502,7 +502,13 @@ fn read_arrays(
                     // The analysis has just parsed this file; a source that keeps
                     // parsed arrays hands them back without a second parse.
                     Ok(bytes) => match source.parsed_numbers(&path, &bytes) {
-                        Some(kept) => stats_of(&kept),
+                        Some(kept) => rill_model::reuse::kept(
+                            source.reuse(),
+                            "array file statistics",
+                            std::slice::from_ref(&kept),
+                            &[],
+                            || stats_of(&kept),
+                        ),
                         None => {
                             let (values, bad) = rill_model::arrays::parse_numbers(&bytes);
                             if bad.is_empty() {

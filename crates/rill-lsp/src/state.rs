@@ -143,7 +143,7 @@ impl Shared {
             client,
             docs: Mutex::new(Documents::default()),
             config: RwLock::new(Config::default()),
-            source: RwLock::new(Arc::new(DiskSource::unconfined())),
+            source: RwLock::new(Arc::new(DiskSource::unconfined().with_reuse())),
             analyses: Mutex::new(Analyses::default()),
             publish_lock: tokio::sync::Mutex::new(()),
             initialized: AtomicBool::new(false),
@@ -189,7 +189,8 @@ impl Shared {
         let source = DiskSource::confined(
             config.confinement_roots(),
             config.settings.allowed_paths(config.base()),
-        );
+        )
+        .with_reuse();
         {
             let mut docs = lock(&self.docs);
             for uri in docs.uris() {

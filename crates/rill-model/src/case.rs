@@ -4,6 +4,67 @@
 //! line and the editor analysis. Derived quantities live in `derived`.
 
 use rill_syntax::Span;
+use std::sync::Arc;
+
+/// One value per cell, shared: the case, the parsed array files and the
+/// arrays kept for the next analysis (`crate::reuse`) hold the same memory,
+/// so an edit that leaves a property alone neither copies nor recomputes it.
+/// Writing through it (tests, tools that perturb a property) copies first
+/// when the array is shared (copy on write), so other holders never change.
+#[derive(Clone, Default, PartialEq)]
+pub struct CellValues(Arc<Vec<f64>>);
+
+impl CellValues {
+    /// The shared array, for keeping or comparing by identity.
+    pub fn shared(&self) -> &Arc<Vec<f64>> {
+        &self.0
+    }
+}
+
+impl std::fmt::Debug for CellValues {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        self.0.as_slice().fmt(f)
+    }
+}
+
+impl std::ops::Deref for CellValues {
+    type Target = [f64];
+    fn deref(&self) -> &[f64] {
+        &self.0
+    }
+}
+
+impl std::ops::DerefMut for CellValues {
+    fn deref_mut(&mut self) -> &mut [f64] {
+        Arc::make_mut(&mut self.0).as_mut_slice()
+    }
+}
+
+impl From<Vec<f64>> for CellValues {
+    fn from(v: Vec<f64>) -> Self {
+        CellValues(Arc::new(v))
+    }
+}
+
+impl<'a> IntoIterator for &'a CellValues {
+    type Item = &'a f64;
+    type IntoIter = std::slice::Iter<'a, f64>;
+    fn into_iter(self) -> Self::IntoIter {
+        self.0.iter()
+    }
+}
+
+impl FromIterator<f64> for CellValues {
+    fn from_iter<I: IntoIterator<Item = f64>>(iter: I) -> Self {
+        CellValues(Arc::new(iter.into_iter().collect()))
+    }
+}
+
+impl From<Arc<Vec<f64>>> for CellValues {
+    fn from(v: Arc<Vec<f64>>) -> Self {
+        CellValues(v)
+    }
+}
 
 /// Where a thing was written: file index (into `Analysis::files`) and byte span.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -37,7 +98,7 @@ pub struct Grid {
     /// Width of each row in y, `ny` values (m).
     pub dy: Vec<f64>,
     /// Thickness of every cell, `nx*ny*nz` values (m).
-    pub dz: Vec<f64>,
+    pub dz: CellValues,
     /// Depth of the top face of layer 1 for every column, `nx*ny` values (m).
     pub top: Vec<f64>,
 }
@@ -65,11 +126,11 @@ impl Grid {
 #[derive(Debug, Clone, PartialEq)]
 pub struct Rock {
     /// Fraction; a cell with porosity 0 is inactive.
-    pub porosity: Vec<f64>,
+    pub porosity: CellValues,
     /// m^2
-    pub kx: Vec<f64>,
-    pub ky: Vec<f64>,
-    pub kz: Vec<f64>,
+    pub kx: CellValues,
+    pub ky: CellValues,
+    pub kz: CellValues,
     /// 1/Pa
     pub compressibility: f64,
     /// Pa
@@ -103,7 +164,7 @@ pub enum Initial {
     /// Pressure at a datum depth; hydrostatic equilibrium from the fluid density.
     Datum { pressure: f64, depth: f64 },
     /// Pressure given per cell (Pa), no equilibration.
-    Cells(Vec<f64>),
+    Cells(CellValues),
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

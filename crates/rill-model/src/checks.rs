@@ -7,7 +7,10 @@ use crate::case::*;
 use crate::derived;
 use crate::diagnostic::{Diagnostic, Location};
 use crate::lower::Spans;
+use crate::reuse::{kept, Reuse};
 use rill_units::{display_unit, Kind, System};
+use std::collections::HashSet;
+use std::sync::Arc;
 
 const PSI: f64 = 6894.757293168;
 const MD: f64 = 9.869233e-16;
@@ -33,6 +36,19 @@ fn offenders(values: &[f64], bad: impl Fn(f64) -> bool + Sync) -> Option<(usize,
     (count > 0).then_some((count, first))
 }
 
+/// [`offenders`] of a per-cell array, kept in `reuse` under `what` (which
+/// must name the predicate) for the next analysis.
+fn kept_offenders(
+    reuse: Option<&Reuse>,
+    what: &'static str,
+    values: &CellValues,
+    bad: impl Fn(f64) -> bool + Sync,
+) -> Option<(usize, usize)> {
+    kept(reuse, what, &[values.shared().clone()], &[], || {
+        offenders(values, bad)
+    })
+}
+
 fn cell_name(grid: &Grid, c: usize) -> String {
     let (i, j, k) = grid.ijk(c);
     format!("({}, {}, {})", i + 1, j + 1, k + 1)
@@ -44,17 +60,18 @@ fn show(si: f64, kind: Kind, system: System) -> String {
     format!("{} {}", crate::values::short_number(si / u.factor), u.name)
 }
 
-pub fn run(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
+/// Run every check; the scans over per-cell arrays are kept in `reuse`.
+pub fn run(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<Diagnostic>) {
     let sys = case.report.units;
-    rock_checks(case, spans, out);
+    rock_checks(case, spans, reuse, out);
     fluid_checks(case, spans, sys, out);
     well_checks(case, spans, sys, out);
-    flow_checks(case, spans, out);
+    flow_checks(case, spans, reuse, out);
 }
 
 /// Porosity and permeability, each checked per definition so that the
 /// diagnostic points at the statement that set the value.
-fn rock_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
+fn rock_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<Diagnostic>) {
     let grid = &case.grid;
     let at = |key: &str| {
         spans
@@ -64,7 +81,9 @@ fn rock_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
             .unwrap_or(spans.main)
     };
     let phi = &case.rock.porosity;
-    if let Some((bad, c)) = offenders(phi, |v| !(0.0..=1.0).contains(&v)) {
+    if let Some((bad, c)) = kept_offenders(reuse, "porosity outside 0..1", phi, |v| {
+        !(0.0..=1.0).contains(&v)
+    }) {
         out.push(
             Diagnostic::error(
                 "sanity.porosity",
@@ -79,7 +98,7 @@ fn rock_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
             .with_note("write a fraction (0.22) or a percentage with its unit (22 %)"),
         );
     } else {
-        if let Some((high, c)) = offenders(phi, |v| v > 0.45) {
+        if let Some((high, c)) = kept_offenders(reuse, "porosity above 0.45", phi, |v| v > 0.45) {
             out.push(Diagnostic::warning(
                 "sanity.porosity",
                 at("porosity"),
@@ -97,7 +116,7 @@ fn rock_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
         ("ky", &case.rock.ky),
         ("kz", &case.rock.kz),
     ] {
-        if let Some((neg, c)) = offenders(k, |v| v < 0.0) {
+        if let Some((neg, c)) = kept_offenders(reuse, "negative", k, |v| v < 0.0) {
             out.push(Diagnostic::error(
                 "sanity.permeability",
                 at(key),
@@ -110,7 +129,7 @@ fn rock_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
             ));
             continue;
         }
-        if let Some((high, c)) = offenders(k, |v| v > 20_000.0 * MD) {
+        if let Some((high, c)) = kept_offenders(reuse, "above 20 darcy", k, |v| v > 20_000.0 * MD) {
             out.push(
                 Diagnostic::warning(
                     "sanity.permeability",
@@ -371,30 +390,51 @@ fn well_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic
     }
 }
 
-fn flow_checks(case: &Case, spans: &Spans, out: &mut Vec<Diagnostic>) {
+fn flow_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<Diagnostic>) {
     let grid = &case.grid;
-    let n = grid.cell_count();
-    let mut has_well = vec![false; n];
-    for w in &case.wells {
-        for c in &w.completions {
-            has_well[c.cell] = true;
-        }
-    }
-    // A cell flows if a face with positive transmissibility or a well
-    // touches it: one parallel pass, no list of connections.
-    let mut flows = derived::cells_with_flow(grid, &case.rock);
-    for (f, w) in flows.iter_mut().zip(&has_well) {
-        *f |= *w;
-    }
-    for b in &case.boundaries {
-        for c in derived::cells_on_side(grid, b.side) {
-            if derived::boundary_face(grid, &case.rock, c, b.side).geometric_trans > 0.0 {
-                flows[c] = true;
-            }
-        }
-    }
-    let isolated: Vec<usize> = (0..n)
-        .filter(|&c| case.rock.is_active(c) && !flows[c])
+    let rock = &case.rock;
+    // Active cells without a face of positive transmissibility: a parallel
+    // pass over the rock, kept for the next analysis. Usually none.
+    let shut_in: Arc<Vec<usize>> = kept(
+        reuse,
+        "active cells without a flowing face",
+        &[
+            rock.porosity.shared().clone(),
+            rock.kx.shared().clone(),
+            rock.ky.shared().clone(),
+            rock.kz.shared().clone(),
+            grid.dz.shared().clone(),
+        ],
+        &[grid.nx, grid.ny, grid.nz]
+            .map(|n| n as u64)
+            .into_iter()
+            .chain(grid.dx.iter().chain(&grid.dy).map(|v| v.to_bits()))
+            .collect::<Vec<_>>(),
+        || {
+            let flows = derived::cells_with_flow(grid, rock);
+            Arc::new(
+                (0..grid.cell_count())
+                    .filter(|&c| rock.is_active(c) && !flows[c])
+                    .collect(),
+            )
+        },
+    );
+    // A well or a boundary with a positive face lets them flow after all.
+    let with_well: HashSet<usize> = case
+        .wells
+        .iter()
+        .flat_map(|w| w.completions.iter().map(|c| c.cell))
+        .collect();
+    let isolated: Vec<usize> = shut_in
+        .iter()
+        .copied()
+        .filter(|&c| {
+            !with_well.contains(&c)
+                && !case.boundaries.iter().any(|b| {
+                    derived::is_on_side(grid, c, b.side)
+                        && derived::boundary_face(grid, rock, c, b.side).geometric_trans > 0.0
+                })
+        })
         .collect();
     if let Some(&c) = isolated.first() {
         let at = spans

@@ -416,6 +416,19 @@ pub fn hydrostatic_pressure(
 }
 
 /// The cells whose face on `side` is on the outside of the grid.
+/// Whether cell `c` lies on `side` of the grid (one of [`cells_on_side`]).
+pub fn is_on_side(grid: &Grid, c: usize, side: Side) -> bool {
+    let (i, j, k) = grid.ijk(c);
+    match side {
+        Side::West => i == 0,
+        Side::East => i + 1 == grid.nx,
+        Side::South => j == 0,
+        Side::North => j + 1 == grid.ny,
+        Side::Top => k == 0,
+        Side::Bottom => k + 1 == grid.nz,
+    }
+}
+
 pub fn cells_on_side(grid: &Grid, side: Side) -> Vec<usize> {
     let (nx, ny, nz) = (grid.nx, grid.ny, grid.nz);
     let mut out = Vec::new();

@@ -17,6 +17,7 @@ pub mod explain;
 pub mod inspect;
 pub mod lower;
 pub mod props;
+pub mod reuse;
 pub mod schema;
 pub mod source;
 pub mod values;
@@ -75,6 +76,9 @@ pub fn analyze(path: &Path, source: &dyn Source) -> Result<Analysis, SourceError
 
 /// Check deck text (e.g. an editor buffer) that stands at `path`.
 pub fn analyze_text(path: &Path, text: &str, source: &dyn Source) -> Analysis {
+    if let Some(reuse) = source.reuse() {
+        reuse.begin();
+    }
     let mut lowerer = lower::Lowerer {
         source,
         files: Vec::new(),
@@ -86,7 +90,7 @@ pub fn analyze_text(path: &Path, text: &str, source: &dyn Source) -> Analysis {
     // Sanity checks need a whole case and no lowering errors to be meaningful.
     if let Some(case) = &case {
         if !diagnostics.iter().any(|d| d.severity == Severity::Error) {
-            checks::run(case, &spans, &mut diagnostics);
+            checks::run(case, &spans, source.reuse(), &mut diagnostics);
         }
     }
     drop_cascades(&lowerer.files, &mut diagnostics);

@@ -4,7 +4,10 @@
 
 use crate::case::*;
 use crate::diagnostic::{Diagnostic, Location};
-use crate::props::{check_result_dim, evaluate, infer_dim, Expr, Field, Forms, PropReader, Shape};
+use crate::props::{
+    check_result_dim, evaluate, evaluate_kept, infer_dim, Expr, Field, Forms, PropReader, Shape,
+};
+use crate::reuse::kept;
 use crate::schema::{self, BlockDef, KeyDef, LabelRule, ValueKind};
 use crate::source::{resolve, Source};
 use crate::values::{describe_expected, to_si, Gauge, Reporter};
@@ -786,7 +789,7 @@ impl<'s> Lowerer<'s> {
         spans.dx = dx.as_ref().map(|d| d.1);
         spans.dy = dy.as_ref().map(|d| d.1);
         spans.dz = dz.as_ref().map(|d| d.1);
-        let dz = dz.map(|(f, _)| f.to_cells(shape));
+        let dz = dz.map(|(f, _)| f.into_cell_values(shape, self.source.reuse()));
         let top = top.map(|(f, _)| match f {
             Field::Uniform(v) => vec![v; nx * ny],
             Field::Columns(v) => v,
@@ -806,16 +809,27 @@ impl<'s> Lowerer<'s> {
         };
         // Sizes must be positive; report the first offender per key.
         let mut ok = true;
-        for (key, values, loc) in [
-            ("dx", &grid.dx, spans.dx),
-            ("dy", &grid.dy, spans.dy),
-            ("dz", &grid.dz, spans.dz),
-        ] {
+        let not_positive = |values: &[f64]| {
             let bad = values
                 .iter()
                 .filter(|v| **v <= 0.0 || !v.is_finite())
                 .count();
-            if let Some(pos) = values.iter().position(|v| *v <= 0.0 || !v.is_finite()) {
+            let first = values.iter().position(|v| *v <= 0.0 || !v.is_finite());
+            (bad, first)
+        };
+        let dz_scan = kept(
+            self.source.reuse(),
+            "sizes not positive",
+            &[grid.dz.shared().clone()],
+            &[],
+            || not_positive(&grid.dz),
+        );
+        for (key, (bad, first), loc) in [
+            ("dx", not_positive(&grid.dx), spans.dx),
+            ("dy", not_positive(&grid.dy), spans.dy),
+            ("dz", dz_scan, spans.dz),
+        ] {
+            if let Some(pos) = first {
                 ok = false;
                 let which = match key {
                     "dx" => format!("column i = {}", pos + 1),
@@ -846,7 +860,9 @@ impl<'s> Lowerer<'s> {
                     pressure: p,
                     depth: d,
                 },
-                None => Initial::Cells(vec![p; shape.cells()]),
+                None => {
+                    Initial::Cells(Field::Uniform(p).into_cell_values(shape, self.source.reuse()))
+                }
             });
         }
         let field = self.read_field(
@@ -857,7 +873,9 @@ impl<'s> Lowerer<'s> {
             Gauge::Allowed,
             Forms::PRESSURE,
         )?;
-        Some(Initial::Cells(field.to_cells(shape)))
+        Some(Initial::Cells(
+            field.into_cell_values(shape, self.source.reuse()),
+        ))
     }
 
     /// `p` or `p at depth`. `Some(None)` when the value is some other form.
@@ -1228,37 +1246,45 @@ impl<'s> Lowerer<'s> {
             ));
             return None;
         }
+        // Every array below is kept for the next analysis: an edit elsewhere
+        // in the deck finds the same inputs and gets the same arrays back.
+        let reuse = self.source.reuse();
         let mut finals: HashMap<&str, Field> = HashMap::new();
         for name in order {
-            let mut cells: Option<Vec<f64>> = None;
             let mut base: Option<Field> = None;
+            let mut patches: Vec<(&[usize], Field)> = Vec::new();
             for def in defs.get(name).map(|v| v.as_slice()).unwrap_or(&[]) {
-                let value = evaluate(&def.expr, shape, &|r| finals.get(r).cloned())?;
+                let value = evaluate_kept(&def.expr, shape, &|r| finals.get(r).cloned(), reuse)?;
                 spans.rock.entry(name).or_default().push(def.loc);
                 match &def.cells {
                     None => base = Some(value),
-                    Some(sel) => {
-                        let target = cells.get_or_insert_with(|| {
-                            base.as_ref().map(|b| b.to_cells(shape)).unwrap_or_default()
-                        });
-                        if target.len() != shape.cells() {
-                            return None;
-                        }
-                        for &c in sel {
+                    Some(sel) => patches.push((sel, value)),
+                }
+            }
+            let base = base?;
+            let field = if patches.is_empty() {
+                base
+            } else {
+                let (mut arrays, mut params) = (Vec::new(), vec![shape.cells() as u64]);
+                base.encode(&mut arrays, &mut params);
+                for (sel, value) in &patches {
+                    params.push(sel.len() as u64);
+                    params.extend(sel.iter().map(|&c| c as u64));
+                    value.encode(&mut arrays, &mut params);
+                }
+                Field::Cells(kept(reuse, "patched property", &arrays, &params, || {
+                    let mut target = base.to_cells(shape);
+                    for (sel, value) in &patches {
+                        for &c in *sel {
                             target[c] = value.at(c, shape);
                         }
                     }
-                }
-            }
-            let field = match cells {
-                Some(v) => Field::Cells(Arc::new(v)),
-                None => base?,
+                    Arc::new(target)
+                }))
             };
             finals.insert(name, field);
         }
-        // Drop the other holders of each array before taking it, so that most
-        // arrays move into the case without a copy.
-        let mut take = |n: &str| finals.remove(n).map(|f| f.into_cells(shape));
+        let mut take = |n: &str| finals.remove(n).map(|f| f.into_cell_values(shape, reuse));
         let compressibility = match find(block, "compressibility") {
             Some(s) => {
                 spans.rock_compressibility = Some(Location::new(file, s.value.span));

@@ -6,9 +6,10 @@
 
 use crate::arrays;
 use crate::diagnostic::{Diagnostic, Location};
+use crate::reuse::{kept, Reuse};
 use crate::source::{resolve, Source};
 use crate::values::{checked_unit, describe_expected, describe_found, Gauge, Reporter};
-use crate::FileInfo;
+use crate::{CellValues, FileInfo};
 use rill_syntax::{Atom, AtomKind, Op, Span, UnitExpr, Value};
 use rill_units::Dim;
 use std::collections::HashMap;
@@ -54,11 +55,42 @@ impl Field {
             Field::Cells(v) => v[c],
         }
     }
-    /// One value per cell, taking the array without a copy when nothing else holds it.
-    pub fn into_cells(self, shape: Shape) -> Vec<f64> {
+    /// One value per cell: a per-cell array as it is (shared, never
+    /// copied), any other form spread over the cells, kept in `reuse` for
+    /// the next analysis.
+    pub fn into_cell_values(self, shape: Shape, reuse: Option<&Reuse>) -> CellValues {
         match self {
-            Field::Cells(v) => Arc::try_unwrap(v).unwrap_or_else(|shared| shared.as_ref().clone()),
-            other => other.to_cells(shape),
+            Field::Cells(v) => v.into(),
+            other => {
+                let (mut arrays, mut params) = (Vec::new(), vec![shape.nx as u64, shape.ny as u64]);
+                params.push(shape.nz as u64);
+                other.encode(&mut arrays, &mut params);
+                kept(reuse, "spread over the cells", &arrays, &params, || {
+                    Arc::new(other.to_cells(shape))
+                })
+                .into()
+            }
+        }
+    }
+
+    /// Append this field to the inputs of a kept result: per-cell arrays by
+    /// identity, other forms by value, each behind a tag and a length.
+    pub fn encode(&self, arrays: &mut Vec<Arc<Vec<f64>>>, params: &mut Vec<u64>) {
+        match self {
+            Field::Uniform(v) => params.extend([0, v.to_bits()]),
+            Field::Layers(v) | Field::Columns(v) => {
+                params.push(if matches!(self, Field::Layers(_)) {
+                    1
+                } else {
+                    2
+                });
+                params.push(v.len() as u64);
+                params.extend(v.iter().map(|x| x.to_bits()));
+            }
+            Field::Cells(v) => {
+                params.extend([3, arrays.len() as u64]);
+                arrays.push(v.clone());
+            }
         }
     }
 
@@ -503,7 +535,14 @@ impl PropReader<'_> {
                 if unit.factor == 1.0 && !unit.gauge {
                     raw
                 } else {
-                    Arc::new(raw.iter().map(|v| unit.to_si(*v)).collect())
+                    let params = [unit.factor.to_bits(), u64::from(unit.gauge)];
+                    kept(
+                        self.source.reuse(),
+                        "array file in SI",
+                        std::slice::from_ref(&raw),
+                        &params,
+                        || Arc::new(raw.iter().map(|v| unit.to_si(*v)).collect()),
+                    )
                 }
             }
             _ => {
@@ -794,6 +833,50 @@ pub fn infer_dim(
             }
         }
     }
+}
+
+/// [`evaluate`], kept in `reuse` for the next analysis when the expression
+/// computes anything (`0.1 * kx`): the key is the expression's structure
+/// with the values it reads, never its position in the text.
+pub fn evaluate_kept(
+    e: &Expr,
+    shape: Shape,
+    lookup: &dyn Fn(&str) -> Option<Field>,
+    reuse: Option<&Reuse>,
+) -> Option<Field> {
+    if reuse.is_none() || !matches!(e, Expr::Bin { .. }) {
+        return evaluate(e, shape, lookup);
+    }
+    fn encode(
+        e: &Expr,
+        lookup: &dyn Fn(&str) -> Option<Field>,
+        arrays: &mut Vec<Arc<Vec<f64>>>,
+        params: &mut Vec<u64>,
+    ) -> Option<()> {
+        match e {
+            Expr::Const { si, .. } => params.extend([10, si.to_bits()]),
+            Expr::Data { field, .. } => field.encode(arrays, params),
+            Expr::Ref { name, .. } => lookup(name)?.encode(arrays, params),
+            Expr::Bin { op, lhs, rhs, .. } => {
+                let code = match op {
+                    Op::Add => 0,
+                    Op::Sub => 1,
+                    Op::Mul => 2,
+                    Op::Div => 3,
+                };
+                params.extend([11, code]);
+                encode(lhs, lookup, arrays, params)?;
+                encode(rhs, lookup, arrays, params)?;
+            }
+        }
+        Some(())
+    }
+    let mut arrays = Vec::new();
+    let mut params = vec![shape.nx as u64, shape.ny as u64, shape.nz as u64];
+    encode(e, lookup, &mut arrays, &mut params)?;
+    kept(reuse, "expression", &arrays, &params, || {
+        evaluate(e, shape, lookup)
+    })
 }
 
 /// Evaluate an expression over the grid; `lookup` gives the final value of

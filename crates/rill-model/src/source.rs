@@ -40,6 +40,13 @@ pub trait Source {
 
     /// Offer parsed numbers of `bytes` for [`Source::parsed_numbers`].
     fn keep_parsed_numbers(&self, _path: &Path, _bytes: &Arc<[u8]>, _numbers: &Arc<Vec<f64>>) {}
+
+    /// Where analyses through this source keep derived arrays and scans for
+    /// the next analysis (an editor re-checking on every keystroke). `None`
+    /// (the default) computes everything afresh, which suits a single check.
+    fn reuse(&self) -> Option<&crate::reuse::Reuse> {
+        None
+    }
 }
 
 /// Resolve `relative` against the directory of `from`, lexically (no file

@@ -37,7 +37,7 @@ fn case() -> Case {
     let ky: Vec<f64> = kx.iter().map(|k| 0.5 * k + 1.0).collect();
     let kz: Vec<f64> = kx.iter().map(|k| 0.1 * k).collect();
     let rock = Rock {
-        porosity: vec![0.2; n],
+        porosity: vec![0.2; n].into(),
         kx: kx.iter().map(|k| k * MD).collect(),
         ky: ky.iter().map(|k| k * MD).collect(),
         kz: kz.iter().map(|k| k * MD).collect(),

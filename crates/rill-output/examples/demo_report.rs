@@ -110,7 +110,7 @@ fn demo_case(nx: usize, ny: usize, nz: usize) -> Case {
                 .collect(),
         },
         rock: Rock {
-            porosity,
+            porosity: porosity.into(),
             kx: (0..cells)
                 .map(|c| layer_k[(c / columns) % 4] * MD)
                 .collect(),

@@ -563,10 +563,10 @@ mod tests {
                 top: vec![1000.0, 1001.0, 1002.0, 1000.5, 1001.5, 1003.0],
             },
             rock: Rock {
-                porosity,
+                porosity: porosity.into(),
                 kx: (0..n).map(|c| 1e-13 * (1.0 + c as f64)).collect(),
-                ky: vec![2e-13; n],
-                kz: vec![1e-14; n],
+                ky: vec![2e-13; n].into(),
+                kz: vec![1e-14; n].into(),
                 compressibility: 1e-9,
                 ref_pressure: 2e7,
             },

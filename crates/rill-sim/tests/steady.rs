@@ -29,9 +29,9 @@ fn series_beds_linear_flow_ahmed_2010() {
     }
     let (w, h) = (100.0, 20.0); // ft
     let mut case = steady(block(dx, vec![w * FT], vec![h * FT], 5000.0 * FT));
-    case.rock.kx = kx.clone();
-    case.rock.ky = kx.clone();
-    case.rock.kz = kx;
+    case.rock.kx = kx.clone().into();
+    case.rock.ky = kx.clone().into();
+    case.rock.kz = kx.into();
     case.fluid.viscosity = 0.8 * CP;
     case.fluid.fvf = 1.02;
     case.boundaries = vec![
@@ -235,7 +235,7 @@ fn steady_isolated_region_keeps_its_initial_pressure() {
         5000.0 * FT,
     ));
     case.rock.porosity[2] = 0.0; // splits the row into two regions
-    case.initial = Initial::Cells(vec![2500.0 * PSI; 5]);
+    case.initial = Initial::Cells(vec![2500.0 * PSI; 5].into());
     case.boundaries = vec![boundary("W", Side::West, 3000.0 * PSI, None)];
     let r = run(&case, &RunOptions::default(), &mut NoObserver).unwrap();
     let p = &r.pressure[0];

@@ -366,7 +366,7 @@ fn equilibrium_with_hydrostatic_boundaries_and_shut_in_well_stays_at_rest() {
 fn uniform_start_develops_a_downward_gradient() {
     let mut case = layered_column_case();
     let n = case.grid.cell_count();
-    case.initial = Initial::Cells(vec![3000.0 * PSI; n]);
+    case.initial = Initial::Cells(vec![3000.0 * PSI; n].into());
     let r = run(&case, &RunOptions::default(), &mut NoObserver).unwrap();
     let g = &case.grid;
     let last = r.pressure.len() - 1;

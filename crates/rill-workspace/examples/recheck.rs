@@ -3,7 +3,8 @@
 //! does after each edit of the main file. Prints the first time and the
 //! median and worst of the re-checks (`RECHECK_RAW=1`: each re-check too;
 //! `RECHECK_DROP=1`: drop the first analysis before re-checking, unlike the
-//! server, which keeps the previous analysis alive for hover).
+//! server, which keeps the previous analysis alive for hover;
+//! `RECHECK_FRESH=1`: keep nothing between analyses, as `rill check` does).
 //!
 //! usage: cargo run --release -p rill-workspace --example recheck -- DECK [N]
 
@@ -29,7 +30,11 @@ fn main() {
             std::process::exit(2);
         }
     };
-    let source = DiskSource::unconfined();
+    let source = if std::env::var_os("RECHECK_FRESH").is_some() {
+        DiskSource::unconfined()
+    } else {
+        DiskSource::unconfined().with_reuse()
+    };
     let t0 = Instant::now();
     let first = rill_model::analyze_text(&path, &text, &source);
     let first_ms = t0.elapsed().as_secs_f64() * 1e3;

@@ -2,10 +2,13 @@
 //! decks, includes and array files from disk for `rill-model` through its
 //! `Source` trait, refuses paths outside the workspace folders unless they
 //! are allowed, and caches file contents by modification time and size so
-//! that re-checking a deck does not re-read large unchanged arrays.
+//! that re-checking a deck does not re-read large unchanged arrays; with
+//! [`DiskSource::with_reuse`] it also keeps the arrays and scans an
+//! analysis derived from them (`rill_model::reuse`) for the next one.
 //!
 //! It must never interpret file contents, and never write any file.
 
+use rill_model::reuse::Reuse;
 use rill_model::source::{normalize, Source, SourceError};
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
@@ -34,6 +37,8 @@ pub struct DiskSource {
     overlays: Mutex<HashMap<PathBuf, Arc<[u8]>>>,
     /// Parsed array files, valid while the cached bytes are the same `Arc`.
     parsed: Mutex<HashMap<PathBuf, ParsedArray>>,
+    /// Derived arrays and scans kept between analyses (an editor's re-checks).
+    reuse: Option<Reuse>,
 }
 
 impl DiskSource {
@@ -50,6 +55,14 @@ impl DiskSource {
             allowed: allowed.into_iter().map(canon).collect(),
             ..Default::default()
         }
+    }
+
+    /// Keep what each analysis derives from the arrays for the next one:
+    /// for a language server, which re-checks on every edit. A single
+    /// check has no next analysis and does without.
+    pub fn with_reuse(mut self) -> Self {
+        self.reuse = Some(Reuse::new());
+        self
     }
 
     /// Use `text` for `path` instead of the file on disk (an open editor buffer).
@@ -151,6 +164,10 @@ impl Source for DiskSource {
         if let Ok(mut parsed) = self.parsed.lock() {
             parsed.insert(normalize(path), (bytes.clone(), numbers.clone()));
         }
+    }
+
+    fn reuse(&self) -> Option<&Reuse> {
+        self.reuse.as_ref()
     }
 }
 

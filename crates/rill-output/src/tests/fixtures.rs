@@ -33,12 +33,12 @@ pub fn case(nx: usize, ny: usize, nz: usize, units: UnitSystem) -> Case {
     let mut porosity = vec![0.2; cells];
     porosity[cells - 1] = 0.0; // one inactive cell, the last one
     let rock = Rock {
-        porosity,
+        porosity: porosity.into(),
         kx: (0..cells)
             .map(|c| (100.0 + (c / columns) as f64 * 50.0) * MD)
             .collect(),
-        ky: vec![100.0 * MD; cells],
-        kz: vec![10.0 * MD; cells],
+        ky: vec![100.0 * MD; cells].into(),
+        kz: vec![10.0 * MD; cells].into(),
         compressibility: 4e-6 / PSI,
         ref_pressure: 3000.0 * PSI,
     };

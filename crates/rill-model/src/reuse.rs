@@ -1,0 +1,217 @@
+//! Results of one analysis kept for the next: per-cell arrays derived from
+//! the deck (a property converted to SI, `0.1 * kx`, a patched property, a
+//! uniform value spread over the cells) and the scans of the checks over
+//! them. An editor re-analyses the whole deck on every keystroke; on a
+//! million-cell case recomputing those arrays costs tens of milliseconds
+//! and, worse, tens of megabytes of fresh pages each time. With a [`Reuse`]
+//! offered by the [`crate::Source`], an edit that leaves the rock alone
+//! finds every array and scan already made.
+//!
+//! A result is keyed by what was computed, the arrays it read (by identity:
+//! the entry holds them, so no other array can take their address while it
+//! lives) and its other inputs by value. Keys are exact, never hashes of
+//! values, so a kept result is only ever handed out for the same inputs.
+//!
+//! This module must never decide what to compute: it only remembers.
+
+use std::any::Any;
+use std::collections::HashMap;
+use std::sync::{Arc, Mutex};
+
+/// Entries that none of the last `KEEP` analyses used are dropped: enough
+/// for a few open decks analysed in turn, little enough that the arrays of
+/// abandoned values (each version of `kz = 0.1 * kx` while it is typed) go
+/// soon.
+const KEEP: u64 = 4;
+
+#[derive(Debug, Clone, PartialEq, Eq, Hash)]
+struct Key {
+    what: &'static str,
+    arrays: Vec<usize>,
+    params: Vec<u64>,
+}
+
+struct Entry {
+    value: Box<dyn Any + Send + Sync>,
+    /// Held so that the addresses in the key stay unique while the entry lives.
+    _inputs: Vec<Arc<Vec<f64>>>,
+    used: u64,
+}
+
+#[derive(Default)]
+struct Inner {
+    analysis: u64,
+    entries: HashMap<Key, Entry>,
+}
+
+/// Kept results, shared by the analyses made through one source.
+#[derive(Default)]
+pub struct Reuse {
+    inner: Mutex<Inner>,
+}
+
+impl std::fmt::Debug for Reuse {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("Reuse")
+            .field("entries", &self.len())
+            .finish()
+    }
+}
+
+impl Reuse {
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    fn lock(&self) -> std::sync::MutexGuard<'_, Inner> {
+        // The map is consistent between statements; a panic elsewhere must
+        // not stop later analyses from using it.
+        self.inner.lock().unwrap_or_else(|e| e.into_inner())
+    }
+
+    /// Start an analysis: count it and drop what the last analyses left unused.
+    pub fn begin(&self) {
+        let mut inner = self.lock();
+        inner.analysis += 1;
+        let now = inner.analysis;
+        inner.entries.retain(|_, e| e.used + KEEP >= now);
+    }
+
+    /// Number of kept results.
+    pub fn len(&self) -> usize {
+        self.lock().entries.len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    /// The result of `compute` on `arrays` and `params`, kept under `what`.
+    /// `params` must hold every input other than the arrays, in an encoding
+    /// that `what` makes unambiguous.
+    pub fn get_or<T: Clone + Send + Sync + 'static>(
+        &self,
+        what: &'static str,
+        arrays: &[Arc<Vec<f64>>],
+        params: &[u64],
+        compute: impl FnOnce() -> T,
+    ) -> T {
+        let key = Key {
+            what,
+            arrays: arrays.iter().map(|a| Arc::as_ptr(a) as usize).collect(),
+            params: params.to_vec(),
+        };
+        {
+            let mut inner = self.lock();
+            let now = inner.analysis;
+            if let Some(entry) = inner.entries.get_mut(&key) {
+                if let Some(value) = entry.value.downcast_ref::<T>() {
+                    entry.used = now;
+                    return value.clone();
+                }
+            }
+        }
+        // Computed outside the lock: other analyses may use the map meanwhile.
+        let value = compute();
+        let mut inner = self.lock();
+        let now = inner.analysis;
+        inner.entries.insert(
+            key,
+            Entry {
+                value: Box::new(value.clone()),
+                _inputs: arrays.to_vec(),
+                used: now,
+            },
+        );
+        value
+    }
+}
+
+/// `reuse.get_or(...)` when there is a `Reuse`, else just `compute()`.
+pub fn kept<T: Clone + Send + Sync + 'static>(
+    reuse: Option<&Reuse>,
+    what: &'static str,
+    arrays: &[Arc<Vec<f64>>],
+    params: &[u64],
+    compute: impl FnOnce() -> T,
+) -> T {
+    match reuse {
+        Some(r) => r.get_or(what, arrays, params, compute),
+        None => compute(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::cell::Cell;
+
+    #[test]
+    fn same_arrays_and_params_compute_once() {
+        let reuse = Reuse::new();
+        let a = Arc::new(vec![1.0, 2.0]);
+        let calls = Cell::new(0);
+        let sum = || {
+            calls.set(calls.get() + 1);
+            a.iter().sum::<f64>()
+        };
+        reuse.begin();
+        assert_eq!(reuse.get_or("sum", std::slice::from_ref(&a), &[], sum), 3.0);
+        assert_eq!(reuse.get_or("sum", std::slice::from_ref(&a), &[], sum), 3.0);
+        assert_eq!(calls.get(), 1);
+        // Other params, another array with equal values, another name: computed again.
+        assert_eq!(
+            reuse.get_or("sum", std::slice::from_ref(&a), &[1], sum),
+            3.0
+        );
+        let b = Arc::new(vec![1.0, 2.0]);
+        assert_eq!(
+            reuse.get_or("sum", std::slice::from_ref(&b), &[], || b
+                .iter()
+                .sum::<f64>()),
+            3.0
+        );
+        assert_eq!(
+            reuse.get_or("total", std::slice::from_ref(&a), &[], sum),
+            3.0
+        );
+        assert_eq!(calls.get(), 3);
+        assert_eq!(reuse.len(), 4);
+    }
+
+    #[test]
+    fn entries_unused_for_a_while_are_dropped_and_release_their_inputs() {
+        let reuse = Reuse::new();
+        let a = Arc::new(vec![1.0]);
+        reuse.begin();
+        reuse.get_or("first", std::slice::from_ref(&a), &[], || a[0]);
+        assert_eq!(Arc::strong_count(&a), 2, "the entry holds its input");
+        for _ in 0..KEEP {
+            reuse.begin();
+        }
+        assert_eq!(reuse.len(), 1, "kept for the last {KEEP} analyses");
+        reuse.begin();
+        assert!(reuse.is_empty());
+        assert_eq!(Arc::strong_count(&a), 1);
+    }
+
+    #[test]
+    fn a_use_renews_an_entry() {
+        let reuse = Reuse::new();
+        let a = Arc::new(vec![1.0]);
+        for _ in 0..3 * KEEP {
+            reuse.begin();
+            reuse.get_or("first", std::slice::from_ref(&a), &[], || a[0]);
+        }
+        assert_eq!(reuse.len(), 1);
+    }
+
+    #[test]
+    fn a_value_of_another_type_under_the_same_key_is_computed() {
+        let reuse = Reuse::new();
+        reuse.begin();
+        assert_eq!(reuse.get_or("x", &[], &[], || 1u32), 1);
+        assert_eq!(reuse.get_or("x", &[], &[], || 2.5f64), 2.5);
+        assert_eq!(reuse.get_or("x", &[], &[], || 2.0f64), 2.5);
+    }
+}
