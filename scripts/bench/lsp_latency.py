@@ -5,6 +5,13 @@ in the main file to the `publishDiagnostics` of that version, and of hovers.
 Not run in CI.
 
 usage: lsp_latency.py [--case DIR/field.rill] [--rill target/release/rill] [--edits 100] [--hovers 100]
+                     [--target comment|well|rock] [--pause S] [--settle S] [--raw]
+
+--target says where the characters are typed: at the end of the first
+comment line (nothing to recompute), after `0.3` in the first well's radius
+(the well index changes), or over the `1` of `kz = 0.1 * kx`, replaced by
+the digits 2 to 9 and 1 in turn (every edit makes a new million-cell kz and
+re-scans its faces: the worst case).
 
 Without --case, the case is generated into a temporary folder with
 scripts/bench/gen_field_case.py (numpy).
@@ -89,6 +96,8 @@ def main():
     ap.add_argument("--settle", type=float, default=0.0, help="seconds to wait after opening before the first edit")
     ap.add_argument("--pause", type=float, default=0.0, help="seconds between edits, as a typist pauses (0: back to back)")
     ap.add_argument("--hovers", type=int, default=100)
+    ap.add_argument("--target", choices=["comment", "well", "rock"], default="comment",
+                    help="where the characters are typed (see the module doc)")
     a = ap.parse_args()
     tmp = None
     if a.case:
@@ -110,24 +119,34 @@ def main():
           f"{len(first['params']['diagnostics'])} diagnostics")
 
     time.sleep(a.settle)
-    # One character typed at a time at the end of the first comment line.
+    # One digit typed at a time at the target.
     lines = text.split("\n")
-    line = 0
-    col = len(lines[0])
+    if a.target == "comment":
+        line, col = 0, len(lines[0])
+    else:
+        needle = "radius = 0.3" if a.target == "well" else "kz = 0."
+        line = next(i for i, l in enumerate(lines) if needle in l)
+        col = lines[line].index(needle) + len(needle)
     edits = []
     for v in range(2, 2 + a.edits):
         time.sleep(a.pause)
         t = time.perf_counter()
+        if a.target == "rock":
+            # Replace the digit: 0.2, 0.3, ... 0.9, 0.1, 0.2, ...
+            end, typed = col + 1, str(v % 9 + 1)
+        else:
+            end, typed = col, "x" if a.target == "comment" else "1"
         s.notify("textDocument/didChange", {
             "textDocument": {"uri": uri, "version": v},
-            "contentChanges": [{"range": {"start": {"line": line, "character": col}, "end": {"line": line, "character": col}}, "text": "x"}],
+            "contentChanges": [{"range": {"start": {"line": line, "character": col}, "end": {"line": line, "character": end}}, "text": typed}],
         })
-        col += 1
+        if a.target != "rock":
+            col += 1
         t2, _ = s.wait(lambda m, v=v: m.get("method") == "textDocument/publishDiagnostics" and m["params"].get("version") == v)
         edits.append(t2 - t)
     if a.raw:
         print("per edit (ms):", " ".join(f"{x * 1000:.0f}" for x in edits))
-    summary("didChange -> publishDiagnostics", edits)
+    summary(f"didChange -> publishDiagnostics ({a.target})", edits)
 
     # Hovers on the kx array value, a well location and a number.
     targets = []

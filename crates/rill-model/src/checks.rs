@@ -7,7 +7,7 @@ use crate::case::*;
 use crate::derived;
 use crate::diagnostic::{Diagnostic, Location};
 use crate::lower::Spans;
-use crate::reuse::{kept, Reuse};
+use crate::reuse::{kept, Held, Reuse};
 use rill_units::{display_unit, Kind, System};
 use std::collections::HashSet;
 use std::sync::Arc;
@@ -393,32 +393,70 @@ fn well_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic
 fn flow_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<Diagnostic>) {
     let grid = &case.grid;
     let rock = &case.rock;
-    // Active cells without a face of positive transmissibility: a parallel
-    // pass over the rock, kept for the next analysis. Usually none.
-    let shut_in: Arc<Vec<usize>> = kept(
-        reuse,
-        "active cells without a flowing face",
-        &[
-            rock.porosity.shared().clone(),
-            rock.kx.shared().clone(),
-            rock.ky.shared().clone(),
-            rock.kz.shared().clone(),
-            grid.dz.shared().clone(),
-        ],
-        &[grid.nx, grid.ny, grid.nz]
-            .map(|n| n as u64)
-            .into_iter()
-            .chain(grid.dx.iter().chain(&grid.dy).map(|v| v.to_bits()))
-            .collect::<Vec<_>>(),
-        || {
-            let flows = derived::cells_with_flow(grid, rock);
-            Arc::new(
-                (0..grid.cell_count())
-                    .filter(|&c| rock.is_active(c) && !flows[c])
-                    .collect(),
+    // Active cells without a face of positive transmissibility, from one
+    // parallel pass per axis. Each pass is kept for the next analysis with
+    // the arrays it reads, so that typing in `kz` redoes only the z faces.
+    let dims: Vec<u64> = [grid.nx, grid.ny, grid.nz]
+        .map(|n| n as u64)
+        .into_iter()
+        .chain(grid.dx.iter().chain(&grid.dy).map(|v| v.to_bits()))
+        .collect();
+    let along = |axis: derived::Axis, what: &'static str, k: &CellValues| {
+        kept(
+            reuse,
+            what,
+            &[
+                rock.porosity.shared().clone(),
+                k.shared().clone(),
+                grid.dz.shared().clone(),
+            ],
+            &dims,
+            || Arc::new(derived::plus_faces_with_flow(grid, rock, axis)),
+        )
+    };
+    let flows = [
+        along(derived::Axis::X, "faces with flow across x", &rock.kx),
+        along(derived::Axis::Y, "faces with flow across y", &rock.ky),
+        along(derived::Axis::Z, "faces with flow across z", &rock.kz),
+    ];
+    // Active cells without a flowing face across x or y, kept with the two
+    // passes; then those without one across z. Typing in `kz` redoes only the
+    // z pass and this short filter.
+    let lateral = || {
+        use rayon::prelude::*;
+        let (fx, fy) = (&flows[0], &flows[1]);
+        Arc::new(
+            (0..grid.cell_count())
+                .into_par_iter()
+                .with_min_len(1 << 14)
+                .filter(|&c| {
+                    rock.is_active(c)
+                        && !derived::flows_across(grid, fx, derived::Axis::X, c)
+                        && !derived::flows_across(grid, fy, derived::Axis::Y, c)
+                })
+                .collect::<Vec<usize>>(),
+        )
+    };
+    let lateral = match reuse {
+        Some(reuse) => {
+            let inputs: [Held; 3] = [
+                flows[0].clone(),
+                flows[1].clone(),
+                rock.porosity.shared().clone(),
+            ];
+            reuse.get_or_held(
+                "active cells without a flowing face across x or y",
+                &inputs,
+                &[],
+                lateral,
             )
-        },
-    );
+        }
+        None => lateral(),
+    };
+    let shut_in = lateral
+        .iter()
+        .copied()
+        .filter(|&c| !derived::flows_across(grid, &flows[2], derived::Axis::Z, c));
     // A well or a boundary with a positive face lets them flow after all.
     let with_well: HashSet<usize> = case
         .wells
@@ -426,8 +464,6 @@ fn flow_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
         .flat_map(|w| w.completions.iter().map(|c| c.cell))
         .collect();
     let isolated: Vec<usize> = shut_in
-        .iter()
-        .copied()
         .filter(|&c| {
             !with_well.contains(&c)
                 && !case.boundaries.iter().any(|b| {

@@ -221,20 +221,30 @@ fn face_at(
             )
         }
     };
-    let perm = harmonic_face_perm(ka, la, kb, lb);
-    // On a tensor-product grid the two faces coincide laterally except for
-    // per-cell `dz`, where the overlap is taken as the smaller thickness
-    // (cells are stacked with their own tops, so the shared extent cannot
-    // exceed the thinner one).
-    let area = area_a.min(area_b);
     let active = rock.porosity[c] > 0.0 && rock.porosity[n] > 0.0;
-    let geometric_trans = if active { perm * area / (la + lb) } else { 0.0 };
+    let (perm, geometric_trans) = join_halves((ka, la, area_a), (kb, lb, area_b), active);
     Some(Face {
         side,
         neighbor: Some(n),
         perm,
         geometric_trans,
     })
+}
+
+/// Face permeability and geometric transmissibility from the two half
+/// cells `(k, half length, face area)` of a face: the one formula for both,
+/// used by [`interior_face`] and the per-axis flow passes.
+#[inline]
+fn join_halves(a: (f64, f64, f64), b: (f64, f64, f64), active: bool) -> (f64, f64) {
+    let ((ka, la, area_a), (kb, lb, area_b)) = (a, b);
+    let perm = harmonic_face_perm(ka, la, kb, lb);
+    // On a tensor-product grid the two faces coincide laterally except for
+    // per-cell `dz`, where the overlap is taken as the smaller thickness
+    // (cells are stacked with their own tops, so the shared extent cannot
+    // exceed the thinner one).
+    let area = area_a.min(area_b);
+    let geometric_trans = if active { perm * area / (la + lb) } else { 0.0 };
+    (perm, geometric_trans)
 }
 
 /// Half-cell transmissibility from the centre of `c` to its face on `side`:
@@ -320,30 +330,138 @@ pub fn connections(grid: &Grid, rock: &Rock) -> Vec<Connection> {
 }
 
 /// For every cell, whether one of its interior faces has a positive
-/// transmissibility (the checker's `flow.isolated`). Layers in parallel,
-/// each cell looking at its own six faces.
+/// transmissibility (the checker's `flow.isolated`).
 pub fn cells_with_flow(grid: &Grid, rock: &Rock) -> Vec<bool> {
-    use rayon::prelude::*;
-    let plane = grid.nx * grid.ny;
-    let mut flows = vec![false; grid.cell_count()];
-    if plane == 0 {
-        return flows;
+    let plus =
+        [Axis::X, Axis::Y, Axis::Z].map(|axis| (axis, plus_faces_with_flow(grid, rock, axis)));
+    (0..grid.cell_count())
+        .map(|c| {
+            plus.iter()
+                .any(|(axis, faces)| flows_across(grid, faces, *axis, c))
+        })
+        .collect()
+}
+
+/// A direction of the grid, with the two sides of a cell across it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Axis {
+    /// West and east faces; these depend on `kx`.
+    X,
+    /// South and north faces; `ky`.
+    Y,
+    /// Top and bottom faces; `kz`.
+    Z,
+}
+
+impl Axis {
+    pub fn sides(self) -> [Side; 2] {
+        match self {
+            Axis::X => [Side::West, Side::East],
+            Axis::Y => [Side::South, Side::North],
+            Axis::Z => [Side::Top, Side::Bottom],
+        }
     }
-    flows
-        .par_chunks_mut(plane)
+}
+
+/// For every cell, whether its face towards the next cell along `axis`
+/// (east, north, below) has a positive transmissibility; false on the last
+/// cell of a row. Each face is computed once, over whole rows of the
+/// arrays (about three times faster than asking [`interior_face`] for
+/// both faces of every cell, which the tests compare it with), layers in
+/// parallel. One pass per axis, so that the checker, which keeps each pass
+/// between edits, redoes only the axis whose permeability changed.
+pub fn plus_faces_with_flow(grid: &Grid, rock: &Rock, axis: Axis) -> Vec<bool> {
+    use rayon::prelude::*;
+    let (nx, ny, nz) = (grid.nx, grid.ny, grid.nz);
+    let plane = nx * ny;
+    let n = grid.cell_count();
+    let k_axis: &[f64] = match axis {
+        Axis::X => &rock.kx,
+        Axis::Y => &rock.ky,
+        Axis::Z => &rock.kz,
+    };
+    if plane == 0
+        || [rock.porosity.len(), grid.dz.len(), k_axis.len()]
+            .iter()
+            .any(|l| *l < n)
+    {
+        return vec![false; n];
+    }
+    let (phi, dz) = (&rock.porosity[..], &grid.dz[..]);
+    let mut plus = vec![false; n];
+    // The face between `c` and `m` from their halves `(k, half length, area)`.
+    let flows = |c: usize, m: usize, a: (f64, f64, f64), b: (f64, f64, f64)| {
+        join_halves(a, b, phi[c] > 0.0 && phi[m] > 0.0).1 > 0.0
+    };
+    // One loop nest per axis, so that the innermost loop has no branch on it.
+    plus.par_chunks_mut(plane)
         .enumerate()
         .for_each(|(k, layer)| {
-            for j in 0..grid.ny {
-                for i in 0..grid.nx {
-                    let c = grid.index(i, j, k);
-                    layer[c - k * plane] = Side::ALL.into_iter().any(|side| {
-                        face_at(grid, rock, c, (i, j, k), side)
-                            .is_some_and(|f| f.geometric_trans > 0.0)
-                    });
+            let base = k * plane;
+            match axis {
+                Axis::X => {
+                    for j in 0..ny {
+                        let dy = grid.dy[j];
+                        for i in 0..nx.saturating_sub(1) {
+                            let (c, m) = (base + i + nx * j, base + i + 1 + nx * j);
+                            layer[i + nx * j] = flows(
+                                c,
+                                m,
+                                (k_axis[c], 0.5 * grid.dx[i], dy * dz[c]),
+                                (k_axis[m], 0.5 * grid.dx[i + 1], dy * dz[m]),
+                            );
+                        }
+                    }
                 }
+                Axis::Y => {
+                    for j in 0..ny.saturating_sub(1) {
+                        let (dy_c, dy_m) = (grid.dy[j], grid.dy[j + 1]);
+                        for i in 0..nx {
+                            let (c, m) = (base + i + nx * j, base + i + nx * (j + 1));
+                            let dx = grid.dx[i];
+                            layer[i + nx * j] = flows(
+                                c,
+                                m,
+                                (k_axis[c], 0.5 * dy_c, dx * dz[c]),
+                                (k_axis[m], 0.5 * dy_m, dx * dz[m]),
+                            );
+                        }
+                    }
+                }
+                Axis::Z if k + 1 < nz => {
+                    for j in 0..ny {
+                        let dy = grid.dy[j];
+                        for i in 0..nx {
+                            let c = base + i + nx * j;
+                            let m = c + plane;
+                            let area = grid.dx[i] * dy;
+                            layer[i + nx * j] = flows(
+                                c,
+                                m,
+                                (k_axis[c], 0.5 * dz[c], area),
+                                (k_axis[m], 0.5 * dz[m], area),
+                            );
+                        }
+                    }
+                }
+                Axis::Z => {}
             }
         });
-    flows
+    plus
+}
+
+/// Whether cell `c` has a face with flow across `axis`, given
+/// [`plus_faces_with_flow`] for that axis: its own plus face, or the plus
+/// face of the cell before it.
+#[inline]
+pub fn flows_across(grid: &Grid, plus: &[bool], axis: Axis, c: usize) -> bool {
+    let (i, j, k) = grid.ijk(c);
+    let before = match axis {
+        Axis::X => (i > 0).then(|| c - 1),
+        Axis::Y => (j > 0).then(|| c - grid.nx),
+        Axis::Z => (k > 0).then(|| c - grid.nx * grid.ny),
+    };
+    plus[c] || before.is_some_and(|b| plus[b])
 }
 
 /// Peaceman's equivalent radius for an anisotropic, non-square block

@@ -10,6 +10,7 @@ use crate::reuse::{kept, Reuse};
 use crate::source::{resolve, Source};
 use crate::values::{checked_unit, describe_expected, describe_found, Gauge, Reporter};
 use crate::{CellValues, FileInfo};
+use rayon::prelude::*;
 use rill_syntax::{Atom, AtomKind, Op, Span, UnitExpr, Value};
 use rill_units::Dim;
 use std::collections::HashMap;
@@ -879,6 +880,9 @@ pub fn evaluate_kept(
     })
 }
 
+/// Cells per parallel task when evaluating: small grids stay on one thread.
+const CHUNK: usize = 1 << 15;
+
 /// Evaluate an expression over the grid; `lookup` gives the final value of
 /// a referenced property.
 pub fn evaluate(e: &Expr, shape: Shape, lookup: &dyn Fn(&str) -> Option<Field>) -> Option<Field> {
@@ -912,19 +916,33 @@ pub fn evaluate(e: &Expr, shape: Shape, lookup: &dyn Fn(&str) -> Option<Field>) 
                 (Field::Uniform(x), Field::Layers(y)) => {
                     Field::Layers(y.iter().map(|q| f(*x, *q)).collect())
                 }
-                // Per-cell arrays reach a million values and are re-evaluated
-                // on every keystroke in an editor: keep the common pairs tight.
-                (Field::Cells(x), Field::Uniform(y)) => {
-                    Field::Cells(Arc::new(x.iter().map(|p| f(*p, *y)).collect()))
-                }
-                (Field::Uniform(x), Field::Cells(y)) => {
-                    Field::Cells(Arc::new(y.iter().map(|q| f(*x, *q)).collect()))
-                }
+                // Per-cell arrays reach a million values and are evaluated
+                // again whenever an editor's user types in them: keep the
+                // common pairs tight and share the work (and the first touch
+                // of the fresh memory) between the cores.
+                (Field::Cells(x), Field::Uniform(y)) => Field::Cells(Arc::new(
+                    x.par_iter()
+                        .with_min_len(CHUNK)
+                        .map(|p| f(*p, *y))
+                        .collect(),
+                )),
+                (Field::Uniform(x), Field::Cells(y)) => Field::Cells(Arc::new(
+                    y.par_iter()
+                        .with_min_len(CHUNK)
+                        .map(|q| f(*x, *q))
+                        .collect(),
+                )),
                 (Field::Cells(x), Field::Cells(y)) => Field::Cells(Arc::new(
-                    x.iter().zip(y.iter()).map(|(p, q)| f(*p, *q)).collect(),
+                    x.par_iter()
+                        .zip(y.par_iter())
+                        .with_min_len(CHUNK)
+                        .map(|(p, q)| f(*p, *q))
+                        .collect(),
                 )),
                 _ => Field::Cells(Arc::new(
                     (0..shape.cells())
+                        .into_par_iter()
+                        .with_min_len(CHUNK)
                         .map(|c| f(a.at(c, shape), b.at(c, shape)))
                         .collect(),
                 )),

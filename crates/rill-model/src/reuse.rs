@@ -18,11 +18,13 @@ use std::any::Any;
 use std::collections::HashMap;
 use std::sync::{Arc, Mutex};
 
-/// Entries that none of the last `KEEP` analyses used are dropped: enough
-/// for a few open decks analysed in turn, little enough that the arrays of
-/// abandoned values (each version of `kz = 0.1 * kx` while it is typed) go
-/// soon.
-const KEEP: u64 = 4;
+/// Entries that none of the last `KEEP` analyses used are dropped. One:
+/// the arrays of abandoned values (each version of `kz = 0.1 * kx` while it
+/// is typed) go at once, so that the next version reuses their memory
+/// instead of touching fresh pages, which measured as the slowest part of
+/// the first edits after opening (worst 50 ms with four kept, 21 ms with
+/// one, on the 1.12-million-cell case). An undo recomputes what it needs.
+const KEEP: u64 = 1;
 
 #[derive(Debug, Clone, PartialEq, Eq, Hash)]
 struct Key {
@@ -31,10 +33,13 @@ struct Key {
     params: Vec<u64>,
 }
 
+/// An input of a kept result, known by identity: any shared value.
+pub type Held = Arc<dyn Any + Send + Sync>;
+
 struct Entry {
     value: Box<dyn Any + Send + Sync>,
     /// Held so that the addresses in the key stay unique while the entry lives.
-    _inputs: Vec<Arc<Vec<f64>>>,
+    _inputs: Vec<Held>,
     used: u64,
 }
 
@@ -96,9 +101,25 @@ impl Reuse {
         params: &[u64],
         compute: impl FnOnce() -> T,
     ) -> T {
+        let held: Vec<Held> = arrays.iter().map(|a| a.clone() as Held).collect();
+        self.get_or_held(what, &held, params, compute)
+    }
+
+    /// [`Reuse::get_or`] with inputs of any type (a kept result of another
+    /// computation, say), known by identity.
+    pub fn get_or_held<T: Clone + Send + Sync + 'static>(
+        &self,
+        what: &'static str,
+        inputs: &[Held],
+        params: &[u64],
+        compute: impl FnOnce() -> T,
+    ) -> T {
         let key = Key {
             what,
-            arrays: arrays.iter().map(|a| Arc::as_ptr(a) as usize).collect(),
+            arrays: inputs
+                .iter()
+                .map(|a| Arc::as_ptr(a) as *const () as usize)
+                .collect(),
             params: params.to_vec(),
         };
         {
@@ -119,7 +140,7 @@ impl Reuse {
             key,
             Entry {
                 value: Box::new(value.clone()),
-                _inputs: arrays.to_vec(),
+                _inputs: inputs.to_vec(),
                 used: now,
             },
         );

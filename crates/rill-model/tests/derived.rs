@@ -261,3 +261,64 @@ fn cells_with_flow_agrees_with_the_faces_of_each_cell() {
     }
     assert!(!flows[5]);
 }
+
+/// A grid of random size and spacing whose permeabilities and porosities
+/// are zero in places, to compare the per-axis flow passes with the faces.
+fn patchy_case(dims: (usize, usize, usize), values: &[(f64, f64, f64, f64, f64)]) -> Case {
+    let (nx, ny, nz) = dims;
+    let n = nx * ny * nz;
+    let mut c = case();
+    let at = |i: usize| values[i % values.len()];
+    c.grid = Grid {
+        nx,
+        ny,
+        nz,
+        dx: (0..nx).map(|i| (10.0 + 40.0 * at(i).4) * FT).collect(),
+        dy: (0..ny).map(|j| (10.0 + 40.0 * at(j + 7).4) * FT).collect(),
+        dz: (0..n).map(|c| (1.0 + 20.0 * at(c + 3).4) * FT).collect(),
+        top: vec![5000.0 * FT; nx * ny],
+    };
+    // A quarter of each value is zero: sealed faces and inactive cells.
+    let zeroed = |v: f64| if v < 0.25 { 0.0 } else { v };
+    c.rock.porosity = (0..n).map(|c| zeroed(at(c).0) * 0.3).collect();
+    c.rock.kx = (0..n).map(|c| zeroed(at(c).1) * 100.0 * MD).collect();
+    c.rock.ky = (0..n).map(|c| zeroed(at(c).2) * 100.0 * MD).collect();
+    c.rock.kz = (0..n).map(|c| zeroed(at(c).3) * 10.0 * MD).collect();
+    c
+}
+
+proptest! {
+    /// Each per-axis pass says of every cell's plus face what the face
+    /// itself says, and a cell flows across an axis when one of its two
+    /// faces there does.
+    #[test]
+    fn flow_passes_agree_with_every_face(
+        dims in (1usize..6, 1usize..6, 1usize..6),
+        values in proptest::collection::vec((0.0f64..1.0, 0.0f64..1.0, 0.0f64..1.0, 0.0f64..1.0, 0.0f64..1.0), 1..40),
+    ) {
+        let c = patchy_case(dims, &values);
+        let n = c.grid.cell_count();
+        let flows = cells_with_flow(&c.grid, &c.rock);
+        for axis in [Axis::X, Axis::Y, Axis::Z] {
+            let plus = plus_faces_with_flow(&c.grid, &c.rock, axis);
+            let [minus_side, plus_side] = axis.sides();
+            for cell in 0..n {
+                let face_flows = |side| {
+                    interior_face(&c.grid, &c.rock, cell, side).is_some_and(|f| f.geometric_trans > 0.0)
+                };
+                prop_assert_eq!(plus[cell], face_flows(plus_side), "plus face of cell {} across {:?}", cell, axis);
+                prop_assert_eq!(
+                    flows_across(&c.grid, &plus, axis, cell),
+                    face_flows(minus_side) || face_flows(plus_side),
+                    "cell {} across {:?}", cell, axis
+                );
+            }
+        }
+        for (cell, flows_here) in flows.iter().enumerate() {
+            let by_faces = Side::ALL.into_iter().any(|s| {
+                interior_face(&c.grid, &c.rock, cell, s).is_some_and(|f| f.geometric_trans > 0.0)
+            });
+            prop_assert_eq!(*flows_here, by_faces, "cell {}", cell);
+        }
+    }
+}

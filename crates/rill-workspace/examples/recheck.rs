@@ -4,7 +4,11 @@
 //! median and worst of the re-checks (`RECHECK_RAW=1`: each re-check too;
 //! `RECHECK_DROP=1`: drop the first analysis before re-checking, unlike the
 //! server, which keeps the previous analysis alive for hover;
-//! `RECHECK_FRESH=1`: keep nothing between analyses, as `rill check` does).
+//! `RECHECK_FRESH=1`: keep nothing between analyses, as `rill check` does;
+//! `RECHECK_AFTER=TEXT`: type the digits after the first `TEXT` in the deck,
+//! such as `kz = 0.1`, instead of in a comment at the end;
+//! `RECHECK_REPLACE=TEXT`: replace the character after `TEXT`, such as
+//! `kz = 0.`, by the digits 1 to 9 in turn, so that no value repeats soon).
 //!
 //! usage: cargo run --release -p rill-workspace --example recheck -- DECK [N]
 
@@ -16,6 +20,11 @@ static GLOBAL: mimalloc::MiMalloc = mimalloc::MiMalloc;
 use std::time::Instant;
 
 fn main() {
+    // As the `rill` binary does, first thing (see `use_large_pages` there).
+    // SAFETY: no other thread runs yet; this only sets an option value.
+    unsafe {
+        libmimalloc_sys::mi_option_set(libmimalloc_sys::mi_option_large_os_pages, 1);
+    }
     let mut args = std::env::args().skip(1);
     let Some(deck) = args.next() else {
         eprintln!("usage: recheck DECK [N]");
@@ -44,8 +53,21 @@ fn main() {
     }
     let mut times = Vec::with_capacity(n);
     for i in 0..n {
-        // A one-character edit in a comment at the end, as a typist would make.
-        let edited = format!("{text}#{}\n", i % 10);
+        // One more character typed, as a typist would: in a comment at the
+        // end, or after RECHECK_AFTER.
+        let at = |var: &str| {
+            let needle = std::env::var(var).ok()?;
+            Some(text.find(&needle)? + needle.len())
+        };
+        let edited = if let Some(at) = at("RECHECK_REPLACE") {
+            let digit = char::from(b'1' + (i % 9) as u8);
+            let rest = text[at..].chars().skip(1).collect::<String>();
+            format!("{}{digit}{rest}", &text[..at])
+        } else if let Some(at) = at("RECHECK_AFTER") {
+            format!("{}{}{}", &text[..at], "1".repeat(i + 1), &text[at..])
+        } else {
+            format!("{text}#{}\n", "x".repeat(i + 1))
+        };
         let t = Instant::now();
         let a = rill_model::analyze_text(&path, &edited, &source);
         times.push(t.elapsed().as_secs_f64() * 1e3);
