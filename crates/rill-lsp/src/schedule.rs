@@ -130,7 +130,31 @@ async fn worker(
             return;
         }
         publish(&shared, &uri, &analyzed).await;
+        prepare_next_edit(&shared, &analyzed);
     }
+}
+
+/// While the user reads the diagnostics, write the memory that the arrays
+/// of the next edit will use (`rill_model::reuse::Reuse::prepare`): fresh
+/// pages were the slowest part of the first edits after opening a
+/// million-cell deck. A no-op once the spares are there.
+fn prepare_next_edit(shared: &Arc<Shared>, analyzed: &Analyzed) {
+    let Some(cells) = analyzed
+        .snap
+        .analysis()
+        .case
+        .as_ref()
+        .map(|c| c.grid.cell_count())
+    else {
+        return;
+    };
+    let source = shared.source();
+    tokio::task::spawn_blocking(move || {
+        if let Some(reuse) = rill_model::Source::reuse(&*source) {
+            // One spare for the array typed in, one for what it makes on the way.
+            reuse.prepare(cells, 2);
+        }
+    });
 }
 
 /// Publish the diagnostics of root `root` from `analyzed`, unless the

@@ -1273,7 +1273,8 @@ impl<'s> Lowerer<'s> {
                     value.encode(&mut arrays, &mut params);
                 }
                 Field::Cells(kept(reuse, "patched property", &arrays, &params, || {
-                    let mut target = base.to_cells(shape);
+                    let mut target =
+                        crate::props::cells_by_index(shape.cells(), reuse, |c| base.at(c, shape));
                     for (sel, value) in &patches {
                         for &c in *sel {
                             target[c] = value.at(c, shape);

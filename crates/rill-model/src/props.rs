@@ -67,7 +67,7 @@ impl Field {
                 params.push(shape.nz as u64);
                 other.encode(&mut arrays, &mut params);
                 kept(reuse, "spread over the cells", &arrays, &params, || {
-                    Arc::new(other.to_cells(shape))
+                    Arc::new(cells_by_index(shape.cells(), reuse, |c| other.at(c, shape)))
                 })
                 .into()
             }
@@ -542,7 +542,14 @@ impl PropReader<'_> {
                         "array file in SI",
                         std::slice::from_ref(&raw),
                         &params,
-                        || Arc::new(raw.iter().map(|v| unit.to_si(*v)).collect()),
+                        || {
+                            let reuse = self.source.reuse();
+                            Arc::new(cells_from(raw.len(), reuse, |start, out| {
+                                for (o, v) in out.iter_mut().zip(&raw[start..]) {
+                                    *o = unit.to_si(*v);
+                                }
+                            }))
+                        },
                     )
                 }
             }
@@ -846,7 +853,7 @@ pub fn evaluate_kept(
     reuse: Option<&Reuse>,
 ) -> Option<Field> {
     if reuse.is_none() || !matches!(e, Expr::Bin { .. }) {
-        return evaluate(e, shape, lookup);
+        return evaluate_in(e, shape, lookup, reuse);
     }
     fn encode(
         e: &Expr,
@@ -876,23 +883,31 @@ pub fn evaluate_kept(
     let mut params = vec![shape.nx as u64, shape.ny as u64, shape.nz as u64];
     encode(e, lookup, &mut arrays, &mut params)?;
     kept(reuse, "expression", &arrays, &params, || {
-        evaluate(e, shape, lookup)
+        evaluate_in(e, shape, lookup, reuse)
     })
 }
-
-/// Cells per parallel task when evaluating: small grids stay on one thread.
-const CHUNK: usize = 1 << 15;
 
 /// Evaluate an expression over the grid; `lookup` gives the final value of
 /// a referenced property.
 pub fn evaluate(e: &Expr, shape: Shape, lookup: &dyn Fn(&str) -> Option<Field>) -> Option<Field> {
+    evaluate_in(e, shape, lookup, None)
+}
+
+/// [`evaluate`], writing new per-cell arrays into spare buffers of `pool`
+/// and giving it back the intermediate ones.
+fn evaluate_in(
+    e: &Expr,
+    shape: Shape,
+    lookup: &dyn Fn(&str) -> Option<Field>,
+    pool: Option<&Reuse>,
+) -> Option<Field> {
     match e {
         Expr::Const { si, .. } => Some(Field::Uniform(*si)),
         Expr::Data { field, .. } => Some(field.clone()),
         Expr::Ref { name, .. } => lookup(name),
         Expr::Bin { op, lhs, rhs, .. } => {
-            let a = evaluate(lhs, shape, lookup)?;
-            let b = evaluate(rhs, shape, lookup)?;
+            let a = evaluate_in(lhs, shape, lookup, pool)?;
+            let b = evaluate_in(rhs, shape, lookup, pool)?;
             let f = |x: f64, y: f64| match op {
                 Op::Add => x + y,
                 Op::Sub => x - y,
@@ -905,7 +920,7 @@ pub fn evaluate(e: &Expr, shape: Shape, lookup: &dyn Fn(&str) -> Option<Field>) 
                     }
                 }
             };
-            Some(match (&a, &b) {
+            let out = match (&a, &b) {
                 (Field::Uniform(x), Field::Uniform(y)) => Field::Uniform(f(*x, *y)),
                 (Field::Layers(x), Field::Layers(y)) => {
                     Field::Layers(x.iter().zip(y).map(|(p, q)| f(*p, *q)).collect())
@@ -918,37 +933,79 @@ pub fn evaluate(e: &Expr, shape: Shape, lookup: &dyn Fn(&str) -> Option<Field>) 
                 }
                 // Per-cell arrays reach a million values and are evaluated
                 // again whenever an editor's user types in them: keep the
-                // common pairs tight and share the work (and the first touch
-                // of the fresh memory) between the cores.
-                (Field::Cells(x), Field::Uniform(y)) => Field::Cells(Arc::new(
-                    x.par_iter()
-                        .with_min_len(CHUNK)
-                        .map(|p| f(*p, *y))
-                        .collect(),
-                )),
-                (Field::Uniform(x), Field::Cells(y)) => Field::Cells(Arc::new(
-                    y.par_iter()
-                        .with_min_len(CHUNK)
-                        .map(|q| f(*x, *q))
-                        .collect(),
-                )),
-                (Field::Cells(x), Field::Cells(y)) => Field::Cells(Arc::new(
-                    x.par_iter()
-                        .zip(y.par_iter())
-                        .with_min_len(CHUNK)
-                        .map(|(p, q)| f(*p, *q))
-                        .collect(),
-                )),
-                _ => Field::Cells(Arc::new(
-                    (0..shape.cells())
-                        .into_par_iter()
-                        .with_min_len(CHUNK)
-                        .map(|c| f(a.at(c, shape), b.at(c, shape)))
-                        .collect(),
-                )),
-            })
+                // common pairs tight.
+                (Field::Cells(x), Field::Uniform(y)) => {
+                    Field::Cells(Arc::new(cells_from(x.len(), pool, |start, out| {
+                        for (o, p) in out.iter_mut().zip(&x[start..]) {
+                            *o = f(*p, *y);
+                        }
+                    })))
+                }
+                (Field::Uniform(x), Field::Cells(y)) => {
+                    Field::Cells(Arc::new(cells_from(y.len(), pool, |start, out| {
+                        for (o, q) in out.iter_mut().zip(&y[start..]) {
+                            *o = f(*x, *q);
+                        }
+                    })))
+                }
+                (Field::Cells(x), Field::Cells(y)) => {
+                    let n = x.len().min(y.len());
+                    Field::Cells(Arc::new(cells_from(n, pool, |start, out| {
+                        for ((o, p), q) in out.iter_mut().zip(&x[start..]).zip(&y[start..]) {
+                            *o = f(*p, *q);
+                        }
+                    })))
+                }
+                _ => Field::Cells(Arc::new(cells_by_index(shape.cells(), pool, |c| {
+                    f(a.at(c, shape), b.at(c, shape))
+                }))),
+            };
+            if let Some(pool) = pool {
+                for used in [a, b] {
+                    if let Field::Cells(v) = used {
+                        if let Ok(v) = Arc::try_unwrap(v) {
+                            pool.give_back(v);
+                        }
+                    }
+                }
+            }
+            Some(out)
         }
     }
+}
+
+/// Cells per parallel task when filling an array: small grids stay on one thread.
+const CHUNK: usize = 1 << 15;
+
+/// A new array of `n` values, filled in parallel by `fill(start, out)`
+/// (which writes the values of cells `start..start + out.len()`), sharing
+/// the work and the first touch of fresh memory between the cores. The
+/// buffer is a spare of `pool` when it has one of that length.
+pub(crate) fn cells_from(
+    n: usize,
+    pool: Option<&Reuse>,
+    fill: impl Fn(usize, &mut [f64]) + Sync,
+) -> Vec<f64> {
+    let mut v = pool
+        .and_then(|p| p.spare(n))
+        .unwrap_or_else(|| vec![0.0; n]);
+    v.par_chunks_mut(CHUNK)
+        .enumerate()
+        .for_each(|(chunk, out)| fill(chunk * CHUNK, out));
+    v
+}
+
+/// [`cells_from`] with one value per cell from `value(c)`.
+pub(crate) fn cells_by_index(
+    n: usize,
+    pool: Option<&Reuse>,
+    value: impl Fn(usize) -> f64 + Sync,
+) -> Vec<f64> {
+    cells_from(n, pool, |start, out| {
+        for (o, slot) in out.iter_mut().enumerate() {
+            *slot = value(start + o);
+        }
+    })
 }
 
 /// Report a dimension mismatch between a whole expression and the key.

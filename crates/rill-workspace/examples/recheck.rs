@@ -5,6 +5,8 @@
 //! `RECHECK_DROP=1`: drop the first analysis before re-checking, unlike the
 //! server, which keeps the previous analysis alive for hover;
 //! `RECHECK_FRESH=1`: keep nothing between analyses, as `rill check` does;
+//! `RECHECK_NO_PREPARE=1`: do not prepare spare buffers after the first
+//! analysis, which the server does while the user reads its diagnostics;
 //! `RECHECK_AFTER=TEXT`: type the digits after the first `TEXT` in the deck,
 //! such as `kz = 0.1`, instead of in a comment at the end;
 //! `RECHECK_REPLACE=TEXT`: replace the character after `TEXT`, such as
@@ -48,6 +50,11 @@ fn main() {
     let first = rill_model::analyze_text(&path, &text, &source);
     let first_ms = t0.elapsed().as_secs_f64() * 1e3;
     let first_count = first.diagnostics.len();
+    if std::env::var_os("RECHECK_NO_PREPARE").is_none() {
+        if let (Some(reuse), Some(case)) = (rill_model::Source::reuse(&source), &first.case) {
+            reuse.prepare(case.grid.cell_count(), 2);
+        }
+    }
     if std::env::var_os("RECHECK_DROP").is_some() {
         drop(first);
     }
