@@ -411,7 +411,12 @@ fn flow_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
                 grid.dz.shared().clone(),
             ],
             &dims,
-            || Arc::new(derived::plus_faces_with_flow(grid, rock, axis)),
+            || {
+                let buffer = reuse
+                    .and_then(|r| r.spare_flags(grid.cell_count()))
+                    .unwrap_or_default();
+                Arc::new(derived::plus_faces_with_flow_in(grid, rock, axis, buffer))
+            },
         )
     };
     let flows = [

@@ -371,6 +371,17 @@ impl Axis {
 /// parallel. One pass per axis, so that the checker, which keeps each pass
 /// between edits, redoes only the axis whose permeability changed.
 pub fn plus_faces_with_flow(grid: &Grid, rock: &Rock, axis: Axis) -> Vec<bool> {
+    plus_faces_with_flow_in(grid, rock, axis, Vec::new())
+}
+
+/// [`plus_faces_with_flow`] written into `buffer` (any contents; a spare
+/// one whose memory is already touched).
+pub fn plus_faces_with_flow_in(
+    grid: &Grid,
+    rock: &Rock,
+    axis: Axis,
+    mut buffer: Vec<bool>,
+) -> Vec<bool> {
     use rayon::prelude::*;
     let (nx, ny, nz) = (grid.nx, grid.ny, grid.nz);
     let plane = nx * ny;
@@ -380,15 +391,17 @@ pub fn plus_faces_with_flow(grid: &Grid, rock: &Rock, axis: Axis) -> Vec<bool> {
         Axis::Y => &rock.ky,
         Axis::Z => &rock.kz,
     };
+    buffer.clear();
+    buffer.resize(n, false);
     if plane == 0
         || [rock.porosity.len(), grid.dz.len(), k_axis.len()]
             .iter()
             .any(|l| *l < n)
     {
-        return vec![false; n];
+        return buffer;
     }
     let (phi, dz) = (&rock.porosity[..], &grid.dz[..]);
-    let mut plus = vec![false; n];
+    let mut plus = buffer;
     // The face between `c` and `m` from their halves `(k, half length, area)`.
     let flows = |c: usize, m: usize, a: (f64, f64, f64), b: (f64, f64, f64)| {
         join_halves(a, b, phi[c] > 0.0 && phi[m] > 0.0).1 > 0.0

@@ -59,6 +59,8 @@ struct Inner {
     entries: HashMap<Key, Entry>,
     /// Buffers of per-cell values whose contents no longer matter.
     spares: Vec<Vec<f64>>,
+    /// The same for per-cell flags (the checker's flow passes).
+    flag_spares: Vec<Vec<bool>>,
 }
 
 impl Inner {
@@ -68,17 +70,36 @@ impl Inner {
         }
     }
 
+    fn keep_flag_spare(&mut self, v: Vec<bool>) {
+        if self.flag_spares.len() < MAX_SPARES && !v.is_empty() {
+            self.flag_spares.push(v);
+        }
+    }
+
     /// Take the buffers of a dropped entry that nothing else holds.
     fn reclaim(&mut self, entry: Entry) {
         let mut arrays: Vec<Arc<Vec<f64>>> = Vec::new();
-        match entry.value.downcast::<Arc<Vec<f64>>>() {
-            Ok(a) => arrays.push(*a),
-            Err(other) => {
-                if let Ok(field) = other.downcast::<Option<crate::props::Field>>() {
-                    if let Some(crate::props::Field::Cells(a)) = *field {
-                        arrays.push(a);
-                    }
+        let value = entry.value;
+        let value = match value.downcast::<Arc<Vec<f64>>>() {
+            Ok(a) => {
+                arrays.push(*a);
+                None
+            }
+            Err(other) => Some(other),
+        };
+        let value = match value.map(|v| v.downcast::<Arc<Vec<bool>>>()) {
+            Some(Ok(flags)) => {
+                if let Ok(v) = Arc::try_unwrap(*flags) {
+                    self.keep_flag_spare(v);
                 }
+                None
+            }
+            Some(Err(other)) => Some(other),
+            None => None,
+        };
+        if let Some(Ok(field)) = value.map(|v| v.downcast::<Option<crate::props::Field>>()) {
+            if let Some(crate::props::Field::Cells(a)) = *field {
+                arrays.push(a);
             }
         }
         for input in entry._inputs {
@@ -145,6 +166,14 @@ impl Reuse {
         Some(inner.spares.swap_remove(at))
     }
 
+    /// A buffer of exactly `len` flags whose contents do not matter, if a
+    /// spare one is kept.
+    pub fn spare_flags(&self, len: usize) -> Option<Vec<bool>> {
+        let mut inner = self.lock();
+        let at = inner.flag_spares.iter().position(|v| v.len() == len)?;
+        Some(inner.flag_spares.swap_remove(at))
+    }
+
     /// Give back a buffer that is no longer needed.
     pub fn give_back(&self, v: Vec<f64>) {
         self.lock().keep_spare(v);
@@ -153,11 +182,16 @@ impl Reuse {
     /// Make sure that `count` spare buffers of `len` values are kept, their
     /// memory written once, and drop spares of other lengths (the grid
     /// changed). Meant for idle time: right after a deck is opened.
+    /// Also one buffer of `len` flags, for the flow pass of the axis typed in.
     pub fn prepare(&self, len: usize, count: usize) {
-        let missing = {
+        let (missing, flags_missing) = {
             let mut inner = self.lock();
             inner.spares.retain(|v| v.len() == len);
-            count.min(MAX_SPARES).saturating_sub(inner.spares.len())
+            inner.flag_spares.retain(|v| v.len() == len);
+            (
+                count.min(MAX_SPARES).saturating_sub(inner.spares.len()),
+                inner.flag_spares.is_empty(),
+            )
         };
         for _ in 0..missing {
             // Written element by element (not calloc'ed), so that the pages
@@ -167,11 +201,18 @@ impl Reuse {
             std::hint::black_box(&mut v);
             self.lock().keep_spare(v);
         }
+        if flags_missing {
+            let mut v = Vec::with_capacity(len);
+            v.resize(len, true);
+            std::hint::black_box(&mut v);
+            self.lock().keep_flag_spare(v);
+        }
     }
 
-    /// Number of spare buffers kept.
-    pub fn spares(&self) -> usize {
-        self.lock().spares.len()
+    /// Number of spare buffers kept (values, flags).
+    pub fn spares(&self) -> (usize, usize) {
+        let inner = self.lock();
+        (inner.spares.len(), inner.flag_spares.len())
     }
 
     /// Number of kept results.
@@ -314,30 +355,37 @@ mod tests {
         reuse.begin();
         let held_elsewhere = reuse.get_or("a", &[], &[1], || Arc::new(vec![1.0; 8]));
         reuse.get_or("b", &[], &[2], || Arc::new(vec![2.0; 8]));
+        reuse.get_or("flags", &[], &[3], || Arc::new(vec![true; 8]));
         for _ in 0..=KEEP {
             reuse.begin();
         }
         assert!(reuse.is_empty());
-        assert_eq!(reuse.spares(), 1, "only the array nothing else holds");
+        assert_eq!(reuse.spares(), (1, 1), "only the arrays nothing else holds");
         assert_eq!(held_elsewhere[0], 1.0, "the held array is untouched");
         assert_eq!(reuse.spare(8).map(|v| v.len()), Some(8));
         assert_eq!(reuse.spare(8), None);
+        assert_eq!(reuse.spare_flags(8).map(|v| v.len()), Some(8));
     }
 
     #[test]
     fn prepare_keeps_spares_of_one_length() {
         let reuse = Reuse::new();
         reuse.prepare(16, 2);
-        assert_eq!(reuse.spares(), 2);
+        assert_eq!(reuse.spares(), (2, 1));
         reuse.prepare(16, 2);
-        assert_eq!(reuse.spares(), 2, "already there");
+        assert_eq!(reuse.spares(), (2, 1), "already there");
         assert_eq!(reuse.spare(15), None, "only exact lengths");
+        assert_eq!(reuse.spare_flags(16).map(|v| v.len()), Some(16));
         reuse.prepare(32, 1);
-        assert_eq!(reuse.spares(), 1, "spares of the old length are dropped");
+        assert_eq!(
+            reuse.spares(),
+            (1, 1),
+            "spares of the old length are dropped"
+        );
         for _ in 0..10 {
             reuse.give_back(vec![0.0; 32]);
         }
-        assert_eq!(reuse.spares(), MAX_SPARES);
+        assert_eq!(reuse.spares().0, MAX_SPARES);
     }
 
     #[test]
