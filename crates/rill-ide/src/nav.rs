@@ -1,4 +1,5 @@
-//! Go to definition and references: well names, include paths, property references.
+//! Go to definition and references: well names, include and array file
+//! paths, property references.
 
 use crate::locate::{locate, Hit, Node};
 use crate::{Snapshot, Target};
@@ -75,7 +76,19 @@ pub(crate) fn definition(snap: &Snapshot, offset: usize) -> Option<Target> {
                 span: Span::new(0, 0),
             })
         }
-        Node::Value(_, steps) => {
+        Node::Value(stmt, steps) => {
+            // `kx = file "kx.txt" md`: the array file, from its start.
+            if let (Some(AtomKind::Ident(form)), AtomKind::Str { value, .. }) = (
+                stmt.value.atoms.first().map(|a| &a.kind),
+                &steps.last()?.atom.kind,
+            ) {
+                if form == "file" {
+                    return Some(Target {
+                        file: rill_model::source::resolve(snap.path(), value),
+                        span: Span::new(0, 0),
+                    });
+                }
+            }
             // `ky = kx`: the statement that defines `kx` in the same block, or in `rock` for a patch.
             let AtomKind::Ident(name) = &steps.last()?.atom.kind else {
                 return None;

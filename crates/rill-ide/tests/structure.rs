@@ -87,6 +87,25 @@ fn definition_and_references_of_wells_and_includes() {
             span: Span::new(0, 0)
         }
     );
+    // An array file goes to the top of the file, resolved against the deck.
+    let with_file = deck.replace("kx = layers [150 40] md", "kx = file \"arrays/kx.txt\" md");
+    let arrays = MemorySource::new()
+        .with("more/wells.rill", wells)
+        .with("arrays/kx.txt", vec!["120"; 4 * 3 * 2].join(" "));
+    let f = snap_with(&with_file, &arrays);
+    assert!(!f.analysis().has_errors(), "{:?}", f.diagnostics());
+    let t = f
+        .definition(at(&with_file, "arrays/kx", 2))
+        .expect("array file");
+    assert_eq!(
+        t,
+        Target {
+            file: PathBuf::from("arrays/kx.txt"),
+            span: Span::new(0, 0)
+        }
+    );
+    // Not on the form word or the unit.
+    assert_eq!(f.definition(at(&with_file, "file \"arrays", 1)), None);
     // `ky = kx` goes to kx.
     let t = s.definition(at(&deck, "ky = kx", 6)).expect("reference");
     assert_eq!(&deck[t.span.start..t.span.end], "kx");
