@@ -45,7 +45,7 @@ pub type Held = Arc<dyn Any + Send + Sync>;
 struct Entry {
     value: Box<dyn Any + Send + Sync>,
     /// Held so that the addresses in the key stay unique while the entry lives.
-    _inputs: Vec<Held>,
+    inputs: Vec<Held>,
     used: u64,
 }
 
@@ -78,39 +78,30 @@ impl Inner {
 
     /// Take the buffers of a dropped entry that nothing else holds.
     fn reclaim(&mut self, entry: Entry) {
-        let mut arrays: Vec<Arc<Vec<f64>>> = Vec::new();
-        let value = entry.value;
-        let value = match value.downcast::<Arc<Vec<f64>>>() {
-            Ok(a) => {
-                arrays.push(*a);
-                None
-            }
-            Err(other) => Some(other),
-        };
-        let value = match value.map(|v| v.downcast::<Arc<Vec<bool>>>()) {
-            Some(Ok(flags)) => {
-                if let Ok(v) = Arc::try_unwrap(*flags) {
-                    self.keep_flag_spare(v);
-                }
-                None
-            }
-            Some(Err(other)) => Some(other),
-            None => None,
-        };
-        if let Some(Ok(field)) = value.map(|v| v.downcast::<Option<crate::props::Field>>()) {
-            if let Some(crate::props::Field::Cells(a)) = *field {
-                arrays.push(a);
-            }
+        let Entry { value, inputs, .. } = entry;
+        let mut arrays: Vec<Arc<Vec<f64>>> = inputs
+            .into_iter()
+            .filter_map(|input| input.downcast::<Vec<f64>>().ok())
+            .collect();
+        let mut flags = None;
+        if let Some(a) = value.downcast_ref::<Arc<Vec<f64>>>() {
+            arrays.push(a.clone());
+        } else if let Some(Some(crate::props::Field::Cells(a))) =
+            value.downcast_ref::<Option<crate::props::Field>>()
+        {
+            arrays.push(a.clone());
+        } else if let Some(f) = value.downcast_ref::<Arc<Vec<bool>>>() {
+            flags = Some(f.clone());
         }
-        for input in entry._inputs {
-            if let Ok(a) = input.downcast::<Vec<f64>>() {
-                arrays.push(a);
-            }
-        }
+        // The entry's own hold goes first, so that ours may be the last.
+        drop(value);
         for a in arrays {
             if let Ok(v) = Arc::try_unwrap(a) {
                 self.keep_spare(v);
             }
+        }
+        if let Some(Ok(v)) = flags.map(Arc::try_unwrap) {
+            self.keep_flag_spare(v);
         }
     }
 }
@@ -273,7 +264,7 @@ impl Reuse {
             key,
             Entry {
                 value: Box::new(value.clone()),
-                _inputs: inputs.to_vec(),
+                inputs: inputs.to_vec(),
                 used: now,
             },
         );
