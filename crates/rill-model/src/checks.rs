@@ -12,11 +12,7 @@ use rill_units::{display_unit, Kind, System};
 use std::collections::HashSet;
 use std::sync::Arc;
 
-const PSI: f64 = 6894.757293168;
-const MD: f64 = 9.869233e-16;
-const CP: f64 = 1e-3;
-const FT: f64 = 0.3048;
-const INCH: f64 = 0.0254;
+use rill_units::factors::{CP, FT, IN as INCH, MD, PSI};
 
 /// How many values match `bad`, and the first that does, in one parallel
 /// pass (per-cell arrays hold a million values, checked on every edit).

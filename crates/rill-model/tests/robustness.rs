@@ -1,13 +1,18 @@
 //! The checker never panics, whatever the deck: random and mutated decks
-//! from the examples and fixtures go through the whole analysis. And the
-//! formatter keeps the diagnostics of every example and fixture the same.
+//! from the examples and fixtures go through the whole analysis. Results
+//! kept between analyses (as the language server keeps them) never change
+//! what an analysis finds. And the formatter keeps the diagnostics of every
+//! example and fixture the same.
 //!
 //! Case counts come from `PROPTEST_CASES`; the default keeps CI fast, and
 //! `scripts/fuzz-checker` runs a campaign of a million cases.
 
 use proptest::prelude::*;
-use rill_model::{analyze_text, MemorySource};
+use rill_model::reuse::Reuse;
+use rill_model::{analyze_text, MemorySource, Source, SourceError};
+use std::collections::HashMap;
 use std::path::{Path, PathBuf};
+use std::sync::{Arc, Mutex};
 
 fn root() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("../..")
@@ -52,6 +57,47 @@ fn source_for(path: &Path) -> MemorySource {
         }
     }
     s
+}
+
+/// Numbers of an array file with the bytes they were parsed from.
+type ParsedArray = (Arc<[u8]>, Arc<Vec<f64>>);
+
+/// Files in memory that keep parsed arrays and derived results between
+/// analyses, as the language server's source does.
+struct KeepingSource {
+    files: MemorySource,
+    parsed: Mutex<HashMap<PathBuf, ParsedArray>>,
+    reuse: Reuse,
+}
+
+impl KeepingSource {
+    fn new(files: MemorySource) -> Self {
+        KeepingSource {
+            files,
+            parsed: Mutex::new(HashMap::new()),
+            reuse: Reuse::new(),
+        }
+    }
+}
+
+impl Source for KeepingSource {
+    fn read(&self, path: &Path) -> Result<Arc<[u8]>, SourceError> {
+        self.files.read(path)
+    }
+    fn parsed_numbers(&self, path: &Path, bytes: &Arc<[u8]>) -> Option<Arc<Vec<f64>>> {
+        let parsed = self.parsed.lock().unwrap();
+        let (held, numbers) = parsed.get(path)?;
+        Arc::ptr_eq(held, bytes).then(|| numbers.clone())
+    }
+    fn keep_parsed_numbers(&self, path: &Path, bytes: &Arc<[u8]>, numbers: &Arc<Vec<f64>>) {
+        self.parsed
+            .lock()
+            .unwrap()
+            .insert(path.to_path_buf(), (bytes.clone(), numbers.clone()));
+    }
+    fn reuse(&self) -> Option<&Reuse> {
+        Some(&self.reuse)
+    }
 }
 
 /// Spans must lie on character boundaries inside their file.
@@ -165,6 +211,35 @@ proptest! {
         }
         let a = analyze_text(path, &t, &source_for(path));
         assert_spans_sane(&a);
+    }
+
+    /// A deck edited step by step, as typed, analysed through a source that
+    /// keeps results: each version's case and diagnostics equal those of a
+    /// fresh analysis. Spare buffers come in between now and then.
+    #[test]
+    fn kept_results_never_change_an_analysis(
+        pick in any::<usize>(),
+        steps in prop::collection::vec((mutation(), any::<bool>()), 1..6),
+    ) {
+        let decks = decks();
+        let (path, text) = &decks[pick % decks.len()];
+        let files = source_for(path);
+        let keeping = KeepingSource::new(files.clone());
+        let mut t = text.clone();
+        let first = analyze_text(path, &t, &keeping);
+        if let Some(case) = &first.case {
+            keeping.reuse.prepare(case.grid.cell_count(), 2);
+        }
+        for (m, prepare) in &steps {
+            t = apply(&t, m);
+            let kept = analyze_text(path, &t, &keeping);
+            let fresh = analyze_text(path, &t, &files);
+            prop_assert_eq!(&kept.diagnostics, &fresh.diagnostics);
+            prop_assert_eq!(&kept.case, &fresh.case);
+            if let (true, Some(case)) = (*prepare, &kept.case) {
+                keeping.reuse.prepare(case.grid.cell_count(), 2);
+            }
+        }
     }
 
     #[test]

@@ -289,18 +289,27 @@ impl UnitDef {
     }
 }
 
-// NIST Special Publication 811 (2008), Appendix B.
-const FT: f64 = 0.3048;
-const IN: f64 = 0.0254;
-const LB: f64 = 0.45359237;
-/// Standard acceleration of gravity, m/s^2 (exact by definition).
-const G_N: f64 = 9.80665;
-const LBF: f64 = LB * G_N;
-/// lbf / in^2 = 6894.757293168...
-const PSI: f64 = LBF / (IN * IN);
-const BBL: f64 = 0.158987294928;
-const DARCY: f64 = 9.869233e-13;
-const DAY: f64 = 86400.0;
+/// SI values of the units the checks and the registry are built on, from
+/// NIST Special Publication 811 (2008), Appendix B: one place for them, so
+/// that a limit written as `20_000.0 * MD` means exactly what `20000 md`
+/// does in a deck.
+pub mod factors {
+    pub const FT: f64 = 0.3048;
+    pub const IN: f64 = 0.0254;
+    pub const LB: f64 = 0.45359237;
+    /// Standard acceleration of gravity, m/s^2 (exact by definition).
+    pub const G_N: f64 = 9.80665;
+    pub const LBF: f64 = LB * G_N;
+    /// lbf / in^2 = 6894.757293168...
+    pub const PSI: f64 = LBF / (IN * IN);
+    pub const BBL: f64 = 0.158987294928;
+    pub const DARCY: f64 = 9.869233e-13;
+    pub const MD: f64 = DARCY * 1e-3;
+    /// Centipoise, Pa s.
+    pub const CP: f64 = 1e-3;
+    pub const DAY: f64 = 86400.0;
+}
+use factors::{BBL, DARCY, DAY, FT, IN, LB, LBF, MD, PSI};
 
 const fn def(name: &'static str, factor: f64, dim: Dim, description: &'static str) -> UnitDef {
     UnitDef {
@@ -333,12 +342,7 @@ static REGISTRY: &[UnitDef] = &[
         Dim::PERMEABILITY,
         "darcy (9.869233e-13 m^2)",
     ),
-    def(
-        "md",
-        DARCY * 1e-3,
-        Dim::PERMEABILITY,
-        "millidarcy (9.869233e-16 m^2)",
-    ),
+    def("md", MD, Dim::PERMEABILITY, "millidarcy (9.869233e-16 m^2)"),
     def(
         "mD",
         DARCY * 1e-3,
@@ -440,7 +444,7 @@ static REGISTRY: &[UnitDef] = &[
         "standard cubic metre (surface volume)",
     ),
     // viscosity
-    def("cP", 1e-3, Dim::VISCOSITY, "centipoise (1e-3 Pa s)"),
+    def("cP", factors::CP, Dim::VISCOSITY, "centipoise (1e-3 Pa s)"),
     // mass
     def("kg", 1.0, Dim::MASS, "kilogram"),
     def("g", 1e-3, Dim::MASS, "gram"),
