@@ -227,6 +227,25 @@ async def test_completion_offers_units_after_a_number(client: LanguageClient, wo
     assert "md" in labels, labels
 
 
+async def test_completion_offers_array_files_from_the_workspace(client: LanguageClient, workspace: Path):
+    (workspace / "arrays").mkdir(exist_ok=True)
+    (workspace / "arrays" / "kx-east.txt").write_text("50\n")
+    deck = workspace / "block.rill"
+    text = deck.read_text().replace("  kx = 50 md", '  kx = file "arrays/"', 1)
+    uri = open_deck(client, deck, text)
+    lines = text.split("\n")
+    line = next(i for i, l in enumerate(lines) if l.startswith('  kx = file "arrays/'))
+    items = await client.text_document_completion_async(
+        types.CompletionParams(
+            text_document=types.TextDocumentIdentifier(uri=uri),
+            position=types.Position(line=line, character=len('  kx = file "arrays/')),
+        )
+    )
+    items = items.items if hasattr(items, "items") else items
+    assert [i.label for i in items] == ["kx-east.txt"], [i.label for i in items]
+    assert items[0].kind == types.CompletionItemKind.File
+
+
 async def test_formatting_gives_the_canonical_layout(client: LanguageClient, workspace: Path):
     deck = workspace / "block.rill"
     messy = deck.read_text().replace("  porosity = 0.2\n", "      porosity   =   0.2\n")

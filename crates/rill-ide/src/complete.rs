@@ -10,7 +10,11 @@ use rill_model::schema::{self, BlockDef, KeyDef, LabelRule, ValueKind};
 use rill_syntax::{AtomKind, Block, Item, Span};
 use rill_units::Dim;
 
-pub(crate) fn completion(snap: &Snapshot, offset: usize) -> Vec<CompletionItem> {
+pub(crate) fn completion(
+    snap: &Snapshot,
+    offset: usize,
+    files: Option<&dyn rill_model::Source>,
+) -> Vec<CompletionItem> {
     let off = snap.clamp(offset);
     let text = snap.text();
     let line_start = text[..off].rfind(['\n', '\r']).map_or(0, |p| p + 1);
@@ -62,6 +66,16 @@ pub(crate) fn completion(snap: &Snapshot, offset: usize) -> Vec<CompletionItem> 
                 .into_iter()
                 .map(|name| well_item(&name, escape_str(&name), Span::new(content_start, end)))
                 .collect();
+        }
+        // `include "more/|` and `kx = file "arrays/|`: names in that folder.
+        let is_include = before_quote == "include";
+        let is_array =
+            before_quote.split_whitespace().last() == Some("file") && before_quote.contains('=');
+        if let (true, Some(files)) = (is_include || is_array, files) {
+            let content_start = line_start + str_start + 1;
+            let rest = &text[off..line_end];
+            let end = rest.find('"').map_or(off, |p| off + p);
+            return path_items(snap, files, Span::new(content_start, off), end, is_include);
         }
         return Vec::new();
     }
@@ -129,6 +143,65 @@ pub(crate) fn completion(snap: &Snapshot, offset: usize) -> Vec<CompletionItem> 
 
 fn escape_str(s: &str) -> String {
     s.replace('\\', "\\\\").replace('"', "\\\"")
+}
+
+/// Entries of the folder typed so far in `typed` (a path relative to the
+/// deck): decks for an include, other files for an array, and folders.
+/// Each item replaces the last path segment up to `end`.
+fn path_items(
+    snap: &Snapshot,
+    files: &dyn rill_model::Source,
+    typed: Span,
+    end: usize,
+    decks: bool,
+) -> Vec<CompletionItem> {
+    let written = &snap.text()[typed.start..typed.end];
+    if written.contains('\\') {
+        return Vec::new(); // escapes: not a plain path
+    }
+    let cut = written.rfind('/').map_or(0, |p| p + 1);
+    let (folder, prefix) = written.split_at(cut);
+    let dir =
+        rill_model::source::resolve(snap.path(), if folder.is_empty() { "." } else { folder });
+    let replace = Span::new(typed.start + cut, end.max(typed.end));
+    let mut items: Vec<CompletionItem> = files
+        .list(&dir)
+        .into_iter()
+        .filter(|(name, is_dir)| {
+            name.starts_with(prefix)
+                && !name.contains(['"', '\\'])
+                && (*is_dir || name.ends_with(".rill") == decks)
+        })
+        .map(|(name, is_dir)| {
+            let label = if is_dir { format!("{name}/") } else { name };
+            CompletionItem {
+                kind: if is_dir {
+                    CompletionKind::Folder
+                } else {
+                    CompletionKind::File
+                },
+                detail: Some(
+                    if is_dir {
+                        "folder"
+                    } else if decks {
+                        "deck"
+                    } else {
+                        "array file"
+                    }
+                    .into(),
+                ),
+                documentation: None,
+                insert_text: label.clone(),
+                snippet: false,
+                replace,
+                // Folders after files, each by name.
+                sort_text: format!("{}{label}", u8::from(is_dir)),
+                label,
+            }
+        })
+        .collect();
+    items.sort_by(|a, b| a.sort_text.cmp(&b.sort_text));
+    items
 }
 
 fn well_item(name: &str, insert: String, replace: Span) -> CompletionItem {

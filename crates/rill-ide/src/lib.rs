@@ -85,6 +85,10 @@ pub enum CompletionKind {
     Keyword,
     /// Another property of the same block, for arithmetic (`0.1 * kx`).
     Reference,
+    /// A file name inside `include "..."` or `file "..."`.
+    File,
+    /// A folder name there (its item ends with `/`).
+    Folder,
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -294,7 +298,13 @@ impl Snapshot {
 
     /// Completion items at the cursor; works on incomplete text.
     pub fn completion(&self, offset: usize) -> Vec<CompletionItem> {
-        complete::completion(self, offset)
+        complete::completion(self, offset, None)
+    }
+
+    /// [`Snapshot::completion`], with file and folder names from `files`
+    /// inside `include "..."` (decks) and `file "..."` (array files).
+    pub fn completion_with_files(&self, offset: usize, files: &dyn Source) -> Vec<CompletionItem> {
+        complete::completion(self, offset, Some(files))
     }
 
     /// The outline of the open document.

@@ -211,3 +211,34 @@ fn patch_selectors_not_yet_given() {
     let (text, off) = typed("  patch i = 2..3", "  patch i = ");
     assert!(snap(&text).completion(off).is_empty());
 }
+
+#[test]
+fn file_and_folder_names_inside_include_and_file_strings() {
+    let files = rill_model::MemorySource::new()
+        .with("arrays/kx.txt", "1")
+        .with("arrays/phi.txt", "1")
+        .with("arrays/old/kx.txt", "1")
+        .with("wells.rill", "")
+        .with("notes.txt", "");
+    // An array file: other files and folders, the last segment replaced.
+    let (text, off) = typed("  ky = kx", "  kz = file \"arrays/");
+    let s = snap(&text);
+    let items = s.completion_with_files(off, &files);
+    assert_eq!(labels(&items), ["kx.txt", "phi.txt", "old/"]);
+    assert!(items.iter().all(|i| i.replace == Span::new(off, off)));
+    assert_eq!(items[2].kind, CompletionKind::Folder);
+    assert_eq!(items[0].kind, CompletionKind::File);
+    let (text, off) = typed("  ky = kx", "  kz = file \"arrays/p");
+    let items = snap(&text).completion_with_files(off, &files);
+    assert_eq!(labels(&items), ["phi.txt"]);
+    assert_eq!(items[0].replace, Span::new(off - 1, off));
+    // An include: decks and folders only.
+    let text = format!("{BASE}include \"");
+    let off = text.len();
+    let items = snap(&text).completion_with_files(off, &files);
+    assert_eq!(labels(&items), ["wells.rill", "arrays/"]);
+    // Without a source to list, and in other strings, nothing.
+    assert!(snap(&text).completion(off).is_empty());
+    let (text, off) = typed("  ky = kx", "  kz = \"arrays/");
+    assert!(snap(&text).completion_with_files(off, &files).is_empty());
+}

@@ -56,6 +56,14 @@ fn query_everywhere(s: &Snapshot) {
         for c in s.completion(off) {
             assert!(in_text(text, c.replace), "replace {:?} at {off}", c.replace);
         }
+        // With files to list: names in the deck's folder and a subfolder.
+        let files = rill_model::MemorySource::new()
+            .with("a/kx.txt", "1")
+            .with("wells.rill", "")
+            .with("Ω😀/x.txt", "1");
+        for c in s.completion_with_files(off, &files) {
+            assert!(in_text(text, c.replace), "replace {:?} at {off}", c.replace);
+        }
         if let Some(t) = s.definition(off) {
             if t.file == s.path() {
                 assert!(in_text(text, t.span));

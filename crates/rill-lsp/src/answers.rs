@@ -36,6 +36,8 @@ fn completion_kind(k: ide::CompletionKind) -> lsp::CompletionItemKind {
         K::Well => lsp::CompletionItemKind::VARIABLE,
         K::Keyword => lsp::CompletionItemKind::KEYWORD,
         K::Reference => lsp::CompletionItemKind::REFERENCE,
+        K::File => lsp::CompletionItemKind::FILE,
+        K::Folder => lsp::CompletionItemKind::FOLDER,
     }
 }
 

@@ -352,9 +352,11 @@ impl LanguageServer for Backend {
         };
         let config = self.shared.config();
         let offset = crate::position::offset(&a.rope, p.position, config.encoding);
+        // File names come from the source, which keeps to the workspace.
+        let source = self.shared.source();
         let items: Vec<CompletionItem> = a
             .snap
-            .completion(offset)
+            .completion_with_files(offset, &*source)
             .into_iter()
             .map(|i| answers::completion(&a.rope, i, config.encoding, config.caps.snippets))
             .collect();

@@ -41,6 +41,12 @@ pub trait Source {
     /// Offer parsed numbers of `bytes` for [`Source::parsed_numbers`].
     fn keep_parsed_numbers(&self, _path: &Path, _bytes: &Arc<[u8]>, _numbers: &Arc<Vec<f64>>) {}
 
+    /// The entries of the folder `dir`, as (name, is a folder), for path
+    /// completion in an editor; none by default. Confined like [`Source::read`].
+    fn list(&self, _dir: &Path) -> Vec<(String, bool)> {
+        Vec::new()
+    }
+
     /// Where analyses through this source keep derived arrays and scans for
     /// the next analysis (an editor re-checking on every keystroke). `None`
     /// (the default) computes everything afresh, which suits a single check.
@@ -104,5 +110,26 @@ impl Source for MemorySource {
             .get(&normalize(path))
             .cloned()
             .ok_or(SourceError::NotFound)
+    }
+
+    fn list(&self, dir: &Path) -> Vec<(String, bool)> {
+        let dir = normalize(dir);
+        let mut out: Vec<(String, bool)> = Vec::new();
+        for path in self.files.keys() {
+            let Ok(rest) = path.strip_prefix(&dir) else {
+                continue;
+            };
+            let mut parts = rest.components();
+            let Some(first) = parts.next() else { continue };
+            let entry = (
+                first.as_os_str().to_string_lossy().into_owned(),
+                parts.next().is_some(),
+            );
+            if !out.contains(&entry) {
+                out.push(entry);
+            }
+        }
+        out.sort();
+        out
     }
 }

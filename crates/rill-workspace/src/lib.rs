@@ -169,6 +169,29 @@ impl Source for DiskSource {
     fn reuse(&self) -> Option<&Reuse> {
         self.reuse.as_ref()
     }
+
+    fn list(&self, dir: &Path) -> Vec<(String, bool)> {
+        let Ok(real) = std::fs::canonicalize(normalize(dir)) else {
+            return Vec::new();
+        };
+        if !self.permitted(&real) {
+            return Vec::new();
+        }
+        let Ok(entries) = std::fs::read_dir(&real) else {
+            return Vec::new();
+        };
+        let mut out: Vec<(String, bool)> = entries
+            .flatten()
+            .filter_map(|e| {
+                let name = e.file_name().to_string_lossy().into_owned();
+                // Hidden files are left out, as file pickers do.
+                let is_dir = std::fs::metadata(e.path()).ok()?.is_dir();
+                (!name.starts_with('.')).then_some((name, is_dir))
+            })
+            .collect();
+        out.sort();
+        out
+    }
 }
 
 #[cfg(test)]
@@ -238,6 +261,23 @@ mod tests {
         std::fs::write(&p, "1 2 3").unwrap();
         let changed = s.read(&p).unwrap();
         assert!(s.parsed_numbers(&p, &changed).is_none());
+    }
+
+    #[test]
+    fn listing_is_confined_and_skips_hidden_files() {
+        let inside = tempfile::tempdir().unwrap();
+        let outside = tempfile::tempdir().unwrap();
+        std::fs::write(inside.path().join("kx.txt"), "1").unwrap();
+        std::fs::write(inside.path().join(".hidden"), "1").unwrap();
+        std::fs::create_dir(inside.path().join("arrays")).unwrap();
+        std::fs::write(outside.path().join("secret.txt"), "x").unwrap();
+        let s = DiskSource::confined(vec![inside.path().to_path_buf()], vec![]);
+        assert_eq!(
+            s.list(inside.path()),
+            vec![("arrays".to_string(), true), ("kx.txt".to_string(), false)]
+        );
+        assert!(s.list(outside.path()).is_empty());
+        assert!(s.list(&inside.path().join("nope")).is_empty());
     }
 
     #[test]
