@@ -69,8 +69,10 @@ pub(crate) fn completion(
         }
         // `include "more/|` and `kx = file "arrays/|`: names in that folder.
         let is_include = before_quote == "include";
-        let is_array =
-            before_quote.split_whitespace().last() == Some("file") && before_quote.contains('=');
+        // `kx = file "`, also written `kx=file "`.
+        let is_array = before_quote.strip_suffix("file").is_some_and(|key| {
+            key.ends_with(|c: char| c == '=' || c.is_whitespace()) && key.trim_end().ends_with('=')
+        });
         if let (true, Some(files)) = (is_include || is_array, files) {
             let content_start = line_start + str_start + 1;
             let rest = &text[off..line_end];

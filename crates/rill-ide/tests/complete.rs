@@ -228,7 +228,7 @@ fn file_and_folder_names_inside_include_and_file_strings() {
     assert!(items.iter().all(|i| i.replace == Span::new(off, off)));
     assert_eq!(items[2].kind, CompletionKind::Folder);
     assert_eq!(items[0].kind, CompletionKind::File);
-    let (text, off) = typed("  ky = kx", "  kz = file \"arrays/p");
+    let (text, off) = typed("  ky = kx", "  kz=file \"arrays/p");
     let items = snap(&text).completion_with_files(off, &files);
     assert_eq!(labels(&items), ["phi.txt"]);
     assert_eq!(items[0].replace, Span::new(off - 1, off));
@@ -240,5 +240,7 @@ fn file_and_folder_names_inside_include_and_file_strings() {
     // Without a source to list, and in other strings, nothing.
     assert!(snap(&text).completion(off).is_empty());
     let (text, off) = typed("  ky = kx", "  kz = \"arrays/");
+    assert!(snap(&text).completion_with_files(off, &files).is_empty());
+    let (text, off) = typed("  ky = kx", "  kz = profile \"arrays/");
     assert!(snap(&text).completion_with_files(off, &files).is_empty());
 }
