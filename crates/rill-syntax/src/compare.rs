@@ -5,6 +5,7 @@
 //! `rill fmt --check`, tests and fuzzing).
 
 use crate::ast::*;
+use crate::expr::{Expr, ExprError, Factor, OpAt, Term};
 
 /// The items with every span set to `0..0`, so that `==` compares meaning.
 pub fn strip_spans(items: &[Item]) -> Vec<Item> {
@@ -40,6 +41,13 @@ fn strip_item(item: &Item) -> Item {
             value: Value {
                 atoms: s.value.atoms.iter().map(strip_atom).collect(),
                 span: Z,
+                expr: s.value.expr.as_ref().map(|e| match e {
+                    Ok(e) => Ok(strip_expr(e)),
+                    Err(ExprError::MissingOperand { .. }) => {
+                        Err(ExprError::MissingOperand { at: Z })
+                    }
+                    Err(other) => Err(*other),
+                }),
             },
             span: Z,
         }),
@@ -92,4 +100,27 @@ fn strip_atom(a: &Atom) -> Atom {
         },
     };
     Atom { kind, span: Z }
+}
+
+fn strip_expr(e: &Expr) -> Expr {
+    let op = |o: &Option<OpAt>| o.map(|o| OpAt { op: o.op, span: Z });
+    Expr {
+        terms: e
+            .terms
+            .iter()
+            .map(|t| Term {
+                op: op(&t.op),
+                factors: t
+                    .factors
+                    .iter()
+                    .map(|f| Factor {
+                        op: op(&f.op),
+                        operand: strip_atom(&f.operand),
+                    })
+                    .collect(),
+                span: Z,
+            })
+            .collect(),
+        span: Z,
+    }
 }

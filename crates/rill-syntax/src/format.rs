@@ -45,6 +45,8 @@ use crate::ast::*;
 /// Line width that wrapping and one-line blocks respect.
 pub const WIDTH: usize = 100;
 
+/// Formats `file`, parsed from `text`, in the canonical layout; a file with
+/// syntax errors (or another text) is returned unchanged.
 pub fn format(file: &SourceFile, text: &str) -> String {
     if !file.errors.is_empty() || file.len != text.len() {
         return text.to_string();

@@ -11,6 +11,10 @@
 //! - [`format()`]: the canonical layout (rules in the [`format`](mod@format)
 //!   module doc); a pure function of the tree.
 //! - [`same_meaning`] / [`strip_spans`]: tree equality up to spans.
+//! - [`Expr`]: the arithmetic of a value (`0.1 * kx + 5 md`), held flat as
+//!   a sum of products, in [`Value::expr`].
+//! - [`LineIndex`]: byte offsets to lines and columns with the language's
+//!   line breaks, shared by every front end.
 //!
 //! # Spans
 //! Byte offsets into the parsed text, always on `char` boundaries. The span
@@ -74,15 +78,21 @@
 //! - Blocks, lists and tuples nest at most [`MAX_DEPTH`] levels together; a
 //!   deeper one is one error and is skipped without recursion.
 
+#![warn(missing_docs)]
+
 pub mod ast;
 mod compare;
+pub mod expr;
 pub mod format;
 mod lexer;
+pub mod lines;
 mod parser;
 
 pub use ast::*;
 pub use compare::{same_meaning, strip_spans};
+pub use expr::{parse_expr, Expr, ExprError, Factor, OpAt, Term};
 pub use format::WIDTH;
+pub use lines::LineIndex;
 pub use parser::MAX_DEPTH;
 
 /// Parses a case file. Never panics; runs in time linear in the text.

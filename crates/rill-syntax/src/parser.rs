@@ -268,6 +268,7 @@ impl<'a> Parser<'a> {
             key,
             eq,
             value: Value {
+                expr: crate::expr::parse_expr(&atoms),
                 atoms,
                 span: value_span,
             },
