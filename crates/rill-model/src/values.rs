@@ -120,9 +120,10 @@ fn swap_volume_names(text: &str, to_surface: bool) -> Option<String> {
 }
 
 /// Dimension with surface volume counted as geometric volume: equal for two
-/// dimensions that differ only in the kind of volume.
-fn collapse(d: Dim) -> Dim {
-    Dim::new(d.l + 3 * d.s, d.m, d.t, 0)
+/// dimensions that differ only in the kind of volume. Wider than `i8`,
+/// because a unit may carry exponents up to the limits of `Dim`.
+fn collapse(d: Dim) -> (i32, i8, i8) {
+    (i32::from(d.l) + 3 * i32::from(d.s), d.m, d.t)
 }
 
 /// Format a number compactly for fixes: `1.0204`, `2.5e-6`.

@@ -3,15 +3,21 @@
 //! arithmetic on properties of the same block and scalars (`0.1 * kx`,
 //! `kx * 2 + 5 md`). Expressions are read first, then evaluated in
 //! dependency order so that references see the final (patched) values.
+//! The arithmetic itself (lowering, dimensions, evaluation) is in [`expr`].
+
+mod expr;
+
+use expr::Operands;
+pub use expr::{check_result_dim, evaluate, evaluate_kept, infer_dim, Expr};
 
 use crate::arrays;
 use crate::diagnostic::{Diagnostic, Location};
 use crate::reuse::{kept, Reuse};
 use crate::source::{resolve, Source};
-use crate::values::{checked_unit, describe_expected, describe_found, Gauge, Reporter};
+use crate::values::{checked_unit, Gauge, Reporter};
 use crate::{CellValues, FileInfo};
 use rayon::prelude::*;
-use rill_syntax::{Atom, AtomKind, Op, Span, UnitExpr, Value};
+use rill_syntax::{Atom, AtomKind, Span, UnitExpr, Value};
 use rill_units::Dim;
 use std::collections::HashMap;
 use std::path::PathBuf;
@@ -99,54 +105,6 @@ impl Field {
         match self {
             Field::Cells(v) => v.as_ref().clone(),
             _ => (0..shape.cells()).map(|c| self.at(c, shape)).collect(),
-        }
-    }
-}
-
-/// A parsed property expression.
-#[derive(Debug, Clone)]
-pub enum Expr {
-    /// A number with its SI value and dimension; `bare` when written without a unit.
-    Const {
-        si: f64,
-        dim: Dim,
-        bare: bool,
-        span: Span,
-    },
-    Data {
-        field: Field,
-        dim: Dim,
-        span: Span,
-    },
-    Ref {
-        name: String,
-        span: Span,
-    },
-    Bin {
-        op: Op,
-        lhs: Box<Expr>,
-        rhs: Box<Expr>,
-        span: Span,
-    },
-}
-
-impl Expr {
-    pub fn span(&self) -> Span {
-        match self {
-            Expr::Const { span, .. }
-            | Expr::Data { span, .. }
-            | Expr::Ref { span, .. }
-            | Expr::Bin { span, .. } => *span,
-        }
-    }
-    pub fn refs(&self, out: &mut Vec<(String, Span)>) {
-        match self {
-            Expr::Ref { name, span } => out.push((name.clone(), *span)),
-            Expr::Bin { lhs, rhs, .. } => {
-                lhs.refs(out);
-                rhs.refs(out);
-            }
-            _ => {}
         }
     }
 }
@@ -412,29 +370,13 @@ impl PropReader<'_> {
                 });
             }
         }
-        let mut parser = ExprParser {
-            atoms,
-            pos: 0,
-            r,
-            key,
-            gauge,
+        Operands {
             expected,
+            gauge,
+            key,
             arithmetic: forms.arithmetic,
-        };
-        let expr = parser.sum()?;
-        if let Some(extra) = atoms.get(parser.pos) {
-            let r = parser.r;
-            r.push(Diagnostic::error(
-                "deck.value",
-                r.loc(extra.span),
-                format!(
-                    "unexpected {} after the value of `{key}`",
-                    atom_words(&extra.kind)
-                ),
-            ));
-            return None;
         }
-        Some(expr)
+        .lower(r, value)
     }
 
     #[allow(clippy::too_many_arguments)]
@@ -640,340 +582,6 @@ impl PropReader<'_> {
     }
 }
 
-struct ExprParser<'a, 'r, 'd> {
-    atoms: &'a [Atom],
-    pos: usize,
-    r: &'r mut Reporter<'d>,
-    key: &'a str,
-    gauge: Gauge,
-    expected: Dim,
-    arithmetic: bool,
-}
-
-impl ExprParser<'_, '_, '_> {
-    fn peek_op(&self) -> Option<Op> {
-        match self.atoms.get(self.pos).map(|a| &a.kind) {
-            Some(AtomKind::Op(op)) => Some(*op),
-            _ => None,
-        }
-    }
-
-    fn sum(&mut self) -> Option<Expr> {
-        let mut lhs = self.product()?;
-        while let Some(op @ (Op::Add | Op::Sub)) = self.peek_op() {
-            self.pos += 1;
-            let rhs = self.product()?;
-            let span = lhs.span().join(rhs.span());
-            lhs = Expr::Bin {
-                op,
-                lhs: Box::new(lhs),
-                rhs: Box::new(rhs),
-                span,
-            };
-        }
-        Some(lhs)
-    }
-
-    fn product(&mut self) -> Option<Expr> {
-        let mut lhs = self.operand()?;
-        while let Some(op @ (Op::Mul | Op::Div)) = self.peek_op() {
-            self.pos += 1;
-            let rhs = self.operand()?;
-            let span = lhs.span().join(rhs.span());
-            lhs = Expr::Bin {
-                op,
-                lhs: Box::new(lhs),
-                rhs: Box::new(rhs),
-                span,
-            };
-        }
-        Some(lhs)
-    }
-
-    fn operand(&mut self) -> Option<Expr> {
-        let Some(atom) = self.atoms.get(self.pos) else {
-            let end = self
-                .atoms
-                .last()
-                .map(|a| Span::new(a.span.end, a.span.end))
-                .unwrap_or_default();
-            self.r.push(Diagnostic::error(
-                "deck.value",
-                self.r.loc(end),
-                format!("`{}` expects a value after the operator", self.key),
-            ));
-            return None;
-        };
-        self.pos += 1;
-        let in_arithmetic = self.atoms.len() > 1;
-        if in_arithmetic && !self.arithmetic {
-            self.r.push(Diagnostic::error(
-                "deck.value",
-                self.r.loc(atom.span),
-                format!(
-                    "`{}` takes a single value here, not an expression",
-                    self.key
-                ),
-            ));
-            return None;
-        }
-        match &atom.kind {
-            AtomKind::Number { value, unit, .. } => {
-                if unit.is_none() {
-                    return Some(Expr::Const {
-                        si: *value,
-                        dim: Dim::NONE,
-                        bare: true,
-                        span: atom.span,
-                    });
-                }
-                let u = match rill_units::parse(&unit.as_ref()?.text) {
-                    // A term of another dimension inside arithmetic (`0.5 * kx`, `kx / 2 md`):
-                    // its dimension is checked when the whole expression's is inferred.
-                    Ok(u) if in_arithmetic && u.dim != self.expected && !u.gauge => u,
-                    // A lone value, or a term of the expected dimension: full checks and fixes.
-                    _ => {
-                        let gauge = if in_arithmetic {
-                            Gauge::Refused
-                        } else {
-                            self.gauge
-                        };
-                        checked_unit(
-                            self.r,
-                            *value,
-                            atom.span,
-                            unit.as_ref(),
-                            self.expected,
-                            gauge,
-                            self.key,
-                        )?
-                    }
-                };
-                Some(Expr::Const {
-                    si: u.to_si(*value),
-                    dim: u.dim,
-                    bare: false,
-                    span: atom.span,
-                })
-            }
-            AtomKind::Ident(name) if self.arithmetic => Some(Expr::Ref {
-                name: name.clone(),
-                span: atom.span,
-            }),
-            other => {
-                self.r.push(Diagnostic::error(
-                    "deck.value",
-                    self.r.loc(atom.span),
-                    format!(
-                        "`{}` expects {}, found {}",
-                        self.key,
-                        describe_expected(self.expected),
-                        atom_words(other)
-                    ),
-                ));
-                None
-            }
-        }
-    }
-}
-
-/// The dimension of an expression, reporting mismatches. `dims` gives the
-/// dimension of each referenced property.
-pub fn infer_dim(
-    r: &mut Reporter,
-    e: &Expr,
-    dims: &dyn Fn(&str) -> Option<Dim>,
-    key: &str,
-) -> Option<Dim> {
-    match e {
-        Expr::Const { dim, .. } | Expr::Data { dim, .. } => Some(*dim),
-        Expr::Ref { name, .. } => dims(name),
-        Expr::Bin { op, lhs, rhs, .. } => {
-            let a = infer_dim(r, lhs, dims, key)?;
-            let b = infer_dim(r, rhs, dims, key)?;
-            match op {
-                Op::Mul => Some(a * b),
-                Op::Div => Some(a / b),
-                Op::Add | Op::Sub => {
-                    if a == b {
-                        return Some(a);
-                    }
-                    // A bare number added to a dimensional term lacks its unit.
-                    let (bare, other) = match (&**lhs, &**rhs) {
-                        (
-                            Expr::Const {
-                                bare: true, span, ..
-                            },
-                            _,
-                        ) => (Some(*span), b),
-                        (
-                            _,
-                            Expr::Const {
-                                bare: true, span, ..
-                            },
-                        ) => (Some(*span), a),
-                        _ => (None, a),
-                    };
-                    if let Some(span) = bare {
-                        let mut d = Diagnostic::error(
-                            "unit.missing",
-                            r.loc(span),
-                            format!(
-                                "a bare number is added to {} in `{key}`; give it a unit",
-                                describe_found(other)
-                            ),
-                        );
-                        d = crate::values::with_unit_fixes(d, r, span, other);
-                        r.push(d);
-                    } else {
-                        r.push(Diagnostic::error(
-                            "unit.dimension",
-                            r.loc(e.span()),
-                            format!(
-                                "cannot add {} and {} in `{key}`",
-                                describe_found(a),
-                                describe_found(b)
-                            ),
-                        ));
-                    }
-                    None
-                }
-            }
-        }
-    }
-}
-
-/// [`evaluate`], kept in `reuse` for the next analysis when the expression
-/// computes anything (`0.1 * kx`): the key is the expression's structure
-/// with the values it reads, never its position in the text.
-pub fn evaluate_kept(
-    e: &Expr,
-    shape: Shape,
-    lookup: &dyn Fn(&str) -> Option<Field>,
-    reuse: Option<&Reuse>,
-) -> Option<Field> {
-    if reuse.is_none() || !matches!(e, Expr::Bin { .. }) {
-        return evaluate_in(e, shape, lookup, reuse);
-    }
-    fn encode(
-        e: &Expr,
-        lookup: &dyn Fn(&str) -> Option<Field>,
-        arrays: &mut Vec<Arc<Vec<f64>>>,
-        params: &mut Vec<u64>,
-    ) -> Option<()> {
-        match e {
-            Expr::Const { si, .. } => params.extend([10, si.to_bits()]),
-            Expr::Data { field, .. } => field.encode(arrays, params),
-            Expr::Ref { name, .. } => lookup(name)?.encode(arrays, params),
-            Expr::Bin { op, lhs, rhs, .. } => {
-                let code = match op {
-                    Op::Add => 0,
-                    Op::Sub => 1,
-                    Op::Mul => 2,
-                    Op::Div => 3,
-                };
-                params.extend([11, code]);
-                encode(lhs, lookup, arrays, params)?;
-                encode(rhs, lookup, arrays, params)?;
-            }
-        }
-        Some(())
-    }
-    let mut arrays = Vec::new();
-    let mut params = vec![shape.nx as u64, shape.ny as u64, shape.nz as u64];
-    encode(e, lookup, &mut arrays, &mut params)?;
-    kept(reuse, "expression", &arrays, &params, || {
-        evaluate_in(e, shape, lookup, reuse)
-    })
-}
-
-/// Evaluate an expression over the grid; `lookup` gives the final value of
-/// a referenced property.
-pub fn evaluate(e: &Expr, shape: Shape, lookup: &dyn Fn(&str) -> Option<Field>) -> Option<Field> {
-    evaluate_in(e, shape, lookup, None)
-}
-
-/// [`evaluate`], writing new per-cell arrays into spare buffers of `pool`
-/// and giving it back the intermediate ones.
-fn evaluate_in(
-    e: &Expr,
-    shape: Shape,
-    lookup: &dyn Fn(&str) -> Option<Field>,
-    pool: Option<&Reuse>,
-) -> Option<Field> {
-    match e {
-        Expr::Const { si, .. } => Some(Field::Uniform(*si)),
-        Expr::Data { field, .. } => Some(field.clone()),
-        Expr::Ref { name, .. } => lookup(name),
-        Expr::Bin { op, lhs, rhs, .. } => {
-            let a = evaluate_in(lhs, shape, lookup, pool)?;
-            let b = evaluate_in(rhs, shape, lookup, pool)?;
-            let f = |x: f64, y: f64| match op {
-                Op::Add => x + y,
-                Op::Sub => x - y,
-                Op::Mul => x * y,
-                Op::Div => {
-                    if y == 0.0 {
-                        0.0
-                    } else {
-                        x / y
-                    }
-                }
-            };
-            let out = match (&a, &b) {
-                (Field::Uniform(x), Field::Uniform(y)) => Field::Uniform(f(*x, *y)),
-                (Field::Layers(x), Field::Layers(y)) => {
-                    Field::Layers(x.iter().zip(y).map(|(p, q)| f(*p, *q)).collect())
-                }
-                (Field::Layers(x), Field::Uniform(y)) => {
-                    Field::Layers(x.iter().map(|p| f(*p, *y)).collect())
-                }
-                (Field::Uniform(x), Field::Layers(y)) => {
-                    Field::Layers(y.iter().map(|q| f(*x, *q)).collect())
-                }
-                // Per-cell arrays reach a million values and are evaluated
-                // again whenever an editor's user types in them: keep the
-                // common pairs tight.
-                (Field::Cells(x), Field::Uniform(y)) => {
-                    Field::Cells(Arc::new(cells_from(x.len(), pool, |start, out| {
-                        for (o, p) in out.iter_mut().zip(&x[start..]) {
-                            *o = f(*p, *y);
-                        }
-                    })))
-                }
-                (Field::Uniform(x), Field::Cells(y)) => {
-                    Field::Cells(Arc::new(cells_from(y.len(), pool, |start, out| {
-                        for (o, q) in out.iter_mut().zip(&y[start..]) {
-                            *o = f(*x, *q);
-                        }
-                    })))
-                }
-                (Field::Cells(x), Field::Cells(y)) => {
-                    let n = x.len().min(y.len());
-                    Field::Cells(Arc::new(cells_from(n, pool, |start, out| {
-                        for ((o, p), q) in out.iter_mut().zip(&x[start..]).zip(&y[start..]) {
-                            *o = f(*p, *q);
-                        }
-                    })))
-                }
-                _ => Field::Cells(Arc::new(cells_by_index(shape.cells(), pool, |c| {
-                    f(a.at(c, shape), b.at(c, shape))
-                }))),
-            };
-            if let Some(pool) = pool {
-                for used in [a, b] {
-                    if let Field::Cells(v) = used {
-                        if let Ok(v) = Arc::try_unwrap(v) {
-                            pool.give_back(v);
-                        }
-                    }
-                }
-            }
-            Some(out)
-        }
-    }
-}
-
 /// Cells per parallel task when filling an array: small grids stay on one thread.
 const CHUNK: usize = 1 << 15;
 
@@ -1006,31 +614,4 @@ pub(crate) fn cells_by_index(
             *slot = value(start + o);
         }
     })
-}
-
-/// Report a dimension mismatch between a whole expression and the key.
-pub fn check_result_dim(r: &mut Reporter, e: &Expr, found: Dim, expected: Dim, key: &str) -> bool {
-    if found == expected {
-        return true;
-    }
-    if let Expr::Const {
-        bare: true,
-        span,
-        si,
-        ..
-    } = e
-    {
-        checked_unit(r, *si, *span, None, expected, Gauge::Refused, key);
-        return false;
-    }
-    r.push(Diagnostic::error(
-        "unit.dimension",
-        r.loc(e.span()),
-        format!(
-            "`{key}` expects {}, but this expression is {}",
-            describe_expected(expected),
-            describe_found(found)
-        ),
-    ));
-    false
 }
