@@ -1,11 +1,10 @@
 //! `rill check`: diagnostics rendered with source snippets, or as JSON.
 
-use crate::positions::LineIndex;
+use crate::positions::Sources;
 use crate::Format;
 use codespan_reporting::diagnostic::{
     Diagnostic as CsDiagnostic, Label, LabelStyle, Severity as CsSeverity,
 };
-use codespan_reporting::files::SimpleFiles;
 use codespan_reporting::term::{self, termcolor};
 use rill_model::{Analysis, Severity};
 use rill_workspace::DiskSource;
@@ -58,12 +57,8 @@ fn severity(s: Severity) -> CsSeverity {
 
 /// Render every diagnostic with codespan-reporting, then a one-line summary.
 pub fn render_text(analysis: &Analysis) {
-    let mut files = SimpleFiles::new();
-    let ids: Vec<usize> = analysis
-        .files
-        .iter()
-        .map(|f| files.add(f.path.display().to_string(), f.text.to_string()))
-        .collect();
+    let files = Sources::new(analysis);
+    let ids: Vec<usize> = (0..analysis.files.len()).collect();
     let choice = if std::io::stderr().is_terminal() {
         termcolor::ColorChoice::Auto
     } else {
@@ -121,25 +116,11 @@ pub fn render_text(analysis: &Analysis) {
 
 /// The JSON form of the specification: 1-based lines and columns in Unicode scalar values.
 pub fn to_json(analysis: &Analysis) -> Vec<Value> {
-    let indices: Vec<LineIndex> = analysis
-        .files
-        .iter()
-        .map(|f| LineIndex::new(&f.text))
-        .collect();
+    let sources = Sources::new(analysis);
     let place = |file: usize, start: usize, end: usize| -> (String, usize, usize, usize, usize) {
-        let path = analysis
-            .files
-            .get(file)
-            .map(|f| f.path.display().to_string())
-            .unwrap_or_default();
-        match indices.get(file) {
-            Some(ix) => {
-                let (l, c) = ix.line_col(start);
-                let (el, ec) = ix.line_col(end);
-                (path, l, c, el, ec)
-            }
-            None => (path, 1, 1, 1, 1),
-        }
+        let (l, c) = sources.line_col(file, start);
+        let (el, ec) = sources.line_col(file, end);
+        (sources.name_of(file), l, c, el, ec)
     };
     analysis
         .diagnostics

@@ -353,8 +353,10 @@ pub fn folding_range(rope: &Rope, span: ide::Span, enc: Encoding) -> Option<lsp:
     let a = position::position(rope, span.start, enc);
     // A span that ends just after a line end folds up to the line before.
     let end = if span.end > span.start
-        && rope.byte(span.end.min(rope.len_bytes()).saturating_sub(1)) == b'\n'
-    {
+        && matches!(
+            rope.byte(span.end.min(rope.len_bytes()).saturating_sub(1)),
+            b'\n' | b'\r'
+        ) {
         span.end - 1
     } else {
         span.end

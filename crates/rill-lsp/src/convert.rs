@@ -4,6 +4,7 @@
 
 use crate::position::{self, Encoding};
 use rill_model::{Diagnostic, Fix, Severity};
+use rill_syntax::LineIndex;
 use ropey::Rope;
 use serde_json::{json, Value};
 use std::collections::HashMap;
@@ -11,19 +12,24 @@ use std::path::{Path, PathBuf};
 use tower_lsp::lsp_types as lsp;
 use tower_lsp::lsp_types::Url;
 
-/// The texts of the files that took part in one analysis, as ropes made
-/// only when a diagnostic or an edit needs one (array files can be large).
+/// The texts of the files that took part in one analysis: the document as
+/// a rope, the other files (included decks, array files, which can be
+/// large) with a line index made only when a diagnostic or an edit needs
+/// one.
 pub struct FileTexts<'a> {
     files: Vec<(&'a Path, &'a str)>,
-    ropes: HashMap<usize, Rope>,
+    main: Rope,
+    lines: HashMap<usize, LineIndex>,
 }
 
 impl<'a> FileTexts<'a> {
     /// `main` is the rope of file 0 (the document as analysed).
     pub fn new(files: Vec<(&'a Path, &'a str)>, main: &Rope) -> Self {
-        let mut ropes = HashMap::new();
-        ropes.insert(0, main.clone());
-        FileTexts { files, ropes }
+        FileTexts {
+            files,
+            main: main.clone(),
+            lines: HashMap::new(),
+        }
     }
 
     pub fn len(&self) -> usize {
@@ -38,14 +44,6 @@ impl<'a> FileTexts<'a> {
         self.path(file).and_then(path_uri)
     }
 
-    pub fn rope(&mut self, file: usize) -> Option<&Rope> {
-        if !self.ropes.contains_key(&file) {
-            let text = self.files.get(file)?.1;
-            self.ropes.insert(file, Rope::from_str(text));
-        }
-        self.ropes.get(&file)
-    }
-
     pub fn range(
         &mut self,
         file: usize,
@@ -53,7 +51,15 @@ impl<'a> FileTexts<'a> {
         end: usize,
         enc: Encoding,
     ) -> Option<lsp::Range> {
-        self.rope(file).map(|r| position::range(r, start, end, enc))
+        if file == 0 {
+            return Some(position::range(&self.main, start, end, enc));
+        }
+        let text = self.files.get(file)?.1;
+        let lines = self
+            .lines
+            .entry(file)
+            .or_insert_with(|| LineIndex::new(text));
+        Some(position::text_range(text, lines, start, end, enc))
     }
 }
 

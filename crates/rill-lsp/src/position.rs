@@ -7,6 +7,7 @@
 //! the end of the document, and a UTF-16 column inside a surrogate pair
 //! clamps back to the start of that character.
 
+use rill_syntax::LineIndex;
 use ropey::Rope;
 use tower_lsp::lsp_types::{Position, PositionEncodingKind, Range};
 
@@ -84,6 +85,28 @@ pub fn offset(rope: &Rope, pos: Position, enc: Encoding) -> usize {
     rope.char_to_byte(ch)
 }
 
+/// The protocol position of byte `offset` in a text that is not an open
+/// document (an included deck, an array file), without building a rope
+/// for it: lines from the language's [`LineIndex`], which breaks lines
+/// where the ropes (`cr_lines`) do, at `\n`, `\r\n` and a lone `\r`.
+pub fn text_position(text: &str, lines: &LineIndex, offset: usize, enc: Encoding) -> Position {
+    let (line, col) = match enc {
+        Encoding::Utf8 => lines.line_col_utf8(text, offset),
+        Encoding::Utf16 => lines.line_col_utf16(text, offset),
+    };
+    Position::new(to_u32(line), to_u32(col))
+}
+
+/// The protocol range of bytes `start..end` of a text that is not an open
+/// document (see [`text_position`]).
+pub fn text_range(text: &str, lines: &LineIndex, start: usize, end: usize, enc: Encoding) -> Range {
+    Range::new(
+        text_position(text, lines, start, enc),
+        text_position(text, lines, end, enc),
+    )
+}
+
+/// The protocol range of bytes `start..end` in `rope`.
 pub fn range(rope: &Rope, start: usize, end: usize, enc: Encoding) -> Range {
     Range::new(position(rope, start, enc), position(rope, end, enc))
 }
@@ -208,5 +231,23 @@ mod tests {
             ])),
             Encoding::Utf8
         );
+    }
+
+    #[test]
+    fn shared_line_index_agrees_with_the_rope() {
+        // Every kind of line end, empty lines, a BOM-free multibyte mix,
+        // U+2028 (not a line end for either), and a text without a final break.
+        let text = "a\rΩ\r\n😀b\n\r\r\nx\u{2028}y\u{c}z\r\n\n\ré😀";
+        let r = Rope::from_str(text);
+        let lines = LineIndex::new(text);
+        for offset in 0..=text.len() + 2 {
+            for enc in [Encoding::Utf8, Encoding::Utf16] {
+                assert_eq!(
+                    text_position(text, &lines, offset, enc),
+                    position(&r, offset, enc),
+                    "offset {offset}, {enc:?}"
+                );
+            }
+        }
     }
 }

@@ -8,7 +8,7 @@
 use crate::answers;
 use crate::convert;
 use crate::document::uri_path;
-use crate::position::Encoding;
+use crate::position::{self, Encoding};
 use crate::runner;
 use crate::schedule;
 use crate::settings::Settings;
@@ -504,8 +504,8 @@ impl LanguageServer for Backend {
             // The target's text as analysed; a file start needs none.
             let range = match analysis.files.iter().find(|f| f.path == target.file) {
                 Some(f) if target.span.end > 0 => {
-                    let rope = ropey::Rope::from_str(&f.text);
-                    answers::range(&rope, target.span, enc)
+                    let lines = rill_syntax::LineIndex::new(&f.text);
+                    position::text_range(&f.text, &lines, target.span.start, target.span.end, enc)
                 }
                 _ => Range::default(),
             };

@@ -85,6 +85,17 @@ impl LineIndex {
     }
 }
 
+impl LineIndex {
+    /// 0-based (line, column) of byte `offset` in `text`, the column in
+    /// bytes (UTF-8 code units), with the same clamping as
+    /// [`LineIndex::line_col`].
+    pub fn line_col_utf8(&self, text: &str, offset: usize) -> (usize, usize) {
+        let offset = floor_char_boundary(text, offset);
+        let line = self.line_of(offset);
+        (line, offset - self.starts[line])
+    }
+}
+
 /// `offset` clamped into `text` and moved back to a character boundary.
 fn floor_char_boundary(text: &str, offset: usize) -> usize {
     let mut offset = offset.min(text.len());
