@@ -757,3 +757,77 @@ async fn without_workspace_folders_the_deck_folder_is_the_root() {
         assert_eq!(has("deck.include")(&list), refused, "{inc}: {list:?}");
     }
 }
+
+/// A 100 000-factor product in the rock block, served on threads with
+/// small stacks (the runtime's workers and blocking threads, and the
+/// thread that drives it): the analysis, formatting, semantic tokens,
+/// hover and inlay hints walk the chain without recursing once per factor.
+#[test]
+fn a_100_000_factor_product_is_served_on_small_stacks() {
+    const STACK: usize = 256 * 1024;
+    let runtime = tokio::runtime::Builder::new_multi_thread()
+        .worker_threads(2)
+        .thread_stack_size(STACK)
+        .enable_all()
+        .build()
+        .unwrap();
+    let driver = std::thread::Builder::new()
+        .stack_size(STACK)
+        .spawn(move || runtime.block_on(long_product_session()))
+        .unwrap();
+    driver
+        .join()
+        .expect("the server answered without a stack overflow");
+}
+
+async fn long_product_session() {
+    let dir = tempfile::tempdir().unwrap();
+    let deck = dir.path().join("long.rill");
+    // Ends in `psi`: one dimension error over the whole chain.
+    let chain = format!("kx = 50 md{} * 1 psi", " * 1".repeat(99_998));
+    let text = BLOCK.replace("kx = 50 md", &chain);
+    let line = text.lines().position(|l| l.contains("kx =")).unwrap();
+    std::fs::write(&deck, &text).unwrap();
+    let uri = url(&deck);
+    let mut c = Client::start();
+    c.initialize(dir.path(), &[]).await;
+    c.notify(
+        "textDocument/didOpen",
+        json!({"textDocument": {"uri": uri, "languageId": "rill", "version": 1, "text": text}}),
+    )
+    .await;
+    let list = diagnostics_until(&mut c, &uri, has("unit.dimension")).await;
+    let d = list.iter().find(|d| d["code"] == "unit.dimension").unwrap();
+    assert_eq!(d["range"]["start"]["line"], line);
+    let doc = json!({"uri": uri});
+    let middle = json!({"line": line, "character": 200_000});
+    let formatted = c
+        .request(
+            "textDocument/formatting",
+            json!({"textDocument": doc, "options": {"tabSize": 2, "insertSpaces": true}}),
+        )
+        .await;
+    assert!(formatted.is_null() || formatted.is_array(), "{formatted}");
+    let tokens = c
+        .request(
+            "textDocument/semanticTokens/full",
+            json!({"textDocument": doc}),
+        )
+        .await;
+    // Five numbers per token; at least one token per factor and operator.
+    assert!(tokens["data"].as_array().unwrap().len() >= 5 * 199_996);
+    c.request(
+        "textDocument/hover",
+        json!({"textDocument": doc, "position": middle}),
+    )
+    .await;
+    let end = json!({"line": line + 1, "character": 0});
+    c.request(
+        "textDocument/inlayHint",
+        json!({"textDocument": doc, "range": {"start": {"line": 0, "character": 0}, "end": end}}),
+    )
+    .await;
+    c.request("shutdown", Value::Null).await;
+    c.notify("exit", Value::Null).await;
+    assert_eq!(c.exit_code().await, 0);
+}
