@@ -15,6 +15,9 @@ fn value(text: &str) -> (String, Value) {
     }
 }
 
+/// A term as (operator before it, its operands with theirs, its text).
+type TermWords<'a> = (Option<Op>, Vec<(Option<Op>, &'a str)>, &'a str);
+
 fn words(src: &str, span: Span) -> &str {
     &src[span.start..span.end]
 }
@@ -24,7 +27,7 @@ fn a_sum_of_products_with_spans() {
     let (src, v) = value("kx * 2 + 5 md - ky / 3");
     let e = v.expr.expect("an operator makes an expression").unwrap();
     assert_eq!(words(&src, e.span), "kx * 2 + 5 md - ky / 3");
-    let terms: Vec<(Option<Op>, Vec<(Option<Op>, &str)>, &str)> = e
+    let terms: Vec<TermWords> = e
         .terms
         .iter()
         .map(|t| {
