@@ -322,6 +322,32 @@ fn count_check(
     false
 }
 
+/// Report a value form (`layers`, `cells`, ...) that `key` does not take,
+/// with the forms it does take.
+fn refuse_form(r: &mut Reporter, form: &str, forms: Forms, span: Span, key: &str) {
+    let mut accepted = vec!["a single value"];
+    if forms.layers {
+        accepted.push("`layers [...]`");
+    }
+    if forms.cells {
+        accepted.push("`cells [...]`");
+    }
+    if forms.columns {
+        accepted.push("`columns [...]`");
+    }
+    if forms.file {
+        accepted.push("`file \"...\"`");
+    }
+    r.push(Diagnostic::error(
+        "deck.value",
+        r.loc(span),
+        format!(
+            "`{key}` does not take `{form}`; it takes {}",
+            accepted.join(", ")
+        ),
+    ));
+}
+
 impl PropReader<'_> {
     /// Read a property value into an expression.
     pub fn read(
@@ -398,27 +424,7 @@ impl PropReader<'_> {
             _ => forms.file,
         };
         if !allowed {
-            let mut accepted = vec!["a single value"];
-            if forms.layers {
-                accepted.push("`layers [...]`");
-            }
-            if forms.cells {
-                accepted.push("`cells [...]`");
-            }
-            if forms.columns {
-                accepted.push("`columns [...]`");
-            }
-            if forms.file {
-                accepted.push("`file \"...\"`");
-            }
-            r.push(Diagnostic::error(
-                "deck.value",
-                r.loc(atoms[0].span),
-                format!(
-                    "`{key}` does not take `{form}`; it takes {}",
-                    accepted.join(", ")
-                ),
-            ));
+            refuse_form(r, form, forms, atoms[0].span, key);
             return None;
         }
         let Some(arg) = atoms.get(1) else {
@@ -463,37 +469,7 @@ impl PropReader<'_> {
             }
             (AtomKind::Str { value: name, unit }, "file") => {
                 let unit = checked_unit(r, 1.0, arg.span, unit.as_ref(), expected, gauge, key)?;
-                let raw = self.load_file(r, name, arg.span)?;
-                if raw.len() != want {
-                    r.push(Diagnostic::error(
-                        "grid.array-length",
-                        r.loc(arg.span),
-                        format!(
-                            "`{key}` file \"{name}\" needs {want} values ({what}), found {}",
-                            raw.len()
-                        ),
-                    ));
-                    return None;
-                }
-                if unit.factor == 1.0 && !unit.gauge {
-                    raw
-                } else {
-                    let params = [unit.factor.to_bits(), u64::from(unit.gauge)];
-                    kept(
-                        self.source.reuse(),
-                        "array file in SI",
-                        std::slice::from_ref(&raw),
-                        &params,
-                        || {
-                            let reuse = self.source.reuse();
-                            Arc::new(cells_from(raw.len(), reuse, |start, out| {
-                                for (o, v) in out.iter_mut().zip(&raw[start..]) {
-                                    *o = unit.to_si(*v);
-                                }
-                            }))
-                        },
-                    )
-                }
+                self.file_values(r, name, unit, arg.span, (want, what), key)?
             }
             _ => {
                 r.push(Diagnostic::error(
@@ -523,6 +499,49 @@ impl PropReader<'_> {
             dim: expected,
             span,
         })
+    }
+
+    /// The values of array file `name` in SI, `want` of them (`what` says
+    /// which), read once per analysis and kept converted between analyses.
+    fn file_values(
+        &mut self,
+        r: &mut Reporter,
+        name: &str,
+        unit: rill_units::Unit,
+        span: Span,
+        (want, what): (usize, &str),
+        key: &str,
+    ) -> Option<Arc<Vec<f64>>> {
+        let raw = self.load_file(r, name, span)?;
+        if raw.len() != want {
+            r.push(Diagnostic::error(
+                "grid.array-length",
+                r.loc(span),
+                format!(
+                    "`{key}` file \"{name}\" needs {want} values ({what}), found {}",
+                    raw.len()
+                ),
+            ));
+            return None;
+        }
+        if unit.factor == 1.0 && !unit.gauge {
+            return Some(raw);
+        }
+        let params = [unit.factor.to_bits(), u64::from(unit.gauge)];
+        Some(kept(
+            self.source.reuse(),
+            "array file in SI",
+            std::slice::from_ref(&raw),
+            &params,
+            || {
+                let reuse = self.source.reuse();
+                Arc::new(cells_from(raw.len(), reuse, |start, out| {
+                    for (o, v) in out.iter_mut().zip(&raw[start..]) {
+                        *o = unit.to_si(*v);
+                    }
+                }))
+            },
+        ))
     }
 
     fn load_file(&mut self, r: &mut Reporter, name: &str, span: Span) -> Option<Arc<Vec<f64>>> {
