@@ -8,7 +8,7 @@
 //! product is one `Vec`, not 100 000 nested nodes.
 //!
 //! The parser builds an [`Expr`] for every statement value that contains an
-//! operator ([`Value::expr`]); what an operand means (a number with a unit,
+//! operator ([`Value::expr`](crate::Value::expr)); what an operand means (a number with a unit,
 //! a property name) is for `rill-model` to decide. A value whose atoms do
 //! not alternate operand, operator, operand keeps its atoms and carries an
 //! [`ExprError`] instead, which the model reports in the words of its key.
