@@ -51,7 +51,7 @@ use rayon::prelude::*;
 use super::csr::{split_rows_mut, CsrMatrix};
 use super::direct::{DirectFactor, DirectSymbolic};
 use super::krylov::{dot, Preconditioner};
-use super::sparse::{build_rows, spgemm, SpMat};
+use super::sparse::{build_rows, spgemm};
 use super::LinearError;
 
 /// Smoother of the V-cycle.
@@ -114,9 +114,9 @@ struct Level {
     /// Estimate of rho(D^-1 A) (Chebyshev).
     rho: f64,
     /// Prolongator to this level from the next (n_l x n_{l+1}); none on the coarsest.
-    p: Option<SpMat>,
+    p: Option<CsrMatrix>,
     /// Restriction P^T.
-    r: Option<SpMat>,
+    r: Option<CsrMatrix>,
 }
 
 /// Work vectors of one level.
@@ -160,6 +160,14 @@ impl AmgHierarchy {
         opts: &AmgOptions,
         symmetric: bool,
     ) -> Result<Self, LinearError> {
+        if a.block != 1 || !a.is_square() {
+            return Err(LinearError::Dimension {
+                detail: format!(
+                    "multigrid needs a square scalar matrix (this one is {} x {} with blocks of {}; see CsrMatrix::to_scalar)",
+                    a.n, a.ncols, a.block
+                ),
+            });
+        }
         let trace = std::env::var_os("RILL_AMG_TRACE").is_some();
         let t_start = std::time::Instant::now();
         let lap = |what: &str, l: usize, t: &mut std::time::Instant| {
@@ -205,9 +213,9 @@ impl AmgHierarchy {
                     let p = smoothed_prolongator(cur, &inv_d, &agg, nagg, omega);
                     let r = p.transpose();
                     lap(&format!("prolongator (nnz {})", p.nnz()), l, &mut t);
-                    let ap = spgemm(cur.into(), p.view());
+                    let ap = spgemm(cur, &p);
                     lap(&format!("A P (nnz {})", ap.nnz()), l, &mut t);
-                    let ac = spgemm(r.view(), ap.view()).into_square();
+                    let ac = spgemm(&r, &ap);
                     lap(&format!("P^T (A P) (nnz {})", ac.nnz()), l, &mut t);
                     next = Some((p, r, ac));
                 }
@@ -316,8 +324,8 @@ impl AmgHierarchy {
                 let a_l = if l == 0 { a } else { &self.levels[l].a };
                 let lev = &self.levels[l];
                 let (p, r) = (lev.p.as_ref().unwrap(), lev.r.as_ref().unwrap());
-                let ap = spgemm(a_l.into(), p.view());
-                spgemm(r.view(), ap.view()).into_square()
+                let ap = spgemm(a_l, p);
+                spgemm(r, &ap)
             };
             let next = &mut self.levels[l + 1];
             next.inv_diag = match self.smoother {
@@ -373,7 +381,7 @@ impl AmgHierarchy {
     }
 
     /// The hierarchy as a preconditioner for `a`.
-    pub(crate) fn preconditioner<'s>(&'s self, a: &'s CsrMatrix) -> AmgPreconditioner<'s> {
+    pub fn preconditioner<'s>(&'s self, a: &'s CsrMatrix) -> AmgPreconditioner<'s> {
         AmgPreconditioner { h: self, a }
     }
 
@@ -435,7 +443,7 @@ impl AmgHierarchy {
 }
 
 /// An [`AmgHierarchy`] together with the fine matrix it is applied to.
-pub(crate) struct AmgPreconditioner<'s> {
+pub struct AmgPreconditioner<'s> {
     h: &'s AmgHierarchy,
     a: &'s CsrMatrix,
 }
@@ -560,7 +568,7 @@ fn smoothed_prolongator(
     agg: &[usize],
     nagg: usize,
     omega: f64,
-) -> SpMat {
+) -> CsrMatrix {
     let mut size = vec![0usize; nagg];
     for &g in agg {
         if g < nagg {

@@ -36,8 +36,10 @@
 #![allow(clippy::large_enum_variant)]
 
 pub mod amg;
+mod block;
 mod csr;
 mod direct;
+mod gmres;
 mod krylov;
 mod market;
 mod sparse;
@@ -52,7 +54,8 @@ pub use csr::CsrMatrix;
 pub use market::{write_matrix_market, write_vector_market};
 
 use direct::DirectSymbolic;
-use krylov::{pbicgstab, pcg, Jacobi, KrylovOutcome, Preconditioner};
+pub use gmres::pgmres;
+pub use krylov::{dot, norm2, pbicgstab, pcg, Identity, Jacobi, KrylovOutcome, Preconditioner};
 
 /// Which linear method to use.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -70,6 +73,11 @@ pub enum Method {
     JacobiCg,
     /// Jacobi preconditioned BiCGStab (tests and comparisons).
     JacobiBicgstab,
+    /// Smoothed-aggregation AMG right-preconditioned restarted GMRES
+    /// (general; restart length [`SolverOptions::gmres_restart`]).
+    AmgGmres,
+    /// Jacobi right-preconditioned restarted GMRES (tests and comparisons).
+    JacobiGmres,
 }
 
 /// Options of [`solve`] and [`Solver`]. Build with `SolverOptions::default()`
@@ -89,6 +97,8 @@ pub struct SolverOptions {
     pub direct_max_n_2d: usize,
     /// Multigrid parameters.
     pub amg: AmgOptions,
+    /// Krylov vectors kept by GMRES before it restarts (default 30).
+    pub gmres_restart: usize,
 }
 
 impl Default for SolverOptions {
@@ -100,6 +110,7 @@ impl Default for SolverOptions {
             direct_max_n: DEFAULT_DIRECT_MAX_N,
             direct_max_n_2d: DEFAULT_DIRECT_MAX_N_2D,
             amg: AmgOptions::default(),
+            gmres_restart: 30,
         }
     }
 }
@@ -112,8 +123,8 @@ pub const DEFAULT_DIRECT_MAX_N_2D: usize = 100_000;
 /// What a solve did.
 #[derive(Debug, Clone, PartialEq)]
 pub struct LinearStats {
-    /// "direct-cholesky", "direct-lu", "amg-cg", "amg-bicgstab", "jacobi-cg"
-    /// or "jacobi-bicgstab".
+    /// "direct-cholesky", "direct-lu", "amg-cg", "amg-bicgstab",
+    /// "amg-gmres", "jacobi-cg", "jacobi-bicgstab" or "jacobi-gmres".
     pub method: &'static str,
     /// Krylov iterations (for the direct solver: refinement steps, usually 0).
     pub iterations: usize,
@@ -302,6 +313,12 @@ impl Solver {
         x: &mut [f64],
     ) -> Result<LinearStats, LinearError> {
         check_inputs(a, b, x)?;
+        if a.block != 1 {
+            // The methods here are scalar (multigrid, direct): a block system
+            // is solved through its scalar expansion, whose pattern depends
+            // on the block pattern only, so set-ups are still reused.
+            return self.solve(&a.to_scalar(), b, x);
+        }
         let method = match self.opts.method {
             Method::Auto => {
                 let two_d = (a.nnz() as f64) <= 5.5 * a.n as f64;
@@ -317,17 +334,22 @@ impl Solver {
         };
         match method {
             Method::Direct => self.solve_direct(a, b, x),
-            Method::AmgCg | Method::AmgBicgstab => self.solve_amg(a, b, x, method == Method::AmgCg),
-            Method::JacobiCg | Method::JacobiBicgstab => {
+            Method::AmgCg => self.solve_amg(a, b, x, Krylov::Cg),
+            Method::AmgBicgstab => self.solve_amg(a, b, x, Krylov::Bicgstab),
+            Method::AmgGmres => self.solve_amg(a, b, x, Krylov::Gmres),
+            Method::JacobiCg | Method::JacobiBicgstab | Method::JacobiGmres => {
                 self.setup = Setup::Jacobi;
                 let t0 = Instant::now();
                 let inv_diag = inverse_diagonal(a)?;
                 let m = Jacobi { inv_diag };
                 let setup_seconds = t0.elapsed().as_secs_f64();
-                let cg = method == Method::JacobiCg;
-                let name = if cg { "jacobi-cg" } else { "jacobi-bicgstab" };
+                let (kind, name) = match method {
+                    Method::JacobiCg => (Krylov::Cg, "jacobi-cg"),
+                    Method::JacobiBicgstab => (Krylov::Bicgstab, "jacobi-bicgstab"),
+                    _ => (Krylov::Gmres, "jacobi-gmres"),
+                };
                 let t1 = Instant::now();
-                let out = run_krylov(a, b, x, &m, cg, &self.opts);
+                let out = run_krylov(a, b, x, &m, kind, &self.opts);
                 let stats = LinearStats {
                     method: name,
                     iterations: out.iterations,
@@ -450,9 +472,15 @@ impl Solver {
         a: &CsrMatrix,
         b: &[f64],
         x: &mut [f64],
-        cg: bool,
+        kind: Krylov,
     ) -> Result<LinearStats, LinearError> {
-        let name = if cg { "amg-cg" } else { "amg-bicgstab" };
+        let name = match kind {
+            Krylov::Cg => "amg-cg",
+            Krylov::Bicgstab => "amg-bicgstab",
+            Krylov::Gmres => "amg-gmres",
+        };
+        // Only CG needs (and may assume) a symmetric hierarchy.
+        let cg = kind == Krylov::Cg;
         let mut setup_seconds = 0.0;
         let reusable = match &self.setup {
             Setup::Amg { pattern, stale, .. } => !*stale && pattern.matches(a),
@@ -492,7 +520,7 @@ impl Solver {
             hierarchy.refresh_fine(a)?;
             setup_seconds += t0.elapsed().as_secs_f64();
             opts.max_iter = cap.min(max_iter);
-            out = run_krylov(a, b, x, &hierarchy.preconditioner(a), cg, &opts);
+            out = run_krylov(a, b, x, &hierarchy.preconditioner(a), kind, &opts);
             used += out.iterations;
             if !out.converged && used < max_iter {
                 // Stage 2: same aggregates and prolongators, Galerkin
@@ -501,7 +529,7 @@ impl Solver {
                 hierarchy.refresh_galerkin(a)?;
                 setup_seconds += t0.elapsed().as_secs_f64();
                 opts.max_iter = cap.min(max_iter - used);
-                out = run_krylov(a, b, x, &hierarchy.preconditioner(a), cg, &opts);
+                out = run_krylov(a, b, x, &hierarchy.preconditioner(a), kind, &opts);
                 used += out.iterations;
             }
             if !out.converged && used < max_iter {
@@ -512,11 +540,11 @@ impl Solver {
                 *iterations_after_setup = None;
                 reused = false;
                 opts.max_iter = max_iter - used;
-                out = run_krylov(a, b, x, &hierarchy.preconditioner(a), cg, &opts);
+                out = run_krylov(a, b, x, &hierarchy.preconditioner(a), kind, &opts);
                 used += out.iterations;
             }
         } else {
-            out = run_krylov(a, b, x, &hierarchy.preconditioner(a), cg, &opts);
+            out = run_krylov(a, b, x, &hierarchy.preconditioner(a), kind, &opts);
             used = out.iterations;
         }
         out.iterations = used;
@@ -542,18 +570,26 @@ impl Solver {
     }
 }
 
+/// The Krylov method of an iterative [`Method`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Krylov {
+    Cg,
+    Bicgstab,
+    Gmres,
+}
+
 fn run_krylov<P: Preconditioner>(
     a: &CsrMatrix,
     b: &[f64],
     x: &mut [f64],
     m: &P,
-    cg: bool,
+    kind: Krylov,
     opts: &SolverOptions,
 ) -> KrylovOutcome {
-    if cg {
-        pcg(a, b, x, m, opts.rel_tol, opts.max_iter)
-    } else {
-        pbicgstab(a, b, x, m, opts.rel_tol, opts.max_iter)
+    match kind {
+        Krylov::Cg => pcg(a, b, x, m, opts.rel_tol, opts.max_iter),
+        Krylov::Bicgstab => pbicgstab(a, b, x, m, opts.rel_tol, opts.max_iter),
+        Krylov::Gmres => pgmres(a, b, x, m, opts.gmres_restart, opts.rel_tol, opts.max_iter),
     }
 }
 
@@ -576,21 +612,27 @@ fn finish(
 }
 
 fn check_inputs(a: &CsrMatrix, b: &[f64], x: &[f64]) -> Result<(), LinearError> {
-    if a.row_ptr.len() != a.n + 1
-        || a.col_idx.len() != a.values.len()
-        || a.row_ptr[a.n] != a.values.len()
+    if a.block == 0
+        || a.row_ptr.len() != a.n + 1
+        || a.row_ptr[a.n] != a.col_idx.len()
+        || a.col_idx.len() * a.block * a.block != a.values.len()
     {
         return Err(LinearError::Dimension {
             detail: "inconsistent CSR arrays".into(),
         });
     }
-    if b.len() != a.n || x.len() != a.n {
+    if !a.is_square() {
+        return Err(LinearError::Dimension {
+            detail: format!("the matrix is {} x {}, not square", a.rows(), a.cols()),
+        });
+    }
+    if b.len() != a.rows() || x.len() != a.rows() {
         return Err(LinearError::Dimension {
             detail: format!(
                 "matrix is {n} x {n}, b has {} entries, x has {}",
                 b.len(),
                 x.len(),
-                n = a.n
+                n = a.rows()
             ),
         });
     }
