@@ -120,16 +120,20 @@ fn faer_solve<P: Preconditioner>(
         let rhs = MatRef::from_column_major_slice(b, n, 1);
         let stack = MemStack::new(&mut buf);
         let got = if cg {
-            let mut p = CgParams::default();
-            p.rel_tolerance = tol;
-            p.max_iters = 500 - iters;
+            let p = CgParams {
+                rel_tolerance: tol,
+                max_iters: 500 - iters,
+                ..Default::default()
+            };
             conjugate_gradient(out, &pre, &op, rhs, p, |_| {}, par, stack)
                 .map(|i| i.iter_count)
                 .map_err(|e| format!("{e:?}"))
         } else {
-            let mut p = BicgParams::default();
-            p.rel_tolerance = tol;
-            p.max_iters = 500 - iters;
+            let p = BicgParams {
+                rel_tolerance: tol,
+                max_iters: 500 - iters,
+                ..Default::default()
+            };
             let id = IdentityPrecond { dim: n };
             bicgstab(out, id, &pre, &op, rhs, p, |_| {}, par, stack)
                 .map(|i| i.iter_count)

@@ -25,6 +25,9 @@ fn main() {
     }
 }
 
+// Long: the argument parsing and the three modes (solve, reuse check,
+// hierarchy report) read top to bottom; split, they would only pass the
+// options around.
 fn run() -> Result<(), String> {
     let args: Vec<String> = std::env::args().skip(1).collect();
     let mut files = Vec::new();

@@ -63,7 +63,10 @@ pub enum Smoother {
     /// l1-Jacobi: x += D_l1^{-1} (b - A x) with d_i = sum_j |a_ij|.
     L1Jacobi,
     /// Chebyshev polynomial of the given degree on [rho/30, 1.1 rho] of D^-1 A.
-    Chebyshev { degree: usize },
+    Chebyshev {
+        /// Polynomial degree: matrix products per sweep (2 or 3 are usual).
+        degree: usize,
+    },
 }
 
 /// Multigrid parameters.
@@ -79,6 +82,7 @@ pub struct AmgOptions {
     pub prolongator_omega: f64,
     /// Power iterations for rho(D^-1 A) (default 10).
     pub power_iterations: usize,
+    /// Smoother of the V-cycle (default hybrid Gauss-Seidel).
     pub smoother: Smoother,
     /// Sweeps of pre- and of post-smoothing (default 1).
     pub sweeps: usize,
@@ -141,7 +145,9 @@ pub struct AmgHierarchy {
 /// Sizes of a hierarchy, for reports.
 #[derive(Debug, Clone, PartialEq)]
 pub struct LevelInfo {
+    /// Unknowns of the level.
     pub n: usize,
+    /// Stored entries of the level's operator.
     pub nnz: usize,
 }
 
@@ -198,28 +204,13 @@ impl AmgHierarchy {
                 l,
                 &mut t,
             );
-            let mut next = None;
-            if !last {
-                let strong = strength(cur, opts.strength_threshold);
-                let (agg, nagg) = aggregate(cur.n, &strong.0, &strong.1);
-                lap(
-                    &format!("strength + aggregation ({nagg} aggregates)"),
-                    l,
-                    &mut t,
-                );
-                // Stop when coarsening stalls (or nothing aggregates).
-                if nagg > 0 && (nagg as f64) < 0.9 * cur.n as f64 {
-                    let omega = opts.prolongator_omega / rho.max(f64::MIN_POSITIVE);
-                    let p = smoothed_prolongator(cur, &inv_d, &agg, nagg, omega);
-                    let r = p.transpose();
-                    lap(&format!("prolongator (nnz {})", p.nnz()), l, &mut t);
-                    let ap = spgemm(cur, &p);
-                    lap(&format!("A P (nnz {})", ap.nnz()), l, &mut t);
-                    let ac = spgemm(&r, &ap);
-                    lap(&format!("P^T (A P) (nnz {})", ac.nnz()), l, &mut t);
-                    next = Some((p, r, ac));
-                }
-            }
+            let next = if last {
+                None
+            } else {
+                coarsen(cur, &inv_d, rho, opts, &mut |what: &str| {
+                    lap(what, l, &mut t)
+                })
+            };
             let smoother_inv = match opts.smoother {
                 Smoother::L1Jacobi => l1_inverse_diagonal(cur),
                 _ => inv_d,
@@ -452,6 +443,33 @@ impl Preconditioner for AmgPreconditioner<'_> {
     fn apply(&self, r: &[f64], z: &mut [f64]) {
         self.h.vcycle(self.a, r, z)
     }
+}
+
+/// One coarsening step: strength, aggregation, smoothed prolongator P,
+/// restriction R = P^T and Galerkin operator R A P; `None` when coarsening
+/// stalls (or nothing aggregates). `lap` reports the timing of each stage.
+fn coarsen(
+    cur: &CsrMatrix,
+    inv_d: &[f64],
+    rho: f64,
+    opts: &AmgOptions,
+    lap: &mut dyn FnMut(&str),
+) -> Option<(CsrMatrix, CsrMatrix, CsrMatrix)> {
+    let strong = strength(cur, opts.strength_threshold);
+    let (agg, nagg) = aggregate(cur.n, &strong.0, &strong.1);
+    lap(&format!("strength + aggregation ({nagg} aggregates)"));
+    if nagg == 0 || (nagg as f64) >= 0.9 * cur.n as f64 {
+        return None;
+    }
+    let omega = opts.prolongator_omega / rho.max(f64::MIN_POSITIVE);
+    let p = smoothed_prolongator(cur, inv_d, &agg, nagg, omega);
+    let r = p.transpose();
+    lap(&format!("prolongator (nnz {})", p.nnz()));
+    let ap = spgemm(cur, &p);
+    lap(&format!("A P (nnz {})", ap.nnz()));
+    let ac = spgemm(&r, &ap);
+    lap(&format!("P^T (A P) (nnz {})", ac.nnz()));
+    Some((p, r, ac))
 }
 
 fn factor_coarse(a: &CsrMatrix, symmetric: bool) -> Result<DirectFactor, LinearError> {

@@ -1,7 +1,19 @@
-//! Linear solvers of the simulator.
+//! Sparse linear algebra for rill: one sparse matrix type, smoothed-
+//! aggregation multigrid, Krylov methods, sparse direct solves (through
+//! `faer`) and MatrixMarket output.
 //!
-//! * [`CsrMatrix`]: square sparse matrix, built from assembly triplets
-//!   ([`CsrMatrix::from_triplets`] sums duplicates), with a rayon SpMV.
+//! Owns: [`CsrMatrix`] (compressed sparse rows, rectangular or square,
+//! scalar or of dense b x b blocks for several unknowns a cell), its
+//! kernels, [`amg`], [`pcg`], [`pbicgstab`], [`pgmres`], the [`Solver`]
+//! that picks among them and keeps set-ups, and [`write_matrix_market`].
+//!
+//! Must never: know about reservoirs, cells, wells or units (a matrix is
+//! numbers and indices here), or do I/O beyond writing MatrixMarket to a
+//! writer the caller gives.
+//!
+//! * [`CsrMatrix`]: sparse matrix, built from assembly triplets
+//!   ([`CsrMatrix::from_triplets`] sums duplicates, [`CsrMatrix::from_block_triplets`]
+//!   for blocks), with a rayon SpMV.
 //! * [`solve`] / [`Solver`]: one entry point that picks a method.
 //!   - `Method::Direct`: `faer` sparse Cholesky when the matrix is symmetric
 //!     (falling back to LU if it is not positive definite), sparse LU with
@@ -19,8 +31,11 @@
 //!     cores (`scripts/bench/README-solver.md`): AMG-CG overtakes the sparse
 //!     Cholesky at about 7 000 unknowns in 3D (9x faster at 50 000) but only
 //!     at about 100 000 in 2D.
-//!   - `Method::JacobiCg`, `Method::JacobiBicgstab`: diagonal preconditioning,
-//!     for tests and comparisons only.
+//!   - `Method::AmgGmres`: restarted GMRES right-preconditioned by the same
+//!     multigrid, for unsymmetric systems where BiCGStab is erratic.
+//!   - `Method::JacobiCg`, `Method::JacobiBicgstab`, `Method::JacobiGmres`:
+//!     diagonal preconditioning, for tests and comparisons only.
+//!   - A block matrix is solved through its scalar expansion.
 //! * [`Solver`] keeps the set-up (the AMG hierarchy, or the symbolic analysis
 //!   of the direct solver) between calls while the sparsity pattern does not
 //!   change; see its doc for the rebuild rule.
@@ -31,6 +46,7 @@
 //! [`LinearStats`] is always recomputed from the final `x`, never the
 //! recursively updated one.
 
+#![warn(missing_docs)]
 // `!(x > 0.0)` is meant: it is also true for NaN.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 #![allow(clippy::large_enum_variant)]
@@ -88,6 +104,7 @@ pub struct SolverOptions {
     pub rel_tol: f64,
     /// Iteration limit of the Krylov methods (default 500).
     pub max_iter: usize,
+    /// The method (default [`Method::Auto`]).
     pub method: Method,
     /// `Method::Auto` uses the direct solver up to this many unknowns
     /// (default 10 000, measured: see `scripts/bench/README-solver.md`) ...
@@ -148,18 +165,33 @@ pub struct LinearStats {
 pub enum LinearError {
     /// The iteration stopped at `max_iter` (or broke down) above the tolerance.
     NotConverged {
+        /// The method's name, as in [`LinearStats::method`].
         method: &'static str,
+        /// Iterations done.
         iterations: usize,
+        /// True relative residual of the last iterate.
         rel_residual: f64,
+        /// The tolerance asked for.
         rel_tol: f64,
+        /// True when the iteration stopped on a zero denominator rather
+        /// than at the iteration limit.
         breakdown: bool,
     },
     /// The matrix is singular (or not positive definite for a Cholesky).
-    Singular { detail: String },
+    Singular {
+        /// Where and how it showed.
+        detail: String,
+    },
     /// A NaN or infinity in the matrix, the right-hand side or the initial guess.
-    NonFinite { detail: String },
+    NonFinite {
+        /// Which value, where.
+        detail: String,
+    },
     /// Lengths or structure do not fit.
-    Dimension { detail: String },
+    Dimension {
+        /// What does not fit.
+        detail: String,
+    },
     /// Memory or another failure of the factorization library.
     Internal(String),
 }
@@ -273,6 +305,7 @@ pub struct Solver {
 }
 
 impl Solver {
+    /// A solver with these options and no set-up yet.
     pub fn new(opts: SolverOptions) -> Self {
         Solver {
             opts,
@@ -280,6 +313,7 @@ impl Solver {
         }
     }
 
+    /// The options in force.
     pub fn options(&self) -> &SolverOptions {
         &self.opts
     }
