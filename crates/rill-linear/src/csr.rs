@@ -232,6 +232,15 @@ impl CsrMatrix {
     /// Scalar entry (i, j) (scalar indices, also for a block matrix), zero
     /// when not stored.
     pub fn get(&self, i: usize, j: usize) -> f64 {
+        if self.block == 1 {
+            // The scalar case, free of the index divisions below: the
+            // symmetry test calls this once per stored entry.
+            let (c, v) = self.row(i);
+            return match c.binary_search(&j) {
+                Ok(k) => v[k],
+                Err(_) => 0.0,
+            };
+        }
         let b = self.block;
         let (c, v) = self.row(i / b);
         match c.binary_search(&(j / b)) {
@@ -337,6 +346,18 @@ impl CsrMatrix {
             return false;
         }
         let b = self.block;
+        let close = |aij: f64, aji: f64| (aij - aji).abs() <= tol * aij.abs().max(aji.abs());
+        if b == 1 {
+            return (0..self.n)
+                .into_par_iter()
+                .with_min_len(ROW_CHUNK)
+                .all(|i| {
+                    let (c, v) = self.row(i);
+                    c.iter()
+                        .zip(v)
+                        .all(|(&j, &aij)| j == i || close(aij, self.get(j, i)))
+                });
+        }
         (0..self.n)
             .into_par_iter()
             .with_min_len(ROW_CHUNK)
@@ -348,9 +369,7 @@ impl CsrMatrix {
                         if i == j {
                             return true;
                         }
-                        let aij = v[k * b * b + l];
-                        let aji = self.get(j, i);
-                        (aij - aji).abs() <= tol * aij.abs().max(aji.abs())
+                        close(v[k * b * b + l], self.get(j, i))
                     })
                 })
             })

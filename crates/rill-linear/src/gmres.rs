@@ -36,7 +36,9 @@ pub fn pgmres<P: Preconditioner>(
         return KrylovOutcome::zero_rhs(x);
     }
     let k_max = restart.max(1);
-    let mut v: Vec<Vec<f64>> = vec![vec![0.0; n]; k_max + 1];
+    // Basis vectors are allocated as the first cycle needs them: a solve
+    // that converges in a few iterations does not pay for `restart` of them.
+    let mut v: Vec<Vec<f64>> = vec![vec![0.0; n]];
     // Hessenberg columns (j + 2 entries used in column j), rotated in place.
     let mut h = vec![vec![0.0; k_max + 1]; k_max];
     let (mut cs, mut sn) = (vec![0.0; k_max], vec![0.0; k_max]);
@@ -103,6 +105,9 @@ pub fn pgmres<P: Preconditioner>(
             g[j] *= cs[j];
             if g[j + 1].abs() <= rel_tol * bnorm || hnext == 0.0 {
                 break;
+            }
+            if v.len() == j + 1 {
+                v.push(vec![0.0; n]);
             }
             scale_into(&w, 1.0 / hnext, &mut v[j + 1]);
         }
