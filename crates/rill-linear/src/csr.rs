@@ -67,7 +67,7 @@ impl CsrMatrix {
         }
     }
 
-    /// Builds the matrix from `(row, col, value)` triplets in any order,
+    /// Builds the scalar n x n matrix from `(row, col, value)` triplets in any order,
     /// summing duplicates (the natural result of assembling face by face).
     ///
     /// Runs in O(nnz) plus a per-row sort of short rows, row-parallel: 10^7
@@ -143,7 +143,7 @@ impl CsrMatrix {
         }
     }
 
-    /// Builds from raw CSR arrays, sorting each row and merging duplicate
+    /// Builds a scalar n x n matrix from raw CSR arrays, sorting each row and merging duplicate
     /// columns. Returns an error string if the arrays are inconsistent.
     pub fn from_raw(
         n: usize,
