@@ -213,7 +213,7 @@ def main():
         running = subprocess.run(["pgrep", "-af", "cargo.*release"], capture_output=True, text=True).stdout.strip()
         if running:
             sys.exit(f"another release build is running, not starting one:\n{running}")
-        subprocess.run(["cargo", "build", "--release", "-p", "rill-sim", "--example", "solve_mtx"], cwd=REPO, check=True)
+        subprocess.run(["cargo", "build", "--release", "-p", "rill-linear", "--example", "solve_mtx"], cwd=REPO, check=True)
     exe = os.path.join(REPO, "target", "release", "examples", "solve_mtx")
     cmd = [exe, mtx] + ([rhs_path] if rhs_path else []) + ["--tol", str(args.tol), "--max-coarse",
                                                           str(args.max_coarse), "--repeat", str(args.repeat)]

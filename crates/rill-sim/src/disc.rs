@@ -275,6 +275,8 @@ impl Disc {
     pub fn new_matrix(&self) -> CsrMatrix {
         CsrMatrix {
             n: self.n(),
+            ncols: self.n(),
+            block: 1,
             row_ptr: self.row_ptr.clone(),
             col_idx: self.col_idx.clone(),
             values: vec![0.0; self.col_idx.len()],

@@ -29,7 +29,8 @@
 //! (ignored in debug builds; run it with `--release -- --ignored`).
 
 mod disc;
-pub mod linear;
+/// The linear algebra, a crate of its own; kept under this name for the front ends.
+pub use rill_linear as linear;
 mod pvt;
 pub mod results;
 mod run;

@@ -1,7 +1,19 @@
-//! Linear solvers of the simulator.
+//! Sparse linear algebra for rill: one sparse matrix type, smoothed-
+//! aggregation multigrid, Krylov methods, sparse direct solves (through
+//! `faer`) and MatrixMarket output.
 //!
-//! * [`CsrMatrix`]: square sparse matrix, built from assembly triplets
-//!   ([`CsrMatrix::from_triplets`] sums duplicates), with a rayon SpMV.
+//! Owns: [`CsrMatrix`] (compressed sparse rows, rectangular or square,
+//! scalar or of dense b x b blocks for several unknowns a cell), its
+//! kernels, [`amg`], [`pcg`], [`pbicgstab`], [`pgmres`], the [`Solver`]
+//! that picks among them and keeps set-ups, and [`write_matrix_market`].
+//!
+//! Must never: know about reservoirs, cells, wells or units (a matrix is
+//! numbers and indices here), or do I/O beyond writing MatrixMarket to a
+//! writer the caller gives.
+//!
+//! * [`CsrMatrix`]: sparse matrix, built from assembly triplets
+//!   ([`CsrMatrix::from_triplets`] sums duplicates, [`CsrMatrix::from_block_triplets`]
+//!   for blocks), with a rayon SpMV.
 //! * [`solve`] / [`Solver`]: one entry point that picks a method.
 //!   - `Method::Direct`: `faer` sparse Cholesky when the matrix is symmetric
 //!     (falling back to LU if it is not positive definite), sparse LU with
@@ -19,8 +31,11 @@
 //!     cores (`scripts/bench/README-solver.md`): AMG-CG overtakes the sparse
 //!     Cholesky at about 7 000 unknowns in 3D (9x faster at 50 000) but only
 //!     at about 100 000 in 2D.
-//!   - `Method::JacobiCg`, `Method::JacobiBicgstab`: diagonal preconditioning,
-//!     for tests and comparisons only.
+//!   - `Method::AmgGmres`: restarted GMRES right-preconditioned by the same
+//!     multigrid, for unsymmetric systems where BiCGStab is erratic.
+//!   - `Method::JacobiCg`, `Method::JacobiBicgstab`, `Method::JacobiGmres`:
+//!     diagonal preconditioning, for tests and comparisons only.
+//!   - A block matrix is solved through its scalar expansion.
 //! * [`Solver`] keeps the set-up (the AMG hierarchy, or the symbolic analysis
 //!   of the direct solver) between calls while the sparsity pattern does not
 //!   change; see its doc for the rebuild rule.
@@ -31,13 +46,16 @@
 //! [`LinearStats`] is always recomputed from the final `x`, never the
 //! recursively updated one.
 
+#![warn(missing_docs)]
 // `!(x > 0.0)` is meant: it is also true for NaN.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 #![allow(clippy::large_enum_variant)]
 
 pub mod amg;
+mod block;
 mod csr;
 mod direct;
+mod gmres;
 mod krylov;
 mod market;
 mod sparse;
@@ -52,7 +70,8 @@ pub use csr::CsrMatrix;
 pub use market::{write_matrix_market, write_vector_market};
 
 use direct::DirectSymbolic;
-use krylov::{pbicgstab, pcg, Jacobi, KrylovOutcome, Preconditioner};
+pub use gmres::pgmres;
+pub use krylov::{dot, norm2, pbicgstab, pcg, Identity, Jacobi, KrylovOutcome, Preconditioner};
 
 /// Which linear method to use.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -70,6 +89,11 @@ pub enum Method {
     JacobiCg,
     /// Jacobi preconditioned BiCGStab (tests and comparisons).
     JacobiBicgstab,
+    /// Smoothed-aggregation AMG right-preconditioned restarted GMRES
+    /// (general; restart length [`SolverOptions::gmres_restart`]).
+    AmgGmres,
+    /// Jacobi right-preconditioned restarted GMRES (tests and comparisons).
+    JacobiGmres,
 }
 
 /// Options of [`solve`] and [`Solver`]. Build with `SolverOptions::default()`
@@ -80,6 +104,7 @@ pub struct SolverOptions {
     pub rel_tol: f64,
     /// Iteration limit of the Krylov methods (default 500).
     pub max_iter: usize,
+    /// The method (default [`Method::Auto`]).
     pub method: Method,
     /// `Method::Auto` uses the direct solver up to this many unknowns
     /// (default 10 000, measured: see `scripts/bench/README-solver.md`) ...
@@ -89,6 +114,8 @@ pub struct SolverOptions {
     pub direct_max_n_2d: usize,
     /// Multigrid parameters.
     pub amg: AmgOptions,
+    /// Krylov vectors kept by GMRES before it restarts (default 30).
+    pub gmres_restart: usize,
 }
 
 impl Default for SolverOptions {
@@ -100,6 +127,7 @@ impl Default for SolverOptions {
             direct_max_n: DEFAULT_DIRECT_MAX_N,
             direct_max_n_2d: DEFAULT_DIRECT_MAX_N_2D,
             amg: AmgOptions::default(),
+            gmres_restart: 30,
         }
     }
 }
@@ -112,8 +140,8 @@ pub const DEFAULT_DIRECT_MAX_N_2D: usize = 100_000;
 /// What a solve did.
 #[derive(Debug, Clone, PartialEq)]
 pub struct LinearStats {
-    /// "direct-cholesky", "direct-lu", "amg-cg", "amg-bicgstab", "jacobi-cg"
-    /// or "jacobi-bicgstab".
+    /// "direct-cholesky", "direct-lu", "amg-cg", "amg-bicgstab",
+    /// "amg-gmres", "jacobi-cg", "jacobi-bicgstab" or "jacobi-gmres".
     pub method: &'static str,
     /// Krylov iterations (for the direct solver: refinement steps, usually 0).
     pub iterations: usize,
@@ -137,18 +165,33 @@ pub struct LinearStats {
 pub enum LinearError {
     /// The iteration stopped at `max_iter` (or broke down) above the tolerance.
     NotConverged {
+        /// The method's name, as in [`LinearStats::method`].
         method: &'static str,
+        /// Iterations done.
         iterations: usize,
+        /// True relative residual of the last iterate.
         rel_residual: f64,
+        /// The tolerance asked for.
         rel_tol: f64,
+        /// True when the iteration stopped on a zero denominator rather
+        /// than at the iteration limit.
         breakdown: bool,
     },
     /// The matrix is singular (or not positive definite for a Cholesky).
-    Singular { detail: String },
+    Singular {
+        /// Where and how it showed.
+        detail: String,
+    },
     /// A NaN or infinity in the matrix, the right-hand side or the initial guess.
-    NonFinite { detail: String },
+    NonFinite {
+        /// Which value, where.
+        detail: String,
+    },
     /// Lengths or structure do not fit.
-    Dimension { detail: String },
+    Dimension {
+        /// What does not fit.
+        detail: String,
+    },
     /// Memory or another failure of the factorization library.
     Internal(String),
 }
@@ -262,6 +305,7 @@ pub struct Solver {
 }
 
 impl Solver {
+    /// A solver with these options and no set-up yet.
     pub fn new(opts: SolverOptions) -> Self {
         Solver {
             opts,
@@ -269,6 +313,7 @@ impl Solver {
         }
     }
 
+    /// The options in force.
     pub fn options(&self) -> &SolverOptions {
         &self.opts
     }
@@ -302,6 +347,12 @@ impl Solver {
         x: &mut [f64],
     ) -> Result<LinearStats, LinearError> {
         check_inputs(a, b, x)?;
+        if a.block != 1 {
+            // The methods here are scalar (multigrid, direct): a block system
+            // is solved through its scalar expansion, whose pattern depends
+            // on the block pattern only, so set-ups are still reused.
+            return self.solve(&a.to_scalar(), b, x);
+        }
         let method = match self.opts.method {
             Method::Auto => {
                 let two_d = (a.nnz() as f64) <= 5.5 * a.n as f64;
@@ -317,17 +368,22 @@ impl Solver {
         };
         match method {
             Method::Direct => self.solve_direct(a, b, x),
-            Method::AmgCg | Method::AmgBicgstab => self.solve_amg(a, b, x, method == Method::AmgCg),
-            Method::JacobiCg | Method::JacobiBicgstab => {
+            Method::AmgCg => self.solve_amg(a, b, x, Krylov::Cg),
+            Method::AmgBicgstab => self.solve_amg(a, b, x, Krylov::Bicgstab),
+            Method::AmgGmres => self.solve_amg(a, b, x, Krylov::Gmres),
+            Method::JacobiCg | Method::JacobiBicgstab | Method::JacobiGmres => {
                 self.setup = Setup::Jacobi;
                 let t0 = Instant::now();
                 let inv_diag = inverse_diagonal(a)?;
                 let m = Jacobi { inv_diag };
                 let setup_seconds = t0.elapsed().as_secs_f64();
-                let cg = method == Method::JacobiCg;
-                let name = if cg { "jacobi-cg" } else { "jacobi-bicgstab" };
+                let (kind, name) = match method {
+                    Method::JacobiCg => (Krylov::Cg, "jacobi-cg"),
+                    Method::JacobiBicgstab => (Krylov::Bicgstab, "jacobi-bicgstab"),
+                    _ => (Krylov::Gmres, "jacobi-gmres"),
+                };
                 let t1 = Instant::now();
-                let out = run_krylov(a, b, x, &m, cg, &self.opts);
+                let out = run_krylov(a, b, x, &m, kind, &self.opts);
                 let stats = LinearStats {
                     method: name,
                     iterations: out.iterations,
@@ -450,9 +506,15 @@ impl Solver {
         a: &CsrMatrix,
         b: &[f64],
         x: &mut [f64],
-        cg: bool,
+        kind: Krylov,
     ) -> Result<LinearStats, LinearError> {
-        let name = if cg { "amg-cg" } else { "amg-bicgstab" };
+        let name = match kind {
+            Krylov::Cg => "amg-cg",
+            Krylov::Bicgstab => "amg-bicgstab",
+            Krylov::Gmres => "amg-gmres",
+        };
+        // Only CG needs (and may assume) a symmetric hierarchy.
+        let cg = kind == Krylov::Cg;
         let mut setup_seconds = 0.0;
         let reusable = match &self.setup {
             Setup::Amg { pattern, stale, .. } => !*stale && pattern.matches(a),
@@ -492,7 +554,7 @@ impl Solver {
             hierarchy.refresh_fine(a)?;
             setup_seconds += t0.elapsed().as_secs_f64();
             opts.max_iter = cap.min(max_iter);
-            out = run_krylov(a, b, x, &hierarchy.preconditioner(a), cg, &opts);
+            out = run_krylov(a, b, x, &hierarchy.preconditioner(a), kind, &opts);
             used += out.iterations;
             if !out.converged && used < max_iter {
                 // Stage 2: same aggregates and prolongators, Galerkin
@@ -501,7 +563,7 @@ impl Solver {
                 hierarchy.refresh_galerkin(a)?;
                 setup_seconds += t0.elapsed().as_secs_f64();
                 opts.max_iter = cap.min(max_iter - used);
-                out = run_krylov(a, b, x, &hierarchy.preconditioner(a), cg, &opts);
+                out = run_krylov(a, b, x, &hierarchy.preconditioner(a), kind, &opts);
                 used += out.iterations;
             }
             if !out.converged && used < max_iter {
@@ -512,11 +574,11 @@ impl Solver {
                 *iterations_after_setup = None;
                 reused = false;
                 opts.max_iter = max_iter - used;
-                out = run_krylov(a, b, x, &hierarchy.preconditioner(a), cg, &opts);
+                out = run_krylov(a, b, x, &hierarchy.preconditioner(a), kind, &opts);
                 used += out.iterations;
             }
         } else {
-            out = run_krylov(a, b, x, &hierarchy.preconditioner(a), cg, &opts);
+            out = run_krylov(a, b, x, &hierarchy.preconditioner(a), kind, &opts);
             used = out.iterations;
         }
         out.iterations = used;
@@ -542,18 +604,26 @@ impl Solver {
     }
 }
 
+/// The Krylov method of an iterative [`Method`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Krylov {
+    Cg,
+    Bicgstab,
+    Gmres,
+}
+
 fn run_krylov<P: Preconditioner>(
     a: &CsrMatrix,
     b: &[f64],
     x: &mut [f64],
     m: &P,
-    cg: bool,
+    kind: Krylov,
     opts: &SolverOptions,
 ) -> KrylovOutcome {
-    if cg {
-        pcg(a, b, x, m, opts.rel_tol, opts.max_iter)
-    } else {
-        pbicgstab(a, b, x, m, opts.rel_tol, opts.max_iter)
+    match kind {
+        Krylov::Cg => pcg(a, b, x, m, opts.rel_tol, opts.max_iter),
+        Krylov::Bicgstab => pbicgstab(a, b, x, m, opts.rel_tol, opts.max_iter),
+        Krylov::Gmres => pgmres(a, b, x, m, opts.gmres_restart, opts.rel_tol, opts.max_iter),
     }
 }
 
@@ -576,21 +646,27 @@ fn finish(
 }
 
 fn check_inputs(a: &CsrMatrix, b: &[f64], x: &[f64]) -> Result<(), LinearError> {
-    if a.row_ptr.len() != a.n + 1
-        || a.col_idx.len() != a.values.len()
-        || a.row_ptr[a.n] != a.values.len()
+    if a.block == 0
+        || a.row_ptr.len() != a.n + 1
+        || a.row_ptr[a.n] != a.col_idx.len()
+        || a.col_idx.len() * a.block * a.block != a.values.len()
     {
         return Err(LinearError::Dimension {
             detail: "inconsistent CSR arrays".into(),
         });
     }
-    if b.len() != a.n || x.len() != a.n {
+    if !a.is_square() {
+        return Err(LinearError::Dimension {
+            detail: format!("the matrix is {} x {}, not square", a.rows(), a.cols()),
+        });
+    }
+    if b.len() != a.rows() || x.len() != a.rows() {
         return Err(LinearError::Dimension {
             detail: format!(
                 "matrix is {n} x {n}, b has {} entries, x has {}",
                 b.len(),
                 x.len(),
-                n = a.n
+                n = a.rows()
             ),
         });
     }

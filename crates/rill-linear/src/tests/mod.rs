@@ -3,6 +3,9 @@
 
 use super::*;
 
+mod block;
+mod gmres;
+
 // ---------------------------------------------------------------- helpers
 
 /// Deterministic pseudo-random numbers in [0, 1).

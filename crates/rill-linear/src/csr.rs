@@ -6,17 +6,39 @@ use rayon::prelude::*;
 /// balance on a few cores, large enough that task overhead is negligible.
 pub(crate) const ROW_CHUNK: usize = 4096;
 
-/// Square sparse matrix in compressed sparse row form.
+/// The one sparse matrix type: compressed sparse rows, optionally of dense
+/// b x b blocks (block sparse rows, BSR).
 ///
-/// Invariants (kept by every constructor of this module): `row_ptr.len() == n + 1`,
-/// `row_ptr[0] == 0`, `row_ptr` non-decreasing, `col_idx.len() == values.len() ==
-/// row_ptr[n]`, and within each row the column indices are strictly increasing
-/// (sorted, no duplicates) and `< n`. Explicit zeros may be stored.
+/// * `block == 1` (scalar): the plain CSR of the pressure equation, the
+///   multigrid operators and the prolongators (which are rectangular:
+///   `ncols != n`).
+/// * `block == b > 1`: every stored entry (block row `I`, block column `J`)
+///   is a dense b x b block, row-major in `values[k * b * b..(k + 1) * b * b]`,
+///   coupling the unknowns `I * b..I * b + b` with `J * b..J * b + b` (two
+///   unknowns a cell for oil-water: b = 2). The block form multiplies
+///   ([`CsrMatrix::mul_vec_into`]), is written to MatrixMarket as its scalar
+///   expansion, and converts both ways ([`CsrMatrix::to_scalar`],
+///   [`CsrMatrix::to_block`]); [`crate::Solver`] solves it through its scalar
+///   expansion.
+///
+/// Invariants (kept by every constructor): `row_ptr.len() == n + 1`,
+/// `row_ptr[0] == 0`, `row_ptr` non-decreasing, `col_idx.len() == row_ptr[n]`,
+/// `values.len() == row_ptr[n] * block * block`, and within each row the
+/// column indices are strictly increasing (sorted, no duplicates) and
+/// `< ncols`. Explicit zeros may be stored.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CsrMatrix {
+    /// Number of (block) rows; the order of a square matrix.
     pub n: usize,
+    /// Number of (block) columns; equal to `n` for a square matrix.
+    pub ncols: usize,
+    /// Block size b: 1 for a scalar matrix.
+    pub block: usize,
+    /// Start of each (block) row in `col_idx`; `n + 1` entries.
     pub row_ptr: Vec<usize>,
+    /// (Block) column of each stored entry, sorted within a row.
     pub col_idx: Vec<usize>,
+    /// Stored values: one per entry (scalar) or b * b per block, row-major.
     pub values: Vec<f64>,
 }
 
@@ -25,6 +47,8 @@ impl CsrMatrix {
     pub fn zeros(n: usize) -> Self {
         CsrMatrix {
             n,
+            ncols: n,
+            block: 1,
             row_ptr: vec![0; n + 1],
             col_idx: Vec::new(),
             values: Vec::new(),
@@ -35,13 +59,15 @@ impl CsrMatrix {
     pub fn identity(n: usize) -> Self {
         CsrMatrix {
             n,
+            ncols: n,
+            block: 1,
             row_ptr: (0..=n).collect(),
             col_idx: (0..n).collect(),
             values: vec![1.0; n],
         }
     }
 
-    /// Builds the matrix from `(row, col, value)` triplets in any order,
+    /// Builds the scalar n x n matrix from `(row, col, value)` triplets in any order,
     /// summing duplicates (the natural result of assembling face by face).
     ///
     /// Runs in O(nnz) plus a per-row sort of short rows, row-parallel: 10^7
@@ -109,13 +135,15 @@ impl CsrMatrix {
         }
         CsrMatrix {
             n,
+            ncols: n,
+            block: 1,
             row_ptr,
             col_idx,
             values,
         }
     }
 
-    /// Builds from raw CSR arrays, sorting each row and merging duplicate
+    /// Builds a scalar n x n matrix from raw CSR arrays, sorting each row and merging duplicate
     /// columns. Returns an error string if the arrays are inconsistent.
     pub fn from_raw(
         n: usize,
@@ -151,6 +179,8 @@ impl CsrMatrix {
         if sorted {
             return Ok(CsrMatrix {
                 n,
+                ncols: n,
+                block: 1,
                 row_ptr,
                 col_idx,
                 values,
@@ -165,30 +195,63 @@ impl CsrMatrix {
         Ok(Self::from_triplets(n, &trip))
     }
 
-    /// Number of stored entries.
+    /// Number of scalar rows, `n * block` (the length of `A x`).
+    pub fn rows(&self) -> usize {
+        self.n * self.block
+    }
+
+    /// Number of scalar columns, `ncols * block` (the length of `x`).
+    pub fn cols(&self) -> usize {
+        self.ncols * self.block
+    }
+
+    /// True when the matrix is square (`n == ncols`).
+    pub fn is_square(&self) -> bool {
+        self.n == self.ncols
+    }
+
+    /// Number of stored scalar values (b * b per stored block).
     pub fn nnz(&self) -> usize {
         self.values.len()
     }
 
-    /// Column indices and values of row `i`.
+    /// Number of stored entries (blocks when `block > 1`).
+    pub fn nnz_blocks(&self) -> usize {
+        self.col_idx.len()
+    }
+
+    /// Columns and values of (block) row `i`: `values` holds b * b numbers
+    /// per column, row-major.
     #[inline]
     pub fn row(&self, i: usize) -> (&[usize], &[f64]) {
         let (s, e) = (self.row_ptr[i], self.row_ptr[i + 1]);
-        (&self.col_idx[s..e], &self.values[s..e])
+        let bb = self.block * self.block;
+        (&self.col_idx[s..e], &self.values[s * bb..e * bb])
     }
 
-    /// Entry (i, j), zero when not stored.
+    /// Scalar entry (i, j) (scalar indices, also for a block matrix), zero
+    /// when not stored.
     pub fn get(&self, i: usize, j: usize) -> f64 {
-        let (c, v) = self.row(i);
-        match c.binary_search(&j) {
-            Ok(k) => v[k],
+        if self.block == 1 {
+            // The scalar case, free of the index divisions below: the
+            // symmetry test calls this once per stored entry.
+            let (c, v) = self.row(i);
+            return match c.binary_search(&j) {
+                Ok(k) => v[k],
+                Err(_) => 0.0,
+            };
+        }
+        let b = self.block;
+        let (c, v) = self.row(i / b);
+        match c.binary_search(&(j / b)) {
+            Ok(k) => v[k * b * b + (i % b) * b + j % b],
             Err(_) => 0.0,
         }
     }
 
     /// y = A x, returning a new vector.
     pub fn mul_vec(&self, x: &[f64]) -> Vec<f64> {
-        let mut y = vec![0.0; self.n];
+        let mut y = vec![0.0; self.rows()];
         self.mul_vec_into(x, &mut y);
         y
     }
@@ -196,30 +259,54 @@ impl CsrMatrix {
     /// y = A x into an existing vector, rayon-parallel over rows.
     ///
     /// # Panics
-    /// If `x` or `y` does not have length `n`.
+    /// If `x` does not have [`CsrMatrix::cols`] entries or `y`
+    /// [`CsrMatrix::rows`].
     pub fn mul_vec_into(&self, x: &[f64], y: &mut [f64]) {
+        self.check_lengths(x, y);
+        spmv_rows(self, x, y, false);
+    }
+
+    /// y += A x, rayon-parallel over rows.
+    ///
+    /// # Panics
+    /// As [`CsrMatrix::mul_vec_into`].
+    pub fn mul_vec_add(&self, x: &[f64], y: &mut [f64]) {
+        self.check_lengths(x, y);
+        spmv_rows(self, x, y, true);
+    }
+
+    fn check_lengths(&self, x: &[f64], y: &[f64]) {
         assert_eq!(
             x.len(),
-            self.n,
-            "mul_vec: x has length {} for n = {}",
+            self.cols(),
+            "mul_vec: x has length {} for {} columns",
             x.len(),
-            self.n
+            self.cols()
         );
         assert_eq!(
             y.len(),
-            self.n,
-            "mul_vec: y has length {} for n = {}",
+            self.rows(),
+            "mul_vec: y has length {} for {} rows",
             y.len(),
-            self.n
+            self.rows()
         );
-        spmv_rows(&self.row_ptr, &self.col_idx, &self.values, x, y, false);
     }
 
     /// r = b - A x, row-parallel.
+    ///
+    /// # Panics
+    /// If the lengths do not fit the matrix.
     pub fn residual_into(&self, b: &[f64], x: &[f64], r: &mut [f64]) {
-        assert_eq!(b.len(), self.n);
-        assert_eq!(x.len(), self.n);
-        assert_eq!(r.len(), self.n);
+        assert_eq!(b.len(), self.rows());
+        self.check_lengths(x, r);
+        if self.block != 1 {
+            spmv_rows(self, x, r, false);
+            r.par_iter_mut()
+                .with_min_len(ROW_CHUNK)
+                .zip(b.par_iter())
+                .for_each(|(ri, bi)| *ri = bi - *ri);
+            return;
+        }
         let rp = &self.row_ptr;
         let ci = &self.col_idx;
         let va = &self.values;
@@ -242,101 +329,131 @@ impl CsrMatrix {
         }
     }
 
-    /// The diagonal (zero where no diagonal entry is stored).
+    /// The scalar diagonal (zero where no diagonal entry is stored).
     pub fn diagonal(&self) -> Vec<f64> {
-        (0..self.n)
+        (0..self.rows().min(self.cols()))
             .into_par_iter()
             .with_min_len(ROW_CHUNK)
             .map(|i| self.get(i, i))
             .collect()
     }
 
-    /// True when |a_ij - a_ji| <= tol * max(|a_ij|, |a_ji|) for every pair,
-    /// with an absent entry counting as zero. `tol = 0` asks for exact symmetry.
+    /// True when |a_ij - a_ji| <= tol * max(|a_ij|, |a_ji|) for every scalar
+    /// pair, with an absent entry counting as zero. `tol = 0` asks for exact
+    /// symmetry. A rectangular matrix is not symmetric.
     pub fn is_symmetric(&self, tol: f64) -> bool {
+        if !self.is_square() {
+            return false;
+        }
+        let b = self.block;
+        let close = |aij: f64, aji: f64| (aij - aji).abs() <= tol * aij.abs().max(aji.abs());
+        if b == 1 {
+            return (0..self.n)
+                .into_par_iter()
+                .with_min_len(ROW_CHUNK)
+                .all(|i| {
+                    let (c, v) = self.row(i);
+                    c.iter()
+                        .zip(v)
+                        .all(|(&j, &aij)| j == i || close(aij, self.get(j, i)))
+                });
+        }
         (0..self.n)
             .into_par_iter()
             .with_min_len(ROW_CHUNK)
-            .all(|i| {
-                let (c, v) = self.row(i);
-                c.iter().zip(v).all(|(&j, &aij)| {
-                    if j == i {
-                        return true;
-                    }
-                    let aji = self.get(j, i);
-                    (aij - aji).abs() <= tol * aij.abs().max(aji.abs())
+            .all(|bi| {
+                let (c, v) = self.row(bi);
+                c.iter().enumerate().all(|(k, &bj)| {
+                    (0..b * b).all(|l| {
+                        let (i, j) = (bi * b + l / b, bj * b + l % b);
+                        if i == j {
+                            return true;
+                        }
+                        close(v[k * b * b + l], self.get(j, i))
+                    })
                 })
             })
     }
 
-    /// The transpose, in O(nnz) by counting sort (rows come out sorted).
+    /// The transpose, in O(nnz) by counting sort (rows come out sorted;
+    /// blocks are transposed too).
     pub fn transpose(&self) -> CsrMatrix {
-        let n = self.n;
-        let nnz = self.nnz();
-        let mut row_ptr = vec![0usize; n + 1];
+        let b = self.block;
+        let bb = b * b;
+        let nnz = self.nnz_blocks();
+        let mut row_ptr = vec![0usize; self.ncols + 1];
         for &j in &self.col_idx {
             row_ptr[j + 1] += 1;
         }
-        for i in 0..n {
-            row_ptr[i + 1] += row_ptr[i];
+        for j in 0..self.ncols {
+            row_ptr[j + 1] += row_ptr[j];
         }
-        let mut next = row_ptr.clone();
+        let mut next = row_ptr[..self.ncols].to_vec();
         let mut col_idx = vec![0usize; nnz];
-        let mut values = vec![0.0; nnz];
-        for i in 0..n {
+        let mut values = vec![0.0; nnz * bb];
+        for i in 0..self.n {
             for k in self.row_ptr[i]..self.row_ptr[i + 1] {
                 let j = self.col_idx[k];
                 let d = next[j];
                 col_idx[d] = i;
-                values[d] = self.values[k];
+                for l in 0..bb {
+                    values[d * bb + (l % b) * b + l / b] = self.values[k * bb + l];
+                }
                 next[j] = d + 1;
             }
         }
         CsrMatrix {
-            n,
+            n: self.ncols,
+            ncols: self.n,
+            block: b,
             row_ptr,
             col_idx,
             values,
         }
     }
 
-    /// Same sparsity pattern as `other` (values may differ).
+    /// Same shape and sparsity pattern as `other` (values may differ).
     pub fn same_pattern(&self, other: &CsrMatrix) -> bool {
-        self.n == other.n && self.row_ptr == other.row_ptr && self.col_idx == other.col_idx
+        self.n == other.n
+            && self.ncols == other.ncols
+            && self.block == other.block
+            && self.row_ptr == other.row_ptr
+            && self.col_idx == other.col_idx
     }
 
-    /// Index of the first non-finite stored value, if any.
+    /// Scalar position (row, column) of the first non-finite stored value,
+    /// if any.
     pub fn first_non_finite(&self) -> Option<(usize, usize)> {
-        let k = self.values.par_iter().position_first(|v| !v.is_finite())?;
-        let i = self.row_ptr.partition_point(|&p| p <= k) - 1;
-        Some((i, self.col_idx[k]))
+        let p = self.values.par_iter().position_first(|v| !v.is_finite())?;
+        let (b, bb) = (self.block, self.block * self.block);
+        let k = p / bb;
+        let i = self.row_ptr.partition_point(|&q| q <= k) - 1;
+        let l = p % bb;
+        Some((i * b + l / b, self.col_idx[k] * b + l % b))
     }
 
-    /// Dense copy, row-major (tests and tiny systems only).
+    /// Dense scalar copy, row-major (tests and tiny systems only).
     pub fn to_dense(&self) -> Vec<Vec<f64>> {
-        let mut d = vec![vec![0.0; self.n]; self.n];
-        for (i, row) in d.iter_mut().enumerate() {
-            let (c, v) = self.row(i);
-            for (&j, &x) in c.iter().zip(v) {
-                row[j] = x;
+        let b = self.block;
+        let mut d = vec![vec![0.0; self.cols()]; self.rows()];
+        for bi in 0..self.n {
+            let (c, v) = self.row(bi);
+            for (k, &bj) in c.iter().enumerate() {
+                for l in 0..b * b {
+                    d[bi * b + l / b][bj * b + l % b] = v[k * b * b + l];
+                }
             }
         }
         d
     }
 }
 
-/// Splits `data` into consecutive mutable row slices delimited by `ptr`.
-/// `y = A x` (or `y += A x` with `add`) for CSR arrays, rows in parallel
-/// chunks: the one sparse matrix-vector kernel of the solvers.
-pub(crate) fn spmv_rows(
-    rp: &[usize],
-    ci: &[usize],
-    va: &[f64],
-    x: &[f64],
-    y: &mut [f64],
-    add: bool,
-) {
-    let kernel = |i0: usize, ys: &mut [f64]| {
+/// `y = A x` (or `y += A x` with `add`), rows in parallel chunks: the one
+/// sparse matrix-vector kernel of the solvers. The scalar case has its own
+/// loop (the hot path); blocks use a generic b x b one.
+fn spmv_rows(a: &CsrMatrix, x: &[f64], y: &mut [f64], add: bool) {
+    let (rp, ci, va, b) = (&a.row_ptr, &a.col_idx, &a.values, a.block);
+    let scalar = |i0: usize, ys: &mut [f64]| {
         for (di, yi) in ys.iter_mut().enumerate() {
             let i = i0 + di;
             let mut s = 0.0;
@@ -350,15 +467,43 @@ pub(crate) fn spmv_rows(
             }
         }
     };
-    if y.len() <= ROW_CHUNK {
+    let blocked = |i0: usize, ys: &mut [f64]| {
+        let bb = b * b;
+        for (di, yb) in ys.chunks_mut(b).enumerate() {
+            let i = i0 + di;
+            if !add {
+                yb.iter_mut().for_each(|v| *v = 0.0);
+            }
+            for k in rp[i]..rp[i + 1] {
+                let xj = &x[ci[k] * b..ci[k] * b + b];
+                let blk = &va[k * bb..k * bb + bb];
+                for (r, yr) in yb.iter_mut().enumerate() {
+                    *yr += blk[r * b..r * b + b]
+                        .iter()
+                        .zip(xj)
+                        .map(|(p, q)| p * q)
+                        .sum::<f64>();
+                }
+            }
+        }
+    };
+    let kernel = |i0: usize, ys: &mut [f64]| {
+        if b == 1 {
+            scalar(i0, ys)
+        } else {
+            blocked(i0, ys)
+        }
+    };
+    if a.n <= ROW_CHUNK {
         kernel(0, y);
     } else {
-        y.par_chunks_mut(ROW_CHUNK)
+        y.par_chunks_mut(ROW_CHUNK * b)
             .enumerate()
             .for_each(|(c, ys)| kernel(c * ROW_CHUNK, ys));
     }
 }
 
+/// Splits `data` into consecutive mutable row slices delimited by `ptr`.
 pub(crate) fn split_rows_mut<'a, T>(mut data: &'a mut [T], ptr: &[usize]) -> Vec<&'a mut [T]> {
     let n = ptr.len().saturating_sub(1);
     let mut out = Vec::with_capacity(n);

@@ -51,7 +51,7 @@ use rayon::prelude::*;
 use super::csr::{split_rows_mut, CsrMatrix};
 use super::direct::{DirectFactor, DirectSymbolic};
 use super::krylov::{dot, Preconditioner};
-use super::sparse::{build_rows, spgemm, SpMat};
+use super::sparse::{build_rows, spgemm};
 use super::LinearError;
 
 /// Smoother of the V-cycle.
@@ -63,7 +63,10 @@ pub enum Smoother {
     /// l1-Jacobi: x += D_l1^{-1} (b - A x) with d_i = sum_j |a_ij|.
     L1Jacobi,
     /// Chebyshev polynomial of the given degree on [rho/30, 1.1 rho] of D^-1 A.
-    Chebyshev { degree: usize },
+    Chebyshev {
+        /// Polynomial degree: matrix products per sweep (2 or 3 are usual).
+        degree: usize,
+    },
 }
 
 /// Multigrid parameters.
@@ -79,6 +82,7 @@ pub struct AmgOptions {
     pub prolongator_omega: f64,
     /// Power iterations for rho(D^-1 A) (default 10).
     pub power_iterations: usize,
+    /// Smoother of the V-cycle (default hybrid Gauss-Seidel).
     pub smoother: Smoother,
     /// Sweeps of pre- and of post-smoothing (default 1).
     pub sweeps: usize,
@@ -114,9 +118,9 @@ struct Level {
     /// Estimate of rho(D^-1 A) (Chebyshev).
     rho: f64,
     /// Prolongator to this level from the next (n_l x n_{l+1}); none on the coarsest.
-    p: Option<SpMat>,
+    p: Option<CsrMatrix>,
     /// Restriction P^T.
-    r: Option<SpMat>,
+    r: Option<CsrMatrix>,
 }
 
 /// Work vectors of one level.
@@ -141,7 +145,9 @@ pub struct AmgHierarchy {
 /// Sizes of a hierarchy, for reports.
 #[derive(Debug, Clone, PartialEq)]
 pub struct LevelInfo {
+    /// Unknowns of the level.
     pub n: usize,
+    /// Stored entries of the level's operator.
     pub nnz: usize,
 }
 
@@ -160,6 +166,14 @@ impl AmgHierarchy {
         opts: &AmgOptions,
         symmetric: bool,
     ) -> Result<Self, LinearError> {
+        if a.block != 1 || !a.is_square() {
+            return Err(LinearError::Dimension {
+                detail: format!(
+                    "multigrid needs a square scalar matrix (this one is {} x {} with blocks of {}; see CsrMatrix::to_scalar)",
+                    a.n, a.ncols, a.block
+                ),
+            });
+        }
         let trace = std::env::var_os("RILL_AMG_TRACE").is_some();
         let t_start = std::time::Instant::now();
         let lap = |what: &str, l: usize, t: &mut std::time::Instant| {
@@ -190,28 +204,13 @@ impl AmgHierarchy {
                 l,
                 &mut t,
             );
-            let mut next = None;
-            if !last {
-                let strong = strength(cur, opts.strength_threshold);
-                let (agg, nagg) = aggregate(cur.n, &strong.0, &strong.1);
-                lap(
-                    &format!("strength + aggregation ({nagg} aggregates)"),
-                    l,
-                    &mut t,
-                );
-                // Stop when coarsening stalls (or nothing aggregates).
-                if nagg > 0 && (nagg as f64) < 0.9 * cur.n as f64 {
-                    let omega = opts.prolongator_omega / rho.max(f64::MIN_POSITIVE);
-                    let p = smoothed_prolongator(cur, &inv_d, &agg, nagg, omega);
-                    let r = p.transpose();
-                    lap(&format!("prolongator (nnz {})", p.nnz()), l, &mut t);
-                    let ap = spgemm(cur.into(), p.view());
-                    lap(&format!("A P (nnz {})", ap.nnz()), l, &mut t);
-                    let ac = spgemm(r.view(), ap.view()).into_square();
-                    lap(&format!("P^T (A P) (nnz {})", ac.nnz()), l, &mut t);
-                    next = Some((p, r, ac));
-                }
-            }
+            let next = if last {
+                None
+            } else {
+                coarsen(cur, &inv_d, rho, opts, &mut |what: &str| {
+                    lap(what, l, &mut t)
+                })
+            };
             let smoother_inv = match opts.smoother {
                 Smoother::L1Jacobi => l1_inverse_diagonal(cur),
                 _ => inv_d,
@@ -316,8 +315,8 @@ impl AmgHierarchy {
                 let a_l = if l == 0 { a } else { &self.levels[l].a };
                 let lev = &self.levels[l];
                 let (p, r) = (lev.p.as_ref().unwrap(), lev.r.as_ref().unwrap());
-                let ap = spgemm(a_l.into(), p.view());
-                spgemm(r.view(), ap.view()).into_square()
+                let ap = spgemm(a_l, p);
+                spgemm(r, &ap)
             };
             let next = &mut self.levels[l + 1];
             next.inv_diag = match self.smoother {
@@ -373,7 +372,7 @@ impl AmgHierarchy {
     }
 
     /// The hierarchy as a preconditioner for `a`.
-    pub(crate) fn preconditioner<'s>(&'s self, a: &'s CsrMatrix) -> AmgPreconditioner<'s> {
+    pub fn preconditioner<'s>(&'s self, a: &'s CsrMatrix) -> AmgPreconditioner<'s> {
         AmgPreconditioner { h: self, a }
     }
 
@@ -435,7 +434,7 @@ impl AmgHierarchy {
 }
 
 /// An [`AmgHierarchy`] together with the fine matrix it is applied to.
-pub(crate) struct AmgPreconditioner<'s> {
+pub struct AmgPreconditioner<'s> {
     h: &'s AmgHierarchy,
     a: &'s CsrMatrix,
 }
@@ -444,6 +443,33 @@ impl Preconditioner for AmgPreconditioner<'_> {
     fn apply(&self, r: &[f64], z: &mut [f64]) {
         self.h.vcycle(self.a, r, z)
     }
+}
+
+/// One coarsening step: strength, aggregation, smoothed prolongator P,
+/// restriction R = P^T and Galerkin operator R A P; `None` when coarsening
+/// stalls (or nothing aggregates). `lap` reports the timing of each stage.
+fn coarsen(
+    cur: &CsrMatrix,
+    inv_d: &[f64],
+    rho: f64,
+    opts: &AmgOptions,
+    lap: &mut dyn FnMut(&str),
+) -> Option<(CsrMatrix, CsrMatrix, CsrMatrix)> {
+    let strong = strength(cur, opts.strength_threshold);
+    let (agg, nagg) = aggregate(cur.n, &strong.0, &strong.1);
+    lap(&format!("strength + aggregation ({nagg} aggregates)"));
+    if nagg == 0 || (nagg as f64) >= 0.9 * cur.n as f64 {
+        return None;
+    }
+    let omega = opts.prolongator_omega / rho.max(f64::MIN_POSITIVE);
+    let p = smoothed_prolongator(cur, inv_d, &agg, nagg, omega);
+    let r = p.transpose();
+    lap(&format!("prolongator (nnz {})", p.nnz()));
+    let ap = spgemm(cur, &p);
+    lap(&format!("A P (nnz {})", ap.nnz()));
+    let ac = spgemm(&r, &ap);
+    lap(&format!("P^T (A P) (nnz {})", ac.nnz()));
+    Some((p, r, ac))
 }
 
 fn factor_coarse(a: &CsrMatrix, symmetric: bool) -> Result<DirectFactor, LinearError> {
@@ -560,7 +586,7 @@ fn smoothed_prolongator(
     agg: &[usize],
     nagg: usize,
     omega: f64,
-) -> SpMat {
+) -> CsrMatrix {
     let mut size = vec![0usize; nagg];
     for &g in agg {
         if g < nagg {

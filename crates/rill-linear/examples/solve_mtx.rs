@@ -3,7 +3,7 @@
 //! `scripts/bench/solver_vs_pyamg.py`, drives it).
 //!
 //! ```text
-//! cargo run --release -p rill-sim --example solve_mtx -- A.mtx b.mtx \
+//! cargo run --release -p rill-linear --example solve_mtx -- A.mtx b.mtx \
 //!     [--method amg-cg|amg-bicgstab|direct|auto|jacobi-cg] [--tol 1e-8] \
 //!     [--smoother hgs|l1|cheb2|cheb3] [--sweeps 1] [--blocks 16] \
 //!     [--theta 0] [--max-coarse 3000] [--max-iter 500] [--repeat 1] [--reuse-check [--reuse-factor 1.02]]
@@ -16,7 +16,7 @@
 use std::io::Read;
 use std::time::Instant;
 
-use rill_sim::linear::{solve, AmgOptions, CsrMatrix, Method, Smoother, SolverOptions};
+use rill_linear::{solve, AmgOptions, CsrMatrix, Method, Smoother, SolverOptions};
 
 fn main() {
     if let Err(e) = run() {
@@ -25,6 +25,9 @@ fn main() {
     }
 }
 
+// Long: the argument parsing and the three modes (solve, reuse check,
+// hierarchy report) read top to bottom; split, they would only pass the
+// options around.
 fn run() -> Result<(), String> {
     let args: Vec<String> = std::env::args().skip(1).collect();
     let mut files = Vec::new();
@@ -109,7 +112,7 @@ fn run() -> Result<(), String> {
     // matrix changes values (diagonal scaled by --reuse-factor, default 1.02,
     // as a changed accumulation term would).
     let reuse = if reuse_check {
-        let mut solver = rill_sim::linear::Solver::new(opts.clone());
+        let mut solver = rill_linear::Solver::new(opts.clone());
         let mut x = vec![0.0; a.n];
         let s1 = solver.solve(&a, &b, &mut x).map_err(|e| e.to_string())?;
         let mut a2 = a.clone();
@@ -132,7 +135,7 @@ fn run() -> Result<(), String> {
     };
     // Level sizes (built once more, outside the timings).
     let levels = if matches!(opts.method, Method::AmgCg | Method::AmgBicgstab) {
-        let h = rill_sim::linear::AmgHierarchy::build(&a, &opts.amg).map_err(|e| e.to_string())?;
+        let h = rill_linear::AmgHierarchy::build(&a, &opts.amg).map_err(|e| e.to_string())?;
         h.level_info()
             .iter()
             .map(|l| format!("[{}, {}]", l.n, l.nnz))
