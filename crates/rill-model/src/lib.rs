@@ -23,7 +23,7 @@ pub mod source;
 pub mod values;
 
 pub use case::*;
-pub use diagnostic::{Diagnostic, Edit, Fix, Label, Location, Severity};
+pub use diagnostic::{Code, Diagnostic, Edit, Fix, Label, Location, Severity};
 pub use source::{MemorySource, Source, SourceError};
 
 use std::path::{Path, PathBuf};
@@ -149,7 +149,7 @@ fn drop_cascades(files: &[FileInfo], diagnostics: &mut Vec<Diagnostic>) {
         return;
     }
     diagnostics.retain(|d| {
-        d.code.starts_with("syntax.")
+        d.code.area() == "syntax"
             || !spans.iter().any(|(f, s)| {
                 *f == d.location.file && s.start <= d.location.start && d.location.end <= s.end
             })

@@ -5,7 +5,7 @@
 //! dependency order so that references see the final (patched) values.
 
 use crate::arrays;
-use crate::diagnostic::{Diagnostic, Location};
+use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::reuse::{kept, Reuse};
 use crate::source::{resolve, Source};
 use crate::values::{checked_unit, describe_expected, describe_found, Gauge, Reporter};
@@ -284,7 +284,7 @@ fn list_values(
             },
             _ => {
                 r.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     r.loc(item.span),
                     format!(
                         "`{key}` expects numbers in this list, found {}",
@@ -344,7 +344,7 @@ fn count_check(
     }
     r.push(
         Diagnostic::error(
-            "grid.array-length",
+            Code::GridArrayLength,
             r.loc(span),
             format!(
                 "`{key} = {}` needs {expected} values ({what}), found {found}",
@@ -425,7 +425,7 @@ impl PropReader<'_> {
         if let Some(extra) = atoms.get(parser.pos) {
             let r = parser.r;
             r.push(Diagnostic::error(
-                "deck.value",
+                Code::DeckValue,
                 r.loc(extra.span),
                 format!(
                     "unexpected {} after the value of `{key}`",
@@ -470,7 +470,7 @@ impl PropReader<'_> {
                 accepted.push("`file \"...\"`");
             }
             r.push(Diagnostic::error(
-                "deck.value",
+                Code::DeckValue,
                 r.loc(atoms[0].span),
                 format!(
                     "`{key}` does not take `{form}`; it takes {}",
@@ -481,7 +481,7 @@ impl PropReader<'_> {
         }
         let Some(arg) = atoms.get(1) else {
             r.push(Diagnostic::error(
-                "deck.value",
+                Code::DeckValue,
                 r.loc(atoms[0].span),
                 format!(
                     "`{form}` must be followed by {}",
@@ -496,7 +496,7 @@ impl PropReader<'_> {
         };
         if let Some(extra) = atoms.get(2) {
             r.push(Diagnostic::error(
-                "deck.value",
+                Code::DeckValue,
                 r.loc(extra.span),
                 format!("unexpected {} after `{form} ...`", atom_words(&extra.kind)),
             ));
@@ -524,7 +524,7 @@ impl PropReader<'_> {
                 let raw = self.load_file(r, name, arg.span)?;
                 if raw.len() != want {
                     r.push(Diagnostic::error(
-                        "grid.array-length",
+                        Code::GridArrayLength,
                         r.loc(arg.span),
                         format!(
                             "`{key}` file \"{name}\" needs {want} values ({what}), found {}",
@@ -555,7 +555,7 @@ impl PropReader<'_> {
             }
             _ => {
                 r.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     r.loc(arg.span),
                     format!(
                         "`{form}` must be followed by {}, found {}",
@@ -592,7 +592,7 @@ impl PropReader<'_> {
             Ok(b) => b,
             Err(e) => {
                 r.push(Diagnostic::error(
-                    "deck.include",
+                    Code::DeckInclude,
                     r.loc(span),
                     format!(
                         "array file \"{name}\" ({}) cannot be used: {e}",
@@ -617,7 +617,7 @@ impl PropReader<'_> {
             for b in &bad {
                 r.push(
                     Diagnostic::error(
-                        "syntax.unexpected",
+                        Code::SyntaxUnexpected,
                         Location {
                             file: file_index,
                             start: b.start,
@@ -698,7 +698,7 @@ impl ExprParser<'_, '_, '_> {
                 .map(|a| Span::new(a.span.end, a.span.end))
                 .unwrap_or_default();
             self.r.push(Diagnostic::error(
-                "deck.value",
+                Code::DeckExpression,
                 self.r.loc(end),
                 format!("`{}` expects a value after the operator", self.key),
             ));
@@ -708,7 +708,7 @@ impl ExprParser<'_, '_, '_> {
         let in_arithmetic = self.atoms.len() > 1;
         if in_arithmetic && !self.arithmetic {
             self.r.push(Diagnostic::error(
-                "deck.value",
+                Code::DeckExpression,
                 self.r.loc(atom.span),
                 format!(
                     "`{}` takes a single value here, not an expression",
@@ -762,7 +762,7 @@ impl ExprParser<'_, '_, '_> {
             }),
             other => {
                 self.r.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     self.r.loc(atom.span),
                     format!(
                         "`{}` expects {}, found {}",
@@ -816,7 +816,7 @@ pub fn infer_dim(
                     };
                     if let Some(span) = bare {
                         let mut d = Diagnostic::error(
-                            "unit.missing",
+                            Code::UnitMissing,
                             r.loc(span),
                             format!(
                                 "a bare number is added to {} in `{key}`; give it a unit",
@@ -827,7 +827,7 @@ pub fn infer_dim(
                         r.push(d);
                     } else {
                         r.push(Diagnostic::error(
-                            "unit.dimension",
+                            Code::UnitDimension,
                             r.loc(e.span()),
                             format!(
                                 "cannot add {} and {} in `{key}`",
@@ -1024,7 +1024,7 @@ pub fn check_result_dim(r: &mut Reporter, e: &Expr, found: Dim, expected: Dim, k
         return false;
     }
     r.push(Diagnostic::error(
-        "unit.dimension",
+        Code::UnitDimension,
         r.loc(e.span()),
         format!(
             "`{key}` expects {}, but this expression is {}",

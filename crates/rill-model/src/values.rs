@@ -3,7 +3,7 @@
 //! wrong (unknown, missing, wrong dimension, reservoir instead of surface
 //! volume, gauge where an absolute value is not meant).
 
-use crate::diagnostic::{Diagnostic, Location};
+use crate::diagnostic::{Code, Diagnostic, Location};
 use rill_syntax::{Span, UnitExpr};
 use rill_units::{Dim, Unit, UnitErrorKind};
 
@@ -198,7 +198,7 @@ pub fn checked_unit(
             });
         }
         let mut d = Diagnostic::error(
-            "unit.missing",
+            Code::UnitMissing,
             r.loc(number_span),
             format!(
                 "`{key}` expects {}, found a bare number",
@@ -222,7 +222,7 @@ pub fn checked_unit(
             match &e.kind {
                 UnitErrorKind::Unknown { name, suggestions } => {
                     let mut d = Diagnostic::error(
-                        "unit.unknown",
+                        Code::UnitUnknown,
                         r.loc(span),
                         format!("unknown unit `{name}`"),
                     );
@@ -241,7 +241,7 @@ pub fn checked_unit(
                 UnitErrorKind::GaugeInCompound { name } => {
                     r.push(
                         Diagnostic::error(
-                            "unit.gauge",
+                            Code::UnitGauge,
                             r.loc(span),
                             format!("the gauge unit `{name}` cannot be part of a compound unit"),
                         )
@@ -250,7 +250,7 @@ pub fn checked_unit(
                 }
                 UnitErrorKind::Syntax { .. } => {
                     r.push(Diagnostic::error(
-                        "unit.unknown",
+                        Code::UnitUnknown,
                         r.loc(span),
                         format!("malformed unit `{}`: {e}", unit.text),
                     ));
@@ -264,7 +264,7 @@ pub fn checked_unit(
             let abs = if unit.text == "barg" { "bar" } else { "psi" };
             r.push(
                 Diagnostic::error(
-                    "unit.gauge",
+                    Code::UnitGauge,
                     r.loc(unit.span),
                     format!("`{key}` is not an absolute pressure here, so the gauge unit `{}` is refused", unit.text),
                 )
@@ -277,7 +277,7 @@ pub fn checked_unit(
     }
     if collapse(parsed.dim) == collapse(expected) {
         let mut d = Diagnostic::error(
-            "unit.volume-kind",
+            Code::UnitVolumeKind,
             r.loc(unit.span),
             volume_kind_message(key, expected, parsed.dim, &unit.text),
         );
@@ -318,7 +318,7 @@ pub fn checked_unit(
         return None;
     }
     let mut d = Diagnostic::error(
-        "unit.dimension",
+        Code::UnitDimension,
         r.loc(unit.span),
         format!(
             "`{key}` expects {}, found `{}`, which is {}",

@@ -10,7 +10,7 @@ impl<'s> Lowerer<'s> {
             Some(Some(v)) => Some(v),
             Some(None) => {
                 self.diags.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     Location::new(file, s.value.span),
                     "a boundary pressure is one value, optionally `at` a depth: `3150 psi at 7150 ft`",
                 ));

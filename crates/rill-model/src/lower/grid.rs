@@ -84,7 +84,7 @@ impl<'s> Lowerer<'s> {
             }] => {
                 if parts.len() != 3 || parts.contains(&0) {
                     self.diags.push(Diagnostic::error(
-                        "grid.spacing",
+                        Code::GridCells,
                         Location::new(file, *span),
                         "`cells` expects three positive counts NX x NY x NZ",
                     ));
@@ -97,7 +97,7 @@ impl<'s> Lowerer<'s> {
                         .unwrap_or_else(|| "more than 2^64".into());
                     self.diags.push(
                         Diagnostic::error(
-                            "grid.spacing",
+                            Code::GridCells,
                             Location::new(file, *span),
                             format!("`cells` gives {found} cells; rill holds at most {MAX_CELLS} (a typo in a count?)"),
                         )
@@ -115,7 +115,7 @@ impl<'s> Lowerer<'s> {
             _ => {
                 self.diags.push(
                     Diagnostic::error(
-                        "deck.value",
+                        Code::GridCells,
                         Location::new(file, cells.value.span),
                         "`cells` expects the grid size as NX x NY x NZ, e.g. `30 x 20 x 4`",
                     )
@@ -171,7 +171,7 @@ impl<'s> Lowerer<'s> {
             }
             Field::Columns(v) | Field::Layers(v) => {
                 self.diags.push(Diagnostic::error(
-                    "grid.array-length",
+                    Code::GridArrayLength,
                     loc,
                     format!("`{key}` needs {n} values ({what}), found {}", v.len()),
                 ));
@@ -209,7 +209,7 @@ impl<'s> Lowerer<'s> {
                 let bad = scan.count;
                 self.diags.push(
                     Diagnostic::error(
-                        "grid.spacing",
+                        Code::GridSpacing,
                         loc.unwrap_or_default(),
                         format!("`{key}` must be positive; {bad} value(s) are zero or negative, the first at {which}"),
                     )

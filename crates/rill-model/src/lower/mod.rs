@@ -14,7 +14,7 @@ mod timeline;
 mod wells;
 
 use crate::case::*;
-use crate::diagnostic::{Diagnostic, Location};
+use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::props::{
     check_result_dim, evaluate, evaluate_kept, infer_dim, Expr, Field, Forms, PropReader, Shape,
 };

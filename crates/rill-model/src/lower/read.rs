@@ -9,7 +9,7 @@ impl<'s> Lowerer<'s> {
             }] => Some(value.clone()),
             _ => {
                 self.diags.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     Location::new(file, stmt.value.span),
                     format!("`{}` expects text in quotes", stmt.key.name),
                 ));
@@ -43,7 +43,7 @@ impl<'s> Lowerer<'s> {
             [] => None, // the parser reported the empty value
             atoms => {
                 self.diags.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     Location::new(file, stmt.value.span),
                     format!(
                         "`{key}` expects one value, {}, found {}",
@@ -70,7 +70,7 @@ impl<'s> Lowerer<'s> {
             [] => return None,
             _ => {
                 self.diags.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckChoice,
                     Location::new(file, stmt.value.span),
                     format!("`{}` expects one of {}", stmt.key.name, options.join(", ")),
                 ));
@@ -81,7 +81,7 @@ impl<'s> Lowerer<'s> {
             return Some(o);
         }
         let mut d = Diagnostic::error(
-            "deck.value",
+            Code::DeckChoice,
             Location::new(file, span),
             format!(
                 "`{}` expects one of {}, found `{name}`",
@@ -160,7 +160,7 @@ impl<'s> Lowerer<'s> {
                     ),
                     _ => {
                         self.diags.push(Diagnostic::error(
-                            "deck.value",
+                            Code::DeckValue,
                             Location::new(file, *at_span),
                             "`at` must be followed by one depth, e.g. `3200 psi at 7150 ft`",
                         ));
@@ -180,7 +180,7 @@ impl<'s> Lowerer<'s> {
             [] => None,
             atoms => {
                 self.diags.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     Location::new(file, stmt.value.span),
                     format!(
                         "`{key}` expects a pressure, optionally `at` a depth (`3200 psi at 7150 ft`), found {}",
@@ -247,7 +247,7 @@ impl<'s> Lowerer<'s> {
         atom: &Atom,
         n: usize,
         axis: &str,
-        code: &'static str,
+        code: Code,
     ) -> Option<(usize, usize)> {
         let (lo, hi) = match &atom.kind {
             AtomKind::Range { start, end } => (*start, *end),
@@ -256,7 +256,7 @@ impl<'s> Lowerer<'s> {
             } if value.fract() == 0.0 => (*value as i64, *value as i64),
             other => {
                 self.diags.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     Location::new(file, atom.span),
                     format!(
                         "expected an index or a range like `2..5` for `{axis}`, found {}",
@@ -308,7 +308,7 @@ impl<'s> Lowerer<'s> {
     ) -> Option<Vec<i64>> {
         if items.len() != n {
             self.diags.push(Diagnostic::error(
-                "deck.value",
+                Code::DeckValue,
                 Location::new(file, span),
                 format!(
                     "expected {} indices {}, found {}",
@@ -327,7 +327,7 @@ impl<'s> Lowerer<'s> {
                 } if value.fract() == 0.0 && value.abs() < 1e12 => out.push(*value as i64),
                 other => {
                     self.diags.push(Diagnostic::error(
-                        "deck.value",
+                        Code::DeckValue,
                         Location::new(file, it.span),
                         format!(
                             "expected a whole 1-based index, found {}",

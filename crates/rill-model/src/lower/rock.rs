@@ -178,7 +178,7 @@ impl<'s> Lowerer<'s> {
                         if defs.get(name).is_some_and(|d| !d.is_empty()) {
                             let at = defs[name][0].loc;
                             self.diags.push(Diagnostic::error(
-                                "deck.missing-key",
+                                Code::DeckMissingKey,
                                 at,
                                 format!("a patch sets `{name}`, but `rock` has no base value for `{name}`"),
                             ));
@@ -202,7 +202,7 @@ impl<'s> Lowerer<'s> {
                 for (r, span) in &refs {
                     if !PROPS.contains(&r.as_str()) {
                         let mut d = Diagnostic::error(
-                            "deck.reference",
+                            Code::DeckReference,
                             Location::new(file, *span),
                             format!("`{r}` is not a property of `rock`; expressions may use porosity, kx, ky, kz"),
                         );
@@ -291,7 +291,7 @@ impl<'s> Lowerer<'s> {
         }
         if let Some((path, span)) = cycle {
             self.diags.push(Diagnostic::error(
-                "deck.reference",
+                Code::DeckReference,
                 Location::new(file, span),
                 format!("rock properties refer to each other in a cycle ({path})"),
             ));
@@ -362,7 +362,7 @@ impl<'s> Lowerer<'s> {
         for arg in &p.args {
             let AtomKind::Selector { key, value } = &arg.kind else {
                 self.diags.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     Location::new(file, arg.span),
                     format!(
                         "a patch header takes `i = ..`, `j = ..`, `k = ..`, found {}",
@@ -378,7 +378,7 @@ impl<'s> Lowerer<'s> {
                 "k" => (2, shape.nz),
                 other => {
                     self.diags.push(Diagnostic::error(
-                        "deck.value",
+                        Code::DeckChoice,
                         Location::new(file, key.span),
                         format!("a patch selects cells with `i`, `j` and `k`, found `{other}`"),
                     ));
@@ -386,7 +386,8 @@ impl<'s> Lowerer<'s> {
                     continue;
                 }
             };
-            let Some((lo, hi)) = self.index_range(file, value, n, key.name.as_str(), "grid.index")
+            let Some((lo, hi)) =
+                self.index_range(file, value, n, key.name.as_str(), Code::GridIndex)
             else {
                 ok = false;
                 continue;

@@ -32,8 +32,8 @@ impl<'s> Lowerer<'s> {
         for (file, tree) in trees.iter().enumerate() {
             for e in &tree.errors {
                 let code = match e.kind {
-                    rill_syntax::SyntaxErrorKind::Unexpected => "syntax.unexpected",
-                    rill_syntax::SyntaxErrorKind::Unclosed => "syntax.unclosed",
+                    rill_syntax::SyntaxErrorKind::Unexpected => Code::SyntaxUnexpected,
+                    rill_syntax::SyntaxErrorKind::Unclosed => Code::SyntaxUnclosed,
                 };
                 let msg = match e.kind {
                     rill_syntax::SyntaxErrorKind::Unexpected => {
@@ -66,7 +66,7 @@ impl<'s> Lowerer<'s> {
                         if let Some(prev) = blocks.get(def.name).and_then(|v| v.first()) {
                             if !def.repeatable {
                                 let d = Diagnostic::error(
-                                    "deck.duplicate-key",
+                                    Code::DeckDuplicateKey,
                                     Location::new(file, b.name.span),
                                     format!(
                                         "the block `{}` is given twice; write one `{}` block",
@@ -89,7 +89,7 @@ impl<'s> Lowerer<'s> {
                     None => {
                         let names = schema::TOP_LEVEL.iter().map(|d| d.name).chain(["include"]);
                         let mut d = Diagnostic::error(
-                            "deck.unknown-block",
+                            Code::DeckUnknownBlock,
                             Location::new(file, b.name.span),
                             format!("unknown block `{}`", b.name.name),
                         );
@@ -107,7 +107,7 @@ impl<'s> Lowerer<'s> {
                 },
                 Item::Statement(s) => {
                     let mut d = Diagnostic::error(
-                        "deck.unknown-key",
+                        Code::DeckUnknownKey,
                         Location::new(file, s.key.span),
                         format!("`{} = ...` stands outside any block", s.key.name),
                     );
@@ -125,7 +125,7 @@ impl<'s> Lowerer<'s> {
                 Item::Directive(dir) => {
                     if dir.name.name != "include" {
                         let mut d = Diagnostic::error(
-                            "deck.unknown-block",
+                            Code::DeckUnknownBlock,
                             Location::new(file, dir.name.span),
                             format!("unknown block or directive `{}`", dir.name.name),
                         );
@@ -169,7 +169,7 @@ impl<'s> Lowerer<'s> {
                 }] => value.clone(),
                 _ => {
                     self.diags.push(Diagnostic::error(
-                        "deck.include",
+                        Code::DeckInclude,
                         loc,
                         "`include` takes one file name in quotes: include \"more-wells.rill\"",
                     ));
@@ -179,7 +179,7 @@ impl<'s> Lowerer<'s> {
             let path = resolve(&self.files[file].path, &name);
             if stack.contains(&path) {
                 self.diags.push(Diagnostic::error(
-                    "deck.include",
+                    Code::DeckInclude,
                     loc,
                     format!(
                         "\"{name}\" includes itself through a cycle ({})",
@@ -190,7 +190,7 @@ impl<'s> Lowerer<'s> {
             }
             if depth + 1 > MAX_INCLUDE_DEPTH {
                 self.diags.push(Diagnostic::error(
-                    "deck.include",
+                    Code::DeckInclude,
                     loc,
                     format!("includes nest deeper than {MAX_INCLUDE_DEPTH} files"),
                 ));
@@ -198,7 +198,7 @@ impl<'s> Lowerer<'s> {
             }
             if self.files.iter().any(|f| f.path == path) {
                 self.diags.push(Diagnostic::warning(
-                    "deck.include",
+                    Code::DeckInclude,
                     loc,
                     format!("\"{name}\" is already included; it is read once"),
                 ));
@@ -208,7 +208,7 @@ impl<'s> Lowerer<'s> {
                 Ok(b) => b,
                 Err(e) => {
                     self.diags.push(Diagnostic::error(
-                        "deck.include",
+                        Code::DeckInclude,
                         loc,
                         format!("cannot include \"{name}\" ({}): {e}", path.display()),
                     ));
@@ -247,7 +247,7 @@ impl<'s> Lowerer<'s> {
             };
             self.diags.push(
                 Diagnostic::error(
-                    "deck.missing-key",
+                    Code::DeckMissingKey,
                     main,
                     format!("the case has no `{name}` block"),
                 )
@@ -269,7 +269,7 @@ impl<'s> Lowerer<'s> {
                 Item::Statement(s) => {
                     if def.key(&s.key.name).is_none() {
                         let mut d = Diagnostic::error(
-                            "deck.unknown-key",
+                            Code::DeckUnknownKey,
                             Location::new(file, s.key.span),
                             format!("`{}` is not a key of `{}`", s.key.name, def.name),
                         );
@@ -292,7 +292,7 @@ impl<'s> Lowerer<'s> {
                     if let Some(first) = seen.get(s.key.name.as_str()) {
                         self.diags.push(
                             Diagnostic::error(
-                                "deck.duplicate-key",
+                                Code::DeckDuplicateKey,
                                 Location::new(file, s.key.span),
                                 format!(
                                     "`{}` is given twice in `{}`; later statements never replace earlier ones",
@@ -314,7 +314,7 @@ impl<'s> Lowerer<'s> {
                     Some(cdef) => self.check_block_structure(file, child, cdef),
                     None => {
                         let mut d = Diagnostic::error(
-                            "deck.unknown-block",
+                            Code::DeckUnknownBlock,
                             Location::new(file, child.name.span),
                             format!("`{}` cannot stand inside `{}`", child.name.name, def.name),
                         );
@@ -332,7 +332,7 @@ impl<'s> Lowerer<'s> {
                 },
                 Item::Directive(dir) => {
                     let mut d = Diagnostic::error(
-                        "deck.unknown-key",
+                        Code::DeckUnknownKey,
                         Location::new(file, dir.name.span),
                         format!(
                             "`{}` needs `= value` (or `{{ ... }}` for a block)",
@@ -341,7 +341,7 @@ impl<'s> Lowerer<'s> {
                     );
                     if dir.name.name == "include" {
                         d = Diagnostic::error(
-                            "deck.include",
+                            Code::DeckInclude,
                             Location::new(file, dir.name.span),
                             "`include` is allowed at the top level only",
                         );
@@ -382,7 +382,7 @@ impl<'s> Lowerer<'s> {
             if !seen.contains_key(k.name) && !misspelt.contains(&k.name) {
                 let at = Location::new(file, block.name.span);
                 let mut d = Diagnostic::error(
-                    "deck.missing-key",
+                    Code::DeckMissingKey,
                     at,
                     format!("`{}` needs the key `{}`: {}", def.name, k.name, k.doc),
                 );
@@ -407,7 +407,7 @@ impl<'s> Lowerer<'s> {
                 let label = label_of(f.block);
                 if def.label == LabelRule::Required && label.is_none() {
                     self.diags.push(Diagnostic::error(
-                        "deck.missing-key",
+                        Code::DeckMissingKey,
                         Location::new(f.file, f.block.name.span),
                         format!(
                             "a `{name}` block needs a name in quotes: {name} \"NAME\" {{ ... }}"
@@ -416,7 +416,7 @@ impl<'s> Lowerer<'s> {
                 }
                 if def.label == LabelRule::None && !f.block.args.is_empty() {
                     self.diags.push(Diagnostic::error(
-                        "syntax.unexpected",
+                        Code::SyntaxUnexpected,
                         Location::new(f.file, f.block.args[0].span),
                         format!(
                             "expected `{{` after `{name}`, found {}",
@@ -429,7 +429,7 @@ impl<'s> Lowerer<'s> {
                     if let Some(first) = names.get(&label) {
                         self.diags.push(
                             Diagnostic::error(
-                                "deck.duplicate-name",
+                                Code::DeckDuplicateName,
                                 loc,
                                 format!("two `{name}` blocks are named \"{label}\""),
                             )

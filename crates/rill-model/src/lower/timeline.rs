@@ -36,7 +36,7 @@ impl<'s> Lowerer<'s> {
                     let v = this.quantity(file, s, Dim::TIME, Gauge::Refused)?;
                     if v <= 0.0 {
                         this.diags.push(Diagnostic::error(
-                            "timeline.order",
+                            Code::TimelineOrder,
                             Location::new(file, s.value.span),
                             format!("`{key}` must be a positive time"),
                         ));
@@ -60,7 +60,7 @@ impl<'s> Lowerer<'s> {
                 let g = self.number(file, s)?;
                 if !(1.0..=10.0).contains(&g) {
                     self.diags.push(Diagnostic::error(
-                        "deck.value",
+                        Code::DeckOutOfRange,
                         Location::new(file, s.value.span),
                         format!("`growth` must lie between 1 and 10, found {g}"),
                     ));
@@ -76,7 +76,7 @@ impl<'s> Lowerer<'s> {
             let at = Location::new(file, block.name.span);
             self.diags.push(
                 Diagnostic::error(
-                    "deck.missing-key",
+                    Code::DeckMissingKey,
                     at,
                     "a transient run needs `end`: how long to simulate",
                 )
@@ -96,7 +96,7 @@ impl<'s> Lowerer<'s> {
             if fs > e {
                 self.diags.push(
                     Diagnostic::error(
-                        "timeline.order",
+                        Code::TimelineOrder,
                         first_loc.unwrap_or_default(),
                         "`first_step` is longer than the whole run (`end`)",
                     )
@@ -159,7 +159,7 @@ impl<'s> Lowerer<'s> {
                 ),
                 _ => {
                     self.diags.push(Diagnostic::error(
-                        "deck.value",
+                        Code::DeckValue,
                         loc,
                         "an event starts with its time: `at 180 day { ... }`",
                     ));
@@ -174,7 +174,7 @@ impl<'s> Lowerer<'s> {
                 if t <= prev {
                     self.diags.push(
                         Diagnostic::error(
-                            "timeline.order",
+                            Code::TimelineOrder,
                             loc,
                             "events must come in time order, each later than the one before",
                         )
@@ -186,7 +186,7 @@ impl<'s> Lowerer<'s> {
             if run_end.kind == RunKind::Transient && t > run_end.end {
                 self.diags.push(
                     Diagnostic::error(
-                        "timeline.order",
+                        Code::TimelineOrder,
                         loc,
                         "this event comes after the end of the run",
                     )
@@ -226,7 +226,7 @@ impl<'s> Lowerer<'s> {
             }
             let Some(wname) = label_of(wb) else {
                 self.diags.push(Diagnostic::error(
-                    "deck.missing-key",
+                    Code::DeckMissingKey,
                     Location::new(file, wb.name.span),
                     "a change in an event names its well: well \"NAME\" { control = ... }",
                 ));
@@ -236,7 +236,7 @@ impl<'s> Lowerer<'s> {
             let Some(index) = wells.iter().position(|w| w.name == wname) else {
                 let span = wb.args.first().map(|a| a.span).unwrap_or(wb.name.span);
                 let mut d = Diagnostic::error(
-                    "deck.reference",
+                    Code::DeckReference,
                     Location::new(file, span),
                     format!("no well is named \"{wname}\""),
                 );

@@ -25,7 +25,7 @@ impl<'s> Lowerer<'s> {
                 }] = rest
                 else {
                     self.diags.push(Diagnostic::error(
-                        "deck.value",
+                        Code::DeckValue,
                         Location::new(file, *mode_span),
                         format!(
                             "`{mode}` must be followed by one {}",
@@ -51,7 +51,7 @@ impl<'s> Lowerer<'s> {
                     if q < 0.0 {
                         self.diags.push(
                             Diagnostic::error(
-                                "deck.value",
+                                Code::DeckOutOfRange,
                                 Location::new(file, *span),
                                 "a rate is given as a positive number; the well's `role` says whether it produces or injects",
                             )
@@ -76,7 +76,7 @@ impl<'s> Lowerer<'s> {
             [] => None,
             [first, ..] => {
                 let mut d = Diagnostic::error(
-                    "deck.value",
+                    Code::DeckChoice,
                     Location::new(file, first.span),
                     format!(
                         "`control` expects `rate <surface rate>` or `bhp <pressure>`, found {}",
@@ -184,7 +184,7 @@ impl<'s> Lowerer<'s> {
         match (location, explicit) {
             (Some(_), Some(e)) => {
                 self.diags.push(Diagnostic::error(
-                    "deck.duplicate-key",
+                    Code::DeckDuplicateKey,
                     Location::new(file, e.key.span),
                     "give either `location` (with `layers`) or `completions`, not both",
                 ));
@@ -192,7 +192,7 @@ impl<'s> Lowerer<'s> {
             }
             (None, None) => {
                 self.diags.push(Diagnostic::error(
-                    "deck.missing-key",
+                    Code::DeckMissingKey,
                     at,
                     "a well needs `location = (i, j)` (with `layers`) or `completions = [(i, j, k) ...]`",
                 ));
@@ -228,7 +228,7 @@ impl<'s> Lowerer<'s> {
             [] => return None,
             _ => {
                 self.diags.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     Location::new(file, loc.value.span),
                     "`location` expects a column `(i, j)`",
                 ));
@@ -237,7 +237,7 @@ impl<'s> Lowerer<'s> {
         };
         if i < 1 || j < 1 || i > grid.nx as i64 || j > grid.ny as i64 {
             self.diags.push(Diagnostic::error(
-                "well.completion",
+                Code::WellCompletion,
                 Location::new(file, loc.value.span),
                 format!(
                     "the column ({i}, {j}) lies outside the grid of {} x {} columns",
@@ -248,10 +248,10 @@ impl<'s> Lowerer<'s> {
         }
         let (k0, k1) = match layers {
             Some(l) => match l.value.atoms.as_slice() {
-                [a] => self.index_range(file, a, grid.nz, "layers", "well.completion")?,
+                [a] => self.index_range(file, a, grid.nz, "layers", Code::WellCompletion)?,
                 _ => {
                     self.diags.push(Diagnostic::error(
-                        "deck.value",
+                        Code::DeckValue,
                         Location::new(file, l.value.span),
                         "`layers` expects a layer or a range like `1..4`",
                     ));
@@ -277,7 +277,7 @@ impl<'s> Lowerer<'s> {
     ) -> Option<Vec<Completion>> {
         if let Some(l) = layers {
             self.diags.push(Diagnostic::error(
-                "deck.value",
+                Code::DeckValue,
                 Location::new(file, l.key.span),
                 "`layers` goes with `location`; explicit `completions` name their layers",
             ));
@@ -297,7 +297,7 @@ impl<'s> Lowerer<'s> {
             [] => return None,
             _ => {
                 self.diags.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     Location::new(file, e.value.span),
                     "`completions` expects a list of cells `[(i, j, k) (i, j, k)]`",
                 ));
@@ -309,7 +309,7 @@ impl<'s> Lowerer<'s> {
         for item in items {
             let AtomKind::Tuple { items: t, .. } = &item.kind else {
                 self.diags.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     Location::new(file, item.span),
                     format!(
                         "expected a cell `(i, j, k)`, found {}",
@@ -332,7 +332,7 @@ impl<'s> Lowerer<'s> {
                 || k > grid.nz as i64
             {
                 self.diags.push(Diagnostic::error(
-                    "well.completion",
+                    Code::WellCompletion,
                     Location::new(file, item.span),
                     format!(
                         "the cell ({i}, {j}, {k}) lies outside the grid of {} x {} x {} cells",
@@ -345,7 +345,7 @@ impl<'s> Lowerer<'s> {
             let c = completion(grid, i as usize - 1, j as usize - 1, k as usize - 1);
             if out.iter().any(|o: &Completion| o.cell == c.cell) {
                 self.diags.push(Diagnostic::error(
-                    "deck.duplicate-key",
+                    Code::DeckDuplicateKey,
                     Location::new(file, item.span),
                     format!("the cell ({i}, {j}, {k}) is completed twice"),
                 ));
@@ -356,7 +356,7 @@ impl<'s> Lowerer<'s> {
         }
         if out.is_empty() && ok {
             self.diags.push(Diagnostic::error(
-                "well.completion",
+                Code::WellCompletion,
                 Location::new(file, e.value.span),
                 "a well needs at least one completed cell",
             ));
