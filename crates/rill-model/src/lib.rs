@@ -24,6 +24,7 @@ pub mod values;
 
 pub use case::*;
 pub use diagnostic::{Code, Diagnostic, Edit, Fix, Label, Location, Severity};
+pub use reuse::Reuse;
 pub use source::{MemorySource, Source, SourceError};
 
 use std::path::{Path, PathBuf};
@@ -69,28 +70,43 @@ impl Analysis {
 
 /// Check the deck at `path`, reading it and everything it refers to through `source`.
 pub fn analyze(path: &Path, source: &dyn Source) -> Result<Analysis, SourceError> {
+    analyze_with(path, source, &Reuse::new())
+}
+
+/// [`analyze`] keeping parsed arrays and derived results in `cache` for
+/// the next analysis, and using what the last one kept there.
+pub fn analyze_with(
+    path: &Path,
+    source: &dyn Source,
+    cache: &Reuse,
+) -> Result<Analysis, SourceError> {
     let bytes = source.read(path)?;
     let (text, _) = rill_syntax::parse_bytes(&bytes);
-    Ok(analyze_text(path, &text, source))
+    Ok(analyze_text_with(path, &text, source, cache))
 }
 
 /// Check deck text (e.g. an editor buffer) that stands at `path`.
 pub fn analyze_text(path: &Path, text: &str, source: &dyn Source) -> Analysis {
-    if let Some(reuse) = source.reuse() {
-        reuse.begin();
-    }
+    analyze_text_with(path, text, source, &Reuse::new())
+}
+
+/// [`analyze_text`] keeping parsed arrays and derived results in `cache`
+/// for the next analysis (an editor re-checking on every edit), and using
+/// what the last one kept there.
+pub fn analyze_text_with(path: &Path, text: &str, source: &dyn Source, cache: &Reuse) -> Analysis {
+    cache.begin();
     let mut lowerer = lower::Lowerer {
         source,
+        reuse: cache,
         files: Vec::new(),
         diags: Vec::new(),
-        array_cache: Default::default(),
     };
     let (case, spans) = lowerer.lower(source::normalize(path), text);
     let mut diagnostics = lowerer.diags;
     // Sanity checks need a whole case and no lowering errors to be meaningful.
     if let Some(case) = &case {
         if !diagnostics.iter().any(|d| d.severity == Severity::Error) {
-            checks::run(case, &spans, source.reuse(), &mut diagnostics);
+            checks::run(case, &spans, Some(cache), &mut diagnostics);
         }
     }
     drop_cascades(&lowerer.files, &mut diagnostics);

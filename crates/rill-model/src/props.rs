@@ -13,7 +13,6 @@ use crate::{CellValues, FileInfo};
 use rayon::prelude::*;
 use rill_syntax::{Atom, AtomKind, Op, Span, UnitExpr, Value};
 use rill_units::Dim;
-use std::collections::HashMap;
 use std::path::PathBuf;
 use std::sync::Arc;
 
@@ -217,12 +216,12 @@ impl Forms {
 }
 
 /// Shared state for reading property values: the grid shape, the file
-/// source, and a cache so that an array file used twice is read once.
+/// source, and the analysis' cache (an array file used twice is parsed once).
 pub struct PropReader<'s> {
     pub shape: Shape,
     pub source: &'s dyn Source,
     pub deck_path: PathBuf,
-    pub cache: &'s mut HashMap<PathBuf, Arc<Vec<f64>>>,
+    pub cache: &'s Reuse,
     /// The analysis' file list; array files read are appended so that
     /// diagnostics can point into them.
     pub files: &'s mut Vec<FileInfo>,
@@ -538,12 +537,12 @@ impl PropReader<'_> {
                 } else {
                     let params = [unit.factor.to_bits(), u64::from(unit.gauge)];
                     kept(
-                        self.source.reuse(),
+                        Some(self.cache),
                         "array file in SI",
                         std::slice::from_ref(&raw),
                         &params,
                         || {
-                            let reuse = self.source.reuse();
+                            let reuse = Some(self.cache);
                             Arc::new(cells_from(raw.len(), reuse, |start, out| {
                                 for (o, v) in out.iter_mut().zip(&raw[start..]) {
                                     *o = unit.to_si(*v);
@@ -585,9 +584,6 @@ impl PropReader<'_> {
 
     fn load_file(&mut self, r: &mut Reporter, name: &str, span: Span) -> Option<Arc<Vec<f64>>> {
         let path = resolve(&self.deck_path, name);
-        if let Some(v) = self.cache.get(&path) {
-            return Some(v.clone());
-        }
         let bytes = match self.source.read(&path) {
             Ok(b) => b,
             Err(e) => {
@@ -602,8 +598,7 @@ impl PropReader<'_> {
                 return None;
             }
         };
-        if let Some(values) = self.source.parsed_numbers(&path, &bytes) {
-            self.cache.insert(path, values.clone());
+        if let Some(values) = self.cache.parsed_numbers(&path, &bytes) {
             return Some(values);
         }
         let (values, bad) = arrays::parse_numbers(&bytes);
@@ -634,8 +629,7 @@ impl PropReader<'_> {
             return None;
         }
         let values = Arc::new(values);
-        self.source.keep_parsed_numbers(&path, &bytes, &values);
-        self.cache.insert(path, values.clone());
+        self.cache.keep_parsed_numbers(&path, &bytes, &values);
         Some(values)
     }
 }

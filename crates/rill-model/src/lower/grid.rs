@@ -54,7 +54,7 @@ impl<'s> Lowerer<'s> {
         spans.dx = dx.as_ref().map(|d| d.loc);
         spans.dy = dy.as_ref().map(|d| d.loc);
         spans.dz = dz.as_ref().map(|d| d.loc);
-        let dz = dz.map(|s| s.field.into_cell_values(shape, self.source.reuse()));
+        let dz = dz.map(|s| s.field.into_cell_values(shape, Some(self.reuse)));
         let top = top.map(|s| match s.field {
             Field::Uniform(v) => vec![v; nx * ny],
             Field::Columns(v) => v,
@@ -185,7 +185,7 @@ impl<'s> Lowerer<'s> {
     fn sizes_positive(&mut self, grid: &Grid, spans: &Spans) -> bool {
         let mut ok = true;
         let dz_scan = kept(
-            self.source.reuse(),
+            Some(self.reuse),
             "sizes not positive",
             &[grid.dz.shared().clone()],
             &[],

@@ -14,9 +14,7 @@ impl<'s> Lowerer<'s> {
                     pressure: p,
                     depth: d,
                 },
-                None => {
-                    Initial::Cells(Field::Uniform(p).into_cell_values(shape, self.source.reuse()))
-                }
+                None => Initial::Cells(Field::Uniform(p).into_cell_values(shape, Some(self.reuse))),
             });
         }
         let field = self.read_field(
@@ -28,7 +26,7 @@ impl<'s> Lowerer<'s> {
             Forms::PRESSURE,
         )?;
         Some(Initial::Cells(
-            field.into_cell_values(shape, self.source.reuse()),
+            field.into_cell_values(shape, Some(self.reuse)),
         ))
     }
 }

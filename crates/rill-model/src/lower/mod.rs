@@ -18,7 +18,7 @@ use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::props::{
     check_result_dim, evaluate, evaluate_kept, infer_dim, Expr, Field, Forms, PropReader, Shape,
 };
-use crate::reuse::kept;
+use crate::reuse::{kept, Reuse};
 use crate::schema::{self, BlockDef, KeyDef, LabelRule, ValueKind};
 use crate::source::{resolve, Source};
 use crate::values::{describe_expected, to_si, Gauge, Reporter};
@@ -44,9 +44,10 @@ struct Found<'t> {
 
 pub(crate) struct Lowerer<'s> {
     pub source: &'s dyn Source,
+    /// The analysis' cache: parsed arrays, and results kept between analyses.
+    pub reuse: &'s Reuse,
     pub files: Vec<FileInfo>,
     pub diags: Vec<Diagnostic>,
-    pub array_cache: HashMap<PathBuf, Arc<Vec<f64>>>,
 }
 
 /// What lowering found beyond the case itself: spans of the definitions,

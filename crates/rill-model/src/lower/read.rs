@@ -222,12 +222,11 @@ impl<'s> Lowerer<'s> {
     ) -> Option<Expr> {
         let mut files = std::mem::take(&mut self.files);
         let deck_path = files[file].path.clone();
-        let mut cache = std::mem::take(&mut self.array_cache);
         let mut reader = PropReader {
             shape,
             source: self.source,
             deck_path,
-            cache: &mut cache,
+            cache: self.reuse,
             files: &mut files,
         };
         let mut r = Reporter {
@@ -236,7 +235,6 @@ impl<'s> Lowerer<'s> {
         };
         let expr = reader.read(&mut r, value, dim, gauge, forms, key);
         self.files = files;
-        self.array_cache = cache;
         expr
     }
 

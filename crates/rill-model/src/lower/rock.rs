@@ -41,7 +41,7 @@ impl<'s> Lowerer<'s> {
         }
         let order = self.rock_order(file, &defs)?;
         let mut finals = self.evaluate_rock(shape, &defs, order, spans)?;
-        let reuse = self.source.reuse();
+        let reuse = Some(self.reuse);
         let mut take = |n: &str| finals.remove(n).map(|f| f.into_cell_values(shape, reuse));
         let compressibility = match find(block, "compressibility") {
             Some(s) => {
@@ -310,7 +310,7 @@ impl<'s> Lowerer<'s> {
         order: Vec<&'static str>,
         spans: &mut Spans,
     ) -> Option<HashMap<&'static str, Field>> {
-        let reuse = self.source.reuse();
+        let reuse = Some(self.reuse);
         let mut finals: HashMap<&'static str, Field> = HashMap::new();
         for name in order {
             let mut base: Option<Field> = None;
