@@ -8,13 +8,18 @@ use serde::Serialize;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
 #[serde(rename_all = "lowercase")]
+/// How serious a diagnostic is.
 pub enum Severity {
+    /// The deck cannot be run as written.
     Error,
+    /// The deck runs, but something is probably wrong.
     Warning,
+    /// Worth knowing; nothing is wrong.
     Info,
 }
 
 impl Severity {
+    /// The lowercase name, as in the command-line and JSON output.
     pub fn name(self) -> &'static str {
         match self {
             Severity::Error => "error",
@@ -27,12 +32,16 @@ impl Severity {
 /// A place in one of the analysed files (index into `Analysis::files`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default, Serialize)]
 pub struct Location {
+    /// Index of the file in `Analysis::files`.
     pub file: usize,
+    /// Byte offset of the start.
     pub start: usize,
+    /// Byte offset just past the end.
     pub end: usize,
 }
 
 impl Location {
+    /// The place of `span` in file `file`.
     pub fn new(file: usize, span: Span) -> Self {
         Location {
             file,
@@ -40,6 +49,7 @@ impl Location {
             end: span.end,
         }
     }
+    /// The byte range within the file.
     pub fn span(&self) -> Span {
         Span::new(self.start, self.end)
     }
@@ -48,37 +58,51 @@ impl Location {
 /// One text replacement.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Edit {
+    /// The text replaced.
     pub location: Location,
+    /// What replaces it.
     pub replacement: String,
 }
 
 /// A fix the user can apply: a title and the edits that make it.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Fix {
+    /// What the fix does, as offered to the user ("replace by `md`").
     pub title: String,
+    /// The replacements, applied together.
     pub edits: Vec<Edit>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
+/// A secondary place with a message, shown next to the primary span.
 pub struct Label {
+    /// The place.
     pub location: Location,
+    /// What it says about the diagnostic ("first given here").
     pub message: String,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
+/// One finding about a deck: code, severity, place, message, and what helps.
 pub struct Diagnostic {
+    /// The stable code.
     pub code: Code,
+    /// How serious it is.
     pub severity: Severity,
+    /// The primary span.
     pub location: Location,
+    /// What was expected and what was found.
     pub message: String,
     /// Other places that explain the diagnostic (the first definition of a duplicate, ...).
     pub labels: Vec<Label>,
     /// Extra lines of help ("accepted units: md, darcy, m^2").
     pub notes: Vec<String>,
+    /// Fixes the user can apply.
     pub fixes: Vec<Fix>,
 }
 
 impl Diagnostic {
+    /// A diagnostic without labels, notes or fixes.
     pub fn new(
         code: Code,
         severity: Severity,
@@ -95,15 +119,19 @@ impl Diagnostic {
             fixes: Vec::new(),
         }
     }
+    /// An error.
     pub fn error(code: Code, location: Location, message: impl Into<String>) -> Self {
         Self::new(code, Severity::Error, location, message)
     }
+    /// A warning.
     pub fn warning(code: Code, location: Location, message: impl Into<String>) -> Self {
         Self::new(code, Severity::Warning, location, message)
     }
+    /// An information.
     pub fn info(code: Code, location: Location, message: impl Into<String>) -> Self {
         Self::new(code, Severity::Info, location, message)
     }
+    /// Add a secondary place.
     pub fn with_label(mut self, location: Location, message: impl Into<String>) -> Self {
         self.labels.push(Label {
             location,
@@ -111,6 +139,7 @@ impl Diagnostic {
         });
         self
     }
+    /// Add a line of help.
     pub fn with_note(mut self, note: impl Into<String>) -> Self {
         self.notes.push(note.into());
         self
@@ -131,6 +160,7 @@ impl Diagnostic {
         });
         self
     }
+    /// Add a fix made of several edits.
     pub fn with_fix(mut self, fix: Fix) -> Self {
         self.fixes.push(fix);
         self

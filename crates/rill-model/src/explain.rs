@@ -7,18 +7,26 @@ use crate::diagnostic::Code;
 /// Documentation of one diagnostic code.
 #[derive(Debug, Clone, Copy)]
 pub struct Explanation {
+    /// The code explained.
     pub code: Code,
+    /// One sentence: what the code means.
     pub summary: &'static str,
+    /// More on when it is raised and why.
     pub details: &'static str,
+    /// A deck fragment that raises it.
     pub wrong: &'static str,
+    /// The same fragment put right.
     pub right: &'static str,
+    /// How to fix it.
     pub fix: &'static str,
 }
 
+/// The explanation of `code` (every code has one).
 pub fn explain(code: Code) -> Option<&'static Explanation> {
     EXPLANATIONS.iter().find(|e| e.code == code)
 }
 
+/// Every explanation, one per code.
 pub static EXPLANATIONS: &[Explanation] = &[
     Explanation {
         code: Code::SyntaxUnexpected,

@@ -8,6 +8,8 @@
 //! It must never do I/O directly (only through `Source`), never print, and
 //! never panic on any input.
 
+#![warn(missing_docs)]
+
 pub mod arrays;
 pub mod case;
 pub mod checks;
@@ -34,7 +36,9 @@ use std::sync::Arc;
 /// includes, and array files that have diagnostics.
 #[derive(Debug, Clone)]
 pub struct FileInfo {
+    /// The path it stands at (normalised).
     pub path: PathBuf,
+    /// Its text (invalid UTF-8 replaced).
     pub text: Arc<str>,
     /// The syntax tree, for decks.
     pub tree: Option<Arc<rill_syntax::SourceFile>>,
@@ -43,16 +47,19 @@ pub struct FileInfo {
 /// Everything known about a deck after checking it.
 #[derive(Debug, Clone)]
 pub struct Analysis {
+    /// The files read: the main deck first, then includes and array files in the order read.
     pub files: Vec<FileInfo>,
     /// Sorted by file, then position.
     pub diagnostics: Vec<Diagnostic>,
     /// The checked case, when lowering got that far (it may still carry
     /// warnings, and physical errors from the sanity checks).
     pub case: Option<Case>,
+    /// Where lowering found the definitions that checks and the editor point back at.
     pub spans: lower::Spans,
 }
 
 impl Analysis {
+    /// Whether any diagnostic is an error.
     pub fn has_errors(&self) -> bool {
         self.diagnostics
             .iter()

@@ -19,6 +19,7 @@ use std::sync::Arc;
 /// Values of a property over the grid, SI.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Field {
+    /// The same value in every cell.
     Uniform(f64),
     /// One per layer (NZ).
     Layers(Vec<f64>),
@@ -31,15 +32,20 @@ pub enum Field {
 /// Grid shape needed to count and broadcast values.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Shape {
+    /// Columns in x.
     pub nx: usize,
+    /// Rows in y.
     pub ny: usize,
+    /// Layers in z.
     pub nz: usize,
 }
 
 impl Shape {
+    /// Number of cells.
     pub fn cells(&self) -> usize {
         self.nx * self.ny * self.nz
     }
+    /// Number of columns (NX*NY).
     pub fn columns(&self) -> usize {
         self.nx * self.ny
     }
@@ -94,6 +100,7 @@ impl Field {
         }
     }
 
+    /// One value per cell, copied out.
     pub fn to_cells(&self, shape: Shape) -> Vec<f64> {
         match self {
             Field::Cells(v) => v.as_ref().clone(),
@@ -107,29 +114,46 @@ impl Field {
 pub enum Expr {
     /// A number with its SI value and dimension; `bare` when written without a unit.
     Const {
+        /// The value in SI.
         si: f64,
+        /// Its dimension.
         dim: Dim,
+        /// Written without a unit.
         bare: bool,
+        /// Where it is written.
         span: Span,
     },
+    /// Values given as data: a list, `layers [...]`, `columns [...]` or a `file`.
     Data {
+        /// The values, SI.
         field: Field,
+        /// Their dimension.
         dim: Dim,
+        /// Where they are written.
         span: Span,
     },
+    /// A reference to another property (`kx` in `0.1 * kx`).
     Ref {
+        /// The property named.
         name: String,
+        /// Where the name is written.
         span: Span,
     },
+    /// An arithmetic operation.
     Bin {
+        /// The operator.
         op: Op,
+        /// The left operand.
         lhs: Box<Expr>,
+        /// The right operand.
         rhs: Box<Expr>,
+        /// The whole operation.
         span: Span,
     },
 }
 
 impl Expr {
+    /// Where the expression is written.
     pub fn span(&self) -> Span {
         match self {
             Expr::Const { span, .. }
@@ -138,6 +162,7 @@ impl Expr {
             | Expr::Bin { span, .. } => *span,
         }
     }
+    /// Append the properties referred to, with where each is named.
     pub fn refs(&self, out: &mut Vec<(String, Span)>) {
         match self {
             Expr::Ref { name, span } => out.push((name.clone(), *span)),
@@ -155,8 +180,11 @@ impl Expr {
 pub struct Forms {
     /// `layers [...]` and, for `dz`, a bare list meaning one per layer.
     pub layers: bool,
+    /// A bare list with one value per cell, and `cells [...]`.
     pub cells: bool,
+    /// `columns [...]`: one value per column.
     pub columns: bool,
+    /// `file "name"`: values from an array file.
     pub file: bool,
     /// Arithmetic and references to other properties.
     pub arithmetic: bool,
@@ -166,6 +194,7 @@ pub struct Forms {
     pub file_columns: bool,
 }
 
+/// What a bare `[...]` list means for a key.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum BareList {
     /// One per layer (NZ), for `dz`.
@@ -177,6 +206,7 @@ pub enum BareList {
 }
 
 impl Forms {
+    /// Rock properties: a value, per layer, per cell or from a file, with arithmetic.
     pub const PROPERTY: Forms = Forms {
         layers: true,
         cells: true,
@@ -186,6 +216,7 @@ impl Forms {
         bare_list: None,
         file_columns: false,
     };
+    /// `dz`: a value, per layer, per cell or from a file; no arithmetic.
     pub const THICKNESS: Forms = Forms {
         layers: true,
         cells: true,
@@ -195,6 +226,7 @@ impl Forms {
         bare_list: Some(BareList::Layers),
         file_columns: false,
     };
+    /// `top`: a value, per column or from a file.
     pub const TOP: Forms = Forms {
         layers: false,
         cells: false,
@@ -204,6 +236,7 @@ impl Forms {
         bare_list: None,
         file_columns: true,
     };
+    /// Initial pressure: a value, per layer, per cell or from a file; no arithmetic.
     pub const PRESSURE: Forms = Forms {
         layers: true,
         cells: true,
@@ -218,9 +251,13 @@ impl Forms {
 /// Shared state for reading property values: the grid shape, the file
 /// source, and the analysis' cache (an array file used twice is parsed once).
 pub struct PropReader<'s> {
+    /// The grid shape values are counted against.
     pub shape: Shape,
+    /// Where array files are read.
     pub source: &'s dyn Source,
+    /// The deck the values stand in; array file names are relative to it.
     pub deck_path: PathBuf,
+    /// The analysis' cache: parsed array files and kept results.
     pub cache: &'s Reuse,
     /// The analysis' file list; array files read are appended so that
     /// diagnostics can point into them.

@@ -142,6 +142,7 @@ impl std::fmt::Debug for Reuse {
 }
 
 impl Reuse {
+    /// An empty cache.
     pub fn new() -> Self {
         Self::default()
     }
@@ -262,6 +263,7 @@ impl Reuse {
         self.lock().entries.len()
     }
 
+    /// Whether no result is kept.
     pub fn is_empty(&self) -> bool {
         self.len() == 0
     }

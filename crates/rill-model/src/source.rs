@@ -12,7 +12,9 @@ use std::sync::Arc;
 /// Why a file could not be had.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum SourceError {
+    /// There is no file at the path.
     NotFound,
+    /// The file exists but could not be read (the reason).
     Unreadable(String),
     /// The path leaves the workspace and the user has not allowed that.
     OutsideWorkspace,
@@ -28,6 +30,7 @@ impl std::fmt::Display for SourceError {
     }
 }
 
+/// Where the analysis gets file contents: the only way it reads anything.
 pub trait Source {
     /// The bytes of the file at `path` (already resolved against the including file).
     fn read(&self, path: &Path) -> Result<Arc<[u8]>, SourceError>;
@@ -75,13 +78,16 @@ pub struct MemorySource {
 }
 
 impl MemorySource {
+    /// An empty set of files.
     pub fn new() -> Self {
         Self::default()
     }
+    /// Add a file (builder style).
     pub fn with(mut self, path: impl AsRef<Path>, text: impl AsRef<[u8]>) -> Self {
         self.insert(path, text);
         self
     }
+    /// Add or replace a file.
     pub fn insert(&mut self, path: impl AsRef<Path>, text: impl AsRef<[u8]>) {
         self.files
             .insert(normalize(path.as_ref()), Arc::from(text.as_ref()));

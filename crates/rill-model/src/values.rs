@@ -9,14 +9,18 @@ use rill_units::{Dim, Unit, UnitErrorKind};
 
 /// Collects diagnostics for one file while values are read.
 pub struct Reporter<'a> {
+    /// The file the values stand in (index in `Analysis::files`).
     pub file: usize,
+    /// Where the diagnostics go.
     pub diags: &'a mut Vec<Diagnostic>,
 }
 
 impl Reporter<'_> {
+    /// The place of `span` in this file.
     pub fn loc(&self, span: Span) -> Location {
         Location::new(self.file, span)
     }
+    /// Report a diagnostic.
     pub fn push(&mut self, d: Diagnostic) {
         self.diags.push(d);
     }

@@ -10,6 +10,8 @@
 //!
 //! It must never interpret file contents, and never write any file.
 
+#![warn(missing_docs)]
+
 use rill_model::source::{normalize, Source, SourceError};
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
@@ -58,6 +60,7 @@ impl DiskSource {
         }
     }
 
+    /// Read `path` from disk again (its editor buffer was closed).
     pub fn clear_overlay(&self, path: &Path) {
         if let Ok(mut o) = self.overlays.lock() {
             o.remove(&normalize(path));

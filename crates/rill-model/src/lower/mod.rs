@@ -56,27 +56,44 @@ pub(crate) struct Lowerer<'s> {
 pub struct Spans {
     /// Value span of each rock property definition (base and patches), by key.
     pub rock: HashMap<&'static str, Vec<Location>>,
+    /// Value span of `dx`.
     pub dx: Option<Location>,
+    /// Value span of `dy`.
     pub dy: Option<Location>,
+    /// Value span of `dz`.
     pub dz: Option<Location>,
+    /// Value span of the fluid's `viscosity`.
     pub viscosity: Option<Location>,
+    /// Value span of the fluid's `fvf`.
     pub fvf: Option<Location>,
+    /// Value span of the fluid's `density`.
     pub density: Option<Location>,
+    /// Value span of the fluid's `compressibility`.
     pub fluid_compressibility: Option<Location>,
+    /// Value span of the rock's `compressibility`.
     pub rock_compressibility: Option<Location>,
     /// Per well: (radius, control, bhp_limit, completions) spans.
     pub wells: Vec<WellSpans>,
+    /// Name span of the `timeline` block.
     pub timeline: Option<Location>,
+    /// Value span of `first_step`.
     pub first_step: Option<Location>,
+    /// Value span of `end`.
     pub end: Option<Location>,
+    /// The start of the main deck, for diagnostics about the whole case.
     pub main: Location,
 }
 
+/// Value spans of one well's keys, for checks that point back at them.
 #[derive(Debug, Clone, Default)]
 pub struct WellSpans {
+    /// Value span of `radius`.
     pub radius: Option<Location>,
+    /// Value span of `control`.
     pub control: Option<Location>,
+    /// Value span of `bhp_limit`.
     pub bhp_limit: Option<Location>,
+    /// Value span of `location` or `completions`.
     pub completions: Option<Location>,
     /// Event controls: (event index, location).
     pub event_controls: Vec<(usize, Location)>,
