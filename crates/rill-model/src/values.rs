@@ -218,48 +218,7 @@ pub fn checked_unit(
     let parsed = match rill_units::parse(&unit.text) {
         Ok(u) => u,
         Err(e) => {
-            let span = Span::new(
-                unit.span.start + e.start,
-                unit.span.start + e.end.max(e.start + 1).min(unit.text.len()),
-            );
-            let span = if span.is_empty() { unit.span } else { span };
-            match &e.kind {
-                UnitErrorKind::Unknown { name, suggestions } => {
-                    let mut d = Diagnostic::error(
-                        Code::UnitUnknown,
-                        r.loc(span),
-                        format!("unknown unit `{name}`"),
-                    );
-                    for s in suggestions {
-                        d = d.with_replacement(
-                            format!("replace `{name}` by `{s}`"),
-                            r.loc(span),
-                            s.clone(),
-                        );
-                    }
-                    if suggestions.is_empty() {
-                        d = d.with_note(format!("`{key}` expects {}", describe_expected(expected)));
-                    }
-                    r.push(d);
-                }
-                UnitErrorKind::GaugeInCompound { name } => {
-                    r.push(
-                        Diagnostic::error(
-                            Code::UnitGauge,
-                            r.loc(span),
-                            format!("the gauge unit `{name}` cannot be part of a compound unit"),
-                        )
-                        .with_note("gauge units add atmospheric pressure; use `psi` or `bar` inside compound units"),
-                    );
-                }
-                UnitErrorKind::Syntax { .. } => {
-                    r.push(Diagnostic::error(
-                        Code::UnitUnknown,
-                        r.loc(span),
-                        format!("malformed unit `{}`: {e}", unit.text),
-                    ));
-                }
-            }
+            report_unit_error(r, unit, &e, expected, key);
             return None;
         }
     };
@@ -280,44 +239,7 @@ pub fn checked_unit(
         return Some(parsed);
     }
     if collapse(parsed.dim) == collapse(expected) {
-        let mut d = Diagnostic::error(
-            Code::UnitVolumeKind,
-            r.loc(unit.span),
-            volume_kind_message(key, expected, parsed.dim, &unit.text),
-        );
-        if parsed.dim.l == -expected.l
-            && parsed.dim.s == -expected.s
-            && parsed.dim.t == expected.t
-            && parsed.dim.m == expected.m
-        {
-            // Upside down: offer the reciprocal with the right unit.
-            if let Some(right) = rill_units::accepted_units(expected).into_iter().next() {
-                if value != 0.0 {
-                    let flipped = short_number(1.0 / value);
-                    d = d.with_replacement(
-                        format!("write the reciprocal: `{flipped} {right}`"),
-                        r.loc(number_span),
-                        format!("{flipped} {right}"),
-                    );
-                }
-            }
-        }
-        let to_surface = expected.s > parsed.dim.s
-            || (expected.s != 0
-                && expected.s.signum() == parsed.dim.s.signum()
-                && expected.s.abs() > parsed.dim.s.abs());
-        if let Some(fixed) = swap_volume_names(&unit.text, to_surface) {
-            if rill_units::parse(&fixed)
-                .map(|u| u.dim == expected)
-                .unwrap_or(false)
-            {
-                d = d.with_replacement(
-                    format!("replace `{}` by `{fixed}`", unit.text),
-                    r.loc(unit.span),
-                    fixed,
-                );
-            }
-        }
+        let d = volume_kind_diagnostic(r, value, number_span, unit, parsed.dim, expected, key);
         r.push(d);
         return None;
     }
@@ -340,6 +262,112 @@ pub fn checked_unit(
     }
     r.push(d);
     None
+}
+
+/// Report a unit that does not parse: unknown (with suggestions), a gauge
+/// unit inside a compound, or malformed.
+fn report_unit_error(
+    r: &mut Reporter,
+    unit: &UnitExpr,
+    e: &rill_units::UnitError,
+    expected: Dim,
+    key: &str,
+) {
+    let span = Span::new(
+        unit.span.start + e.start,
+        unit.span.start + e.end.max(e.start + 1).min(unit.text.len()),
+    );
+    let span = if span.is_empty() { unit.span } else { span };
+    match &e.kind {
+        UnitErrorKind::Unknown { name, suggestions } => {
+            let mut d = Diagnostic::error(
+                Code::UnitUnknown,
+                r.loc(span),
+                format!("unknown unit `{name}`"),
+            );
+            for s in suggestions {
+                d = d.with_replacement(
+                    format!("replace `{name}` by `{s}`"),
+                    r.loc(span),
+                    s.clone(),
+                );
+            }
+            if suggestions.is_empty() {
+                d = d.with_note(format!("`{key}` expects {}", describe_expected(expected)));
+            }
+            r.push(d);
+        }
+        UnitErrorKind::GaugeInCompound { name } => {
+            r.push(
+                Diagnostic::error(
+                    Code::UnitGauge,
+                    r.loc(span),
+                    format!("the gauge unit `{name}` cannot be part of a compound unit"),
+                )
+                .with_note("gauge units add atmospheric pressure; use `psi` or `bar` inside compound units"),
+            );
+        }
+        UnitErrorKind::Syntax { .. } => {
+            r.push(Diagnostic::error(
+                Code::UnitUnknown,
+                r.loc(span),
+                format!("malformed unit `{}`: {e}", unit.text),
+            ));
+        }
+    }
+}
+
+/// Reservoir volume where surface volume is expected, or the reverse, with
+/// the fixes that apply: the reciprocal of an upside-down unit, the unit
+/// with its volume names swapped.
+fn volume_kind_diagnostic(
+    r: &Reporter,
+    value: f64,
+    number_span: Span,
+    unit: &UnitExpr,
+    found: Dim,
+    expected: Dim,
+    key: &str,
+) -> Diagnostic {
+    let mut d = Diagnostic::error(
+        Code::UnitVolumeKind,
+        r.loc(unit.span),
+        volume_kind_message(key, expected, found, &unit.text),
+    );
+    if found.l == -expected.l
+        && found.s == -expected.s
+        && found.t == expected.t
+        && found.m == expected.m
+    {
+        // Upside down: offer the reciprocal with the right unit.
+        if let Some(right) = rill_units::accepted_units(expected).into_iter().next() {
+            if value != 0.0 {
+                let flipped = short_number(1.0 / value);
+                d = d.with_replacement(
+                    format!("write the reciprocal: `{flipped} {right}`"),
+                    r.loc(number_span),
+                    format!("{flipped} {right}"),
+                );
+            }
+        }
+    }
+    let to_surface = expected.s > found.s
+        || (expected.s != 0
+            && expected.s.signum() == found.s.signum()
+            && expected.s.abs() > found.s.abs());
+    if let Some(fixed) = swap_volume_names(&unit.text, to_surface) {
+        if rill_units::parse(&fixed)
+            .map(|u| u.dim == expected)
+            .unwrap_or(false)
+        {
+            d = d.with_replacement(
+                format!("replace `{}` by `{fixed}`", unit.text),
+                r.loc(unit.span),
+                fixed,
+            );
+        }
+    }
+    d
 }
 
 fn volume_kind_message(key: &str, expected: Dim, found: Dim, text: &str) -> String {
