@@ -84,7 +84,7 @@ pub fn render_text(analysis: &Analysis) {
         let mut notes: Vec<String> = d.notes.iter().map(|n| format!("note: {n}")).collect();
         notes.extend(d.fixes.iter().map(|f| format!("fix: {}", f.title)));
         let cs = CsDiagnostic::new(severity(d.severity))
-            .with_code(d.code)
+            .with_code(d.code.as_str())
             .with_message(&d.message)
             .with_labels(labels)
             .with_notes(notes);

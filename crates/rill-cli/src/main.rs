@@ -129,7 +129,8 @@ fn main() -> ExitCode {
 }
 
 fn explain(code: &str) -> u8 {
-    match rill_model::explain::explain(code) {
+    use rill_model::Code;
+    match Code::parse(code).and_then(rill_model::explain::explain) {
         Some(e) => {
             println!("{}: {}\n", e.code, e.summary);
             println!("{}\n", e.details);
@@ -139,13 +140,13 @@ fn explain(code: &str) -> u8 {
             0
         }
         None => {
-            let near =
-                rill_model::schema::nearest(code, rill_model::diagnostic::CODES.iter().copied());
+            let near = rill_model::schema::nearest(code, Code::ALL.iter().map(|c| c.as_str()));
             eprintln!("error: `{code}` is not a rill diagnostic code");
             if let Some(n) = near {
                 eprintln!("help: did you mean `{n}`?");
             }
-            eprintln!("codes: {}", rill_model::diagnostic::CODES.join(", "));
+            let all: Vec<&str> = Code::ALL.iter().map(|c| c.as_str()).collect();
+            eprintln!("codes: {}", all.join(", "));
             2
         }
     }

@@ -153,7 +153,7 @@ pub fn run(args: Args) -> u8 {
     meta.cautions = analysis
         .diagnostics
         .iter()
-        .filter(|d| d.severity == Severity::Warning && d.code.starts_with("well."))
+        .filter(|d| d.severity == Severity::Warning && d.code.area() == "well")
         .map(|d| format!("{}: {}", d.code, d.message))
         .collect();
     let written = match rill_output::write_results(&out_dir, case, &results, &meta) {

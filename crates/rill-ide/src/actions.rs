@@ -48,7 +48,7 @@ pub(crate) fn code_actions(snap: &Snapshot, range: Span) -> Vec<CodeAction> {
                 diagnostic: Some(index),
             });
         }
-        if d.code == "grid.array-length" {
+        if d.code == rill_model::Code::GridArrayLength {
             out.extend(array_length_fix(snap, index, d));
         }
     }

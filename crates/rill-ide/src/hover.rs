@@ -41,7 +41,7 @@ pub(crate) fn hover(snap: &Snapshot, offset: usize) -> Option<Hover> {
 fn diagnostic_notes(snap: &Snapshot, off: usize, range: Option<Span>) -> Option<(Span, String)> {
     let mut out = String::new();
     let mut span: Option<Span> = None;
-    let mut seen: Vec<&str> = Vec::new();
+    let mut seen: Vec<rill_model::Code> = Vec::new();
     for d in snap.diagnostics().iter().filter(|d| d.location.file == 0) {
         let s = d.location.span();
         let hit = s.contains(off)

@@ -246,7 +246,19 @@ impl Snapshot {
     /// Analyses `text`, the document at `path`, reading includes and array
     /// files through `source` (the only reads, all done here).
     pub fn new(path: &Path, text: &str, source: &dyn Source) -> Snapshot {
-        let analysis = rill_model::analyze_text(path, text, source);
+        Self::with_cache(path, text, source, &rill_model::Reuse::new())
+    }
+
+    /// [`Snapshot::new`] with the caller's cache: parsed arrays and derived
+    /// results are kept there for the next snapshot (a server re-checking
+    /// on every edit), and those the last one kept are used.
+    pub fn with_cache(
+        path: &Path,
+        text: &str,
+        source: &dyn Source,
+        cache: &rill_model::Reuse,
+    ) -> Snapshot {
+        let analysis = rill_model::analyze_text_with(path, text, source, cache);
         // The analysis parses the text it was given; keep its tree (file 0).
         let tree = analysis
             .files
@@ -258,7 +270,7 @@ impl Snapshot {
             .first()
             .map(|f| f.text.clone())
             .unwrap_or_else(|| text.into());
-        let arrays = read_arrays(&analysis, source);
+        let arrays = read_arrays(&analysis, source, cache);
         Snapshot {
             path: path.to_path_buf(),
             text,
@@ -497,23 +509,24 @@ pub(crate) fn line_edits(old: &str, new: &str) -> Vec<TextEdit> {
 fn read_arrays(
     analysis: &Analysis,
     source: &dyn Source,
+    cache: &rill_model::Reuse,
 ) -> HashMap<(usize, Span), Result<ArrayStats, String>> {
     let mut out = HashMap::new();
-    let mut cache: HashMap<PathBuf, Result<ArrayStats, String>> = HashMap::new();
+    let mut by_path: HashMap<PathBuf, Result<ArrayStats, String>> = HashMap::new();
     for (index, file) in analysis.files.iter().enumerate() {
         let Some(tree) = &file.tree else { continue };
         let mut found = Vec::new();
         collect_file_refs(&tree.items, &mut found);
         for (span, name) in found {
             let path = rill_model::source::resolve(&file.path, &name);
-            let stats = cache
+            let stats = by_path
                 .entry(path.clone())
                 .or_insert_with(|| match source.read(&path) {
-                    // The analysis has just parsed this file; a source that keeps
-                    // parsed arrays hands them back without a second parse.
-                    Ok(bytes) => match source.parsed_numbers(&path, &bytes) {
+                    // The analysis has just parsed this file into the cache;
+                    // it is handed back without a second parse.
+                    Ok(bytes) => match cache.parsed_numbers(&path, &bytes) {
                         Some(kept) => rill_model::reuse::kept(
-                            source.reuse(),
+                            Some(cache),
                             "array file statistics",
                             std::slice::from_ref(&kept),
                             &[],

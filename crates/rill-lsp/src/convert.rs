@@ -208,7 +208,7 @@ mod tests {
         ];
         let mut texts = FileTexts::new(files, &main);
         let d = Diagnostic::error(
-            "unit.dimension",
+            rill_model::Code::UnitDimension,
             Location {
                 file: 0,
                 start: 9,

@@ -325,6 +325,7 @@ impl LanguageServer for Backend {
             if let Some(path) = uri_path(&change.uri) {
                 // An open buffer is an overlay and wins over the disk anyway.
                 source.invalidate(&path);
+                self.shared.cache.forget_file(&path);
                 any = true;
             }
         }

@@ -5,6 +5,7 @@
 use crate::document::{uri_path, Documents};
 use crate::position::Encoding;
 use crate::settings::Settings;
+use rill_model::Reuse;
 use rill_workspace::DiskSource;
 use ropey::Rope;
 use std::collections::{HashMap, HashSet};
@@ -72,11 +73,14 @@ pub struct Input {
     pub text: Arc<str>,
     pub rope: Rope,
     pub source: Arc<DiskSource>,
+    /// The server's cache, kept between analyses.
+    pub cache: Arc<Reuse>,
 }
 
 impl Input {
     pub fn analyze(self) -> Analyzed {
-        let snap = rill_ide::Snapshot::new(&self.path, &self.text, &*self.source);
+        let snap =
+            rill_ide::Snapshot::with_cache(&self.path, &self.text, &*self.source, &self.cache);
         Analyzed {
             version: self.version,
             rope: self.rope,
@@ -121,6 +125,9 @@ pub struct Shared {
     pub docs: Mutex<Documents>,
     pub config: RwLock<Config>,
     pub source: RwLock<Arc<DiskSource>>,
+    /// Parsed arrays and derived results kept between analyses (the one
+    /// cache; the source only reads).
+    pub cache: Arc<Reuse>,
     pub analyses: Mutex<Analyses>,
     /// Held while checking that an analysis is current and publishing it,
     /// so that an older version can never be published after a newer one.
@@ -143,7 +150,8 @@ impl Shared {
             client,
             docs: Mutex::new(Documents::default()),
             config: RwLock::new(Config::default()),
-            source: RwLock::new(Arc::new(DiskSource::unconfined().with_reuse())),
+            source: RwLock::new(Arc::new(DiskSource::unconfined())),
+            cache: Arc::new(Reuse::new()),
             analyses: Mutex::new(Analyses::default()),
             publish_lock: tokio::sync::Mutex::new(()),
             initialized: AtomicBool::new(false),
@@ -189,8 +197,7 @@ impl Shared {
         let source = DiskSource::confined(
             config.confinement_roots(),
             config.settings.allowed_paths(config.base()),
-        )
-        .with_reuse();
+        );
         {
             let mut docs = lock(&self.docs);
             for uri in docs.uris() {
@@ -202,6 +209,9 @@ impl Shared {
             }
         }
         *self.source.write().unwrap_or_else(|e| e.into_inner()) = Arc::new(source);
+        // The new source reads every file afresh, so parsed arrays could not
+        // match its bytes any more; derived results age out by themselves.
+        self.cache.clear_files();
     }
 
     /// When there are no workspace folders, the folder of each open
@@ -236,6 +246,7 @@ impl Shared {
             rope: doc.rope.clone(),
             path,
             source: self.source(),
+            cache: self.cache.clone(),
         })
     }
 

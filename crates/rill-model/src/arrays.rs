@@ -8,8 +8,11 @@
 /// A malformed token in an array file: byte range and the token text.
 #[derive(Debug, Clone, PartialEq)]
 pub struct BadToken {
+    /// Byte offset of the start of the token.
     pub start: usize,
+    /// Byte offset just past its end.
     pub end: usize,
+    /// The token as written.
     pub text: String,
 }
 

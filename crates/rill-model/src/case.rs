@@ -69,20 +69,32 @@ impl From<Arc<Vec<f64>>> for CellValues {
 /// Where a thing was written: file index (into `Analysis::files`) and byte span.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub struct Origin {
+    /// Index of the file in `Analysis::files`.
     pub file: usize,
+    /// Byte span in that file.
     pub span: Span,
 }
 
+/// A checked case in SI units: everything a run needs, lowered from the deck.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Case {
+    /// The `title` of the `case` block, or its name.
     pub title: Option<String>,
+    /// The grid.
     pub grid: Grid,
+    /// Rock properties per cell.
     pub rock: Rock,
+    /// The one fluid.
     pub fluid: Fluid,
+    /// The initial pressure.
     pub initial: Initial,
+    /// Wells in deck order.
     pub wells: Vec<Well>,
+    /// Constant-pressure boundaries in deck order.
     pub boundaries: Vec<Boundary>,
+    /// Run length, time steps and events.
     pub timeline: Timeline,
+    /// How results are shown.
     pub report: ReportSettings,
 }
 
@@ -90,8 +102,11 @@ pub struct Case {
 /// Layer `k = 0` is the top; depth grows downward.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Grid {
+    /// Number of columns in x.
     pub nx: usize,
+    /// Number of rows in y.
     pub ny: usize,
+    /// Number of layers in z.
     pub nz: usize,
     /// Width of each column in x, `nx` values (m).
     pub dx: Vec<f64>,
@@ -104,9 +119,11 @@ pub struct Grid {
 }
 
 impl Grid {
+    /// `nx * ny * nz`.
     pub fn cell_count(&self) -> usize {
         self.nx * self.ny * self.nz
     }
+    /// The cell index of 0-based `(i, j, k)`.
     pub fn index(&self, i: usize, j: usize, k: usize) -> usize {
         i + self.nx * (j + self.ny * k)
     }
@@ -117,6 +134,7 @@ impl Grid {
         let k = c / (self.nx * self.ny);
         (i, j, k)
     }
+    /// The column index of 0-based `(i, j)`, for per-column values such as `top`.
     pub fn column(&self, i: usize, j: usize) -> usize {
         i + self.nx * j
     }
@@ -129,7 +147,9 @@ pub struct Rock {
     pub porosity: CellValues,
     /// m^2
     pub kx: CellValues,
+    /// m^2
     pub ky: CellValues,
+    /// m^2
     pub kz: CellValues,
     /// 1/Pa
     pub compressibility: f64,
@@ -138,6 +158,7 @@ pub struct Rock {
 }
 
 impl Rock {
+    /// Whether cell `c` takes part in flow (porosity above zero).
     pub fn is_active(&self, c: usize) -> bool {
         self.porosity[c] > 0.0
     }
@@ -146,6 +167,7 @@ impl Rock {
 /// One slightly compressible liquid.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Fluid {
+    /// The fluid block's name, if it has one.
     pub name: Option<String>,
     /// Pa*s
     pub viscosity: f64,
@@ -159,20 +181,30 @@ pub struct Fluid {
     pub ref_pressure: f64,
 }
 
+/// How the initial pressure is given.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Initial {
     /// Pressure at a datum depth; hydrostatic equilibrium from the fluid density.
-    Datum { pressure: f64, depth: f64 },
+    Datum {
+        /// Pa
+        pressure: f64,
+        /// The datum depth, m.
+        depth: f64,
+    },
     /// Pressure given per cell (Pa), no equilibration.
     Cells(CellValues),
 }
 
+/// Whether a well produces or injects.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Role {
+    /// Takes fluid out.
     Producer,
+    /// Puts fluid in.
     Injector,
 }
 
+/// What a well holds fixed.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Control {
     /// Surface rate, surface m^3/s, always positive; the role gives the sign.
@@ -181,40 +213,59 @@ pub enum Control {
     Bhp(f64),
 }
 
+/// One completed cell of a well.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Completion {
     /// 0-based `(i, j, k)` and cell index.
     pub i: usize,
+    /// 0-based j.
     pub j: usize,
+    /// 0-based k.
     pub k: usize,
+    /// The cell index.
     pub cell: usize,
 }
 
+/// A well: where it is completed and how it is controlled.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Well {
+    /// Its name, unique among wells.
     pub name: String,
+    /// Producer or injector.
     pub role: Role,
+    /// Completed cells, each once.
     pub completions: Vec<Completion>,
     /// Wellbore radius, m.
     pub radius: f64,
+    /// Skin factor, dimensionless.
     pub skin: f64,
+    /// The control from the start of the run.
     pub control: Control,
     /// Producer: lowest BHP; injector: highest (Pa).
     pub bhp_limit: Option<f64>,
+    /// Where the well block is written.
     pub origin: Origin,
 }
 
+/// A side of a cell or of the grid.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum Side {
+    /// Low x.
     West,
+    /// High x.
     East,
+    /// Low y.
     South,
+    /// High y.
     North,
+    /// Low depth (layer 1 side).
     Top,
+    /// High depth.
     Bottom,
 }
 
 impl Side {
+    /// Every side, in the order west, east, south, north, top, bottom.
     pub const ALL: [Side; 6] = [
         Side::West,
         Side::East,
@@ -223,6 +274,7 @@ impl Side {
         Side::Top,
         Side::Bottom,
     ];
+    /// The name as written in decks (`west`, ...).
     pub fn name(self) -> &'static str {
         match self {
             Side::West => "west",
@@ -233,35 +285,48 @@ impl Side {
             Side::Bottom => "bottom",
         }
     }
+    /// The side written `name`, if any.
     pub fn from_name(name: &str) -> Option<Side> {
         Side::ALL.into_iter().find(|s| s.name() == name)
     }
 }
 
+/// A side of the grid held at a constant pressure.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Boundary {
+    /// Its name, unique among boundaries.
     pub name: String,
+    /// The side of the grid it covers.
     pub side: Side,
     /// Pa
     pub pressure: f64,
     /// Datum depth (m) for a hydrostatic face; `None`: the pressure holds at every face centre.
     pub datum: Option<f64>,
+    /// Where the boundary block is written.
     pub origin: Origin,
 }
 
+/// Whether the run steps in time.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum RunKind {
+    /// Time steps from the initial state to `end`.
     Transient,
+    /// The steady state only, no time.
     Steady,
 }
 
+/// Run length, time-step control and events.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Timeline {
+    /// Transient or steady.
     pub kind: RunKind,
     /// s; 0 for a steady run without `end`.
     pub end: f64,
+    /// The first time step, s.
     pub first_step: f64,
+    /// The longest time step, s.
     pub max_step: f64,
+    /// Factor by which a time step may grow over the last (1 to 10).
     pub growth: f64,
     /// Report interval, s; `None`: report at the end and at events only.
     pub report_every: Option<f64>,
@@ -269,26 +334,34 @@ pub struct Timeline {
     pub events: Vec<Event>,
 }
 
+/// A change of well settings at a time.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Event {
     /// s
     pub time: f64,
+    /// The well changes, in deck order.
     pub changes: Vec<WellChange>,
+    /// Where the event is written (`at TIME`).
     pub origin: Origin,
 }
 
+/// New settings for one well from an event on.
 #[derive(Debug, Clone, PartialEq)]
 pub struct WellChange {
     /// Index into `Case::wells`.
     pub well: usize,
+    /// The new control, if changed.
     pub control: Option<Control>,
+    /// The new BHP limit (Pa), if changed.
     pub bhp_limit: Option<f64>,
 }
 
 /// How results are shown: `field`, `metric` or `si`.
 pub use rill_units::System as UnitSystem;
 
+/// How results are reported.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct ReportSettings {
+    /// The unit system of reports.
     pub units: UnitSystem,
 }

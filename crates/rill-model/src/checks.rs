@@ -5,8 +5,8 @@
 
 use crate::case::*;
 use crate::derived;
-use crate::diagnostic::{Diagnostic, Location};
-use crate::lower::Spans;
+use crate::diagnostic::{Code, Diagnostic, Location};
+use crate::lower::{Spans, WellSpans};
 use crate::reuse::{kept, Held, Reuse};
 use rill_units::{display_unit, Kind, System};
 use std::collections::HashSet;
@@ -82,7 +82,7 @@ fn rock_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
     }) {
         out.push(
             Diagnostic::error(
-                "sanity.porosity",
+                Code::SanityPorosity,
                 at("porosity"),
                 format!(
                     "porosity must lie between 0 and 1; {} cell(s) are outside, the first {} with {}",
@@ -96,7 +96,7 @@ fn rock_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
     } else {
         if let Some((high, c)) = kept_offenders(reuse, "porosity above 0.45", phi, |v| v > 0.45) {
             out.push(Diagnostic::warning(
-                "sanity.porosity",
+                Code::SanityPorosity,
                 at("porosity"),
                 format!(
                     "porosity above 0.45 in {} cell(s), the first {} with {}; reservoir rock rarely exceeds 0.40 (common practice, no published source)",
@@ -114,7 +114,7 @@ fn rock_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
     ] {
         if let Some((neg, c)) = kept_offenders(reuse, "negative", k, |v| v < 0.0) {
             out.push(Diagnostic::error(
-                "sanity.permeability",
+                Code::SanityPermeability,
                 at(key),
                 format!(
                     "`{key}` is negative in {} cell(s), the first {} with {} md",
@@ -128,7 +128,7 @@ fn rock_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
         if let Some((high, c)) = kept_offenders(reuse, "above 20 darcy", k, |v| v > 20_000.0 * MD) {
             out.push(
                 Diagnostic::warning(
-                    "sanity.permeability",
+                    Code::SanityPermeability,
                     at(key),
                     format!(
                         "`{key}` is above 20 darcy in {} cell(s), the first {} with {} md; check the unit (md, not darcy?)",
@@ -142,13 +142,13 @@ fn rock_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
     }
     if case.rock.compressibility < 0.0 {
         out.push(Diagnostic::error(
-            "sanity.compressibility",
+            Code::SanityCompressibility,
             spans.rock_compressibility.unwrap_or(spans.main),
             "rock compressibility cannot be negative",
         ));
     } else if case.rock.compressibility > 1e-3 / PSI {
         out.push(Diagnostic::warning(
-            "sanity.compressibility",
+            Code::SanityCompressibility,
             spans.rock_compressibility.unwrap_or(spans.main),
             format!(
                 "rock compressibility of {} 1/psi is above 1e-3 1/psi; consolidated rock is about 3e-6 to 1e-5 1/psi (common practice, no published source)",
@@ -163,13 +163,13 @@ fn fluid_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnosti
     let at = |l: Option<Location>| l.unwrap_or(spans.main);
     if f.viscosity <= 0.0 {
         out.push(Diagnostic::error(
-            "sanity.viscosity",
+            Code::SanityViscosity,
             at(spans.viscosity),
             "viscosity must be positive",
         ));
     } else if !(0.01 * CP..=10_000.0 * CP).contains(&f.viscosity) {
         out.push(Diagnostic::warning(
-            "sanity.viscosity",
+            Code::SanityViscosity,
             at(spans.viscosity),
             format!(
                 "viscosity of {} cP is outside 0.01 to 10000 cP; check the unit (cP, not Pa*s?)",
@@ -179,14 +179,14 @@ fn fluid_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnosti
     }
     if f.fvf <= 0.0 {
         out.push(Diagnostic::error(
-            "sanity.fvf",
+            Code::SanityFvf,
             at(spans.fvf),
             "the formation volume factor must be positive",
         ));
     } else if !(0.5..=3.0).contains(&f.fvf) {
         out.push(
             Diagnostic::warning(
-                "sanity.fvf",
+                Code::SanityFvf,
                 at(spans.fvf),
                 format!(
                     "a formation volume factor of {} rb/stb is outside 0.5 to 3 rb/stb",
@@ -200,13 +200,13 @@ fn fluid_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnosti
     }
     if f.compressibility < 0.0 {
         out.push(Diagnostic::error(
-            "sanity.compressibility",
+            Code::SanityCompressibility,
             at(spans.fluid_compressibility),
             "fluid compressibility cannot be negative",
         ));
     } else if f.compressibility > 1e-3 / PSI {
         out.push(Diagnostic::warning(
-            "sanity.compressibility",
+            Code::SanityCompressibility,
             at(spans.fluid_compressibility),
             format!(
                 "fluid compressibility of {} 1/psi is above 1e-3 1/psi; water is about 3e-6 1/psi (common practice, no published source)",
@@ -216,7 +216,7 @@ fn fluid_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnosti
     }
     if !(500.0..=1300.0).contains(&f.density) {
         out.push(Diagnostic::warning(
-            "sanity.density",
+            Code::SanityDensity,
             at(spans.density),
             format!(
                 "a liquid density of {} is outside 500 to 1300 kg/m^3",
@@ -252,7 +252,7 @@ fn well_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic
         for c in &well.completions {
             if !case.rock.is_active(c.cell) {
                 out.push(Diagnostic::error(
-                    "well.completion",
+                    Code::WellCompletion,
                     comp_at,
                     format!(
                         "well \"{}\" is completed in cell {}, which is inactive (porosity 0)",
@@ -262,125 +262,172 @@ fn well_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic
                 ));
             }
         }
-        // Radius against the completed cells.
         let radius_at = ws.radius.unwrap_or(comp_at);
-        let half_width = well
-            .completions
-            .iter()
-            .map(|c| {
-                let (dx, dy, _) = derived::cell_size(grid, c.cell);
-                0.5 * dx.min(dy)
-            })
-            .fold(f64::INFINITY, f64::min);
-        if well.radius <= 0.0 {
+        radius_checks(case, well, radius_at, sys, out);
+        bhp_checks(case, w_index, well, &ws, comp_at, sys, out);
+    }
+}
+
+/// A bottom-hole pressure a well is given (control, limit or event control).
+struct GivenBhp {
+    pressure: f64,
+    at: Location,
+    what: &'static str,
+}
+
+/// The wellbore radius against the completed cells and the skin.
+fn radius_checks(
+    case: &Case,
+    well: &Well,
+    radius_at: Location,
+    sys: System,
+    out: &mut Vec<Diagnostic>,
+) {
+    let grid = &case.grid;
+    // Radius against the completed cells.
+    let half_width = well
+        .completions
+        .iter()
+        .map(|c| {
+            let (dx, dy, _) = derived::cell_size(grid, c.cell);
+            0.5 * dx.min(dy)
+        })
+        .fold(f64::INFINITY, f64::min);
+    if well.radius <= 0.0 {
+        out.push(Diagnostic::error(
+            Code::SanityRadius,
+            radius_at,
+            "the wellbore radius must be positive",
+        ));
+    } else if well.radius >= half_width {
+        out.push(Diagnostic::error(
+            Code::SanityRadius,
+            radius_at,
+            format!(
+                "a wellbore radius of {} is not below half the cell width ({}); check the unit (in, not ft?)",
+                show(well.radius, Kind::Length, sys),
+                show(half_width, Kind::Length, sys)
+            ),
+        ));
+    } else if well.radius < INCH {
+        out.push(Diagnostic::warning(
+            Code::SanityRadius,
+            radius_at,
+            format!(
+                "a wellbore radius of {} is below 1 inch; check the unit",
+                show(well.radius, Kind::Length, sys)
+            ),
+        ));
+    } else if let Some(c) = well.completions.first() {
+        // Peaceman's model needs r_eq > r_w e^(-s); otherwise the index is meaningless.
+        let wi = derived::well_index(grid, &case.rock, c, well.radius, well.skin);
+        if (wi.r_eq / well.radius).ln() + well.skin <= 0.0 {
             out.push(Diagnostic::error(
-                "sanity.radius",
-                radius_at,
-                "the wellbore radius must be positive",
-            ));
-        } else if well.radius >= half_width {
-            out.push(Diagnostic::error(
-                "sanity.radius",
+                Code::SanityRadius,
                 radius_at,
                 format!(
-                    "a wellbore radius of {} is not below half the cell width ({}); check the unit (in, not ft?)",
-                    show(well.radius, Kind::Length, sys),
-                    show(half_width, Kind::Length, sys)
+                    "with skin {} the well index of \"{}\" would not be positive: ln(r_eq / r_w) + s <= 0 (r_eq = {})",
+                    well.skin,
+                    well.name,
+                    show(wi.r_eq, Kind::Length, sys)
                 ),
             ));
-        } else if well.radius < INCH {
-            out.push(Diagnostic::warning(
-                "sanity.radius",
-                radius_at,
-                format!(
-                    "a wellbore radius of {} is below 1 inch; check the unit",
-                    show(well.radius, Kind::Length, sys)
-                ),
-            ));
-        } else if let Some(c) = well.completions.first() {
-            // Peaceman's model needs r_eq > r_w e^(-s); otherwise the index is meaningless.
-            let wi = derived::well_index(grid, &case.rock, c, well.radius, well.skin);
-            if (wi.r_eq / well.radius).ln() + well.skin <= 0.0 {
-                out.push(Diagnostic::error(
-                    "sanity.radius",
-                    radius_at,
+        }
+    }
+}
+
+/// Each BHP the well is given against the initial pressure at its datum
+/// and, for an injector, against a fracture-pressure rule of thumb.
+fn bhp_checks(
+    case: &Case,
+    w_index: usize,
+    well: &Well,
+    ws: &WellSpans,
+    comp_at: Location,
+    sys: System,
+    out: &mut Vec<Diagnostic>,
+) {
+    let grid = &case.grid;
+    let Some(top) = well.completions.iter().min_by_key(|c| c.k) else {
+        return;
+    };
+    let depth = derived::cell_center_depth(grid, top.cell);
+    let mut pressures: Vec<GivenBhp> = Vec::new();
+    if let Control::Bhp(p) = well.control {
+        pressures.push(GivenBhp {
+            pressure: p,
+            at: ws.control.unwrap_or(comp_at),
+            what: "control",
+        });
+    }
+    if let Some(p) = well.bhp_limit {
+        pressures.push(GivenBhp {
+            pressure: p,
+            at: ws.bhp_limit.unwrap_or(comp_at),
+            what: "bhp_limit",
+        });
+    }
+    for (ev_i, ev) in case.timeline.events.iter().enumerate() {
+        for ch in ev.changes.iter().filter(|ch| ch.well == w_index) {
+            if let Some(Control::Bhp(p)) = ch.control {
+                let at = ws
+                    .event_controls
+                    .iter()
+                    .find(|(i, _)| *i == ev_i)
+                    .map(|(_, l)| *l)
+                    .unwrap_or(Location::new(ev.origin.file, ev.origin.span));
+                pressures.push(GivenBhp {
+                    pressure: p,
+                    at,
+                    what: "event control",
+                });
+            }
+        }
+    }
+    let p_init = initial_pressure_at(case, depth);
+    for GivenBhp { pressure, at, what } in &pressures {
+        let p = pressure;
+        if let Some(p0) = p_init {
+            let wrong = match well.role {
+                Role::Producer => *p > p0,
+                Role::Injector => *p < p0,
+            };
+            if wrong {
+                let (verb, would) = match well.role {
+                    Role::Producer => ("above", "inject"),
+                    Role::Injector => ("below", "produce"),
+                };
+                out.push(Diagnostic::warning(
+                    Code::WellBhp,
+                    *at,
                     format!(
-                        "with skin {} the well index of \"{}\" would not be positive: ln(r_eq / r_w) + s <= 0 (r_eq = {})",
-                        well.skin,
+                        "the {what} of {} \"{}\" ({}) is {verb} the initial pressure at its datum ({} at {}): it would {would}",
+                        if well.role == Role::Producer { "producer" } else { "injector" },
                         well.name,
-                        show(wi.r_eq, Kind::Length, sys)
+                        show(*p, Kind::Pressure, sys),
+                        show(p0, Kind::Pressure, sys),
+                        show(depth, Kind::Length, sys)
                     ),
                 ));
             }
         }
-        let Some(top) = well.completions.iter().min_by_key(|c| c.k) else {
-            continue;
-        };
-        let depth = derived::cell_center_depth(grid, top.cell);
-        let mut pressures: Vec<(f64, Location, &str)> = Vec::new();
-        if let Control::Bhp(p) = well.control {
-            pressures.push((p, ws.control.unwrap_or(comp_at), "control"));
-        }
-        if let Some(p) = well.bhp_limit {
-            pressures.push((p, ws.bhp_limit.unwrap_or(comp_at), "bhp_limit"));
-        }
-        for (ev_i, ev) in case.timeline.events.iter().enumerate() {
-            for ch in ev.changes.iter().filter(|ch| ch.well == w_index) {
-                if let Some(Control::Bhp(p)) = ch.control {
-                    let at = ws
-                        .event_controls
-                        .iter()
-                        .find(|(i, _)| *i == ev_i)
-                        .map(|(_, l)| *l)
-                        .unwrap_or(Location::new(ev.origin.file, ev.origin.span));
-                    pressures.push((p, at, "event control"));
-                }
-            }
-        }
-        let p_init = initial_pressure_at(case, depth);
-        for (p, at, what) in &pressures {
-            if let Some(p0) = p_init {
-                let wrong = match well.role {
-                    Role::Producer => *p > p0,
-                    Role::Injector => *p < p0,
-                };
-                if wrong {
-                    let (verb, would) = match well.role {
-                        Role::Producer => ("above", "inject"),
-                        Role::Injector => ("below", "produce"),
-                    };
-                    out.push(Diagnostic::warning(
-                        "well.bhp",
+        if well.role == Role::Injector {
+            // 0.8 psi/ft is a rule of thumb for fracture gradients (common practice, no published source).
+            let frac = 0.8 * PSI / FT * depth;
+            if *p > frac {
+                out.push(
+                    Diagnostic::warning(
+                        Code::WellInjectionPressure,
                         *at,
                         format!(
-                            "the {what} of {} \"{}\" ({}) is {verb} the initial pressure at its datum ({} at {}): it would {would}",
-                            if well.role == Role::Producer { "producer" } else { "injector" },
+                            "the {what} of injector \"{}\" ({}) is above 0.8 psi/ft times its depth ({}): it may exceed the fracture pressure",
                             well.name,
                             show(*p, Kind::Pressure, sys),
-                            show(p0, Kind::Pressure, sys),
-                            show(depth, Kind::Length, sys)
+                            show(frac, Kind::Pressure, sys)
                         ),
-                    ));
-                }
-            }
-            if well.role == Role::Injector {
-                // 0.8 psi/ft is a rule of thumb for fracture gradients (common practice, no published source).
-                let frac = 0.8 * PSI / FT * depth;
-                if *p > frac {
-                    out.push(
-                        Diagnostic::warning(
-                            "well.injection-pressure",
-                            *at,
-                            format!(
-                                "the {what} of injector \"{}\" ({}) is above 0.8 psi/ft times its depth ({}): it may exceed the fracture pressure",
-                                well.name,
-                                show(*p, Kind::Pressure, sys),
-                                show(frac, Kind::Pressure, sys)
-                            ),
-                        )
-                        .with_note("defer to the local fracture gradient, the injection permit and a licensed engineer"),
-                    );
-                }
+                    )
+                    .with_note("defer to the local fracture gradient, the injection permit and a licensed engineer"),
+                );
             }
         }
     }
@@ -481,7 +528,7 @@ fn flow_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
             .unwrap_or(spans.main);
         out.push(
             Diagnostic::warning(
-                "flow.isolated",
+                Code::FlowIsolated,
                 at,
                 format!(
                     "{} active cell(s) have zero transmissibility on every face and no well, the first {}: their fluid can never move",
@@ -494,7 +541,7 @@ fn flow_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
     }
     if case.wells.is_empty() && case.boundaries.is_empty() {
         out.push(Diagnostic::info(
-            "flow.no-drive",
+            Code::FlowNoDrive,
             spans.timeline.unwrap_or(spans.main),
             "the case has no well and no boundary: nothing drives flow, and the run will stay at its initial state",
         ));

@@ -33,6 +33,7 @@ pub fn cell_size(grid: &Grid, c: usize) -> (f64, f64, f64) {
     (grid.dx[i], grid.dy[j], grid.dz[c])
 }
 
+/// Bulk volume of cell `c`, m^3.
 pub fn cell_volume(grid: &Grid, c: usize) -> f64 {
     let (dx, dy, dz) = cell_size(grid, c);
     dx * dy * dz
@@ -108,6 +109,7 @@ pub fn harmonic_face_perm(k_a: f64, len_a: f64, k_b: f64, len_b: f64) -> f64 {
     (len_a + len_b) / (len_a / k_a + len_b / k_b)
 }
 
+/// The side across the cell from `side`.
 pub fn opposite(side: Side) -> Side {
     match side {
         Side::West => Side::East,
@@ -122,7 +124,9 @@ pub fn opposite(side: Side) -> Side {
 /// A face between two cells, or between a cell and the outside.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Face {
+    /// Which side of the cell the face is on.
     pub side: Side,
+    /// The cell across the face; `None` on the outer boundary of the grid.
     pub neighbor: Option<usize>,
     /// Face permeability, m^2 (for a boundary face: the cell's own normal permeability).
     pub perm: f64,
@@ -287,7 +291,9 @@ pub fn cell_faces(case: &Case, c: usize) -> [(Side, Option<Face>); 6] {
 /// One connection between two active cells for assembly: `a < b`.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Connection {
+    /// The first cell (the smaller index).
     pub a: usize,
+    /// The second cell.
     pub b: usize,
     /// m^3
     pub geometric_trans: f64,
@@ -354,6 +360,7 @@ pub enum Axis {
 }
 
 impl Axis {
+    /// The two sides whose faces are normal to this axis (low, high).
     pub fn sides(self) -> [Side; 2] {
         match self {
             Axis::X => [Side::West, Side::East],
@@ -560,6 +567,7 @@ pub fn is_on_side(grid: &Grid, c: usize, side: Side) -> bool {
     }
 }
 
+/// The cells with a face on `side` of the grid (the outer boundary there).
 pub fn cells_on_side(grid: &Grid, side: Side) -> Vec<usize> {
     let (nx, ny, nz) = (grid.nx, grid.ny, grid.nz);
     let mut out = Vec::new();

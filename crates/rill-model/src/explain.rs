@@ -2,24 +2,34 @@
 //! how to fix it: the text of `rill explain CODE` and of editor hovers on a
 //! diagnostic code.
 
+use crate::diagnostic::Code;
+
 /// Documentation of one diagnostic code.
 #[derive(Debug, Clone, Copy)]
 pub struct Explanation {
-    pub code: &'static str,
+    /// The code explained.
+    pub code: Code,
+    /// One sentence: what the code means.
     pub summary: &'static str,
+    /// More on when it is raised and why.
     pub details: &'static str,
+    /// A deck fragment that raises it.
     pub wrong: &'static str,
+    /// The same fragment put right.
     pub right: &'static str,
+    /// How to fix it.
     pub fix: &'static str,
 }
 
-pub fn explain(code: &str) -> Option<&'static Explanation> {
+/// The explanation of `code` (every code has one).
+pub fn explain(code: Code) -> Option<&'static Explanation> {
     EXPLANATIONS.iter().find(|e| e.code == code)
 }
 
+/// Every explanation, one per code.
 pub static EXPLANATIONS: &[Explanation] = &[
     Explanation {
-        code: "syntax.unexpected",
+        code: Code::SyntaxUnexpected,
         summary: "A token that does not fit where it stands.",
         details: "The parser expected one thing (a value after `=`, a key, a closing bracket) and found another. It skips to the end of the statement and goes on, so later mistakes are reported too.",
         wrong: "rock {\n  porosity = = 0.2\n}",
@@ -27,7 +37,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Read the message for what was expected; remove or replace the token it points at.",
     },
     Explanation {
-        code: "syntax.unclosed",
+        code: Code::SyntaxUnclosed,
         summary: "A `{`, `[`, `(` or string left open.",
         details: "Every block, list, tuple and string must be closed. The diagnostic points at the opening delimiter that has no partner.",
         wrong: "grid {\n  dz = [20 15 15 30 ft\n}",
@@ -35,7 +45,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Add the missing `}`, `]`, `)` or `\"`.",
     },
     Explanation {
-        code: "deck.unknown-block",
+        code: Code::DeckUnknownBlock,
         summary: "A block name that is not in the schema.",
         details: "Top-level blocks are case, grid, rock, fluid, initial, well, boundary, timeline and report; `rock` holds `patch`, `timeline` holds `at` events, which hold `well` changes.",
         wrong: "fluids {\n  viscosity = 0.8 cP\n}",
@@ -43,7 +53,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Use the suggested nearest block name.",
     },
     Explanation {
-        code: "deck.unknown-key",
+        code: Code::DeckUnknownKey,
         summary: "A key that the block does not take.",
         details: "Each block has a fixed set of keys; a misspelt key would otherwise be silently ignored.",
         wrong: "rock {\n  porosty = 0.2\n}",
@@ -51,7 +61,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Use the suggested nearest key; the note lists all keys of the block.",
     },
     Explanation {
-        code: "deck.missing-key",
+        code: Code::DeckMissingKey,
         summary: "A required block or key is absent.",
         details: "A case needs grid (cells, dx, dy, dz, top), rock (porosity, kx), fluid (viscosity, fvf, density), initial (pressure) and timeline (end, for a transient run); a well needs role, radius, control and its completions.",
         wrong: "fluid {\n  viscosity = 0.8 cP\n  density = 62.4 lb/ft^3\n}",
@@ -59,7 +69,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Add the key; the quick fix inserts it with a placeholder value to edit.",
     },
     Explanation {
-        code: "deck.duplicate-key",
+        code: Code::DeckDuplicateKey,
         summary: "A key given twice in one block, or a single block given twice.",
         details: "Later statements never silently replace earlier ones. To override part of a rock property, use a `patch` block.",
         wrong: "rock {\n  kx = 100 md\n  kx = 50 md\n}",
@@ -67,7 +77,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Remove one of the two, or move the override into a patch.",
     },
     Explanation {
-        code: "deck.duplicate-name",
+        code: Code::DeckDuplicateName,
         summary: "Two wells or two boundaries with one name.",
         details: "Names identify wells and boundaries in events and in results; they must be unique.",
         wrong: "well \"LE-1\" { ... }\nwell \"LE-1\" { ... }",
@@ -75,7 +85,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Rename one of them.",
     },
     Explanation {
-        code: "deck.include",
+        code: Code::DeckInclude,
         summary: "An include or array file that is missing, unreadable, cyclic or outside the workspace.",
         details: "Paths are relative to the file that names them. A file that includes itself, directly or through others, is refused; so is a path outside the workspace folders unless the editor settings allow it.",
         wrong: "include \"wells-typo.rill\"",
@@ -83,7 +93,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Correct the path, or create the file.",
     },
     Explanation {
-        code: "deck.reference",
+        code: Code::DeckReference,
         summary: "A name that refers to nothing, or properties that refer to each other in a cycle.",
         details: "Rock expressions may refer to porosity, kx, ky and kz of the same block; events refer to wells by name. (An extension of the specification's minimum set.)",
         wrong: "kz = 0.1 * kxx",
@@ -91,15 +101,39 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Use the suggested name, or break the cycle.",
     },
     Explanation {
-        code: "deck.value",
+        code: Code::DeckValue,
         summary: "A value of the wrong form for its key.",
-        details: "Each key takes a certain form: a size `30 x 20 x 4`, a choice such as `producer`, a column `(i, j)`, a control `rate 600 stb/day`. (An extension of the specification's minimum set.)",
-        wrong: "role = farmer",
-        right: "role = producer",
+        details: "Each key takes a certain form: one quantity `0.3 ft`, text in quotes, a column `(i, j)`, a list of cells `[(i, j, k)]`, a control `rate 600 stb/day`, a pressure `at` a depth. A word that is not one of the choices is `deck.choice`, a number outside its range `deck.out-of-range`, arithmetic where none is allowed `deck.expression`. (An extension of the specification's minimum set.)",
+        wrong: "location = 2",
+        right: "location = (2, 2)",
         fix: "Write the form the message names.",
     },
     Explanation {
-        code: "unit.unknown",
+        code: Code::DeckChoice,
+        summary: "A word that is not one of the choices its key allows.",
+        details: "Some keys take one word from a fixed list: `role` (producer, injector), `side` of a boundary, `kind` of a run, report `units`, the mode of a `control` (rate, bhp), the axes of a `patch` (i, j, k). The message lists the choices and, for a near miss, offers the nearest. (An extension of the specification's minimum set.)",
+        wrong: "role = farmer",
+        right: "role = producer",
+        fix: "Write one of the listed choices.",
+    },
+    Explanation {
+        code: Code::DeckOutOfRange,
+        summary: "A number of the right form outside the range its key allows.",
+        details: "`growth` of the time step lies between 1 and 10; a well rate is positive (the well's `role` says whether it produces or injects). Physical properties out of range are `sanity.*` instead. (An extension of the specification's minimum set.)",
+        wrong: "control = rate -600 stb/day",
+        right: "control = rate 600 stb/day",
+        fix: "Bring the value inside the range the message names; for a rate, drop the sign.",
+    },
+    Explanation {
+        code: Code::DeckExpression,
+        summary: "Arithmetic where the key takes a single value, or an operator without a value after it.",
+        details: "Rock properties may be written as arithmetic over other properties (`kz = 0.1 * kx`); other keys take one value. An expression must not end in an operator. (An extension of the specification's minimum set.)",
+        wrong: "dz = 20 ft + 5 ft",
+        right: "dz = 25 ft",
+        fix: "Write the value itself, or complete the expression.",
+    },
+    Explanation {
+        code: Code::UnitUnknown,
         summary: "A unit name that is not in the registry.",
         details: "Units are case-sensitive (`cP`, `md`, `psi`). The registry holds lengths, areas, permeabilities, pressures, times, volumes (reservoir and surface), viscosities, masses and `%`.",
         wrong: "viscosity = 0.8 cp",
@@ -107,7 +141,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Use the suggested nearest unit.",
     },
     Explanation {
-        code: "unit.missing",
+        code: Code::UnitMissing,
         summary: "A dimensional value without a unit.",
         details: "There is no implicit unit system: `kx = 150` could be md or darcy, a factor of 1000 apart.",
         wrong: "kx = 150",
@@ -115,7 +149,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Add the unit; the quick fixes offer the usual ones for the key.",
     },
     Explanation {
-        code: "unit.dimension",
+        code: Code::UnitDimension,
         summary: "A unit of the wrong dimension for the key.",
         details: "Each key has a dimension (permeability is an area, pressure is force per area, ...). A unit of another dimension is a mistake, not a conversion.",
         wrong: "kx = 150 psi",
@@ -123,7 +157,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Use one of the accepted units listed in the message.",
     },
     Explanation {
-        code: "unit.volume-kind",
+        code: Code::UnitVolumeKind,
         summary: "Reservoir volume where surface volume is meant, or the reverse.",
         details: "Rates are at surface (stock-tank) conditions: stb/day or sm3/day. The formation volume factor is reservoir volume per surface volume (rb/stb); written as stb/rb it is upside down. rill keeps surface volume S apart from geometric volume L^3 to catch both.",
         wrong: "control = rate 500 bbl/day\nfvf = 0.98 stb/rb",
@@ -131,7 +165,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Replace `bbl` by `stb` in rates; for an upside-down fvf write the reciprocal in rb/stb.",
     },
     Explanation {
-        code: "unit.gauge",
+        code: Code::UnitGauge,
         summary: "A gauge unit inside a compound unit or for a difference.",
         details: "`psig` and `barg` add atmospheric pressure (14.696 psi, 1.01325 bar). That only makes sense for an absolute pressure value standing alone, never inside `psig/ft` or in arithmetic.",
         wrong: "pressure = 3000 psig + 10 psig at 7000 ft",
@@ -139,7 +173,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Use the absolute unit (`psi`, `bar`).",
     },
     Explanation {
-        code: "grid.array-length",
+        code: Code::GridArrayLength,
         summary: "An array with the wrong number of values.",
         details: "`dx` lists NX widths, `dy` NY, `dz` NZ (or NX*NY*NZ with `cells`), `layers` NZ values, `cells` and `file` NX*NY*NZ, `columns` NX*NY. The message says how many were expected and found.",
         wrong: "cells = 3 x 1 x 4\n...\nkx = layers [150 40 300] md",
@@ -147,15 +181,23 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Add or remove values; check which layer is missing.",
     },
     Explanation {
-        code: "grid.spacing",
-        summary: "A cell size that is zero or negative, or an impossible grid size.",
-        details: "Every width and thickness must be positive. Make a cell inactive with porosity 0 instead of a zero size.",
+        code: Code::GridCells,
+        summary: "A grid size `cells = NX x NY x NZ` that is malformed, has a zero count, or is too large.",
+        details: "`cells` takes three positive counts. rill holds at most 20 million cells: every per-cell property takes 8 bytes a cell and is re-checked on each edit, so a slip such as `600 x 2200 x 850` is refused rather than allocated. A 2D areal grid is NX x NY x 1. (An extension of the specification's minimum set.)",
+        wrong: "cells = 30 x 20",
+        right: "cells = 30 x 20 x 1",
+        fix: "Give three positive counts whose product is at most 20 million.",
+    },
+    Explanation {
+        code: Code::GridSpacing,
+        summary: "A cell size that is zero or negative.",
+        details: "Every width and thickness must be positive. Make a cell inactive with porosity 0 instead of a zero size. Grid sizes (`cells`) are `grid.cells`.",
         wrong: "dz = [20 0 15] ft",
         right: "dz = [20 5 15] ft",
         fix: "Give every cell a positive size.",
     },
     Explanation {
-        code: "grid.index",
+        code: Code::GridIndex,
         summary: "A patch range or other index outside the grid.",
         details: "Indices are 1-based: i in 1..NX, j in 1..NY, k in 1..NZ. Wells report `well.completion` instead.",
         wrong: "patch i = 12..14 k = 5 { kz = 0 md }   # NZ = 4",
@@ -163,7 +205,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Bring the range inside the grid.",
     },
     Explanation {
-        code: "sanity.porosity",
+        code: Code::SanityPorosity,
         summary: "Porosity outside [0, 1] (error) or above 0.45 (warning).",
         details: "Porosity is a fraction. 22 written without `%` is 22, not 0.22. Values above 0.45 are rare for reservoir rock (common practice, no published source).",
         wrong: "porosity = 22",
@@ -171,7 +213,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Write a fraction, or add `%`.",
     },
     Explanation {
-        code: "sanity.permeability",
+        code: Code::SanityPermeability,
         summary: "Negative permeability (error) or above 20 darcy (warning).",
         details: "Very high values often come from a unit slip (darcy for md).",
         wrong: "kx = 150 darcy",
@@ -179,7 +221,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Check the unit and the value.",
     },
     Explanation {
-        code: "sanity.viscosity",
+        code: Code::SanityViscosity,
         summary: "Viscosity not positive (error) or outside 0.01-10000 cP (warning).",
         details: "Water at reservoir conditions is about 0.3-1 cP (common practice, no published source).",
         wrong: "viscosity = 0.8 Pa*s",
@@ -187,7 +229,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Check the unit: 1 Pa*s is 1000 cP.",
     },
     Explanation {
-        code: "sanity.compressibility",
+        code: Code::SanityCompressibility,
         summary: "Negative compressibility (error) or above 1e-3 1/psi (warning).",
         details: "Water is about 3e-6 1/psi, consolidated rock about 3e-6 to 1e-5 1/psi (common practice, no published source).",
         wrong: "compressibility = 4e-6 1/Pa",
@@ -195,7 +237,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Check the unit and the exponent.",
     },
     Explanation {
-        code: "sanity.fvf",
+        code: Code::SanityFvf,
         summary: "Formation volume factor not positive (error) or outside 0.5-3 rb/stb (warning).",
         details: "A liquid's fvf is near 1 rb/stb.",
         wrong: "fvf = 10.2 rb/stb",
@@ -203,7 +245,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Check the value; an fvf below 1 may be upside down.",
     },
     Explanation {
-        code: "sanity.density",
+        code: Code::SanityDensity,
         summary: "A liquid density outside 500-1300 kg/m^3 (warning).",
         details: "Fresh water is 62.4 lb/ft^3 (1000 kg/m^3); brines reach about 1200 kg/m^3.",
         wrong: "density = 62.4 kg/m^3",
@@ -211,7 +253,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Check the unit.",
     },
     Explanation {
-        code: "sanity.radius",
+        code: Code::SanityRadius,
         summary: "A wellbore radius not below half the cell width (error) or below 1 inch (warning).",
         details: "Peaceman's well model needs the wellbore well inside its cell; a radius of 0.3 in where 0.3 ft was meant gives a wrong well index.",
         wrong: "radius = 3 ft   # in a 5 ft cell",
@@ -219,7 +261,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Check the unit and the cell size.",
     },
     Explanation {
-        code: "well.completion",
+        code: Code::WellCompletion,
         summary: "A completion outside the grid or in an inactive cell.",
         details: "Completed cells must be inside 1..NX, 1..NY, 1..NZ and have porosity above 0.",
         wrong: "location = (31, 10)   # NX = 30",
@@ -227,7 +269,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Move the completion into an active cell of the grid.",
     },
     Explanation {
-        code: "well.bhp",
+        code: Code::WellBhp,
         summary: "A producer's BHP above the initial pressure, or an injector's below it.",
         details: "A producer held above the reservoir pressure would inject, and an injector below it would produce. Compared at the depth of the top completion, with the initial pressure in hydrostatic equilibrium.",
         wrong: "role = producer\ncontrol = bhp 3500 psi   # reservoir at 3200 psi",
@@ -235,7 +277,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Check the role and the pressure.",
     },
     Explanation {
-        code: "well.injection-pressure",
+        code: Code::WellInjectionPressure,
         summary: "An injector BHP above 0.8 psi/ft times its depth.",
         details: "Such a pressure may exceed the fracture pressure of the rock (fracture gradients mostly fall between 0.6 and 0.9 psi/ft; common practice, no published source). The local fracture gradient, the injection permit and a licensed engineer decide; rill only warns.",
         wrong: "control = bhp 7000 psi   # top completion at 7150 ft",
@@ -243,7 +285,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Lower the pressure, or confirm the limit with local data and permits.",
     },
     Explanation {
-        code: "flow.isolated",
+        code: Code::FlowIsolated,
         summary: "An active cell with zero transmissibility on every face and no well.",
         details: "Its fluid can never move: usually zero permeabilities on all sides (a sealing streak above and below and zero kx, ky), or inactive neighbours all round.",
         wrong: "kx = 0 md in a cell whose kz faces are also zero",
@@ -251,7 +293,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Make the cell inactive, or check the zero permeabilities around it.",
     },
     Explanation {
-        code: "flow.no-drive",
+        code: Code::FlowNoDrive,
         summary: "No well and no boundary: nothing moves.",
         details: "Without a well or a boundary nothing drives flow; only gravity can redistribute a non-equilibrium start.",
         wrong: "a case without well or boundary blocks",
@@ -259,7 +301,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Add a well or a boundary, unless an equilibrium test is meant.",
     },
     Explanation {
-        code: "timeline.order",
+        code: Code::TimelineOrder,
         summary: "Events out of order, `first_step` above `end`, or an event after `end`.",
         details: "Events must come in increasing time within the run.",
         wrong: "end = 100 day\nat 180 day { ... }",
@@ -271,17 +313,16 @@ pub static EXPLANATIONS: &[Explanation] = &[
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::diagnostic::CODES;
 
     #[test]
     fn every_code_is_explained_once() {
-        for code in CODES {
+        for code in Code::ALL {
             assert_eq!(
                 EXPLANATIONS.iter().filter(|e| e.code == *code).count(),
                 1,
                 "{code}"
             );
         }
-        assert_eq!(EXPLANATIONS.len(), CODES.len());
+        assert_eq!(EXPLANATIONS.len(), Code::ALL.len());
     }
 }

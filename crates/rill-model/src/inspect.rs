@@ -12,24 +12,36 @@ use crate::derived;
 pub struct CellReport {
     /// 1-based indices.
     pub i: usize,
+    /// 1-based j.
     pub j: usize,
+    /// 1-based k.
     pub k: usize,
+    /// Whether the cell takes part in flow (porosity above zero).
     pub active: bool,
+    /// Cell sizes (dx, dy, dz), m.
     pub size: (f64, f64, f64),
     /// Depth of the cell centre, m.
     pub depth: f64,
+    /// Fraction.
     pub porosity: f64,
+    /// m^2
     pub kx: f64,
+    /// m^2
     pub ky: f64,
+    /// m^2
     pub kz: f64,
     /// Reservoir m^3 at the rock reference pressure.
     pub pore_volume: f64,
+    /// The six faces, in the order of `Side::ALL`.
     pub faces: Vec<FaceReport>,
+    /// Wells completed in the cell.
     pub wells: Vec<WellReport>,
 }
 
+/// One face of the cell in a [`CellReport`], SI.
 #[derive(Debug, Clone, PartialEq)]
 pub struct FaceReport {
+    /// Which face.
     pub side: Side,
     /// 1-based indices of the neighbour; `None` on the grid's edge.
     pub neighbor: Option<(usize, usize, usize)>,
@@ -43,9 +55,12 @@ pub struct FaceReport {
     pub trans: f64,
 }
 
+/// A well completed in the cell of a [`CellReport`], SI.
 #[derive(Debug, Clone, PartialEq)]
 pub struct WellReport {
+    /// The well's name.
     pub name: String,
+    /// Producer or injector.
     pub role: Role,
     /// Peaceman equivalent radius, m.
     pub r_eq: f64,

@@ -8,6 +8,8 @@
 //! It must never do I/O directly (only through `Source`), never print, and
 //! never panic on any input.
 
+#![warn(missing_docs)]
+
 pub mod arrays;
 pub mod case;
 pub mod checks;
@@ -23,7 +25,8 @@ pub mod source;
 pub mod values;
 
 pub use case::*;
-pub use diagnostic::{Diagnostic, Edit, Fix, Label, Location, Severity};
+pub use diagnostic::{Code, Diagnostic, Edit, Fix, Label, Location, Severity};
+pub use reuse::Reuse;
 pub use source::{MemorySource, Source, SourceError};
 
 use std::path::{Path, PathBuf};
@@ -33,7 +36,9 @@ use std::sync::Arc;
 /// includes, and array files that have diagnostics.
 #[derive(Debug, Clone)]
 pub struct FileInfo {
+    /// The path it stands at (normalised).
     pub path: PathBuf,
+    /// Its text (invalid UTF-8 replaced).
     pub text: Arc<str>,
     /// The syntax tree, for decks.
     pub tree: Option<Arc<rill_syntax::SourceFile>>,
@@ -42,16 +47,19 @@ pub struct FileInfo {
 /// Everything known about a deck after checking it.
 #[derive(Debug, Clone)]
 pub struct Analysis {
+    /// The files read: the main deck first, then includes and array files in the order read.
     pub files: Vec<FileInfo>,
     /// Sorted by file, then position.
     pub diagnostics: Vec<Diagnostic>,
     /// The checked case, when lowering got that far (it may still carry
     /// warnings, and physical errors from the sanity checks).
     pub case: Option<Case>,
+    /// Where lowering found the definitions that checks and the editor point back at.
     pub spans: lower::Spans,
 }
 
 impl Analysis {
+    /// Whether any diagnostic is an error.
     pub fn has_errors(&self) -> bool {
         self.diagnostics
             .iter()
@@ -69,28 +77,43 @@ impl Analysis {
 
 /// Check the deck at `path`, reading it and everything it refers to through `source`.
 pub fn analyze(path: &Path, source: &dyn Source) -> Result<Analysis, SourceError> {
+    analyze_with(path, source, &Reuse::new())
+}
+
+/// [`analyze`] keeping parsed arrays and derived results in `cache` for
+/// the next analysis, and using what the last one kept there.
+pub fn analyze_with(
+    path: &Path,
+    source: &dyn Source,
+    cache: &Reuse,
+) -> Result<Analysis, SourceError> {
     let bytes = source.read(path)?;
     let (text, _) = rill_syntax::parse_bytes(&bytes);
-    Ok(analyze_text(path, &text, source))
+    Ok(analyze_text_with(path, &text, source, cache))
 }
 
 /// Check deck text (e.g. an editor buffer) that stands at `path`.
 pub fn analyze_text(path: &Path, text: &str, source: &dyn Source) -> Analysis {
-    if let Some(reuse) = source.reuse() {
-        reuse.begin();
-    }
+    analyze_text_with(path, text, source, &Reuse::new())
+}
+
+/// [`analyze_text`] keeping parsed arrays and derived results in `cache`
+/// for the next analysis (an editor re-checking on every edit), and using
+/// what the last one kept there.
+pub fn analyze_text_with(path: &Path, text: &str, source: &dyn Source, cache: &Reuse) -> Analysis {
+    cache.begin();
     let mut lowerer = lower::Lowerer {
         source,
+        reuse: cache,
         files: Vec::new(),
         diags: Vec::new(),
-        array_cache: Default::default(),
     };
     let (case, spans) = lowerer.lower(source::normalize(path), text);
     let mut diagnostics = lowerer.diags;
     // Sanity checks need a whole case and no lowering errors to be meaningful.
     if let Some(case) = &case {
         if !diagnostics.iter().any(|d| d.severity == Severity::Error) {
-            checks::run(case, &spans, source.reuse(), &mut diagnostics);
+            checks::run(case, &spans, Some(cache), &mut diagnostics);
         }
     }
     drop_cascades(&lowerer.files, &mut diagnostics);
@@ -149,7 +172,7 @@ fn drop_cascades(files: &[FileInfo], diagnostics: &mut Vec<Diagnostic>) {
         return;
     }
     diagnostics.retain(|d| {
-        d.code.starts_with("syntax.")
+        d.code.area() == "syntax"
             || !spans.iter().any(|(f, s)| {
                 *f == d.location.file && s.start <= d.location.start && d.location.end <= s.end
             })

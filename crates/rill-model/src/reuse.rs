@@ -1,11 +1,21 @@
-//! Results of one analysis kept for the next: per-cell arrays derived from
-//! the deck (a property converted to SI, `0.1 * kx`, a patched property, a
-//! uniform value spread over the cells) and the scans of the checks over
-//! them. An editor re-analyses the whole deck on every keystroke; on a
-//! million-cell case recomputing those arrays costs tens of milliseconds
-//! and, worse, tens of megabytes of fresh pages each time. With a [`Reuse`]
-//! offered by the [`crate::Source`], an edit that leaves the rock alone
-//! finds every array and scan already made.
+//! The one cache of an analysis, owned by its caller and passed in
+//! (`analyze_text_with`): results of one analysis kept for the next, and
+//! the parsed array files. A single check makes a fresh one that dies with
+//! it (it still spares a second parse of an array file used twice); an
+//! editor keeps one for the session.
+//!
+//! Kept results are per-cell arrays derived from the deck (a property
+//! converted to SI, `0.1 * kx`, a patched property, a uniform value spread
+//! over the cells) and the scans of the checks over them. An editor
+//! re-analyses the whole deck on every keystroke; on a million-cell case
+//! recomputing those arrays costs tens of milliseconds and, worse, tens of
+//! megabytes of fresh pages each time. With a kept [`Reuse`], an edit that
+//! leaves the rock alone finds every array and scan already made.
+//!
+//! Parsed array files are kept by path with the bytes they were parsed
+//! from, and handed out only for the very same bytes (the same `Arc`: a
+//! source that caches unchanged files hands out the same one), so that a
+//! million-cell deck re-checks without re-parsing its arrays.
 //!
 //! A result is keyed by what was computed, the arrays it read (by identity:
 //! the entry holds them, so no other array can take their address while it
@@ -22,6 +32,7 @@
 
 use std::any::Any;
 use std::collections::HashMap;
+use std::path::{Path, PathBuf};
 use std::sync::{Arc, Mutex};
 
 /// Entries that none of the last `KEEP` analyses used are dropped. One:
@@ -61,6 +72,16 @@ struct Inner {
     spares: Vec<Vec<f64>>,
     /// The same for per-cell flags (the checker's flow passes).
     flag_spares: Vec<Vec<bool>>,
+    /// Parsed array files by path. Not subject to [`KEEP`]: an array file
+    /// stays parsed while its bytes are unchanged, whichever deck the
+    /// last analysis was of.
+    parsed: HashMap<PathBuf, ParsedArray>,
+}
+
+/// The numbers of an array file with the bytes they were parsed from.
+struct ParsedArray {
+    bytes: Arc<[u8]>,
+    numbers: Arc<Vec<f64>>,
 }
 
 impl Inner {
@@ -121,6 +142,7 @@ impl std::fmt::Debug for Reuse {
 }
 
 impl Reuse {
+    /// An empty cache.
     pub fn new() -> Self {
         Self::default()
     }
@@ -206,11 +228,42 @@ impl Reuse {
         (inner.spares.len(), inner.flag_spares.len())
     }
 
+    /// Numbers parsed earlier from exactly these `bytes` of the array file
+    /// at `path` (the same `Arc`, not equal contents).
+    pub fn parsed_numbers(&self, path: &Path, bytes: &Arc<[u8]>) -> Option<Arc<Vec<f64>>> {
+        let inner = self.lock();
+        let held = inner.parsed.get(path)?;
+        Arc::ptr_eq(&held.bytes, bytes).then(|| held.numbers.clone())
+    }
+
+    /// Keep the numbers parsed from `bytes` of the array file at `path`,
+    /// replacing those of an earlier version.
+    pub fn keep_parsed_numbers(&self, path: &Path, bytes: &Arc<[u8]>, numbers: &Arc<Vec<f64>>) {
+        self.lock().parsed.insert(
+            path.to_path_buf(),
+            ParsedArray {
+                bytes: bytes.clone(),
+                numbers: numbers.clone(),
+            },
+        );
+    }
+
+    /// Forget the parsed numbers of the file at `path` (it changed on disk).
+    pub fn forget_file(&self, path: &Path) {
+        self.lock().parsed.remove(path);
+    }
+
+    /// Forget every parsed array file.
+    pub fn clear_files(&self) {
+        self.lock().parsed.clear();
+    }
+
     /// Number of kept results.
     pub fn len(&self) -> usize {
         self.lock().entries.len()
     }
 
+    /// Whether no result is kept.
     pub fn is_empty(&self) -> bool {
         self.len() == 0
     }
@@ -397,5 +450,24 @@ mod tests {
         assert_eq!(reuse.get_or("x", &[], &[], || 1u32), 1);
         assert_eq!(reuse.get_or("x", &[], &[], || 2.5f64), 2.5);
         assert_eq!(reuse.get_or("x", &[], &[], || 2.0f64), 2.5);
+    }
+
+    #[test]
+    fn parsed_arrays_are_kept_while_the_bytes_are_unchanged() {
+        let path = Path::new("/w/kx.txt");
+        let reuse = Reuse::new();
+        let bytes: Arc<[u8]> = Arc::from(&b"1 2"[..]);
+        reuse.keep_parsed_numbers(path, &bytes, &Arc::new(vec![1.0, 2.0]));
+        assert_eq!(
+            reuse.parsed_numbers(path, &bytes.clone()).as_deref(),
+            Some(&vec![1.0, 2.0])
+        );
+        // Equal contents in another buffer are another version of the file.
+        let reread: Arc<[u8]> = Arc::from(&b"1 2"[..]);
+        assert!(reuse.parsed_numbers(path, &reread).is_none());
+        let changed: Arc<[u8]> = Arc::from(&b"1 2 3"[..]);
+        assert!(reuse.parsed_numbers(path, &changed).is_none());
+        reuse.forget_file(path);
+        assert!(reuse.parsed_numbers(path, &bytes).is_none());
     }
 }

@@ -4,13 +4,18 @@
 
 use rill_units::Dim;
 
+/// The axis of a spacing key.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Axis {
+    /// Along x (`dx`: one width per column).
     X,
+    /// Along y (`dy`: one width per row).
     Y,
+    /// Along z (`dz`: one thickness per layer or per cell).
     Z,
 }
 
+/// The kind of value a key holds.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum ValueKind {
     /// A string.
@@ -41,35 +46,49 @@ pub enum ValueKind {
     Control,
 }
 
+/// One key of a block: its name, value kind, whether required, and its meaning.
 #[derive(Debug, Clone, Copy)]
 pub struct KeyDef {
+    /// The key as written.
     pub name: &'static str,
+    /// What value it holds.
     pub kind: ValueKind,
+    /// Whether the block must give it.
     pub required: bool,
+    /// One sentence on what it means (hover, completion, missing-key messages).
     pub doc: &'static str,
 }
 
 /// Whether a block takes a string label after its name.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum LabelRule {
+    /// No label: `grid { ... }`.
     None,
+    /// A label may be given: `fluid "brine" { ... }`.
     Optional,
+    /// A label must be given: `well "P-1" { ... }`.
     Required,
 }
 
+/// One block: its name, label rule, keys, nested blocks and meaning.
 #[derive(Debug, Clone, Copy)]
 pub struct BlockDef {
+    /// The block name as written.
     pub name: &'static str,
+    /// Whether it takes a label.
     pub label: LabelRule,
     /// May appear more than once (then labels must differ).
     pub repeatable: bool,
+    /// Its keys.
     pub keys: &'static [KeyDef],
     /// Names of blocks allowed inside.
     pub children: &'static [&'static str],
+    /// One sentence on what the block is for.
     pub doc: &'static str,
 }
 
 impl BlockDef {
+    /// The definition of key `name`, if the block has it.
     pub fn key(&self, name: &str) -> Option<&'static KeyDef> {
         self.keys.iter().find(|k| k.name == name)
     }
@@ -84,12 +103,18 @@ const fn key(name: &'static str, kind: ValueKind, required: bool, doc: &'static 
     }
 }
 
+/// Values of a well's `role`.
 pub const ROLES: &[&str] = &["producer", "injector"];
+/// Values of a boundary's `side`.
 pub const SIDES: &[&str] = &["west", "east", "south", "north", "top", "bottom"];
+/// Values of the timeline's `kind`.
 pub const RUN_KINDS: &[&str] = &["transient", "steady"];
+/// Values of the report's `units`.
 pub const SYSTEMS: &[&str] = &["field", "metric", "si"];
+/// Modes of a well's `control`.
 pub const CONTROL_MODES: &[&str] = &["rate", "bhp"];
 
+/// The `case` block: the title of the case.
 pub static CASE: BlockDef = BlockDef {
     name: "case",
     label: LabelRule::Optional,
@@ -104,6 +129,7 @@ pub static CASE: BlockDef = BlockDef {
     doc: "Metadata of the case: its name (the label) and a title.",
 };
 
+/// The `grid` block: cell counts, sizes and depth.
 pub static GRID: BlockDef = BlockDef {
     name: "grid",
     label: LabelRule::None,
@@ -129,6 +155,7 @@ pub static GRID: BlockDef = BlockDef {
     doc: "The tensor-product grid: cell counts, widths and the depth of its top.",
 };
 
+/// The per-cell keys of `rock`, also allowed in its `patch` blocks.
 pub static ROCK_KEYS: &[KeyDef] = &[
     key(
         "porosity",
@@ -168,6 +195,7 @@ pub static ROCK_KEYS: &[KeyDef] = &[
     ),
 ];
 
+/// The `rock` block: porosity, permeability, compressibility.
 pub static ROCK: BlockDef = BlockDef {
     name: "rock",
     label: LabelRule::None,
@@ -177,6 +205,7 @@ pub static ROCK: BlockDef = BlockDef {
     doc: "Rock properties per cell: porosity, permeabilities and pore compressibility.",
 };
 
+/// A `patch` inside `rock`: override properties over a range of cells.
 pub static PATCH: BlockDef = BlockDef {
     name: "patch",
     label: LabelRule::None,
@@ -191,6 +220,7 @@ pub static PATCH: BlockDef = BlockDef {
     doc: "Overrides rock properties in a box of cells: `patch i = 12..14 k = 3 { kz = 0 md }`. Omitted axes mean all; patches apply in order.",
 };
 
+/// The `fluid` block: one slightly compressible liquid.
 pub static FLUID: BlockDef = BlockDef {
     name: "fluid",
     label: LabelRule::Optional,
@@ -231,6 +261,7 @@ pub static FLUID: BlockDef = BlockDef {
     doc: "The one slightly compressible liquid of the case.",
 };
 
+/// The `initial` block: the initial pressure.
 pub static INITIAL: BlockDef = BlockDef {
     name: "initial",
     label: LabelRule::None,
@@ -245,6 +276,7 @@ pub static INITIAL: BlockDef = BlockDef {
     doc: "The initial state.",
 };
 
+/// A `well` block.
 pub static WELL: BlockDef = BlockDef {
     name: "well",
     label: LabelRule::Required,
@@ -263,6 +295,7 @@ pub static WELL: BlockDef = BlockDef {
     doc: "A well with its completions, radius, skin and control.",
 };
 
+/// A `boundary` block: a side of the grid held at a pressure.
 pub static BOUNDARY: BlockDef = BlockDef {
     name: "boundary",
     label: LabelRule::Required,
@@ -280,6 +313,7 @@ pub static BOUNDARY: BlockDef = BlockDef {
     doc: "A constant-pressure boundary (an aquifer, a pressure-maintained edge) on one side of the grid.",
 };
 
+/// The `timeline` block: run length, time steps and events.
 pub static TIMELINE: BlockDef = BlockDef {
     name: "timeline",
     label: LabelRule::None,
@@ -326,6 +360,7 @@ pub static TIMELINE: BlockDef = BlockDef {
     doc: "How the run proceeds in time, and the events that change controls.",
 };
 
+/// An event `at TIME { ... }` inside `timeline`.
 pub static EVENT: BlockDef = BlockDef {
     name: "at",
     label: LabelRule::None,
@@ -335,6 +370,7 @@ pub static EVENT: BlockDef = BlockDef {
     doc: "An event: `at 180 day { well \"LE-1\" { control = bhp 1500 psi } }`.",
 };
 
+/// A `well` change inside an event.
 pub static EVENT_WELL: BlockDef = BlockDef {
     name: "well",
     label: LabelRule::Required,
@@ -357,6 +393,7 @@ pub static EVENT_WELL: BlockDef = BlockDef {
     doc: "A change to a well's control at the event time.",
 };
 
+/// The `report` block: how results are shown.
 pub static REPORT: BlockDef = BlockDef {
     name: "report",
     label: LabelRule::None,
@@ -376,6 +413,7 @@ pub static TOP_LEVEL: &[&BlockDef] = &[
     &CASE, &GRID, &ROCK, &FLUID, &INITIAL, &WELL, &BOUNDARY, &TIMELINE, &REPORT,
 ];
 
+/// The top-level block definition named `name`, if any.
 pub fn top_block(name: &str) -> Option<&'static BlockDef> {
     TOP_LEVEL.iter().copied().find(|b| b.name == name)
 }

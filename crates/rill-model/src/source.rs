@@ -1,7 +1,9 @@
 //! The analysis reads included decks and array files only through
 //! [`Source`], so that it does no I/O of its own: the command line reads
-//! from disk, the language server from its open documents and a cache, and
-//! tests from memory.
+//! from disk, the language server from its open documents and disk, and
+//! tests from memory. A source reads and lists; what an analysis keeps
+//! (parsed arrays, derived results) lives in [`crate::reuse::Reuse`],
+//! which the caller owns.
 
 use std::collections::HashMap;
 use std::path::{Component, Path, PathBuf};
@@ -10,7 +12,9 @@ use std::sync::Arc;
 /// Why a file could not be had.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum SourceError {
+    /// There is no file at the path.
     NotFound,
+    /// The file exists but could not be read (the reason).
     Unreadable(String),
     /// The path leaves the workspace and the user has not allowed that.
     OutsideWorkspace,
@@ -26,32 +30,15 @@ impl std::fmt::Display for SourceError {
     }
 }
 
+/// Where the analysis gets file contents: the only way it reads anything.
 pub trait Source {
     /// The bytes of the file at `path` (already resolved against the including file).
     fn read(&self, path: &Path) -> Result<Arc<[u8]>, SourceError>;
-
-    /// Numbers parsed earlier from exactly these `bytes` of an array file,
-    /// if the source keeps them. A source that hands out the same `Arc` for
-    /// an unchanged file can keep parsed arrays across analyses, so that a
-    /// million-cell deck re-checks without re-parsing its arrays.
-    fn parsed_numbers(&self, _path: &Path, _bytes: &Arc<[u8]>) -> Option<Arc<Vec<f64>>> {
-        None
-    }
-
-    /// Offer parsed numbers of `bytes` for [`Source::parsed_numbers`].
-    fn keep_parsed_numbers(&self, _path: &Path, _bytes: &Arc<[u8]>, _numbers: &Arc<Vec<f64>>) {}
 
     /// The entries of the folder `dir`, as (name, is a folder), for path
     /// completion in an editor; none by default. Confined like [`Source::read`].
     fn list(&self, _dir: &Path) -> Vec<(String, bool)> {
         Vec::new()
-    }
-
-    /// Where analyses through this source keep derived arrays and scans for
-    /// the next analysis (an editor re-checking on every keystroke). `None`
-    /// (the default) computes everything afresh, which suits a single check.
-    fn reuse(&self) -> Option<&crate::reuse::Reuse> {
-        None
     }
 }
 
@@ -91,13 +78,16 @@ pub struct MemorySource {
 }
 
 impl MemorySource {
+    /// An empty set of files.
     pub fn new() -> Self {
         Self::default()
     }
+    /// Add a file (builder style).
     pub fn with(mut self, path: impl AsRef<Path>, text: impl AsRef<[u8]>) -> Self {
         self.insert(path, text);
         self
     }
+    /// Add or replace a file.
     pub fn insert(&mut self, path: impl AsRef<Path>, text: impl AsRef<[u8]>) {
         self.files
             .insert(normalize(path.as_ref()), Arc::from(text.as_ref()));

@@ -3,20 +3,24 @@
 //! wrong (unknown, missing, wrong dimension, reservoir instead of surface
 //! volume, gauge where an absolute value is not meant).
 
-use crate::diagnostic::{Diagnostic, Location};
+use crate::diagnostic::{Code, Diagnostic, Location};
 use rill_syntax::{Span, UnitExpr};
 use rill_units::{Dim, Unit, UnitErrorKind};
 
 /// Collects diagnostics for one file while values are read.
 pub struct Reporter<'a> {
+    /// The file the values stand in (index in `Analysis::files`).
     pub file: usize,
+    /// Where the diagnostics go.
     pub diags: &'a mut Vec<Diagnostic>,
 }
 
 impl Reporter<'_> {
+    /// The place of `span` in this file.
     pub fn loc(&self, span: Span) -> Location {
         Location::new(self.file, span)
     }
+    /// Report a diagnostic.
     pub fn push(&mut self, d: Diagnostic) {
         self.diags.push(d);
     }
@@ -199,7 +203,7 @@ pub fn checked_unit(
             });
         }
         let mut d = Diagnostic::error(
-            "unit.missing",
+            Code::UnitMissing,
             r.loc(number_span),
             format!(
                 "`{key}` expects {}, found a bare number",
@@ -215,48 +219,7 @@ pub fn checked_unit(
     let parsed = match rill_units::parse(&unit.text) {
         Ok(u) => u,
         Err(e) => {
-            let span = Span::new(
-                unit.span.start + e.start,
-                unit.span.start + e.end.max(e.start + 1).min(unit.text.len()),
-            );
-            let span = if span.is_empty() { unit.span } else { span };
-            match &e.kind {
-                UnitErrorKind::Unknown { name, suggestions } => {
-                    let mut d = Diagnostic::error(
-                        "unit.unknown",
-                        r.loc(span),
-                        format!("unknown unit `{name}`"),
-                    );
-                    for s in suggestions {
-                        d = d.with_replacement(
-                            format!("replace `{name}` by `{s}`"),
-                            r.loc(span),
-                            s.clone(),
-                        );
-                    }
-                    if suggestions.is_empty() {
-                        d = d.with_note(format!("`{key}` expects {}", describe_expected(expected)));
-                    }
-                    r.push(d);
-                }
-                UnitErrorKind::GaugeInCompound { name } => {
-                    r.push(
-                        Diagnostic::error(
-                            "unit.gauge",
-                            r.loc(span),
-                            format!("the gauge unit `{name}` cannot be part of a compound unit"),
-                        )
-                        .with_note("gauge units add atmospheric pressure; use `psi` or `bar` inside compound units"),
-                    );
-                }
-                UnitErrorKind::Syntax { .. } => {
-                    r.push(Diagnostic::error(
-                        "unit.unknown",
-                        r.loc(span),
-                        format!("malformed unit `{}`: {e}", unit.text),
-                    ));
-                }
-            }
+            report_unit_error(r, unit, &e, expected, key);
             return None;
         }
     };
@@ -265,7 +228,7 @@ pub fn checked_unit(
             let abs = if unit.text == "barg" { "bar" } else { "psi" };
             r.push(
                 Diagnostic::error(
-                    "unit.gauge",
+                    Code::UnitGauge,
                     r.loc(unit.span),
                     format!("`{key}` is not an absolute pressure here, so the gauge unit `{}` is refused", unit.text),
                 )
@@ -277,49 +240,12 @@ pub fn checked_unit(
         return Some(parsed);
     }
     if collapse(parsed.dim) == collapse(expected) {
-        let mut d = Diagnostic::error(
-            "unit.volume-kind",
-            r.loc(unit.span),
-            volume_kind_message(key, expected, parsed.dim, &unit.text),
-        );
-        if parsed.dim.l == -expected.l
-            && parsed.dim.s == -expected.s
-            && parsed.dim.t == expected.t
-            && parsed.dim.m == expected.m
-        {
-            // Upside down: offer the reciprocal with the right unit.
-            if let Some(right) = rill_units::accepted_units(expected).into_iter().next() {
-                if value != 0.0 {
-                    let flipped = short_number(1.0 / value);
-                    d = d.with_replacement(
-                        format!("write the reciprocal: `{flipped} {right}`"),
-                        r.loc(number_span),
-                        format!("{flipped} {right}"),
-                    );
-                }
-            }
-        }
-        let to_surface = expected.s > parsed.dim.s
-            || (expected.s != 0
-                && expected.s.signum() == parsed.dim.s.signum()
-                && expected.s.abs() > parsed.dim.s.abs());
-        if let Some(fixed) = swap_volume_names(&unit.text, to_surface) {
-            if rill_units::parse(&fixed)
-                .map(|u| u.dim == expected)
-                .unwrap_or(false)
-            {
-                d = d.with_replacement(
-                    format!("replace `{}` by `{fixed}`", unit.text),
-                    r.loc(unit.span),
-                    fixed,
-                );
-            }
-        }
+        let d = volume_kind_diagnostic(r, value, number_span, unit, parsed.dim, expected, key);
         r.push(d);
         return None;
     }
     let mut d = Diagnostic::error(
-        "unit.dimension",
+        Code::UnitDimension,
         r.loc(unit.span),
         format!(
             "`{key}` expects {}, found `{}`, which is {}",
@@ -337,6 +263,112 @@ pub fn checked_unit(
     }
     r.push(d);
     None
+}
+
+/// Report a unit that does not parse: unknown (with suggestions), a gauge
+/// unit inside a compound, or malformed.
+fn report_unit_error(
+    r: &mut Reporter,
+    unit: &UnitExpr,
+    e: &rill_units::UnitError,
+    expected: Dim,
+    key: &str,
+) {
+    let span = Span::new(
+        unit.span.start + e.start,
+        unit.span.start + e.end.max(e.start + 1).min(unit.text.len()),
+    );
+    let span = if span.is_empty() { unit.span } else { span };
+    match &e.kind {
+        UnitErrorKind::Unknown { name, suggestions } => {
+            let mut d = Diagnostic::error(
+                Code::UnitUnknown,
+                r.loc(span),
+                format!("unknown unit `{name}`"),
+            );
+            for s in suggestions {
+                d = d.with_replacement(
+                    format!("replace `{name}` by `{s}`"),
+                    r.loc(span),
+                    s.clone(),
+                );
+            }
+            if suggestions.is_empty() {
+                d = d.with_note(format!("`{key}` expects {}", describe_expected(expected)));
+            }
+            r.push(d);
+        }
+        UnitErrorKind::GaugeInCompound { name } => {
+            r.push(
+                Diagnostic::error(
+                    Code::UnitGauge,
+                    r.loc(span),
+                    format!("the gauge unit `{name}` cannot be part of a compound unit"),
+                )
+                .with_note("gauge units add atmospheric pressure; use `psi` or `bar` inside compound units"),
+            );
+        }
+        UnitErrorKind::Syntax { .. } => {
+            r.push(Diagnostic::error(
+                Code::UnitUnknown,
+                r.loc(span),
+                format!("malformed unit `{}`: {e}", unit.text),
+            ));
+        }
+    }
+}
+
+/// Reservoir volume where surface volume is expected, or the reverse, with
+/// the fixes that apply: the reciprocal of an upside-down unit, the unit
+/// with its volume names swapped.
+fn volume_kind_diagnostic(
+    r: &Reporter,
+    value: f64,
+    number_span: Span,
+    unit: &UnitExpr,
+    found: Dim,
+    expected: Dim,
+    key: &str,
+) -> Diagnostic {
+    let mut d = Diagnostic::error(
+        Code::UnitVolumeKind,
+        r.loc(unit.span),
+        volume_kind_message(key, expected, found, &unit.text),
+    );
+    if found.l == -expected.l
+        && found.s == -expected.s
+        && found.t == expected.t
+        && found.m == expected.m
+    {
+        // Upside down: offer the reciprocal with the right unit.
+        if let Some(right) = rill_units::accepted_units(expected).into_iter().next() {
+            if value != 0.0 {
+                let flipped = short_number(1.0 / value);
+                d = d.with_replacement(
+                    format!("write the reciprocal: `{flipped} {right}`"),
+                    r.loc(number_span),
+                    format!("{flipped} {right}"),
+                );
+            }
+        }
+    }
+    let to_surface = expected.s > found.s
+        || (expected.s != 0
+            && expected.s.signum() == found.s.signum()
+            && expected.s.abs() > found.s.abs());
+    if let Some(fixed) = swap_volume_names(&unit.text, to_surface) {
+        if rill_units::parse(&fixed)
+            .map(|u| u.dim == expected)
+            .unwrap_or(false)
+        {
+            d = d.with_replacement(
+                format!("replace `{}` by `{fixed}`", unit.text),
+                r.loc(unit.span),
+                fixed,
+            );
+        }
+    }
+    d
 }
 
 fn volume_kind_message(key: &str, expected: Dim, found: Dim, text: &str) -> String {

@@ -3,7 +3,7 @@
 //! line, `# expect: CODE SEVERITY LINE:COL`) and a clean neighbour that
 //! does not.
 
-use rill_model::{analyze_text, diagnostic::CODES, Analysis, MemorySource};
+use rill_model::{analyze_text, Analysis, Code, MemorySource};
 use std::path::{Path, PathBuf};
 
 fn fixtures() -> PathBuf {
@@ -26,8 +26,8 @@ fn line_col(text: &str, offset: usize) -> (usize, usize) {
 
 #[test]
 fn every_code_has_a_fixture_pair() {
-    for code in CODES {
-        let dir = fixtures().join(code);
+    for code in Code::ALL {
+        let dir = fixtures().join(code.as_str());
         assert!(
             dir.join("broken.rill").is_file(),
             "missing tests/fixtures/{code}/broken.rill"
@@ -42,8 +42,8 @@ fn every_code_has_a_fixture_pair() {
 #[test]
 fn broken_decks_trigger_their_code_at_the_expected_place() {
     let mut failures = Vec::new();
-    for code in CODES {
-        let path = fixtures().join(code).join("broken.rill");
+    for code in Code::ALL {
+        let path = fixtures().join(code.as_str()).join("broken.rill");
         let (text, analysis) = check(&path);
         let header = text.lines().next().unwrap_or("");
         let parts: Vec<&str> = header
@@ -53,7 +53,7 @@ fn broken_decks_trigger_their_code_at_the_expected_place() {
         assert_eq!(parts.len(), 3, "bad header in {}", path.display());
         assert_eq!(
             parts[0],
-            *code,
+            code.as_str(),
             "header names another code in {}",
             path.display()
         );
@@ -96,8 +96,8 @@ fn broken_decks_trigger_their_code_at_the_expected_place() {
 #[test]
 fn clean_neighbours_do_not_trigger_their_code() {
     let mut failures = Vec::new();
-    for code in CODES {
-        let path = fixtures().join(code).join("clean.rill");
+    for code in Code::ALL {
+        let path = fixtures().join(code.as_str()).join("clean.rill");
         let (_, analysis) = check(&path);
         if analysis.diagnostics.iter().any(|d| d.code == *code) {
             failures.push(format!(

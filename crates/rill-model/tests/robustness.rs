@@ -9,10 +9,8 @@
 
 use proptest::prelude::*;
 use rill_model::reuse::Reuse;
-use rill_model::{analyze_text, MemorySource, Source, SourceError};
-use std::collections::HashMap;
+use rill_model::{analyze_text, analyze_text_with, MemorySource};
 use std::path::{Path, PathBuf};
-use std::sync::{Arc, Mutex};
 
 fn root() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("../..")
@@ -57,47 +55,6 @@ fn source_for(path: &Path) -> MemorySource {
         }
     }
     s
-}
-
-/// Numbers of an array file with the bytes they were parsed from.
-type ParsedArray = (Arc<[u8]>, Arc<Vec<f64>>);
-
-/// Files in memory that keep parsed arrays and derived results between
-/// analyses, as the language server's source does.
-struct KeepingSource {
-    files: MemorySource,
-    parsed: Mutex<HashMap<PathBuf, ParsedArray>>,
-    reuse: Reuse,
-}
-
-impl KeepingSource {
-    fn new(files: MemorySource) -> Self {
-        KeepingSource {
-            files,
-            parsed: Mutex::new(HashMap::new()),
-            reuse: Reuse::new(),
-        }
-    }
-}
-
-impl Source for KeepingSource {
-    fn read(&self, path: &Path) -> Result<Arc<[u8]>, SourceError> {
-        self.files.read(path)
-    }
-    fn parsed_numbers(&self, path: &Path, bytes: &Arc<[u8]>) -> Option<Arc<Vec<f64>>> {
-        let parsed = self.parsed.lock().unwrap();
-        let (held, numbers) = parsed.get(path)?;
-        Arc::ptr_eq(held, bytes).then(|| numbers.clone())
-    }
-    fn keep_parsed_numbers(&self, path: &Path, bytes: &Arc<[u8]>, numbers: &Arc<Vec<f64>>) {
-        self.parsed
-            .lock()
-            .unwrap()
-            .insert(path.to_path_buf(), (bytes.clone(), numbers.clone()));
-    }
-    fn reuse(&self) -> Option<&Reuse> {
-        Some(&self.reuse)
-    }
 }
 
 /// Spans must lie on character boundaries inside their file.
@@ -213,7 +170,7 @@ proptest! {
         assert_spans_sane(&a);
     }
 
-    /// A deck edited step by step, as typed, analysed through a source that
+    /// A deck edited step by step, as typed, analysed with a cache that
     /// keeps results: each version's case and diagnostics equal those of a
     /// fresh analysis. Spare buffers come in between now and then.
     #[test]
@@ -224,20 +181,20 @@ proptest! {
         let decks = decks();
         let (path, text) = &decks[pick % decks.len()];
         let files = source_for(path);
-        let keeping = KeepingSource::new(files.clone());
+        let cache = Reuse::new();
         let mut t = text.clone();
-        let first = analyze_text(path, &t, &keeping);
+        let first = analyze_text_with(path, &t, &files, &cache);
         if let Some(case) = &first.case {
-            keeping.reuse.prepare(case.grid.cell_count(), 2);
+            cache.prepare(case.grid.cell_count(), 2);
         }
         for (m, prepare) in &steps {
             t = apply(&t, m);
-            let kept = analyze_text(path, &t, &keeping);
+            let kept = analyze_text_with(path, &t, &files, &cache);
             let fresh = analyze_text(path, &t, &files);
             prop_assert_eq!(&kept.diagnostics, &fresh.diagnostics);
             prop_assert_eq!(&kept.case, &fresh.case);
             if let (true, Some(case)) = (*prepare, &kept.case) {
-                keeping.reuse.prepare(case.grid.cell_count(), 2);
+                cache.prepare(case.grid.cell_count(), 2);
             }
         }
     }

@@ -1,6 +1,6 @@
 //! Re-check latency: analyse a deck once (reading and parsing its arrays),
-//! then again N times through the same `DiskSource`, as the language server
-//! does after each edit of the main file. Prints the first time and the
+//! then again N times through the same `DiskSource` and cache (`Reuse`), as
+//! the language server does after each edit of the main file. Prints the first time and the
 //! median and worst of the re-checks (`RECHECK_RAW=1`: each re-check too;
 //! `RECHECK_DROP=1`: drop the first analysis before re-checking, unlike the
 //! server, which keeps the previous analysis alive for hover;
@@ -14,6 +14,7 @@
 //!
 //! usage: cargo run --release -p rill-workspace --example recheck -- DECK [N]
 
+use rill_model::Reuse;
 use rill_workspace::DiskSource;
 
 // The same allocator as the `rill` binary, so the timings match the server.
@@ -41,18 +42,23 @@ fn main() {
             std::process::exit(2);
         }
     };
-    let source = if std::env::var_os("RECHECK_FRESH").is_some() {
-        DiskSource::unconfined()
-    } else {
-        DiskSource::unconfined().with_reuse()
+    let source = DiskSource::unconfined();
+    let fresh = std::env::var_os("RECHECK_FRESH").is_some();
+    let kept = Reuse::new();
+    let check = |text: &str| {
+        if fresh {
+            rill_model::analyze_text(&path, text, &source)
+        } else {
+            rill_model::analyze_text_with(&path, text, &source, &kept)
+        }
     };
     let t0 = Instant::now();
-    let first = rill_model::analyze_text(&path, &text, &source);
+    let first = check(&text);
     let first_ms = t0.elapsed().as_secs_f64() * 1e3;
     let first_count = first.diagnostics.len();
     if std::env::var_os("RECHECK_NO_PREPARE").is_none() {
-        if let (Some(reuse), Some(case)) = (rill_model::Source::reuse(&source), &first.case) {
-            reuse.prepare(case.grid.cell_count(), 2);
+        if let (false, Some(case)) = (fresh, &first.case) {
+            kept.prepare(case.grid.cell_count(), 2);
         }
     }
     if std::env::var_os("RECHECK_DROP").is_some() {
@@ -76,7 +82,7 @@ fn main() {
             format!("{text}#{}\n", "x".repeat(i + 1))
         };
         let t = Instant::now();
-        let a = rill_model::analyze_text(&path, &edited, &source);
+        let a = check(&edited);
         times.push(t.elapsed().as_secs_f64() * 1e3);
         if std::env::var_os("RECHECK_RAW").is_some() {
             eprint!("{:.0} ", times[times.len() - 1]);

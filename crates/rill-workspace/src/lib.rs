@@ -1,14 +1,17 @@
 //! `rill-workspace` owns the file system side of the analysis: it reads
 //! decks, includes and array files from disk for `rill-model` through its
-//! `Source` trait, refuses paths outside the workspace folders unless they
-//! are allowed, and caches file contents by modification time and size so
-//! that re-checking a deck does not re-read large unchanged arrays; with
-//! [`DiskSource::with_reuse`] it also keeps the arrays and scans an
-//! analysis derived from them (`rill_model::reuse`) for the next one.
+//! `Source` trait, lists folders for path completion, refuses paths outside
+//! the workspace folders unless they are allowed, and caches file contents
+//! by modification time and size, so that re-checking a deck does not
+//! re-read large unchanged arrays and hands out the same bytes (which is
+//! what lets the caller's `rill_model::Reuse` keep their parsed numbers).
+//! Parsed arrays and derived results are not kept here: they live in the
+//! `Reuse` that the caller owns and passes to the analysis.
 //!
 //! It must never interpret file contents, and never write any file.
 
-use rill_model::reuse::Reuse;
+#![warn(missing_docs)]
+
 use rill_model::source::{normalize, Source, SourceError};
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
@@ -22,9 +25,6 @@ struct Cached {
     bytes: Arc<[u8]>,
 }
 
-/// Numbers of an array file with the bytes they were parsed from.
-type ParsedArray = (Arc<[u8]>, Arc<Vec<f64>>);
-
 /// Files on disk, optionally confined to a set of root folders.
 #[derive(Debug, Default)]
 pub struct DiskSource {
@@ -35,10 +35,6 @@ pub struct DiskSource {
     cache: Mutex<HashMap<PathBuf, Cached>>,
     /// Editor buffers that override the disk contents.
     overlays: Mutex<HashMap<PathBuf, Arc<[u8]>>>,
-    /// Parsed array files, valid while the cached bytes are the same `Arc`.
-    parsed: Mutex<HashMap<PathBuf, ParsedArray>>,
-    /// Derived arrays and scans kept between analyses (an editor's re-checks).
-    reuse: Option<Reuse>,
 }
 
 impl DiskSource {
@@ -57,14 +53,6 @@ impl DiskSource {
         }
     }
 
-    /// Keep what each analysis derives from the arrays for the next one:
-    /// for a language server, which re-checks on every edit. A single
-    /// check has no next analysis and does without.
-    pub fn with_reuse(mut self) -> Self {
-        self.reuse = Some(Reuse::new());
-        self
-    }
-
     /// Use `text` for `path` instead of the file on disk (an open editor buffer).
     pub fn set_overlay(&self, path: &Path, text: &str) {
         if let Ok(mut o) = self.overlays.lock() {
@@ -72,6 +60,7 @@ impl DiskSource {
         }
     }
 
+    /// Read `path` from disk again (its editor buffer was closed).
     pub fn clear_overlay(&self, path: &Path) {
         if let Ok(mut o) = self.overlays.lock() {
             o.remove(&normalize(path));
@@ -83,18 +72,12 @@ impl DiskSource {
         if let Ok(mut c) = self.cache.lock() {
             c.remove(&normalize(path));
         }
-        if let Ok(mut p) = self.parsed.lock() {
-            p.remove(&normalize(path));
-        }
     }
 
-    /// Drop cached file contents and parsed arrays of files not read for a while.
+    /// Drop the cached file contents.
     pub fn clear_cache(&self) {
         if let Ok(mut c) = self.cache.lock() {
             c.clear();
-        }
-        if let Ok(mut p) = self.parsed.lock() {
-            p.clear();
         }
     }
 
@@ -152,22 +135,6 @@ impl Source for DiskSource {
             );
         }
         Ok(bytes)
-    }
-
-    fn parsed_numbers(&self, path: &Path, bytes: &Arc<[u8]>) -> Option<Arc<Vec<f64>>> {
-        let parsed = self.parsed.lock().ok()?;
-        let (held, numbers) = parsed.get(&normalize(path))?;
-        Arc::ptr_eq(held, bytes).then(|| numbers.clone())
-    }
-
-    fn keep_parsed_numbers(&self, path: &Path, bytes: &Arc<[u8]>, numbers: &Arc<Vec<f64>>) {
-        if let Ok(mut parsed) = self.parsed.lock() {
-            parsed.insert(normalize(path), (bytes.clone(), numbers.clone()));
-        }
-    }
-
-    fn reuse(&self) -> Option<&Reuse> {
-        self.reuse.as_ref()
     }
 
     fn list(&self, dir: &Path) -> Vec<(String, bool)> {
@@ -247,20 +214,19 @@ mod tests {
     }
 
     #[test]
-    fn parsed_arrays_are_kept_while_the_bytes_are_unchanged() {
+    fn an_unchanged_file_gives_the_same_bytes() {
+        // The caller's `Reuse` keeps parsed arrays by the identity of these bytes.
         let dir = tempfile::tempdir().unwrap();
         let p = dir.path().join("kx.txt");
         std::fs::write(&p, "1 2").unwrap();
         let s = DiskSource::unconfined();
-        let bytes = s.read(&p).unwrap();
-        s.keep_parsed_numbers(&p, &bytes, &Arc::new(vec![1.0, 2.0]));
-        assert_eq!(
-            s.parsed_numbers(&p, &s.read(&p).unwrap()).as_deref(),
-            Some(&vec![1.0, 2.0])
-        );
+        let first = s.read(&p).unwrap();
+        assert!(Arc::ptr_eq(&first, &s.read(&p).unwrap()));
         std::fs::write(&p, "1 2 3").unwrap();
-        let changed = s.read(&p).unwrap();
-        assert!(s.parsed_numbers(&p, &changed).is_none());
+        assert!(!Arc::ptr_eq(&first, &s.read(&p).unwrap()));
+        s.invalidate(&p);
+        let reread = s.read(&p).unwrap();
+        assert_eq!(&*reread, b"1 2 3");
     }
 
     #[test]

@@ -1,10 +1,10 @@
-//! Analyses through a source that keeps derived arrays between analyses
-//! (`DiskSource::with_reuse`, as the language server uses) must give exactly
+//! Analyses that keep parsed and derived arrays between analyses (a
+//! `Reuse` passed to `analyze_text_with`, as the language server does) must give exactly
 //! what a fresh analysis gives, edit after edit, including edits of the
 //! array files on disk; and edits that leave the rock alone must not
 //! recompute its arrays.
 
-use rill_model::{analyze_text, Analysis};
+use rill_model::{analyze_text, analyze_text_with, Analysis, Reuse};
 use rill_workspace::DiskSource;
 use std::path::Path;
 use std::sync::Arc;
@@ -129,7 +129,8 @@ fn kept_arrays_give_the_same_analysis_as_a_fresh_one_edit_after_edit() {
     let path = dir.path().join("block.rill");
     let mut seed = 0;
     write_arrays(dir.path(), seed);
-    let kept = DiskSource::unconfined().with_reuse();
+    let kept = DiskSource::unconfined();
+    let cache = Reuse::new();
     let mut steps = Steps(0x9e37_79b9_7f4a_7c15);
     let mut codes = std::collections::BTreeSet::new();
     for step in 0..400 {
@@ -144,9 +145,7 @@ fn kept_arrays_give_the_same_analysis_as_a_fresh_one_edit_after_edit() {
         if steps.pick(4) == 0 {
             // Spare buffers, as the server prepares them (flags all true,
             // values zero): every array written into one must be whole.
-            if let Some(reuse) = rill_model::Source::reuse(&kept) {
-                reuse.prepare(6 * 5 * 3, 2);
-            }
+            cache.prepare(6 * 5 * 3, 2);
         }
         let text = deck(
             ROCKS[steps.pick(ROCKS.len())],
@@ -154,10 +153,10 @@ fn kept_arrays_give_the_same_analysis_as_a_fresh_one_edit_after_edit() {
             INITIALS[steps.pick(INITIALS.len())],
             EXTRAS[steps.pick(EXTRAS.len())],
         );
-        let a = analyze_text(&path, &text, &kept);
+        let a = analyze_text_with(&path, &text, &kept, &cache);
         let b = analyze_text(&path, &text, &DiskSource::unconfined());
         same(&a, &b, &format!("step {step} (array seed {seed})"));
-        codes.extend(a.diagnostics.iter().map(|d| d.code));
+        codes.extend(a.diagnostics.iter().map(|d| d.code.as_str()));
     }
     // The variants reach the checks whose scans are kept.
     for code in [
@@ -179,12 +178,18 @@ fn an_edit_outside_the_rock_reuses_every_per_cell_array() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("block.rill");
     write_arrays(dir.path(), 0);
-    let kept = DiskSource::unconfined().with_reuse();
-    let first = analyze_text(&path, &deck(ROCKS[5], DZS[0], INITIALS[1], ""), &kept);
+    let kept = DiskSource::unconfined();
+    let cache = Reuse::new();
+    let first = analyze_text_with(
+        &path,
+        &deck(ROCKS[5], DZS[0], INITIALS[1], ""),
+        &kept,
+        &cache,
+    );
     // A comment and a new well: nothing that the rock arrays depend on.
     let edited =
         deck(ROCKS[5], DZS[0], INITIALS[1], EXTRAS[2]).replace("# Fictional", "# A fictional");
-    let second = analyze_text(&path, &edited, &kept);
+    let second = analyze_text_with(&path, &edited, &kept, &cache);
     let (a, b) = (first.case.unwrap(), second.case.unwrap());
     for (what, x, y) in [
         ("porosity", &a.rock.porosity, &b.rock.porosity),

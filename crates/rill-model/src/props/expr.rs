@@ -8,7 +8,7 @@
 //! factor product neither recurses nor overflows the stack.
 
 use super::{atom_words, cells_by_index, cells_from, Field, Shape};
-use crate::diagnostic::Diagnostic;
+use crate::diagnostic::{Code, Diagnostic};
 use crate::reuse::{kept, Reuse};
 use crate::values::{checked_unit, describe_expected, describe_found, Gauge, Reporter};
 use rill_syntax::{Atom, AtomKind, ExprError, Op, Span, Value};
@@ -20,20 +20,39 @@ use std::sync::Arc;
 pub enum Expr {
     /// A number with its SI value and dimension; `bare` when written without a unit.
     Const {
+        /// The value in SI.
         si: f64,
+        /// Its dimension.
         dim: Dim,
+        /// Written without a unit.
         bare: bool,
+        /// Where it is written.
         span: Span,
     },
     /// Values given directly (`layers [...]`, `file "..."`).
-    Data { field: Field, dim: Dim, span: Span },
+    Data {
+        /// The values, SI.
+        field: Field,
+        /// Their dimension.
+        dim: Dim,
+        /// Where they are written.
+        span: Span,
+    },
     /// Another property of the same block.
-    Ref { name: String, span: Span },
+    Ref {
+        /// The property named.
+        name: String,
+        /// Where the name is written.
+        span: Span,
+    },
     /// Operands of one precedence level applied left to right: a product
     /// `a * b / c` of leaves, or a sum `a + b - c` of leaves and products.
     Chain {
+        /// The first operand.
         first: Box<Expr>,
+        /// Each further operator with its operand, in order.
         rest: Vec<(Op, Expr)>,
+        /// The whole chain.
         span: Span,
     },
 }
@@ -83,7 +102,7 @@ impl Operands<'_> {
         let in_arithmetic = atoms.len() > 1;
         if in_arithmetic && !self.arithmetic {
             r.push(Diagnostic::error(
-                "deck.value",
+                Code::DeckExpression,
                 r.loc(first.span),
                 format!(
                     "`{}` takes a single value here, not an expression",
@@ -111,7 +130,7 @@ impl Operands<'_> {
             }
             Some(Err(ExprError::MissingOperand { at })) => {
                 r.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckExpression,
                     r.loc(*at),
                     format!("`{}` expects a value after the operator", self.key),
                 ));
@@ -135,7 +154,7 @@ impl Operands<'_> {
 
     fn extra(&self, r: &mut Reporter, extra: &Atom) {
         r.push(Diagnostic::error(
-            "deck.value",
+            Code::DeckValue,
             r.loc(extra.span),
             format!(
                 "unexpected {} after the value of `{}`",
@@ -191,7 +210,7 @@ impl Operands<'_> {
             }),
             other => {
                 r.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     r.loc(atom.span),
                     format!(
                         "`{}` expects {}, found {}",
@@ -251,7 +270,7 @@ pub fn infer_dim(
                 };
                 let Some(d) = product else {
                     r.push(Diagnostic::error(
-                        "unit.dimension",
+                        Code::UnitDimension,
                         r.loc(so_far),
                         format!(
                             "the unit power of this expression in `{key}` is out of range: \
@@ -301,7 +320,7 @@ fn add_mismatch(
     };
     if let Some(span) = bare {
         let mut d = Diagnostic::error(
-            "unit.missing",
+            Code::UnitMissing,
             r.loc(span),
             format!(
                 "a bare number is added to {} in `{key}`; give it a unit",
@@ -312,7 +331,7 @@ fn add_mismatch(
         r.push(d);
     } else {
         r.push(Diagnostic::error(
-            "unit.dimension",
+            Code::UnitDimension,
             r.loc(span),
             format!(
                 "cannot add {} and {} in `{key}`",
@@ -484,7 +503,7 @@ pub fn check_result_dim(r: &mut Reporter, e: &Expr, found: Dim, expected: Dim, k
         return false;
     }
     r.push(Diagnostic::error(
-        "unit.dimension",
+        Code::UnitDimension,
         r.loc(e.span()),
         format!(
             "`{key}` expects {}, but this expression is {}",

@@ -11,7 +11,7 @@ use expr::Operands;
 pub use expr::{check_result_dim, evaluate, evaluate_kept, infer_dim, Expr};
 
 use crate::arrays;
-use crate::diagnostic::{Diagnostic, Location};
+use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::reuse::{kept, Reuse};
 use crate::source::{resolve, Source};
 use crate::values::{checked_unit, Gauge, Reporter};
@@ -19,13 +19,13 @@ use crate::{CellValues, FileInfo};
 use rayon::prelude::*;
 use rill_syntax::{Atom, AtomKind, Span, UnitExpr, Value};
 use rill_units::Dim;
-use std::collections::HashMap;
 use std::path::PathBuf;
 use std::sync::Arc;
 
 /// Values of a property over the grid, SI.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Field {
+    /// The same value in every cell.
     Uniform(f64),
     /// One per layer (NZ).
     Layers(Vec<f64>),
@@ -38,15 +38,20 @@ pub enum Field {
 /// Grid shape needed to count and broadcast values.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Shape {
+    /// Columns in x.
     pub nx: usize,
+    /// Rows in y.
     pub ny: usize,
+    /// Layers in z.
     pub nz: usize,
 }
 
 impl Shape {
+    /// Number of cells.
     pub fn cells(&self) -> usize {
         self.nx * self.ny * self.nz
     }
+    /// Number of columns (NX*NY).
     pub fn columns(&self) -> usize {
         self.nx * self.ny
     }
@@ -101,6 +106,7 @@ impl Field {
         }
     }
 
+    /// One value per cell, copied out.
     pub fn to_cells(&self, shape: Shape) -> Vec<f64> {
         match self {
             Field::Cells(v) => v.as_ref().clone(),
@@ -114,8 +120,11 @@ impl Field {
 pub struct Forms {
     /// `layers [...]` and, for `dz`, a bare list meaning one per layer.
     pub layers: bool,
+    /// A bare list with one value per cell, and `cells [...]`.
     pub cells: bool,
+    /// `columns [...]`: one value per column.
     pub columns: bool,
+    /// `file "name"`: values from an array file.
     pub file: bool,
     /// Arithmetic and references to other properties.
     pub arithmetic: bool,
@@ -125,6 +134,7 @@ pub struct Forms {
     pub file_columns: bool,
 }
 
+/// What a bare `[...]` list means for a key.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum BareList {
     /// One per layer (NZ), for `dz`.
@@ -136,6 +146,7 @@ pub enum BareList {
 }
 
 impl Forms {
+    /// Rock properties: a value, per layer, per cell or from a file, with arithmetic.
     pub const PROPERTY: Forms = Forms {
         layers: true,
         cells: true,
@@ -145,6 +156,7 @@ impl Forms {
         bare_list: None,
         file_columns: false,
     };
+    /// `dz`: a value, per layer, per cell or from a file; no arithmetic.
     pub const THICKNESS: Forms = Forms {
         layers: true,
         cells: true,
@@ -154,6 +166,7 @@ impl Forms {
         bare_list: Some(BareList::Layers),
         file_columns: false,
     };
+    /// `top`: a value, per column or from a file.
     pub const TOP: Forms = Forms {
         layers: false,
         cells: false,
@@ -163,6 +176,7 @@ impl Forms {
         bare_list: None,
         file_columns: true,
     };
+    /// Initial pressure: a value, per layer, per cell or from a file; no arithmetic.
     pub const PRESSURE: Forms = Forms {
         layers: true,
         cells: true,
@@ -175,12 +189,16 @@ impl Forms {
 }
 
 /// Shared state for reading property values: the grid shape, the file
-/// source, and a cache so that an array file used twice is read once.
+/// source, and the analysis' cache (an array file used twice is parsed once).
 pub struct PropReader<'s> {
+    /// The grid shape values are counted against.
     pub shape: Shape,
+    /// Where array files are read.
     pub source: &'s dyn Source,
+    /// The deck the values stand in; array file names are relative to it.
     pub deck_path: PathBuf,
-    pub cache: &'s mut HashMap<PathBuf, Arc<Vec<f64>>>,
+    /// The analysis' cache: parsed array files and kept results.
+    pub cache: &'s Reuse,
     /// The analysis' file list; array files read are appended so that
     /// diagnostics can point into them.
     pub files: &'s mut Vec<FileInfo>,
@@ -242,7 +260,7 @@ fn list_values(
             },
             _ => {
                 r.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     r.loc(item.span),
                     format!(
                         "`{key}` expects numbers in this list, found {}",
@@ -302,7 +320,7 @@ fn count_check(
     }
     r.push(
         Diagnostic::error(
-            "grid.array-length",
+            Code::GridArrayLength,
             r.loc(span),
             format!(
                 "`{key} = {}` needs {expected} values ({what}), found {found}",
@@ -339,7 +357,7 @@ fn refuse_form(r: &mut Reporter, form: &str, forms: Forms, span: Span, key: &str
         accepted.push("`file \"...\"`");
     }
     r.push(Diagnostic::error(
-        "deck.value",
+        Code::DeckValue,
         r.loc(span),
         format!(
             "`{key}` does not take `{form}`; it takes {}",
@@ -429,7 +447,7 @@ impl PropReader<'_> {
         }
         let Some(arg) = atoms.get(1) else {
             r.push(Diagnostic::error(
-                "deck.value",
+                Code::DeckValue,
                 r.loc(atoms[0].span),
                 format!(
                     "`{form}` must be followed by {}",
@@ -444,7 +462,7 @@ impl PropReader<'_> {
         };
         if let Some(extra) = atoms.get(2) {
             r.push(Diagnostic::error(
-                "deck.value",
+                Code::DeckValue,
                 r.loc(extra.span),
                 format!("unexpected {} after `{form} ...`", atom_words(&extra.kind)),
             ));
@@ -473,7 +491,7 @@ impl PropReader<'_> {
             }
             _ => {
                 r.push(Diagnostic::error(
-                    "deck.value",
+                    Code::DeckValue,
                     r.loc(arg.span),
                     format!(
                         "`{form}` must be followed by {}, found {}",
@@ -515,7 +533,7 @@ impl PropReader<'_> {
         let raw = self.load_file(r, name, span)?;
         if raw.len() != want {
             r.push(Diagnostic::error(
-                "grid.array-length",
+                Code::GridArrayLength,
                 r.loc(span),
                 format!(
                     "`{key}` file \"{name}\" needs {want} values ({what}), found {}",
@@ -529,12 +547,12 @@ impl PropReader<'_> {
         }
         let params = [unit.factor.to_bits(), u64::from(unit.gauge)];
         Some(kept(
-            self.source.reuse(),
+            Some(self.cache),
             "array file in SI",
             std::slice::from_ref(&raw),
             &params,
             || {
-                let reuse = self.source.reuse();
+                let reuse = Some(self.cache);
                 Arc::new(cells_from(raw.len(), reuse, |start, out| {
                     for (o, v) in out.iter_mut().zip(&raw[start..]) {
                         *o = unit.to_si(*v);
@@ -546,14 +564,11 @@ impl PropReader<'_> {
 
     fn load_file(&mut self, r: &mut Reporter, name: &str, span: Span) -> Option<Arc<Vec<f64>>> {
         let path = resolve(&self.deck_path, name);
-        if let Some(v) = self.cache.get(&path) {
-            return Some(v.clone());
-        }
         let bytes = match self.source.read(&path) {
             Ok(b) => b,
             Err(e) => {
                 r.push(Diagnostic::error(
-                    "deck.include",
+                    Code::DeckInclude,
                     r.loc(span),
                     format!(
                         "array file \"{name}\" ({}) cannot be used: {e}",
@@ -563,8 +578,7 @@ impl PropReader<'_> {
                 return None;
             }
         };
-        if let Some(values) = self.source.parsed_numbers(&path, &bytes) {
-            self.cache.insert(path, values.clone());
+        if let Some(values) = self.cache.parsed_numbers(&path, &bytes) {
             return Some(values);
         }
         let (values, bad) = arrays::parse_numbers(&bytes);
@@ -578,7 +592,7 @@ impl PropReader<'_> {
             for b in &bad {
                 r.push(
                     Diagnostic::error(
-                        "syntax.unexpected",
+                        Code::SyntaxUnexpected,
                         Location {
                             file: file_index,
                             start: b.start,
@@ -595,8 +609,7 @@ impl PropReader<'_> {
             return None;
         }
         let values = Arc::new(values);
-        self.source.keep_parsed_numbers(&path, &bytes, &values);
-        self.cache.insert(path, values.clone());
+        self.cache.keep_parsed_numbers(&path, &bytes, &values);
         Some(values)
     }
 }

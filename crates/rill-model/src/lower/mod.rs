@@ -1,0 +1,256 @@
+//! Lowering: from syntax trees (the main deck and its includes) to a
+//! checked [`Case`] in SI, with a diagnostic for everything that does not fit
+//! the schema. Physical sanity checks run afterwards in `checks`.
+
+mod boundary;
+mod fluid;
+mod grid;
+mod initial;
+mod read;
+mod report;
+mod rock;
+mod structure;
+mod timeline;
+mod wells;
+
+use crate::case::*;
+use crate::diagnostic::{Code, Diagnostic, Location};
+use crate::props::{
+    check_result_dim, evaluate, evaluate_kept, infer_dim, Expr, Field, Forms, PropReader, Shape,
+};
+use crate::reuse::{kept, Reuse};
+use crate::schema::{self, BlockDef, KeyDef, LabelRule, ValueKind};
+use crate::source::{resolve, Source};
+use crate::values::{describe_expected, to_si, Gauge, Reporter};
+use crate::FileInfo;
+use rill_syntax::{Atom, AtomKind, Block, Item, Span, Statement, Value};
+use rill_units::Dim;
+use std::collections::HashMap;
+use std::path::PathBuf;
+use std::sync::Arc;
+
+/// Largest grid checked: a slip such as `600 x 2200 x 850` would otherwise
+/// allocate gigabytes per property, on every keystroke in an editor.
+const MAX_CELLS: u64 = 20_000_000;
+
+/// Deepest chain of includes followed.
+const MAX_INCLUDE_DEPTH: usize = 16;
+
+/// A block found in some file.
+struct Found<'t> {
+    file: usize,
+    block: &'t Block,
+}
+
+pub(crate) struct Lowerer<'s> {
+    pub source: &'s dyn Source,
+    /// The analysis' cache: parsed arrays, and results kept between analyses.
+    pub reuse: &'s Reuse,
+    pub files: Vec<FileInfo>,
+    pub diags: Vec<Diagnostic>,
+}
+
+/// What lowering found beyond the case itself: spans of the definitions,
+/// for checks that point back at the text.
+#[derive(Debug, Clone, Default)]
+pub struct Spans {
+    /// Value span of each rock property definition (base and patches), by key.
+    pub rock: HashMap<&'static str, Vec<Location>>,
+    /// Value span of `dx`.
+    pub dx: Option<Location>,
+    /// Value span of `dy`.
+    pub dy: Option<Location>,
+    /// Value span of `dz`.
+    pub dz: Option<Location>,
+    /// Value span of the fluid's `viscosity`.
+    pub viscosity: Option<Location>,
+    /// Value span of the fluid's `fvf`.
+    pub fvf: Option<Location>,
+    /// Value span of the fluid's `density`.
+    pub density: Option<Location>,
+    /// Value span of the fluid's `compressibility`.
+    pub fluid_compressibility: Option<Location>,
+    /// Value span of the rock's `compressibility`.
+    pub rock_compressibility: Option<Location>,
+    /// Per well: (radius, control, bhp_limit, completions) spans.
+    pub wells: Vec<WellSpans>,
+    /// Name span of the `timeline` block.
+    pub timeline: Option<Location>,
+    /// Value span of `first_step`.
+    pub first_step: Option<Location>,
+    /// Value span of `end`.
+    pub end: Option<Location>,
+    /// The start of the main deck, for diagnostics about the whole case.
+    pub main: Location,
+}
+
+/// Value spans of one well's keys, for checks that point back at them.
+#[derive(Debug, Clone, Default)]
+pub struct WellSpans {
+    /// Value span of `radius`.
+    pub radius: Option<Location>,
+    /// Value span of `control`.
+    pub control: Option<Location>,
+    /// Value span of `bhp_limit`.
+    pub bhp_limit: Option<Location>,
+    /// Value span of `location` or `completions`.
+    pub completions: Option<Location>,
+    /// Event controls: (event index, location).
+    pub event_controls: Vec<(usize, Location)>,
+}
+
+impl<'s> Lowerer<'s> {
+    fn reporter(&mut self, file: usize) -> Reporter<'_> {
+        Reporter {
+            file,
+            diags: &mut self.diags,
+        }
+    }
+
+    /// Lower the deck `main_text` that stands at `main_path`: the case, when
+    /// every required part lowered, and the spans found on the way.
+    pub fn lower(&mut self, main_path: PathBuf, main_text: &str) -> (Option<Case>, Spans) {
+        let loaded = self.load(main_path, main_text);
+        let blocks = self.sort_blocks(&loaded);
+        // Check the structure of every block once, whatever else happens.
+        for list in blocks.values() {
+            for f in list {
+                let def = schema::top_block(&f.block.name.name).unwrap_or(&schema::CASE);
+                self.check_block_structure(f.file, f.block, def);
+            }
+        }
+        self.check_labels(&blocks);
+        self.lower_blocks(&blocks)
+    }
+
+    /// Lower the sorted top-level blocks into a case.
+    fn lower_blocks(
+        &mut self,
+        blocks: &HashMap<&'static str, Vec<Found>>,
+    ) -> (Option<Case>, Spans) {
+        let main_loc = Location::new(0, Span::new(0, 0));
+        let mut spans = Spans {
+            main: main_loc,
+            ..Default::default()
+        };
+        let case_meta = blocks.get("case").and_then(|v| v.first());
+        let title = case_meta.and_then(|f| {
+            let stmt = find(f.block, "title")?;
+            self.text_value(f.file, stmt)
+        });
+        let title = title.or_else(|| case_meta.and_then(|f| label_of(f.block)));
+
+        let grid = self
+            .require(blocks, "grid", main_loc)
+            .and_then(|f| self.lower_grid(f.file, f.block, &mut spans));
+        let fluid_found = self.require(blocks, "fluid", main_loc);
+        let initial_found = self.require(blocks, "initial", main_loc);
+        let rock_found = self.require(blocks, "rock", main_loc);
+        let timeline_found = self.require(blocks, "timeline", main_loc);
+
+        let Some(grid) = grid else {
+            return (None, spans);
+        };
+        let shape = Shape {
+            nx: grid.nx,
+            ny: grid.ny,
+            nz: grid.nz,
+        };
+        let initial = initial_found.and_then(|f| self.lower_initial(f.file, f.block, shape));
+        let datum_pressure = match &initial {
+            Some(Initial::Datum { pressure, .. }) => Some(*pressure),
+            Some(Initial::Cells(v)) if !v.is_empty() => {
+                Some(v.iter().sum::<f64>() / v.len() as f64)
+            }
+            _ => None,
+        };
+        let rock = rock_found
+            .and_then(|f| self.lower_rock(f.file, f.block, shape, datum_pressure, &mut spans));
+        let fluid =
+            fluid_found.and_then(|f| self.lower_fluid(f.file, f.block, datum_pressure, &mut spans));
+        let wells: Vec<Well> = blocks
+            .get("well")
+            .map(|v| {
+                v.iter()
+                    .filter_map(|f| self.lower_well(f.file, f.block, &grid, &mut spans))
+                    .collect()
+            })
+            .unwrap_or_default();
+        let boundaries: Vec<Boundary> = blocks
+            .get("boundary")
+            .map(|v| {
+                v.iter()
+                    .filter_map(|f| self.lower_boundary(f.file, f.block))
+                    .collect()
+            })
+            .unwrap_or_default();
+        let timeline =
+            timeline_found.and_then(|f| self.lower_timeline(f.file, f.block, &wells, &mut spans));
+        let report = blocks
+            .get("report")
+            .and_then(|v| v.first())
+            .map(|f| self.lower_report(f.file, f.block))
+            .unwrap_or_default();
+
+        let (Some(rock), Some(fluid), Some(initial), Some(timeline)) =
+            (rock, fluid, initial, timeline)
+        else {
+            return (None, spans);
+        };
+        let expected_wells = blocks.get("well").map(|v| v.len()).unwrap_or(0);
+        let expected_boundaries = blocks.get("boundary").map(|v| v.len()).unwrap_or(0);
+        if wells.len() != expected_wells || boundaries.len() != expected_boundaries {
+            return (None, spans);
+        }
+        let case = Case {
+            title,
+            grid,
+            rock,
+            fluid,
+            initial,
+            wells,
+            boundaries,
+            timeline,
+            report,
+        };
+        (Some(case), spans)
+    }
+}
+
+/// The first statement with this key in a block.
+pub fn find<'b>(block: &'b Block, key: &str) -> Option<&'b Statement> {
+    block.items.iter().find_map(|i| match i {
+        Item::Statement(s) if s.key.name == key => Some(s),
+        _ => None,
+    })
+}
+
+/// A block's string label, if it has one.
+pub fn label_of(block: &Block) -> Option<String> {
+    match block.args.first().map(|a| &a.kind) {
+        Some(AtomKind::Str { value, .. }) => Some(value.clone()),
+        _ => None,
+    }
+}
+
+fn example_value(k: &KeyDef) -> String {
+    match k.kind {
+        ValueKind::Text => "\"...\"".into(),
+        ValueKind::Size => "10 x 10 x 1".into(),
+        ValueKind::Quantity(d) | ValueKind::Property(d) => {
+            match rill_units::accepted_units(d).first() {
+                Some(u) if d != Dim::NONE => format!("1 {u}"),
+                _ => "0.2".into(),
+            }
+        }
+        ValueKind::Number => "0".into(),
+        ValueKind::Spacing(_) => "100 ft".into(),
+        ValueKind::Top => "5000 ft".into(),
+        ValueKind::PressureAtDepth => "3000 psi at 5000 ft".into(),
+        ValueKind::Choice(c) => c.first().copied().unwrap_or("").into(),
+        ValueKind::Column => "(1, 1)".into(),
+        ValueKind::LayerRange => "1..1".into(),
+        ValueKind::Cells => "[(1, 1, 1)]".into(),
+        ValueKind::Control => "rate 500 stb/day".into(),
+    }
+}
