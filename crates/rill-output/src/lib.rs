@@ -36,8 +36,9 @@
 //! or inflow. `series.json` holds the same columns (`name`, `quantity`,
 //! `unit`, `values`, and `well` or `boundary`), non-finite values as `null`,
 //! plus `units`, `title`, `wells` (role, control mode per report time),
-//! `solver` (steps, step cuts, Newton and linear iterations, linear solver,
-//! wall time) and `cautions` ([`CAUTION`] first).
+//! `solver` (steps, step cuts, Newton and linear iterations, linear solver),
+//! `cautions` ([`CAUTION`] first) and, last, `timings` (wall times and the
+//! start time: the only part that differs between two runs of one deck).
 //!
 //! # The maps
 //! `maps/step_NNNN.vtr` are VTK XML RectilinearGrids (zlib-compressed inline
@@ -111,6 +112,8 @@ pub struct RunMeta {
     pub rill_version: String,
     /// Wall time of the whole run, s (the solver's own time is in the results).
     pub wall_seconds: Option<f64>,
+    /// Where the simulator's time went, when the caller kept it.
+    pub timings: Option<rill_sim::Timings>,
     /// When the run started, as the caller wants it shown (e.g. RFC 3339).
     pub started: Option<String>,
     /// Cautions from the checker or the caller (e.g. `well.injection-pressure`
@@ -125,6 +128,7 @@ impl RunMeta {
             title: None,
             rill_version: env!("CARGO_PKG_VERSION").to_string(),
             wall_seconds: None,
+            timings: None,
             started: None,
             cautions: Vec::new(),
         }
