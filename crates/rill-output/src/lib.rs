@@ -81,6 +81,8 @@
 //! Every value is converted from SI by `rill_units::display_unit` for the
 //! case's report system (`report { units = field | metric | si }`).
 
+#![warn(missing_docs)]
+
 mod atomic;
 mod csv;
 mod json;
@@ -122,6 +124,7 @@ pub struct RunMeta {
 }
 
 impl RunMeta {
+    /// The meta of a run of `deck`: this rill version, nothing else set.
     pub fn new(deck: impl Into<PathBuf>) -> RunMeta {
         RunMeta {
             deck: deck.into(),
@@ -138,9 +141,13 @@ impl RunMeta {
 /// The files of a result set, at their final paths.
 #[derive(Debug, Clone, PartialEq)]
 pub struct WrittenFiles {
+    /// The result set's directory (resolved).
     pub dir: PathBuf,
+    /// `series.csv`.
     pub series_csv: PathBuf,
+    /// `series.json`.
     pub series_json: PathBuf,
+    /// `report.html`.
     pub report_html: PathBuf,
     /// `maps/rill.pvd`; `None` when the results hold no cell pressures.
     pub pvd: Option<PathBuf>,
@@ -153,12 +160,24 @@ pub struct WrittenFiles {
     pub notes: Vec<String>,
 }
 
+/// Why nothing (or not everything) was written; a failed write leaves the
+/// previous result set as it was.
 #[derive(Debug)]
 pub enum OutputError {
     /// Reading or writing `path` failed.
-    Io { path: PathBuf, source: io::Error },
+    Io {
+        /// The file or directory.
+        path: PathBuf,
+        /// The system's error.
+        source: io::Error,
+    },
     /// The target may not be written; `reason` says why.
-    Refused { path: PathBuf, reason: String },
+    Refused {
+        /// The refused target.
+        path: PathBuf,
+        /// Why, and what to do instead.
+        reason: String,
+    },
     /// The results do not fit the case (series lengths, cell counts).
     Inconsistent(String),
 }

@@ -28,7 +28,12 @@
 //! its source); `tests/field_size.rs` has the 1.12 million cell steady case
 //! (ignored in debug builds; run it with `--release -- --ignored`).
 
+#![warn(missing_docs)]
+
 mod disc;
+// The linear solvers move into a crate of their own (`rill-linear`), which
+// documents them there.
+#[allow(missing_docs)]
 pub mod linear;
 mod pvt;
 pub mod results;

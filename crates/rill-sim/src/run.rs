@@ -60,11 +60,13 @@ impl Default for NewtonOptions {
     }
 }
 
+/// How a run is solved: linear solver, Newton, step cuts, what is kept.
 #[derive(Debug, Clone, PartialEq)]
 pub struct RunOptions {
     /// Linear solver; `Method::Auto` picks direct for small systems and AMG
     /// (CG when the system is symmetric, BiCGStab otherwise) for large ones.
     pub linear: SolverOptions,
+    /// Newton's stopping test and safeguards.
     pub newton: NewtonOptions,
     /// Consecutive halvings of one time step before the run gives up.
     pub max_step_cuts: usize,
@@ -102,6 +104,7 @@ pub struct Progress {
 
 /// Watches a run: progress, cancellation, and the first linear system.
 pub trait Observer {
+    /// After each accepted step (steady runs: once).
     fn progress(&mut self, _p: &Progress) {}
     /// Polled before each step and each Newton iteration.
     fn cancelled(&self) -> bool {
@@ -120,16 +123,25 @@ pub trait Observer {
 pub struct NoObserver;
 impl Observer for NoObserver {}
 
+/// Why a run stopped without results.
 #[derive(Debug, Clone, PartialEq)]
 pub enum RunError {
     /// The observer asked to stop.
-    Cancelled { time: f64 },
+    Cancelled {
+        /// Time reached, s.
+        time: f64,
+    },
     /// A step failed after `cuts` halvings.
     StepFailed {
+        /// The step that failed, counting from 1.
         step: usize,
+        /// Time at the start of the step, s.
         time: f64,
+        /// Length of the last attempt, s (0 in a steady run).
         step_size: f64,
+        /// Halvings before the run gave up.
         cuts: usize,
+        /// What went wrong in the last attempt.
         reason: String,
     },
     /// The case cannot be run as it stands (e.g. a steady run with nothing
