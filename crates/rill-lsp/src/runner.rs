@@ -175,6 +175,33 @@ impl rill_sim::Observer for Observer {
 
 type Outcome = Result<rill_run::Finished, String>;
 
+/// Runs the deck through the shared pipeline on a blocking thread; its
+/// progress comes through the receiver.
+fn start(
+    analyzed: Arc<Analyzed>,
+    deck: &Path,
+    out_dir: &Path,
+    cancel: Arc<AtomicBool>,
+) -> (
+    tokio::task::JoinHandle<Outcome>,
+    mpsc::UnboundedReceiver<Event>,
+) {
+    let (tx, rx) = mpsc::unbounded_channel();
+    let deck = deck.to_path_buf();
+    let out = out_dir.to_path_buf();
+    let job = tokio::task::spawn_blocking(move || -> Outcome {
+        let mut observer = Observer { cancel, tx };
+        let request = rill_run::Request::new(analyzed.snap.analysis(), &deck, &out);
+        match rill_run::run(&request, &mut observer).result {
+            Ok(done) => Ok(done),
+            // The message names the run already ("Run of ... failed: ").
+            Err(rill_run::Failure::Run(e)) => Err(e.to_string()),
+            Err(e) => Err(e.to_string()),
+        }
+    });
+    (job, rx)
+}
+
 async fn run(
     shared: &Arc<Shared>,
     analyzed: Arc<Analyzed>,
@@ -215,22 +242,7 @@ async fn run(
     }))
     .await;
 
-    let (tx, mut rx) = mpsc::unbounded_channel();
-    let observer_cancel = cancel.clone();
-    let deck_path = deck.to_path_buf();
-    let out = out_dir.to_path_buf();
-    let job = tokio::task::spawn_blocking(move || -> Outcome {
-        let mut observer = Observer {
-            cancel: observer_cancel,
-            tx,
-        };
-        let request = rill_run::Request::new(analyzed.snap.analysis(), &deck_path, &out);
-        match rill_run::run(&request, &mut observer).result {
-            Ok(done) => Ok(done),
-            Err(rill_run::Failure::Run(e)) => Err(e.to_string()),
-            Err(e) => Err(e.to_string()),
-        }
-    });
+    let (job, mut rx) = start(analyzed, deck, out_dir, cancel.clone());
     tokio::pin!(job);
 
     // Relay progress, at most every 100 ms, until the run ends.
