@@ -1,17 +1,18 @@
 //! `workspace/executeCommand rill.run`: runs the embedded simulator on the
 //! deck as it stands in the editor, on a blocking thread, with work-done
 //! progress (percentage = simulated time / end time), cancellation (the
-//! progress token's cancel, or shutdown), one run per deck at a time, a
-//! summary message and an offer to open `report.html`.
+//! progress token's cancel, or shutdown), one run per deck at a time, the
+//! pipeline's summary as the message and an offer to open `report.html`.
 //!
-//! The only files the server ever writes are the result set, through
-//! `rill_output::write_results` (atomic, into `<deck>.out/` or the
+//! The run itself, its cautions, its summary and the result set come from
+//! `rill_run::run`, the pipeline `rill run` uses too. The only files the
+//! server ever writes are that result set (atomic, into `<deck>.out/` or the
 //! `rill.runOutputDir` setting).
 
 use crate::document::uri_path;
 use crate::schedule;
 use crate::state::{lock, Analyzed, Shared};
-use rill_units::{display_unit, format_number, Kind};
+use rill_units::format_number;
 use serde_json::Value;
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
@@ -172,7 +173,34 @@ impl rill_sim::Observer for Observer {
     }
 }
 
-type Outcome = Result<(rill_sim::RunResults, rill_output::WrittenFiles, f64), String>;
+type Outcome = Result<rill_run::Finished, String>;
+
+/// Runs the deck through the shared pipeline on a blocking thread; its
+/// progress comes through the receiver.
+fn start(
+    analyzed: Arc<Analyzed>,
+    deck: &Path,
+    out_dir: &Path,
+    cancel: Arc<AtomicBool>,
+) -> (
+    tokio::task::JoinHandle<Outcome>,
+    mpsc::UnboundedReceiver<Event>,
+) {
+    let (tx, rx) = mpsc::unbounded_channel();
+    let deck = deck.to_path_buf();
+    let out = out_dir.to_path_buf();
+    let job = tokio::task::spawn_blocking(move || -> Outcome {
+        let mut observer = Observer { cancel, tx };
+        let request = rill_run::Request::new(analyzed.snap.analysis(), &deck, &out);
+        match rill_run::run(&request, &mut observer).result {
+            Ok(done) => Ok(done),
+            // The message names the run already ("Run of ... failed: ").
+            Err(rill_run::Failure::Run(e)) => Err(e.to_string()),
+            Err(e) => Err(e.to_string()),
+        }
+    });
+    (job, rx)
+}
 
 async fn run(
     shared: &Arc<Shared>,
@@ -214,37 +242,7 @@ async fn run(
     }))
     .await;
 
-    let (tx, mut rx) = mpsc::unbounded_channel();
-    let observer_cancel = cancel.clone();
-    let deck_path = deck.to_path_buf();
-    let out = out_dir.to_path_buf();
-    let for_job = analyzed.clone();
-    let job = tokio::task::spawn_blocking(move || -> Outcome {
-        let analyzed = for_job;
-        let Some(case) = analyzed.snap.analysis().runnable_case() else {
-            return Err("the deck has errors".into());
-        };
-        let started = Instant::now();
-        let mut observer = Observer {
-            cancel: observer_cancel,
-            tx,
-        };
-        let results = rill_sim::run(case, &rill_sim::RunOptions::default(), &mut observer)
-            .map_err(|e| e.to_string())?;
-        let wall = started.elapsed().as_secs_f64();
-        let mut meta = rill_output::RunMeta::new(deck_path);
-        meta.wall_seconds = Some(wall);
-        meta.cautions = analyzed
-            .snap
-            .diagnostics()
-            .iter()
-            .filter(|d| d.severity == rill_model::Severity::Warning)
-            .map(|d| format!("{}: {}", d.code, d.message))
-            .collect();
-        let written =
-            rill_output::write_results(&out, case, &results, &meta).map_err(|e| e.to_string())?;
-        Ok((results, written, wall))
-    });
+    let (job, mut rx) = start(analyzed, deck, out_dir, cancel.clone());
     tokio::pin!(job);
 
     // Relay progress, at most every 100 ms, until the run ends.
@@ -272,15 +270,17 @@ async fn run(
     };
     let cancelled = cancel.load(Ordering::SeqCst);
     match outcome {
-        Ok((results, written, wall)) => {
+        Ok(done) => {
             send(WorkDoneProgress::End(WorkDoneProgressEnd {
                 message: Some("finished".into()),
             }))
             .await;
-            let summary = summary(deck, &results, &written, wall, &analyzed);
-            shared.client.show_message(MessageType::INFO, summary).await;
+            shared
+                .client
+                .show_message(MessageType::INFO, done.summary.text())
+                .await;
             if caps.show_document {
-                if let Ok(uri) = Url::from_file_path(&written.report_html) {
+                if let Ok(uri) = Url::from_file_path(&done.written.report_html) {
                     let _ = shared
                         .client
                         .show_document(ShowDocumentParams {
@@ -319,65 +319,6 @@ async fn run(
             shared.client.show_message(typ, msg).await;
         }
     }
-}
-
-/// The message at the end of a run: steps, final rates and pressures, where
-/// the results are, and the standing caution.
-fn summary(
-    deck: &Path,
-    results: &rill_sim::RunResults,
-    written: &rill_output::WrittenFiles,
-    wall: f64,
-    analyzed: &Analyzed,
-) -> String {
-    let system = analyzed
-        .snap
-        .analysis()
-        .case
-        .as_ref()
-        .map(|c| c.report.units)
-        .unwrap_or(rill_units::System::Field);
-    let show = |v: f64, kind: Kind| {
-        let u = display_unit(kind, system);
-        format!("{} {}", format_number(v / u.factor), u.name)
-    };
-    let mut parts = vec![format!(
-        "Run of {} finished: {} steps in {} s.",
-        name(deck),
-        results.stats.steps,
-        format_number((wall * 10.0).round() / 10.0)
-    )];
-    if let Some(t) = results.times.last() {
-        let mut fin = vec![format!("at {}", show(*t, Kind::Time))];
-        if let Some(p) = results.pressure_avg.last() {
-            fin.push(format!("average pressure {}", show(*p, Kind::Pressure)));
-        }
-        for w in &results.wells {
-            if let (Some(q), Some(b)) = (w.rate.last(), w.bhp.last()) {
-                fin.push(format!(
-                    "{} rate {}, BHP {}",
-                    w.name,
-                    show(*q, Kind::SurfaceRate),
-                    show(*b, Kind::Pressure)
-                ));
-            }
-        }
-        for b in &results.boundaries {
-            if let Some(q) = b.rate.last() {
-                fin.push(format!("{} rate {}", b.name, show(*q, Kind::SurfaceRate)));
-            }
-        }
-        parts.push(format!("Final state {}.", fin.join("; ")));
-    }
-    parts.push(format!(
-        "Results in {} (report.html).",
-        written.dir.display()
-    ));
-    for n in &written.notes {
-        parts.push(n.clone());
-    }
-    parts.push(rill_output::CAUTION.to_string());
-    parts.join(" ")
 }
 
 /// `window/workDoneProgress/cancel`.

@@ -14,12 +14,15 @@
 //!   "wells": [{"name": "LE-1", "role": "producer", "control": ["rate", "bhp", ...]}],
 //!   "boundaries": [{"name": "east aquifer", "side": "east"}],
 //!   "solver": {"steps": 40, "step_cuts": 1, "newton_iterations": 95, "linear_iterations": 95,
-//!              "linear_solver": "direct", "wall_seconds": 0.8},
-//!   "run": {"wall_seconds": 1.1, "started": "..."},
-//!   "cautions": ["Results are engineering estimates ...", ...]
+//!              "linear_solver": "direct"},
+//!   "cautions": ["Results are engineering estimates ...", ...],
+//!   "timings": {"solver_seconds": 0.8, "run_seconds": 1.1, "setup_seconds": 0.01, ...,
+//!               "started": "..."}
 //! }
 //! ```
-//! Values that are not finite are `null`.
+//! Values that are not finite are `null`. Everything that differs between
+//! two runs of the same deck (wall times, the start time) is in `timings`,
+//! last, so that comparing two result sets only has to drop that one key.
 
 use std::io::{self, Write};
 
@@ -44,8 +47,8 @@ struct Doc<'a> {
     wells: Vec<Well<'a>>,
     boundaries: Vec<Boundary<'a>>,
     solver: Solver<'a>,
-    run: Run<'a>,
     cautions: &'a [String],
+    timings: TimingsDoc<'a>,
 }
 
 #[derive(Serialize)]
@@ -83,13 +86,24 @@ struct Solver<'a> {
     newton_iterations: usize,
     linear_iterations: usize,
     linear_solver: &'a str,
-    wall_seconds: f64,
 }
 
+/// Wall times, s, and the start time: what changes from run to run.
 #[derive(Serialize)]
-struct Run<'a> {
+struct TimingsDoc<'a> {
+    /// The simulator's own wall time.
+    solver_seconds: f64,
+    /// The whole run as the caller measured it.
     #[serde(skip_serializing_if = "Option::is_none")]
-    wall_seconds: Option<f64>,
+    run_seconds: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    setup_seconds: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    assembly_seconds: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    linear_setup_seconds: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    linear_solve_seconds: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     started: Option<&'a str>,
 }
@@ -167,13 +181,17 @@ pub(crate) fn write_json(
             newton_iterations: stats.newton_iterations,
             linear_iterations: stats.linear_iterations,
             linear_solver: &stats.linear_solver,
-            wall_seconds: stats.wall_seconds,
-        },
-        run: Run {
-            wall_seconds: meta.wall_seconds,
-            started: meta.started.as_deref(),
         },
         cautions,
+        timings: TimingsDoc {
+            solver_seconds: stats.wall_seconds,
+            run_seconds: meta.wall_seconds,
+            setup_seconds: meta.timings.as_ref().map(|t| t.setup),
+            assembly_seconds: meta.timings.as_ref().map(|t| t.assembly),
+            linear_setup_seconds: meta.timings.as_ref().map(|t| t.linear_setup),
+            linear_solve_seconds: meta.timings.as_ref().map(|t| t.linear_solve),
+            started: meta.started.as_deref(),
+        },
     };
     serde_json::to_writer_pretty(&mut *w, &doc).map_err(io::Error::other)?;
     w.write_all(b"\n")

@@ -36,8 +36,9 @@
 //! or inflow. `series.json` holds the same columns (`name`, `quantity`,
 //! `unit`, `values`, and `well` or `boundary`), non-finite values as `null`,
 //! plus `units`, `title`, `wells` (role, control mode per report time),
-//! `solver` (steps, step cuts, Newton and linear iterations, linear solver,
-//! wall time) and `cautions` ([`CAUTION`] first).
+//! `solver` (steps, step cuts, Newton and linear iterations, linear solver),
+//! `cautions` ([`CAUTION`] first) and, last, `timings` (wall times and the
+//! start time: the only part that differs between two runs of one deck).
 //!
 //! # The maps
 //! `maps/step_NNNN.vtr` are VTK XML RectilinearGrids (zlib-compressed inline
@@ -80,6 +81,8 @@
 //! Every value is converted from SI by `rill_units::display_unit` for the
 //! case's report system (`report { units = field | metric | si }`).
 
+#![warn(missing_docs)]
+
 mod atomic;
 mod csv;
 mod json;
@@ -111,6 +114,8 @@ pub struct RunMeta {
     pub rill_version: String,
     /// Wall time of the whole run, s (the solver's own time is in the results).
     pub wall_seconds: Option<f64>,
+    /// Where the simulator's time went, when the caller kept it.
+    pub timings: Option<rill_sim::Timings>,
     /// When the run started, as the caller wants it shown (e.g. RFC 3339).
     pub started: Option<String>,
     /// Cautions from the checker or the caller (e.g. `well.injection-pressure`
@@ -119,12 +124,14 @@ pub struct RunMeta {
 }
 
 impl RunMeta {
+    /// The meta of a run of `deck`: this rill version, nothing else set.
     pub fn new(deck: impl Into<PathBuf>) -> RunMeta {
         RunMeta {
             deck: deck.into(),
             title: None,
             rill_version: env!("CARGO_PKG_VERSION").to_string(),
             wall_seconds: None,
+            timings: None,
             started: None,
             cautions: Vec::new(),
         }
@@ -134,9 +141,13 @@ impl RunMeta {
 /// The files of a result set, at their final paths.
 #[derive(Debug, Clone, PartialEq)]
 pub struct WrittenFiles {
+    /// The result set's directory (resolved).
     pub dir: PathBuf,
+    /// `series.csv`.
     pub series_csv: PathBuf,
+    /// `series.json`.
     pub series_json: PathBuf,
+    /// `report.html`.
     pub report_html: PathBuf,
     /// `maps/rill.pvd`; `None` when the results hold no cell pressures.
     pub pvd: Option<PathBuf>,
@@ -149,12 +160,24 @@ pub struct WrittenFiles {
     pub notes: Vec<String>,
 }
 
+/// Why nothing (or not everything) was written; a failed write leaves the
+/// previous result set as it was.
 #[derive(Debug)]
 pub enum OutputError {
     /// Reading or writing `path` failed.
-    Io { path: PathBuf, source: io::Error },
+    Io {
+        /// The file or directory.
+        path: PathBuf,
+        /// The system's error.
+        source: io::Error,
+    },
     /// The target may not be written; `reason` says why.
-    Refused { path: PathBuf, reason: String },
+    Refused {
+        /// The refused target.
+        path: PathBuf,
+        /// Why, and what to do instead.
+        reason: String,
+    },
     /// The results do not fit the case (series lengths, cell counts).
     Inconsistent(String),
 }

@@ -28,6 +28,8 @@
 //! its source); `tests/field_size.rs` has the 1.12 million cell steady case
 //! (ignored in debug builds; run it with `--release -- --ignored`).
 
+#![warn(missing_docs)]
+
 mod disc;
 /// The linear algebra, a crate of its own; kept under this name for the front ends.
 pub use rill_linear as linear;

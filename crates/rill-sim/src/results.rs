@@ -13,12 +13,17 @@
 /// How a well was controlled over the step that ended at a report time.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum ControlMode {
+    /// Held at its target surface rate.
     Rate,
+    /// Held at a bottom-hole pressure: its BHP target, or the BHP limit of a
+    /// rate-controlled well that could not hold its rate.
     Bhp,
 }
 
+/// One well's series, one value per report time.
 #[derive(Debug, Clone, PartialEq)]
 pub struct WellSeries {
+    /// The well's name in the deck.
     pub name: String,
     /// Bottom-hole pressure at the well datum, Pa.
     pub bhp: Vec<f64>,
@@ -26,17 +31,22 @@ pub struct WellSeries {
     pub rate: Vec<f64>,
     /// Cumulative surface volume, m^3, same sign convention.
     pub cumulative: Vec<f64>,
+    /// The control over the step that ended at each report time.
     pub mode: Vec<ControlMode>,
 }
 
+/// One boundary's series, one value per report time.
 #[derive(Debug, Clone, PartialEq)]
 pub struct BoundarySeries {
+    /// The boundary's name in the deck.
     pub name: String,
     /// Surface rate out of the reservoir through the boundary, m^3/s (negative: inflow).
     pub rate: Vec<f64>,
+    /// Cumulative surface volume out through the boundary, m^3 (negative: inflow).
     pub cumulative: Vec<f64>,
 }
 
+/// What the run cost the solvers.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct SolverStats {
     /// Accepted time steps (1 for a steady run).
@@ -45,21 +55,26 @@ pub struct SolverStats {
     pub step_cuts: usize,
     /// Newton iterations (linear solves), failed attempts included.
     pub newton_iterations: usize,
+    /// Linear solver iterations over all solves (0 for direct solves).
     pub linear_iterations: usize,
     /// Name of the linear solver of the last solve ("direct-cholesky",
     /// "direct-lu", "amg-cg", "amg-bicgstab", ...; "none" when no system had
     /// to be solved).
     pub linear_solver: String,
+    /// Wall time of the whole simulation, s.
     pub wall_seconds: f64,
 }
 
+/// Everything a run reports, one entry per report time (see the module doc).
 #[derive(Debug, Clone, PartialEq)]
 pub struct RunResults {
-    /// s
+    /// Report times, s.
     pub times: Vec<f64>,
     /// Pore-volume weighted average pressure, Pa.
     pub pressure_avg: Vec<f64>,
+    /// One series per well, in deck order.
     pub wells: Vec<WellSeries>,
+    /// One series per boundary, in deck order.
     pub boundaries: Vec<BoundarySeries>,
     /// Relative mass balance error of the last step before each report time:
     /// |change of surface volume in place + net outflow over the step| /
@@ -68,6 +83,7 @@ pub struct RunResults {
     pub balance_error: Vec<f64>,
     /// Cell pressures per report time, Pa (NaN in inactive cells).
     pub pressure: Vec<Vec<f64>>,
+    /// Steps, iterations and time spent.
     pub stats: SolverStats,
 }
 

@@ -143,7 +143,7 @@ fn json_parses_back_with_series_units_solver_and_cautions() {
     assert_eq!(solver["newton_iterations"], 31);
     assert_eq!(solver["linear_iterations"], 31);
     assert_eq!(solver["linear_solver"], "direct");
-    assert_eq!(solver["wall_seconds"], 0.125);
+    assert_eq!(json["timings"]["solver_seconds"], 0.125);
     assert_eq!(json["wells"][1]["role"], "injector");
     assert_eq!(json["wells"][0]["control"][2], "rate");
     assert_eq!(json["boundaries"][0]["side"], "east");

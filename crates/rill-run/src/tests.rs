@@ -1,0 +1,158 @@
+//! The pipeline on small decks written to a temporary directory.
+
+use super::*;
+use rill_model::{Code, Diagnostic, Location, MemorySource};
+use std::sync::atomic::{AtomicUsize, Ordering};
+
+const BLOCK: &str = include_str!("../../../examples/teaching-block.rill");
+
+/// Writes `text` as `block.rill` in a fresh directory and checks it.
+fn deck(text: &str) -> (tempfile::TempDir, PathBuf, Analysis) {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("block.rill");
+    std::fs::write(&path, text).unwrap();
+    let source = MemorySource::new().with(&path, text);
+    let analysis = rill_model::analyze(&path, &source).unwrap();
+    (dir, path, analysis)
+}
+
+fn json(path: &Path) -> serde_json::Value {
+    serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap()
+}
+
+#[test]
+fn cautions_keep_warnings_and_notes_about_what_was_simulated() {
+    let at = Location::default();
+    let diags = vec![
+        Diagnostic::warning(Code::DeckInclude, at, "read once"),
+        Diagnostic::warning(Code::SanityPorosity, at, "porosity above 0.45"),
+        Diagnostic::error(Code::UnitUnknown, at, "no such unit"),
+        Diagnostic::info(Code::FlowNoDrive, at, "nothing drives flow"),
+        Diagnostic::warning(Code::WellInjectionPressure, at, "may fracture"),
+    ];
+    assert_eq!(
+        cautions(&diags),
+        vec![
+            "sanity.porosity: porosity above 0.45",
+            "flow.no-drive: nothing drives flow",
+            "well.injection-pressure: may fracture",
+        ]
+    );
+}
+
+#[test]
+fn a_transient_run_writes_its_set_with_the_cautions_and_summarises_it() {
+    let (dir, path, analysis) = deck(&BLOCK.replace("porosity = 0.2", "porosity = 0.5"));
+    let out = dir.path().join("block.out");
+    let outcome = run(
+        &Request::new(&analysis, &path, &out),
+        &mut rill_sim::NoObserver,
+    );
+    assert_eq!(outcome.export, SystemExport::NotAsked);
+    let done = outcome.result.unwrap();
+    assert_eq!(done.cautions.len(), 1, "{:?}", done.cautions);
+    assert!(done.cautions[0].starts_with("sanity.porosity: "));
+    let doc = json(&done.written.series_json);
+    let listed: Vec<&str> = doc["cautions"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c.as_str().unwrap())
+        .collect();
+    assert_eq!(listed[0], rill_output::CAUTION);
+    assert!(listed.contains(&done.cautions[0].as_str()));
+    assert_eq!(
+        doc["timings"]["solver_seconds"],
+        done.results.stats.wall_seconds
+    );
+    assert!(doc["timings"]["run_seconds"].as_f64().unwrap() > 0.0);
+    let text = done.summary.text();
+    assert!(
+        text.starts_with("Run of block.rill finished: reached 180 day in "),
+        "{text}"
+    );
+    assert!(text.contains("\n  MB-1 rate 150 stb/day, BHP "), "{text}");
+    assert!(text.contains("\n  caution: sanity.porosity: "), "{text}");
+    assert!(text.ends_with(rill_output::CAUTION), "{text}");
+    assert_eq!(done.written.dir, std::fs::canonicalize(&out).unwrap());
+}
+
+#[test]
+fn a_steady_run_is_summarised_by_its_solves_not_by_steps() {
+    let steady = BLOCK
+        .replace("control = rate 150 stb/day", "control = bhp 1500 psi")
+        .replace("end = 180 day", "kind = steady");
+    let (dir, path, analysis) = deck(&steady);
+    let out = dir.path().join("steady.out");
+    let done = run(
+        &Request::new(&analysis, &path, &out),
+        &mut rill_sim::NoObserver,
+    )
+    .result
+    .unwrap();
+    let head = &done.summary.lines[0];
+    assert!(
+        head.starts_with("Run of block.rill finished: steady state solved in 1 Newton iteration ("),
+        "{head}"
+    );
+    assert!(!done.summary.text().contains("reached"));
+}
+
+#[test]
+fn a_deck_with_errors_runs_nothing_and_writes_nothing() {
+    let (dir, path, analysis) = deck(&BLOCK.replace("kx = 50 md", "kx = 50 psi"));
+    let out = dir.path().join("block.out");
+    let mut request = Request::new(&analysis, &path, &out);
+    request.export_system = Some(dir.path().join("system"));
+    let outcome = run(&request, &mut rill_sim::NoObserver);
+    assert_eq!(outcome.export, SystemExport::NoSystem);
+    match outcome.result {
+        Err(Failure::NotRunnable { errors }) => assert!(errors >= 1),
+        other => panic!("expected NotRunnable, got {other:?}"),
+    }
+    assert!(!out.exists() && !dir.path().join("system").exists());
+}
+
+#[test]
+fn the_first_system_is_exported_and_still_reaches_the_observer() {
+    struct Count(AtomicUsize);
+    impl Observer for Count {
+        fn first_system(&mut self, _m: &CsrMatrix, rhs: &[f64]) {
+            self.0.store(rhs.len(), Ordering::Relaxed);
+        }
+    }
+    let (dir, path, analysis) = deck(BLOCK);
+    let out = dir.path().join("block.out");
+    let mut request = Request::new(&analysis, &path, &out);
+    request.export_system = Some(dir.path().join("system"));
+    let mut seen = Count(AtomicUsize::new(0));
+    let outcome = run(&request, &mut seen);
+    assert!(outcome.result.is_ok());
+    // 121 cells and one well unknown.
+    assert_eq!(seen.0.load(Ordering::Relaxed), 122);
+    let SystemExport::Written(files) = outcome.export else {
+        panic!("expected the export, got {:?}", outcome.export);
+    };
+    assert_eq!(files.len(), 2);
+    let rhs = std::fs::read_to_string(dir.path().join("system").join("rhs.mtx")).unwrap();
+    assert!(rhs.lines().nth(1).unwrap().starts_with("122 1"));
+}
+
+#[test]
+fn a_cancelled_run_writes_nothing() {
+    struct Cancel;
+    impl Observer for Cancel {
+        fn cancelled(&self) -> bool {
+            true
+        }
+    }
+    let (dir, path, analysis) = deck(BLOCK);
+    let out = dir.path().join("block.out");
+    let outcome = run(&Request::new(&analysis, &path, &out), &mut Cancel);
+    let failure = outcome.result.unwrap_err();
+    assert!(failure.is_cancelled(), "{failure}");
+    assert!(failure
+        .to_string()
+        .starts_with("the run failed: run cancelled"));
+    assert!(!out.exists());
+}

@@ -1,0 +1,181 @@
+//! Well control state: the control each well is on, switching between a
+//! rate target and its BHP limit, timeline events, and the shut-in BHP.
+
+use rill_model::derived;
+use rill_model::{Case, Control, Role};
+
+use super::Runner;
+use crate::disc::{completion_rate, WellDrive};
+use crate::results::ControlMode;
+
+/// Control state of one well.
+#[derive(Debug, Clone)]
+pub(super) struct WellState {
+    /// The control the deck (or the last event) sets.
+    pub(super) control: Control,
+    /// BHP limit of a rate-controlled well, Pa.
+    pub(super) limit: Option<f64>,
+    /// The control in force.
+    pub(super) mode: ControlMode,
+    /// +1 producer, -1 injector.
+    sign: f64,
+    /// Switches in the current step (see `NewtonOptions::max_switches`).
+    pub(super) switches: usize,
+}
+
+impl WellState {
+    pub(super) fn drive(&self) -> WellDrive {
+        match (self.mode, self.control) {
+            (ControlMode::Rate, Control::Rate(q)) => WellDrive {
+                bhp: false,
+                rate: self.sign * q,
+            },
+            _ => WellDrive {
+                bhp: true,
+                rate: 0.0,
+            },
+        }
+    }
+    /// The BHP held when the well is on BHP control.
+    pub(super) fn bhp_target(&self) -> Option<f64> {
+        match (self.mode, self.control) {
+            (ControlMode::Bhp, Control::Bhp(p)) => Some(p),
+            (ControlMode::Bhp, Control::Rate(_)) => self.limit,
+            _ => None,
+        }
+    }
+}
+
+/// Each well on the control the deck gives it.
+pub(super) fn initial_wells(case: &Case) -> Vec<WellState> {
+    case.wells
+        .iter()
+        .map(|w| WellState {
+            control: w.control,
+            limit: w.bhp_limit,
+            mode: match w.control {
+                Control::Rate(_) => ControlMode::Rate,
+                Control::Bhp(_) => ControlMode::Bhp,
+            },
+            sign: if w.role == Role::Producer { 1.0 } else { -1.0 },
+            switches: 0,
+        })
+        .collect()
+}
+
+/// Applies the well changes of a timeline event.
+pub(super) fn apply_event(wells: &mut [WellState], ev: &rill_model::Event) {
+    for ch in &ev.changes {
+        let Some(st) = wells.get_mut(ch.well) else {
+            continue;
+        };
+        if let Some(c) = ch.control {
+            st.control = c;
+            st.mode = match c {
+                Control::Rate(_) => ControlMode::Rate,
+                Control::Bhp(_) => ControlMode::Bhp,
+            };
+        }
+        if let Some(l) = ch.bhp_limit {
+            st.limit = Some(l);
+        }
+    }
+}
+
+impl Runner<'_> {
+    /// First guess of each BHP: its target, or the shut-in BHP moved by the
+    /// target rate over the well's total index.
+    pub(super) fn guess_bhps(&self, x: &mut [f64], wells: &[WellState]) {
+        for w in 0..self.d.n_wells {
+            x[self.d.n_cells + w] = match wells[w].bhp_target() {
+                Some(p) => p,
+                None => {
+                    self.shut_in_bhp(x, w)
+                        - wells[w].drive().rate
+                            / (self.lam_ref * self.d.wells[w].wi_sum.max(1e-300))
+                }
+            };
+        }
+    }
+
+    /// The BHP at which well `w` would not flow, given the cell pressures.
+    pub(super) fn shut_in_bhp(&self, x: &[f64], w: usize) -> f64 {
+        let wg = &self.d.wells[w];
+        if wg.comps.is_empty() || wg.wi_sum <= 0.0 {
+            return wg.comps.first().map_or(0.0, |c| x[c.cell]);
+        }
+        let mut pw = x[wg.comps[0].cell]
+            - self.pvt.rho(x[wg.comps[0].cell]).0 * derived::GRAVITY * wg.comps[0].dd;
+        for _ in 0..20 {
+            let (mut q, mut dq) = (0.0, 0.0);
+            for cp in &wg.comps {
+                let (qc, _, dqw) = completion_rate(&self.pvt, cp, x[cp.cell], pw);
+                q += qc;
+                dq += dqw;
+            }
+            if dq == 0.0 {
+                break;
+            }
+            let step = q / dq;
+            pw -= step;
+            if step.abs() <= 1e-9 * pw.abs() {
+                break;
+            }
+        }
+        pw
+    }
+
+    /// Applies control switching at `x` and holds BHP-controlled wells at
+    /// their targets. Returns true when a control changed.
+    ///
+    /// A rate-controlled well goes to BHP control when its BHP is past the
+    /// limit (producer: below, injector: above); a well held at its limit goes
+    /// back to rate control when the limit would deliver more than the
+    /// target rate. Checked before each step and after every Newton update.
+    pub(super) fn update_controls(&self, wells: &mut [WellState], x: &mut [f64]) -> bool {
+        let nc = self.d.n_cells;
+        let max_sw = self.opts.newton.max_switches;
+        let mut switched = false;
+        for (w, st) in wells.iter_mut().enumerate() {
+            let xw = nc + w;
+            match st.control {
+                Control::Bhp(p) => {
+                    st.mode = ControlMode::Bhp;
+                    x[xw] = p;
+                }
+                Control::Rate(q) => match (st.mode, st.limit) {
+                    (ControlMode::Rate, Some(lim)) => {
+                        if st.sign * (lim - x[xw]) > 0.0
+                            && st.switches < max_sw
+                            && self.d.wells[w].wi_sum > 0.0
+                        {
+                            st.mode = ControlMode::Bhp;
+                            st.switches += 1;
+                            x[xw] = lim;
+                            switched = true;
+                        }
+                    }
+                    (ControlMode::Rate, None) => {}
+                    (ControlMode::Bhp, None) => {
+                        st.mode = ControlMode::Rate;
+                        switched = true;
+                    }
+                    (ControlMode::Bhp, Some(lim)) => {
+                        x[xw] = lim;
+                        let qa: f64 = self.d.wells[w]
+                            .comps
+                            .iter()
+                            .map(|cp| completion_rate(&self.pvt, cp, x[cp.cell], lim).0)
+                            .sum();
+                        if st.sign * qa > q && st.switches < max_sw {
+                            st.mode = ControlMode::Rate;
+                            st.switches += 1;
+                            switched = true;
+                        }
+                    }
+                },
+            }
+        }
+        switched
+    }
+}

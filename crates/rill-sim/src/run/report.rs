@@ -1,0 +1,97 @@
+//! The rows of the results at report times.
+
+use rayon::prelude::*;
+use rill_model::Case;
+
+use super::controls::WellState;
+use super::Runner;
+use crate::results::*;
+
+/// What one report needs beyond the unknowns.
+pub(super) struct ReportRow<'a> {
+    pub(super) time: f64,
+    pub(super) well_rate: &'a [f64],
+    pub(super) well_cum: &'a [f64],
+    pub(super) bnd_rate: &'a [f64],
+    pub(super) bnd_cum: &'a [f64],
+    pub(super) balance: f64,
+}
+
+/// Results with a named, empty series per well and boundary.
+pub(super) fn empty_results(case: &Case) -> RunResults {
+    RunResults {
+        times: Vec::new(),
+        pressure_avg: Vec::new(),
+        wells: case
+            .wells
+            .iter()
+            .map(|w| WellSeries {
+                name: w.name.clone(),
+                bhp: Vec::new(),
+                rate: Vec::new(),
+                cumulative: Vec::new(),
+                mode: Vec::new(),
+            })
+            .collect(),
+        boundaries: case
+            .boundaries
+            .iter()
+            .map(|b| BoundarySeries {
+                name: b.name.clone(),
+                rate: Vec::new(),
+                cumulative: Vec::new(),
+            })
+            .collect(),
+        balance_error: Vec::new(),
+        pressure: Vec::new(),
+        stats: SolverStats::default(),
+    }
+}
+
+impl Runner<'_> {
+    /// Appends one report row: the average pressure, BHPs and control modes
+    /// at `x`, the given rates, cumulatives and balance error, and the cell
+    /// pressures when they are kept.
+    pub(super) fn record(
+        &self,
+        res: &mut RunResults,
+        x: &[f64],
+        wells: &[WellState],
+        row: ReportRow,
+    ) {
+        let d = &self.d;
+        let nc = d.n_cells;
+        let (spv, spvp) = (0..nc)
+            .into_par_iter()
+            .with_min_len(4096)
+            .map(|i| {
+                let pv = d.pv_ref[i] * self.pvt.pore_factor(x[i]);
+                (pv, pv * x[i])
+            })
+            .reduce(|| (0.0, 0.0), |p, q| (p.0 + q.0, p.1 + q.1));
+        res.times.push(row.time);
+        res.pressure_avg.push(if spv > 0.0 {
+            spvp / spv
+        } else {
+            x[..nc].iter().sum::<f64>() / nc as f64
+        });
+        for (w, s) in res.wells.iter_mut().enumerate() {
+            s.bhp.push(x[nc + w]);
+            s.rate.push(row.well_rate[w]);
+            s.cumulative.push(row.well_cum[w]);
+            s.mode.push(wells[w].mode);
+        }
+        for (b, s) in res.boundaries.iter_mut().enumerate() {
+            s.rate.push(row.bnd_rate[b]);
+            s.cumulative.push(row.bnd_cum[b]);
+        }
+        res.balance_error.push(row.balance);
+        if self.opts.keep_pressures {
+            let mut p = vec![f64::NAN; self.case.grid.cell_count()];
+            for (i, &c) in d.cell_of.iter().enumerate() {
+                p[c] = x[i];
+            }
+            res.pressure.push(p);
+        }
+    }
+}
