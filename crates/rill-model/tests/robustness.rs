@@ -76,6 +76,23 @@ enum Mutation {
     Insert(usize, String),
     Replace(usize, usize, String),
     Duplicate(usize, usize),
+    /// A fragment inserted many times in a row: long arithmetic chains and
+    /// high unit powers (`kx * kx * ...`), deep brackets.
+    Repeat(usize, String, usize),
+}
+
+fn repeated() -> impl Strategy<Value = String> {
+    prop_oneof![
+        Just(" * kx".to_string()),
+        Just(" * porosity".to_string()),
+        Just(" * 1 md".to_string()),
+        Just(" + 5 md".to_string()),
+        Just(" / 2".to_string()),
+        Just("^2".to_string()),
+        Just("[".to_string()),
+        Just("{".to_string()),
+        Just("(".to_string()),
+    ]
 }
 
 fn fragments() -> impl Strategy<Value = String> {
@@ -112,6 +129,7 @@ fn mutation() -> impl Strategy<Value = Mutation> {
         (any::<usize>(), fragments()).prop_map(|(a, s)| Mutation::Insert(a, s)),
         (any::<usize>(), 0usize..12, fragments()).prop_map(|(a, n, s)| Mutation::Replace(a, n, s)),
         (any::<usize>(), 0usize..200).prop_map(|(a, n)| Mutation::Duplicate(a, n)),
+        (any::<usize>(), repeated(), 1usize..400).prop_map(|(a, s, n)| Mutation::Repeat(a, s, n)),
     ]
 }
 
@@ -146,6 +164,10 @@ fn apply(text: &str, m: &Mutation) -> String {
             let e = floor_boundary(&t, s + n);
             let piece = t[s..e].to_string();
             t.insert_str(e, &piece);
+        }
+        Mutation::Repeat(a, frag, n) => {
+            let s = floor_boundary(&t, a % len);
+            t.insert_str(s, &frag.repeat(*n));
         }
     }
     t
