@@ -8,6 +8,12 @@
 //! so diagnostics of an older version never follow those of a newer one.
 //! A root's analysis also yields the diagnostics of its includes and array
 //! files, published to their own URIs and cleared when they disappear.
+//!
+//! Analyses run on a bounded pool: a worker takes one of
+//! `Shared::analysis_slots` before it reads the document, so however many
+//! documents are open, only a few blocking threads analyse at once; the
+//! others queue, each for the newest version of its document (read once a
+//! slot is free), and a closed document leaves the queue at once.
 
 use crate::convert::{self, FileTexts};
 use crate::document::uri_path;
@@ -105,6 +111,23 @@ async fn worker(
         if stop.load(Ordering::SeqCst) {
             return;
         }
+        // Queue for a slot; a close (or a newer change) wakes the wait.
+        let slot = loop {
+            tokio::select! {
+                slot = shared.analysis_slots.clone().acquire_owned() => break slot,
+                _ = notify.notified() => {
+                    if stop.load(Ordering::SeqCst) {
+                        return;
+                    }
+                }
+            }
+        };
+        let Ok(slot) = slot else {
+            return; // the pool is closed: the server is ending
+        };
+        if stop.load(Ordering::SeqCst) {
+            return;
+        }
         let Some(input) = shared.input(&uri) else {
             return;
         };
@@ -116,6 +139,7 @@ async fn worker(
             if prepare {
                 prepare_first_edits(&analyzed, &source);
             }
+            drop(slot);
             analyzed
         })
         .await
@@ -343,11 +367,16 @@ pub async fn analyzed(shared: &Arc<Shared>, uri: &Url) -> Option<Arc<Analyzed>> 
     }
     // Not a root (an included deck), or the document moved on while we
     // waited: analyse the document on its own.
+    let slot = shared.analysis_slots.clone().acquire_owned().await.ok()?;
     let input = shared.input(uri)?;
     let analyzed = Arc::new(
-        tokio::task::spawn_blocking(move || input.analyze())
-            .await
-            .ok()?,
+        tokio::task::spawn_blocking(move || {
+            let analyzed = input.analyze();
+            drop(slot);
+            analyzed
+        })
+        .await
+        .ok()?,
     );
     let mut a = lock(&shared.analyses);
     if !a.workers.contains_key(uri) {

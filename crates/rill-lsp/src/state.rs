@@ -129,6 +129,18 @@ pub struct Shared {
     pub shutdown: AtomicBool,
     pub debounce: Duration,
     pub runs: crate::runner::Runs,
+    /// Analyses running at once: a few blocking threads, whatever the
+    /// number of open documents (the others queue, see `schedule`).
+    pub analysis_slots: Arc<tokio::sync::Semaphore>,
+}
+
+/// How many analyses run at once: one per core, at most four (each may be
+/// a million-cell deck; more at once would only share the cores).
+pub fn analysis_slots() -> usize {
+    std::thread::available_parallelism()
+        .map(|n| n.get())
+        .unwrap_or(1)
+        .clamp(1, 4)
 }
 
 /// Lock a mutex, recovering from poisoning: the data are plain maps whose
@@ -152,6 +164,7 @@ impl Shared {
             // analysis is taken up by the next one.
             debounce: Duration::from_millis(5),
             runs: Default::default(),
+            analysis_slots: Arc::new(tokio::sync::Semaphore::new(analysis_slots())),
         }
     }
 
