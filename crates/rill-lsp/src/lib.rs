@@ -2,7 +2,7 @@
 //! document store on `ropey` with incremental sync, position encodings
 //! (UTF-16, or UTF-8 when the client offers it), conversion of analysis
 //! answers to protocol types, scheduling of analyses (debounce, stale
-//! results dropped, blocking threads), file watching, settings, and the
+//! results dropped, a bounded pool of analysis threads), file watching, settings, and the
 //! `rill.run` command with progress and cancel.
 //!
 //! It must never contain analysis logic: every answer comes from
@@ -44,6 +44,7 @@ mod answers;
 mod convert;
 pub mod document;
 mod framing;
+mod pool;
 pub mod position;
 mod runner;
 mod schedule;

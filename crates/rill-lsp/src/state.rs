@@ -129,9 +129,11 @@ pub struct Shared {
     pub shutdown: AtomicBool,
     pub debounce: Duration,
     pub runs: crate::runner::Runs,
-    /// Analyses running at once: a few blocking threads, whatever the
+    /// Analyses running at once: a few pool threads, whatever the
     /// number of open documents (the others queue, see `schedule`).
     pub analysis_slots: Arc<tokio::sync::Semaphore>,
+    /// The threads analyses run on, as many as there are slots.
+    pub pool: crate::pool::Pool,
 }
 
 /// How many analyses run at once: one per core, at most four (each may be
@@ -165,6 +167,7 @@ impl Shared {
             debounce: Duration::from_millis(5),
             runs: Default::default(),
             analysis_slots: Arc::new(tokio::sync::Semaphore::new(analysis_slots())),
+            pool: crate::pool::Pool::new(analysis_slots()),
         }
     }
 
