@@ -402,3 +402,84 @@ pub fn to_json(analysis: &Analysis) -> Vec<Value> {
         })
         .collect()
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rill_model::{Diagnostic, FileInfo, Location};
+
+    fn analysis(text: &str, diagnostics: Vec<Diagnostic>) -> Analysis {
+        Analysis {
+            files: vec![FileInfo {
+                path: "deck.rill".into(),
+                text: text.into(),
+                tree: None,
+            }],
+            diagnostics,
+            case: None,
+            spans: Default::default(),
+        }
+    }
+
+    fn at(start: usize, end: usize) -> Location {
+        Location {
+            file: 0,
+            start,
+            end,
+        }
+    }
+
+    #[test]
+    fn identical_diagnostics_beyond_the_cap_are_counted() {
+        let text = "{\n".repeat(100);
+        let diags = (0..100)
+            .map(|i| Diagnostic::error("syntax.unclosed", at(2 * i, 2 * i + 1), "unclosed `{`"))
+            .collect();
+        let out = render_to_string(&analysis(&text, diags), false);
+        assert_eq!(out.matches("error[syntax.unclosed]").count(), MAX_SAME);
+        assert!(
+            out.contains(&format!(
+                "… and {} more [syntax.unclosed] unclosed `{{`",
+                100 - MAX_SAME
+            )),
+            "{out}"
+        );
+        assert!(
+            out.ends_with("deck.rill: 100 error(s), 0 warning(s), 0 note(s)\n"),
+            "{out}"
+        );
+    }
+
+    #[test]
+    fn a_cut_line_keeps_the_real_line_and_column() {
+        // The span sits 50 000 characters into line 2, after multi-byte text.
+        let text = format!(
+            "first\n{}{}X{}\n",
+            "é".repeat(25_000),
+            "b".repeat(25_000),
+            "c".repeat(9_000)
+        );
+        let start = text.find('X').unwrap();
+        let long_message = format!("found `{}`", "z".repeat(10_000));
+        let d = Diagnostic::error("deck.value", at(start, start + 1), long_message);
+        let out = render_to_string(&analysis(&text, vec![d]), false);
+        assert!(out.contains("deck.rill:2:50001"), "{out}");
+        let shown = out
+            .lines()
+            .find(|l| l.starts_with("2 │"))
+            .expect("the line is shown");
+        assert!(
+            shown.starts_with("2 │ … ") && shown.ends_with(" …"),
+            "{shown}"
+        );
+        assert!(shown.contains('X'), "{shown}");
+        let caret = out.lines().find(|l| l.contains('^')).unwrap();
+        // The caret sits under the X.
+        let col = |l: &str, c: char| l.chars().position(|x| x == c).unwrap();
+        assert_eq!(col(caret, '^'), col(shown, 'X'));
+        assert!(
+            out.lines().all(|l| l.chars().count() <= MAX_MESSAGE + 40),
+            "{out}"
+        );
+    }
+}
