@@ -57,6 +57,15 @@ impl<'a> Sources<'a> {
         }
     }
 
+    /// Text and line index of `file`, for excerpts of long lines.
+    pub fn text_and_lines(&self, file: usize) -> Option<(&'a str, &LineIndex)> {
+        self.files.get(file).map(|e| (e.text, &e.lines))
+    }
+
+    pub fn file_count(&self) -> usize {
+        self.files.len()
+    }
+
     fn entry(&self, id: usize) -> Result<&Entry<'a>, Error> {
         self.files.get(id).ok_or(Error::FileMissing)
     }

@@ -2,7 +2,7 @@
 //! document store on `ropey` with incremental sync, position encodings
 //! (UTF-16, or UTF-8 when the client offers it), conversion of analysis
 //! answers to protocol types, scheduling of analyses (debounce, stale
-//! results dropped, blocking threads), file watching, settings, and the
+//! results dropped, a bounded pool of analysis threads), file watching, settings, and the
 //! `rill.run` command with progress and cancel.
 //!
 //! It must never contain analysis logic: every answer comes from
@@ -43,6 +43,8 @@
 mod answers;
 mod convert;
 pub mod document;
+mod framing;
+mod pool;
 pub mod position;
 mod runner;
 mod schedule;
@@ -54,6 +56,9 @@ mod state;
 use tokio::io::{AsyncRead, AsyncWrite};
 use tokio::sync::oneshot;
 use tower_lsp::{LspService, Server};
+
+/// Buffer of the in-process pipes around `tower-lsp`.
+const PIPE: usize = 1 << 20;
 
 /// Serve the protocol on `input`/`output` until `exit` (or the end of the
 /// input). Returns the process exit code the protocol asks for: 0 when a
@@ -73,9 +78,23 @@ where
     let shared = service.inner().shared.clone();
     let (exit_tx, exit_rx) = oneshot::channel();
     let service = sequencer::Sequencer::new(service, shared.clone(), exit_tx);
-    tokio::select! {
-        _ = Server::new(input, output, socket).serve(service) => {}
-        _ = exit_rx => {}
+    // `tower-lsp` talks to the client through `framing`, which answers
+    // malformed messages itself and keeps the session going.
+    let (to_server, server_in) = tokio::io::duplex(PIPE);
+    let (server_out, from_server) = tokio::io::duplex(PIPE);
+    let (replies_tx, replies_rx) = tokio::sync::mpsc::channel(64);
+    let server = Server::new(server_in, server_out, socket).serve(service);
+    let read = framing::read_in(input, to_server, replies_tx);
+    let write = framing::write_out(from_server, replies_rx, output);
+    tokio::pin!(write);
+    let written = tokio::select! {
+        _ = async { tokio::join!(server, read) } => false,
+        _ = exit_rx => false,
+        _ = &mut write => true,
+    };
+    if !written {
+        // The server's half of the pipe is gone now: send what it wrote.
+        let _ = tokio::time::timeout(std::time::Duration::from_secs(2), write).await;
     }
     shared.runs.cancel_all();
     if shared.is_shut_down() {

@@ -2,12 +2,18 @@
 //!
 //! Each open document that is not included by another open deck is a
 //! *root* with one worker task. A change wakes the worker; after a short
-//! debounce it analyses the latest text on a blocking thread, and publishes
+//! debounce it analyses the latest text on a pool thread, and publishes
 //! only if no newer version arrived meanwhile (the newer change has woken
 //! the worker again). The check and the publication happen under one lock,
 //! so diagnostics of an older version never follow those of a newer one.
 //! A root's analysis also yields the diagnostics of its includes and array
 //! files, published to their own URIs and cleared when they disappear.
+//!
+//! Analyses run on a bounded pool (`pool`): a worker takes one of
+//! `Shared::analysis_slots` before it reads the document, so however many
+//! documents are open, only a few threads analyse at once; the
+//! others queue, each for the newest version of its document (read once a
+//! slot is free), and a closed document leaves the queue at once.
 
 use crate::convert::{self, FileTexts};
 use crate::document::uri_path;
@@ -105,29 +111,49 @@ async fn worker(
         if stop.load(Ordering::SeqCst) {
             return;
         }
+        // Queue for a slot; a close (or a newer change) wakes the wait.
+        let slot = loop {
+            tokio::select! {
+                slot = shared.analysis_slots.clone().acquire_owned() => break slot,
+                _ = notify.notified() => {
+                    if stop.load(Ordering::SeqCst) {
+                        return;
+                    }
+                }
+            }
+        };
+        let Ok(slot) = slot else {
+            return; // the pool is closed: the server is ending
+        };
+        if stop.load(Ordering::SeqCst) {
+            return;
+        }
         let Some(input) = shared.input(&uri) else {
             return;
         };
         let version = input.version;
         let prepare = !prepared;
-        let analyzed = match tokio::task::spawn_blocking(move || {
-            let cache = input.cache.clone();
-            let analyzed = input.analyze();
-            if prepare {
-                prepare_first_edits(&analyzed, &cache);
-            }
-            analyzed
-        })
-        .await
-        {
-            Ok(a) => {
+        let analyzed = shared
+            .pool
+            .run(move || {
+                let cache = input.cache.clone();
+                let analyzed = input.analyze();
+                if prepare {
+                    prepare_first_edits(&analyzed, &cache);
+                }
+                drop(slot);
+                analyzed
+            })
+            .await;
+        let analyzed = match analyzed {
+            Some(a) => {
                 prepared = true;
                 Arc::new(a)
             }
-            Err(e) => {
+            None => {
                 shared.log(
                     MessageType::ERROR,
-                    format!("analysis of {} failed: {e}", display(&uri)),
+                    format!("analysis of {} failed", display(&uri)),
                 );
                 continue;
             }
@@ -341,11 +367,17 @@ pub async fn analyzed(shared: &Arc<Shared>, uri: &Url) -> Option<Arc<Analyzed>> 
     }
     // Not a root (an included deck), or the document moved on while we
     // waited: analyse the document on its own.
+    let slot = shared.analysis_slots.clone().acquire_owned().await.ok()?;
     let input = shared.input(uri)?;
     let analyzed = Arc::new(
-        tokio::task::spawn_blocking(move || input.analyze())
-            .await
-            .ok()?,
+        shared
+            .pool
+            .run(move || {
+                let analyzed = input.analyze();
+                drop(slot);
+                analyzed
+            })
+            .await?,
     );
     let mut a = lock(&shared.analyses);
     if !a.workers.contains_key(uri) {

@@ -95,6 +95,17 @@ impl Service<Request> for Sequencer {
                 }
                 Box::pin(fut)
             }
+            m if m.starts_with("$/") && req.id().is_some() => {
+                // `tower-lsp` drops "method not found" for every `$/`
+                // method, requests included; a request must be answered.
+                let id = req.id().cloned().unwrap_or_default();
+                let fut = self.inner.call(req);
+                Box::pin(async move {
+                    Ok(Some(fut.await?.unwrap_or_else(|| {
+                        Response::from_error(id, tower_lsp::jsonrpc::Error::method_not_found())
+                    })))
+                })
+            }
             _ => Box::pin(self.inner.call(req)),
         }
     }

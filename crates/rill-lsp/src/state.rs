@@ -136,6 +136,20 @@ pub struct Shared {
     pub shutdown: AtomicBool,
     pub debounce: Duration,
     pub runs: crate::runner::Runs,
+    /// Analyses running at once: a few pool threads, whatever the
+    /// number of open documents (the others queue, see `schedule`).
+    pub analysis_slots: Arc<tokio::sync::Semaphore>,
+    /// The threads analyses run on, as many as there are slots.
+    pub pool: crate::pool::Pool,
+}
+
+/// How many analyses run at once: one per core, at most four (each may be
+/// a million-cell deck; more at once would only share the cores).
+pub fn analysis_slots() -> usize {
+    std::thread::available_parallelism()
+        .map(|n| n.get())
+        .unwrap_or(1)
+        .clamp(1, 4)
 }
 
 /// Lock a mutex, recovering from poisoning: the data are plain maps whose
@@ -160,6 +174,8 @@ impl Shared {
             // analysis is taken up by the next one.
             debounce: Duration::from_millis(5),
             runs: Default::default(),
+            analysis_slots: Arc::new(tokio::sync::Semaphore::new(analysis_slots())),
+            pool: crate::pool::Pool::new(analysis_slots()),
         }
     }
 

@@ -2,15 +2,21 @@
 //!
 //! A result set is built in a staging directory beside the target (same
 //! parent, so the same filesystem), every file is synced, and then it is
-//! swapped into place: the previous set is renamed aside, the new one renamed
-//! in, the parent directory synced, the previous set removed. A failure at any
-//! point before the swap removes the staging directory and leaves the
-//! previous set untouched; a reader sees either the old set or the new one,
-//! never a mixture (between the two renames the target is briefly absent).
+//! swapped into place. On Linux the two directories are exchanged in one
+//! step (`renameat2` with `RENAME_EXCHANGE`): the target always exists, and
+//! a kill at any moment leaves either the old set or the new one in place.
+//! Elsewhere, or where the filesystem refuses the exchange, the previous set
+//! is renamed aside and the new one renamed in (between the two renames the
+//! target is briefly absent). Then the parent directory is synced and the
+//! previous set removed. A failure at any point before the swap removes the
+//! staging directory and leaves the previous set untouched; a reader sees
+//! either the old set or the new one, never a mixture.
 //!
-//! A process killed while writing leaves a hidden `.NAME.rill-new-*`
-//! directory beside the target; later successful writes remove such
-//! leftovers once they are older than [`STALE_AFTER`].
+//! A process killed while writing leaves a hidden `.NAME.rill-new-PID-*`
+//! (or `.NAME.rill-old-PID-*`) directory beside the target. The next write
+//! of the same target removes, before it starts, those whose writer process
+//! is gone, and any older than [`STALE_AFTER`] (the process id may have been
+//! reused).
 
 use std::fs::{self, File};
 use std::io::{self, BufWriter, Write};
@@ -25,13 +31,17 @@ pub(crate) const MARKER: &str = ".rill-results";
 const MARKER_TEXT: &str = "This directory was written by rill. Every run replaces it as a whole:\n\
 do not keep other files in it.\n";
 
-/// Leftover staging directories older than this are removed by later writes.
+/// Leftover staging directories older than this are removed by later
+/// writes even when a process with their writer's id runs.
 pub(crate) const STALE_AFTER: Duration = Duration::from_secs(3600);
 
 #[cfg(test)]
 thread_local! {
     /// Test-only failure point: writing the file with this relative path fails.
     pub(crate) static FAIL_ON: std::cell::RefCell<Option<String>> = const { std::cell::RefCell::new(None) };
+    /// Test-only kill point: `publish` stops right after the swap, as a
+    /// process killed there would (nothing removed, nothing swept).
+    pub(crate) static STOP_AFTER_SWAP: std::cell::Cell<bool> = const { std::cell::Cell::new(false) };
 }
 
 /// The lexically normalised absolute form of `path`, with the longest
@@ -93,8 +103,9 @@ impl Staging {
     pub fn new(target: &Path) -> Result<Staging, OutputError> {
         let (parent, name) = split(target)?;
         fs::create_dir_all(&parent).map_err(|e| io_err(&parent, e))?;
+        sweep_leftovers(&parent, &name);
         let dir = tempfile::Builder::new()
-            .prefix(&format!(".{name}.rill-new-"))
+            .prefix(&format!(".{name}.rill-new-{}-", std::process::id()))
             .tempdir_in(&parent)
             .map_err(|e| io_err(&parent, e))?;
         let mut staging = Staging {
@@ -147,24 +158,24 @@ impl Staging {
         let target = &self.target;
         let mut notes = Vec::new();
 
-        // Renaming the previous set aside.
         let old = match fs::symlink_metadata(target) {
-            Ok(_) => {
-                let aside = unique_sibling(&parent, &format!(".{name}.rill-old-"));
-                fs::rename(target, &aside).map_err(|e| io_err(target, e))?;
-                Some(aside)
+            Ok(_) => match exchange(self.dir.path(), target) {
+                // The staging path now holds the previous set.
+                Ok(()) => Some(self.dir.path().to_path_buf()),
+                Err(_) => Some(swap_by_renames(self.dir.path(), &parent, &name, target)?),
+            },
+            Err(e) if e.kind() == io::ErrorKind::NotFound => {
+                fs::rename(self.dir.path(), target).map_err(|e| io_err(target, e))?;
+                None
             }
-            Err(e) if e.kind() == io::ErrorKind::NotFound => None,
             Err(e) => return Err(io_err(target, e)),
         };
-        // Renaming the new set in; on failure the previous set goes back.
-        if let Err(e) = fs::rename(self.dir.path(), target) {
-            if let Some(aside) = &old {
-                let _ = fs::rename(aside, target);
-            }
-            return Err(io_err(target, e));
-        }
         let _kept = self.dir.keep();
+        #[cfg(test)]
+        if STOP_AFTER_SWAP.with(|s| s.get()) {
+            let files = self.files.iter().map(|rel| target.join(rel)).collect();
+            return Ok((files, notes));
+        }
         sync_dir(&parent)?;
         if let Some(aside) = old {
             if let Err(e) = fs::remove_dir_all(&aside) {
@@ -178,6 +189,56 @@ impl Staging {
         let files = self.files.iter().map(|rel| target.join(rel)).collect();
         Ok((files, notes))
     }
+}
+
+/// Exchanges `new` and `target` atomically: both exist before and after.
+#[cfg(target_os = "linux")]
+pub(crate) fn exchange(new: &Path, target: &Path) -> io::Result<()> {
+    use std::ffi::CString;
+    use std::os::unix::ffi::OsStrExt;
+    let cstr = |p: &Path| {
+        CString::new(p.as_os_str().as_bytes())
+            .map_err(|_| io::Error::from(io::ErrorKind::InvalidInput))
+    };
+    let (from, to) = (cstr(new)?, cstr(target)?);
+    // SAFETY: both paths are NUL-terminated strings that outlive the call.
+    let rc = unsafe {
+        libc::renameat2(
+            libc::AT_FDCWD,
+            from.as_ptr(),
+            libc::AT_FDCWD,
+            to.as_ptr(),
+            libc::RENAME_EXCHANGE,
+        )
+    };
+    if rc == 0 {
+        Ok(())
+    } else {
+        Err(io::Error::last_os_error())
+    }
+}
+
+/// No atomic exchange here: [`swap_by_renames`] does it in two steps.
+#[cfg(not(target_os = "linux"))]
+pub(crate) fn exchange(_new: &Path, _target: &Path) -> io::Result<()> {
+    Err(io::Error::from(io::ErrorKind::Unsupported))
+}
+
+/// The previous set renamed aside, the new one renamed in; on failure the
+/// previous set goes back. Returns where the previous set now is.
+fn swap_by_renames(
+    new: &Path,
+    parent: &Path,
+    name: &str,
+    target: &Path,
+) -> Result<PathBuf, OutputError> {
+    let aside = unique_sibling(parent, &format!(".{name}.rill-old-"));
+    fs::rename(target, &aside).map_err(|e| io_err(target, e))?;
+    if let Err(e) = fs::rename(new, target) {
+        let _ = fs::rename(&aside, target);
+        return Err(io_err(target, e));
+    }
+    Ok(aside)
 }
 
 /// Parent directory and final component of a target path.
@@ -216,9 +277,10 @@ fn unique_sibling(parent: &Path, prefix: &str) -> PathBuf {
     }
 }
 
-/// Removes `.NAME.rill-new-*` and `.NAME.rill-old-*` directories older than
-/// [`STALE_AFTER`] (left by killed processes). Best effort, errors ignored.
-fn sweep_leftovers(parent: &Path, name: &str) {
+/// Removes `.NAME.rill-new-*` and `.NAME.rill-old-*` directories left by
+/// killed processes: those whose writer (the process id after the prefix)
+/// is gone, and any older than [`STALE_AFTER`]. Best effort, errors ignored.
+pub(crate) fn sweep_leftovers(parent: &Path, name: &str) {
     let Ok(entries) = fs::read_dir(parent) else {
         return;
     };
@@ -228,7 +290,19 @@ fn sweep_leftovers(parent: &Path, name: &str) {
         let Some(file_name) = file_name.to_str() else {
             continue;
         };
-        if !prefixes.iter().any(|p| file_name.starts_with(p.as_str())) {
+        let Some(rest) = prefixes
+            .iter()
+            .find_map(|p| file_name.strip_prefix(p.as_str()))
+        else {
+            continue;
+        };
+        let writer_gone = rest
+            .split('-')
+            .next()
+            .and_then(|pid| pid.parse::<u32>().ok())
+            .is_some_and(|pid| pid != std::process::id() && !process_runs(pid));
+        if writer_gone {
+            let _ = fs::remove_dir_all(entry.path());
             continue;
         }
         let old_enough = entry
@@ -241,6 +315,25 @@ fn sweep_leftovers(parent: &Path, name: &str) {
             let _ = fs::remove_dir_all(entry.path());
         }
     }
+}
+
+/// Whether process `pid` exists (unknown counts as running).
+#[cfg(unix)]
+fn process_runs(pid: u32) -> bool {
+    let Ok(pid) = libc::pid_t::try_from(pid) else {
+        return true;
+    };
+    if pid <= 0 {
+        return true;
+    }
+    // SAFETY: signal 0 only checks that the process exists; nothing is sent.
+    let rc = unsafe { libc::kill(pid, 0) };
+    rc == 0 || io::Error::last_os_error().raw_os_error() != Some(libc::ESRCH)
+}
+
+#[cfg(not(unix))]
+fn process_runs(_pid: u32) -> bool {
+    true
 }
 
 fn sync_dir(dir: &Path) -> Result<(), OutputError> {

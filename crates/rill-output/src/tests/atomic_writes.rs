@@ -4,7 +4,7 @@ use std::fs;
 use std::path::Path;
 
 use super::fixtures::*;
-use crate::atomic::FAIL_ON;
+use crate::atomic::{FAIL_ON, STOP_AFTER_SWAP};
 use crate::{
     default_out_dir, write_results, write_system, write_system_with, OutputError, RunMeta,
 };
@@ -268,4 +268,120 @@ fn export_system_writes_both_files_atomically() {
 
     let err = write_system(dir.path(), &deck, b"", b"").unwrap_err();
     assert!(err.to_string().contains("deck's own directory"), "{err}");
+}
+
+#[cfg(target_os = "linux")]
+#[test]
+fn directories_are_exchanged_in_one_step() {
+    let dir = tempfile::tempdir().unwrap();
+    let (a, b) = (dir.path().join("a"), dir.path().join("b"));
+    fs::create_dir(&a).unwrap();
+    fs::create_dir(&b).unwrap();
+    fs::write(a.join("from_a"), "a").unwrap();
+    fs::write(b.join("from_b"), "b").unwrap();
+    crate::atomic::exchange(&a, &b).unwrap();
+    assert_eq!(siblings(&a), ["from_b"]);
+    assert_eq!(siblings(&b), ["from_a"]);
+}
+
+/// Publishes with the process "killed" right after the swap.
+struct StopAfterSwap;
+impl StopAfterSwap {
+    fn set() -> StopAfterSwap {
+        STOP_AFTER_SWAP.with(|s| s.set(true));
+        StopAfterSwap
+    }
+}
+impl Drop for StopAfterSwap {
+    fn drop(&mut self) {
+        STOP_AFTER_SWAP.with(|s| s.set(false));
+    }
+}
+
+#[test]
+fn a_kill_after_the_swap_leaves_the_new_set_in_place() {
+    let (dir, deck) = deck_dir();
+    let out = dir.path().join("lobe.out");
+    let case = case(3, 2, 2, UnitSystem::Field);
+    let results = results(&case);
+    let meta = RunMeta::new(&deck);
+    write_results(&out, &case, &results, &meta).unwrap();
+    let mut other = results.clone();
+    other.pressure_avg[2] = 1234.0 * PSI;
+    {
+        let _kill = StopAfterSwap::set();
+        write_results(&out, &case, &other, &meta).unwrap();
+    }
+    // The result folder is there, holding the new set; the previous set is
+    // in a hidden folder named after this process.
+    let series = fs::read_to_string(out.join("series.csv")).unwrap();
+    let fresh = dir.path().join("fresh.out");
+    write_results(&fresh, &case, &other, &meta).unwrap();
+    assert_eq!(
+        series,
+        fs::read_to_string(fresh.join("series.csv")).unwrap()
+    );
+    let pid = std::process::id();
+    let hidden: Vec<String> = siblings(dir.path())
+        .into_iter()
+        .filter(|n| n.starts_with(".lobe.out.rill-"))
+        .collect();
+    assert_eq!(hidden.len(), 1, "{hidden:?}");
+    let prefix = if cfg!(target_os = "linux") {
+        format!(".lobe.out.rill-new-{pid}-") // exchanged: staging holds the old set
+    } else {
+        format!(".lobe.out.rill-old-{pid}-")
+    };
+    assert!(hidden[0].starts_with(&prefix), "{hidden:?}");
+}
+
+/// The id of a process that has ended.
+#[cfg(unix)]
+fn dead_pid() -> u32 {
+    let mut child = std::process::Command::new("true").spawn().unwrap();
+    let pid = child.id();
+    child.wait().unwrap();
+    pid
+}
+
+#[cfg(unix)]
+#[test]
+fn leftovers_of_ended_writers_are_removed_when_the_next_run_starts() {
+    let (dir, deck) = deck_dir();
+    let out = dir.path().join("lobe.out");
+    let case = case(3, 2, 2, UnitSystem::Field);
+    let results = results(&case);
+    let meta = RunMeta::new(&deck);
+    let mut live = std::process::Command::new("sleep")
+        .arg("30")
+        .spawn()
+        .unwrap();
+    let dead = dead_pid();
+    let leftovers = [
+        (format!(".lobe.out.rill-new-{dead}-Ab12Cd"), false),
+        (format!(".lobe.out.rill-old-{dead}-17-0"), false),
+        (format!(".lobe.out.rill-new-{}-Xy34Zw", live.id()), true),
+        (
+            format!(".lobe.out.rill-new-{}-Own567", std::process::id()),
+            true,
+        ),
+        // Another target's leftovers are not this run's business.
+        (format!(".other.out.rill-new-{dead}-Qr89St"), true),
+    ];
+    for (name, _) in &leftovers {
+        let p = dir.path().join(name);
+        fs::create_dir(&p).unwrap();
+        fs::write(p.join("series.csv"), vec![b'x'; 4096]).unwrap();
+    }
+    // Even a run that then fails sweeps first.
+    {
+        let _guard = FailOn::set("report.html");
+        write_results(&out, &case, &results, &meta).unwrap_err();
+    }
+    let _ = live.kill();
+    let _ = live.wait();
+    let now = siblings(dir.path());
+    for (name, kept) in &leftovers {
+        assert_eq!(now.contains(name), *kept, "{name}: {now:?}");
+    }
 }
