@@ -33,6 +33,8 @@
 //!   `rill_model::derived`, shown with `rill_units::format_number` in the
 //!   deck's report units and in SI, as `rill inspect` prints them.
 
+#![warn(clippy::too_many_lines)]
+
 mod actions;
 mod complete;
 mod hints;
