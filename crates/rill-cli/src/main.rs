@@ -2,6 +2,8 @@
 //! rendering results for a terminal or as JSON. It must not contain logic
 //! that the language server also needs; that lives in the library crates.
 
+#![warn(clippy::too_many_lines)]
+
 mod check;
 mod fmt;
 mod inspect;

@@ -408,10 +408,10 @@ fn looks_like_number(tok: &str) -> bool {
     !tok.is_empty() && tok.parse::<f64>().is_ok() && !tok.starts_with(['+', 'i', 'I', 'n', 'N'])
 }
 
-/// After `key =`: enum values, value forms, units after a number, `at`.
 /// Bytes of a value scanned back from the cursor.
 const MAX_SCAN: usize = 4096;
 
+/// After `key =`: enum values, value forms, units after a number, `at`.
 fn value_completion(
     snap: &Snapshot,
     def: &BlockDef,
@@ -446,64 +446,13 @@ fn value_completion(
     let before = rest[..rest.len() - word_len].trim_end();
     let replace = Span::new(rest_off + rest.len() - word_len, off);
     let tokens: Vec<&str> = before.split_whitespace().collect();
-    let mut out = Vec::new();
     let is_ident_prefix = word.bytes().all(|b| b.is_ascii_alphanumeric() || b == b'_')
         && !word.starts_with(|c: char| c.is_ascii_digit());
     if tokens.is_empty() {
         if !is_ident_prefix {
-            return out;
+            return Vec::new();
         }
-        let names: &[&str] = match kd.kind {
-            ValueKind::Choice(names) => names,
-            ValueKind::Control => schema::CONTROL_MODES,
-            _ => &[],
-        };
-        for (n, name) in names.iter().enumerate() {
-            out.push(item(
-                name,
-                CompletionKind::EnumValue,
-                Some(value_words(kd.kind)),
-                kd.doc,
-                replace,
-                n,
-            ));
-        }
-        let forms: &[(&str, &str)] = match kd.kind {
-            ValueKind::Property(_) => &[
-                ("layers", "layers [${1}]"),
-                ("cells", "cells [${1}]"),
-                ("file", "file \"${1}\""),
-            ],
-            ValueKind::Spacing(schema::Axis::Z) => {
-                &[("cells", "cells [${1}]"), ("file", "file \"${1}\"")]
-            }
-            ValueKind::Top => &[("columns", "columns [${1}]"), ("file", "file \"${1}\"")],
-            ValueKind::PressureAtDepth => &[
-                ("layers", "layers [${1}]"),
-                ("cells", "cells [${1}]"),
-                ("file", "file \"${1}\""),
-            ],
-            _ => &[],
-        };
-        for (n, (label, snippet)) in forms.iter().enumerate() {
-            let mut it = item(
-                label,
-                CompletionKind::Keyword,
-                Some("value form".into()),
-                "",
-                replace,
-                10 + n,
-            );
-            it.insert_text = snippet.to_string();
-            it.snippet = true;
-            it.documentation = None;
-            out.push(it);
-        }
-        if matches!(kd.kind, ValueKind::Property(_)) && (def.name == "rock" || def.name == "patch")
-        {
-            out.extend(references(kd, replace));
-        }
-        return out;
+        return first_word_items(def, kd, replace);
     }
     let prev = tokens.last().copied().unwrap_or("");
     let first = tokens.first().copied().unwrap_or("");
@@ -515,42 +464,10 @@ fn value_completion(
         || word.starts_with(|c: char| c.is_ascii_alphabetic() || c == '%' || c == '(')
         || word.starts_with("1/");
     if after_value && unit_word {
-        let dim = match kd.kind {
-            ValueKind::Control => match first {
-                "rate" => Some(Dim::SURFACE_RATE),
-                "bhp" => Some(Dim::PRESSURE),
-                _ => None,
-            },
-            ValueKind::PressureAtDepth if has_at => Some(Dim::LENGTH),
-            other => key_dim(other),
-        };
-        // Inside arithmetic (`0.1 * kx`) a bare factor needs no unit.
-        let arithmetic = tokens.iter().any(|t| matches!(*t, "*" | "/" | "+" | "-"));
-        if let (Some(dim), false) = (dim, arithmetic) {
-            for (n, u) in rill_units::accepted_units(dim)
-                .into_iter()
-                .filter(|u| u != "1")
-                .enumerate()
-            {
-                let detail = rill_units::lookup(&u)
-                    .map(|d| d.description.to_string())
-                    .or_else(|| Some(dim.describe().to_string()));
-                out.push(CompletionItem {
-                    label: u.clone(),
-                    kind: CompletionKind::Unit,
-                    detail,
-                    documentation: None,
-                    insert_text: u,
-                    snippet: false,
-                    replace,
-                    sort_text: format!("{n:02}"),
-                });
-            }
-        }
-        return out;
+        return unit_items(kd, &tokens, first, has_at, replace);
     }
     if !is_ident_prefix {
-        return out;
+        return Vec::new();
     }
     // `3200 psi |` -> `at`.
     if kd.kind == ValueKind::PressureAtDepth
@@ -558,18 +475,119 @@ fn value_completion(
         && tokens.len() >= 2
         && looks_like_number(tokens[tokens.len() - 2])
     {
-        out.push(item(
+        return vec![item(
             "at",
             CompletionKind::Keyword,
             Some("datum depth".into()),
             "The depth at which the pressure holds.",
             replace,
             0,
-        ));
-        return out;
+        )];
     }
     if matches!(prev, "*" | "/" | "+" | "-") && matches!(kd.kind, ValueKind::Property(_)) {
+        return references(kd, replace);
+    }
+    Vec::new()
+}
+
+/// The value's first word: the key's choices or control modes, its value
+/// forms (`layers`, `cells`, `file`, `columns`) and, for rock properties,
+/// the other properties to compute from.
+fn first_word_items(def: &BlockDef, kd: &KeyDef, replace: Span) -> Vec<CompletionItem> {
+    let mut out = Vec::new();
+    let names: &[&str] = match kd.kind {
+        ValueKind::Choice(names) => names,
+        ValueKind::Control => schema::CONTROL_MODES,
+        _ => &[],
+    };
+    for (n, name) in names.iter().enumerate() {
+        out.push(item(
+            name,
+            CompletionKind::EnumValue,
+            Some(value_words(kd.kind)),
+            kd.doc,
+            replace,
+            n,
+        ));
+    }
+    let forms: &[(&str, &str)] = match kd.kind {
+        ValueKind::Property(_) => &[
+            ("layers", "layers [${1}]"),
+            ("cells", "cells [${1}]"),
+            ("file", "file \"${1}\""),
+        ],
+        ValueKind::Spacing(schema::Axis::Z) => {
+            &[("cells", "cells [${1}]"), ("file", "file \"${1}\"")]
+        }
+        ValueKind::Top => &[("columns", "columns [${1}]"), ("file", "file \"${1}\"")],
+        ValueKind::PressureAtDepth => &[
+            ("layers", "layers [${1}]"),
+            ("cells", "cells [${1}]"),
+            ("file", "file \"${1}\""),
+        ],
+        _ => &[],
+    };
+    for (n, (label, snippet)) in forms.iter().enumerate() {
+        let mut it = item(
+            label,
+            CompletionKind::Keyword,
+            Some("value form".into()),
+            "",
+            replace,
+            10 + n,
+        );
+        it.insert_text = snippet.to_string();
+        it.snippet = true;
+        it.documentation = None;
+        out.push(it);
+    }
+    if matches!(kd.kind, ValueKind::Property(_)) && (def.name == "rock" || def.name == "patch") {
         out.extend(references(kd, replace));
+    }
+    out
+}
+
+/// Units after a number: those of the key's dimension (of the control's
+/// mode, or a length after `at`), none inside arithmetic.
+fn unit_items(
+    kd: &KeyDef,
+    tokens: &[&str],
+    first: &str,
+    has_at: bool,
+    replace: Span,
+) -> Vec<CompletionItem> {
+    let mut out = Vec::new();
+    let dim = match kd.kind {
+        ValueKind::Control => match first {
+            "rate" => Some(Dim::SURFACE_RATE),
+            "bhp" => Some(Dim::PRESSURE),
+            _ => None,
+        },
+        ValueKind::PressureAtDepth if has_at => Some(Dim::LENGTH),
+        other => key_dim(other),
+    };
+    // Inside arithmetic (`0.1 * kx`) a bare factor needs no unit.
+    let arithmetic = tokens.iter().any(|t| matches!(*t, "*" | "/" | "+" | "-"));
+    if let (Some(dim), false) = (dim, arithmetic) {
+        for (n, u) in rill_units::accepted_units(dim)
+            .into_iter()
+            .filter(|u| u != "1")
+            .enumerate()
+        {
+            let detail = rill_units::lookup(&u)
+                .map(|d| d.description.to_string())
+                .or_else(|| Some(dim.describe().to_string()));
+            out.push(CompletionItem {
+                label: u.clone(),
+                kind: CompletionKind::Unit,
+                detail,
+                documentation: None,
+                insert_text: u,
+                snippet: false,
+                replace,
+                sort_text: format!("{n:02}"),
+            });
+        }
     }
     out
 }

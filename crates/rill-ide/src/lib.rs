@@ -33,6 +33,9 @@
 //!   `rill_model::derived`, shown with `rill_units::format_number` in the
 //!   deck's report units and in SI, as `rill inspect` prints them.
 
+#![warn(missing_docs)]
+#![warn(clippy::too_many_lines)]
+
 mod actions;
 mod complete;
 mod hints;
@@ -65,10 +68,13 @@ pub struct Config {
 /// Markdown shown on hover, and the span it describes.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Hover {
+    /// The text the hover describes, byte offsets in the open document.
     pub range: Span,
+    /// The hover's contents, Markdown.
     pub markdown: String,
 }
 
+/// What a completion item inserts; the server maps it to the editor's icons.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum CompletionKind {
     /// A block name (`grid`, `well`, `patch`).
@@ -91,15 +97,21 @@ pub enum CompletionKind {
     Folder,
 }
 
+/// One completion proposal at the cursor.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CompletionItem {
+    /// What the list shows and the editor filters on (a key, a unit name).
     pub label: String,
+    /// What the item is.
     pub kind: CompletionKind,
+    /// One line beside the label (a unit's description, "value form").
     pub detail: Option<String>,
+    /// The longer description, Markdown (a key's documentation).
     pub documentation: Option<String>,
     /// Text that replaces `replace`. When `snippet` is true it uses the
     /// snippet syntax `${1:placeholder}`, `$0`.
     pub insert_text: String,
+    /// `insert_text` is a snippet with tab stops, not plain text.
     pub snippet: bool,
     /// The text the item replaces (the word typed so far; empty at the cursor).
     pub replace: Span,
@@ -107,23 +119,32 @@ pub struct CompletionItem {
     pub sort_text: String,
 }
 
+/// What a block of the outline is.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum SymbolKind {
     /// `case` metadata.
     Case,
+    /// The `grid` block: cell counts and sizes.
     Grid,
+    /// The `rock` block: porosity, permeability, compressibility.
     Rock,
     /// A `patch` inside `rock`.
     Patch,
+    /// The `fluid` block.
     Fluid,
+    /// The `initial` block: the initial pressure.
     Initial,
+    /// A `well` block.
     Well,
+    /// A `boundary` block (a constant-pressure side).
     Boundary,
+    /// The `timeline` block: the schedule of events.
     Timeline,
     /// An `at` event inside `timeline`.
     Event,
     /// A well change inside an event.
     WellChange,
+    /// The `report` block: how results are shown (their unit system).
     Report,
     /// An `include` directive.
     Include,
@@ -131,47 +152,71 @@ pub enum SymbolKind {
     Unknown,
 }
 
+/// A block in the outline of the open document, with the blocks inside it.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Symbol {
+    /// The name shown: a well's or boundary's label, `patch` or `at` with
+    /// its header, or the block name.
     pub name: String,
+    /// A short summary beside the name (a well's role, a boundary's side,
+    /// the grid's cells).
     pub detail: Option<String>,
+    /// What the block is.
     pub kind: SymbolKind,
     /// The whole block.
     pub range: Span,
     /// The part to select: the label, or the block name.
     pub selection: Span,
+    /// The blocks and includes inside this one, in text order.
     pub children: Vec<Symbol>,
 }
 
 /// A place in some file of the analysis.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Target {
+    /// The open document, a deck it includes, or an array file (resolved
+    /// against the open document's folder).
     pub file: PathBuf,
+    /// Byte offsets in `file`; empty at 0 when the target is the whole file
+    /// (an included deck, an array file).
     pub span: Span,
 }
 
+/// The class of a semantic token, for the editor's colours.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum TokenKind {
+    /// A block name (`grid`, `well`).
     Block,
+    /// A key before `=`, or another property named in arithmetic (`kx`).
     Key,
+    /// A unit expression after a value.
     Unit,
+    /// A number, or each number of a list.
     Number,
     /// A label string (`well "LE-1"`).
     Name,
+    /// Any other string (a file name), without its unit.
     String,
+    /// A comment, to the end of its line.
     Comment,
+    /// One of the names a key takes (`producer`, `east`).
     EnumValue,
+    /// `=`, arithmetic, the `..` of ranges and the `x` of grid sizes.
     Operator,
     /// `at`, `layers`, `cells`, `file`, `columns`, `include`.
     Keyword,
 }
 
+/// A classified piece of the open document.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct SemanticToken {
+    /// Byte offsets in the open document.
     pub span: Span,
+    /// What the token is.
     pub kind: TokenKind,
 }
 
+/// What an inlay hint tells.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum InlayHintKind {
     /// A quantity in another unit system (`≈ 220.6 bar`).
@@ -180,30 +225,43 @@ pub enum InlayHintKind {
     Count,
 }
 
+/// A short note the editor shows inside the text, after a value.
 #[derive(Debug, Clone, PartialEq)]
 pub struct InlayHint {
     /// Byte offset the hint stands after.
     pub offset: usize,
     /// The hint text, without padding: the server adds a space before it.
     pub label: String,
+    /// What the hint tells.
     pub kind: InlayHintKind,
 }
 
+/// Whether a code action repairs a diagnostic or only rewrites correct text.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum CodeActionKind {
+    /// Fixes a diagnostic (its own suggested fix, or a list of the wrong
+    /// length padded or cut).
     QuickFix,
+    /// Changes correct text without changing its meaning (a value in
+    /// another unit system).
     Refactor,
 }
 
+/// A replacement of part of the open document.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct TextEdit {
+    /// The bytes replaced (empty: an insertion at `span.start`).
     pub span: Span,
+    /// The text put in their place.
     pub new_text: String,
 }
 
+/// An edit the editor offers for a range of the open document.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CodeAction {
+    /// What the action does, as the editor's menu shows it.
     pub title: String,
+    /// Whether it fixes a diagnostic or rewrites correct text.
     pub kind: CodeActionKind,
     /// Edits of the open document, not overlapping.
     pub edits: Vec<TextEdit>,
@@ -211,9 +269,12 @@ pub struct CodeAction {
     pub diagnostic: Option<usize>,
 }
 
+/// A line of text the editor shows above a block, optionally runnable.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CodeLens {
+    /// The text the lens stands above (the case's first block name).
     pub span: Span,
+    /// What the lens shows ("▶ Run case", or the errors to fix first).
     pub title: String,
     /// The command to run (`rill.run`); `None` for a lens that only informs
     /// (the case has errors and cannot run).
@@ -280,14 +341,17 @@ impl Snapshot {
         }
     }
 
+    /// The open document's path, as given to [`Snapshot::new`].
     pub fn path(&self) -> &Path {
         &self.path
     }
 
+    /// The text analysed: the open document's version of this snapshot.
     pub fn text(&self) -> &str {
         &self.text
     }
 
+    /// The analysis of the document and of every file it reads.
     pub fn analysis(&self) -> &Analysis {
         &self.analysis
     }

@@ -50,6 +50,7 @@
 // `!(x > 0.0)` is meant: it is also true for NaN.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 #![allow(clippy::large_enum_variant)]
+#![warn(clippy::too_many_lines)]
 
 pub mod amg;
 mod block;

@@ -9,6 +9,7 @@
 //! never panic on any input.
 
 #![warn(missing_docs)]
+#![warn(clippy::too_many_lines)]
 
 pub mod arrays;
 pub mod case;

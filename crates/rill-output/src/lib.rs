@@ -82,6 +82,7 @@
 //! case's report system (`report { units = field | metric | si }`).
 
 #![warn(missing_docs)]
+#![warn(clippy::too_many_lines)]
 
 mod atomic;
 mod csv;

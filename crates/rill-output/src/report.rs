@@ -19,7 +19,7 @@ use crate::json::mode_name;
 use crate::series::{Measure, Owner, SeriesTable};
 use crate::svg::{colour_bar, HeatMap, Line, LineChart};
 use crate::text::{escape, human};
-use crate::units::{display_unit, system_name, Quantity};
+use crate::units::{display_unit, system_name, Quantity, Unit};
 use crate::RunMeta;
 
 /// Most layer maps shown.
@@ -230,7 +230,20 @@ impl Report<'_> {
         }
         s.push_str("</table>\n</div>\n");
 
-        // Wells.
+        self.end_tables(s, t_end);
+        s.push_str(
+            "<p class=\"note\">Rates and cumulatives are at surface conditions; positive for production \
+             (out of the reservoir), negative for injection or inflow.</p>\n</section>\n",
+        );
+    }
+
+    /// The wells' and boundaries' last rates, pressures and cumulatives, at
+    /// `t_end` (the last report time, in report units).
+    fn end_tables(&self, s: &mut String, t_end: f64) {
+        let case = self.case;
+        let results = self.results;
+        let system = case.report.units;
+        let time = self.table.time();
         let p_unit = display_unit(Quantity::Pressure, system);
         let q_unit = display_unit(Quantity::SurfaceRate, system);
         let v_unit = display_unit(Quantity::SurfaceVolume, system);
@@ -299,22 +312,12 @@ impl Report<'_> {
             }
             s.push_str("</table>\n");
         }
-        s.push_str(
-            "<p class=\"note\">Rates and cumulatives are at surface conditions; positive for production \
-             (out of the reservoir), negative for injection or inflow.</p>\n</section>\n",
-        );
     }
 
-    fn charts(&self, s: &mut String) {
+    /// The wells drawn in the charts: all, or the largest by final
+    /// |cumulative| (in well order); with the caption's note when capped.
+    fn shown_wells(&self) -> (Vec<usize>, String) {
         let results = self.results;
-        let system = self.case.report.units;
-        let time = self.table.time();
-        let x_label = format!("Time [{}]", time.unit.name);
-        let q_unit = display_unit(Quantity::SurfaceRate, system);
-        let v_unit = display_unit(Quantity::SurfaceVolume, system);
-        let p_unit = display_unit(Quantity::Pressure, system);
-
-        // Wells drawn: all, or the largest by final |cumulative|.
         let mut shown: Vec<usize> = (0..results.wells.len()).collect();
         let capped = shown.len() > MAX_WELL_LINES;
         if capped {
@@ -331,6 +334,19 @@ impl Report<'_> {
         } else {
             String::new()
         };
+        (shown, cap_note)
+    }
+
+    fn charts(&self, s: &mut String) {
+        let results = self.results;
+        let system = self.case.report.units;
+        let time = self.table.time();
+        let x_label = format!("Time [{}]", time.unit.name);
+        let q_unit = display_unit(Quantity::SurfaceRate, system);
+        let v_unit = display_unit(Quantity::SurfaceVolume, system);
+        let p_unit = display_unit(Quantity::Pressure, system);
+
+        let (shown, cap_note) = self.shown_wells();
         let boundary_cum: Vec<Vec<f64>> = results
             .boundaries
             .iter()
@@ -466,49 +482,9 @@ impl Report<'_> {
         };
         let x_edges = edges(&grid.dx, block);
         let y_edges = edges(&grid.dy, block);
-        let depth = cell_center_depths(grid);
 
-        // Block-averaged display values per chosen layer (area-weighted over active cells).
-        let mut maps: Vec<(usize, Vec<Option<f64>>, f64)> = Vec::new();
-        for &k in &layers {
-            let mut sum = vec![0.0; bx * by];
-            let mut weight = vec![0.0; bx * by];
-            let mut depth_sum = 0.0;
-            for j in 0..ny {
-                for i in 0..nx {
-                    let c = grid.index(i, j, k);
-                    depth_sum += depth[c];
-                    let p = pressure[c];
-                    if case.rock.is_active(c) && p.is_finite() {
-                        let a = grid.dx[i] * grid.dy[j];
-                        let b = i / block + bx * (j / block);
-                        sum[b] += a * p_unit.show(p);
-                        weight[b] += a;
-                    }
-                }
-            }
-            let values = sum
-                .iter()
-                .zip(&weight)
-                .map(|(s, w)| (*w > 0.0).then(|| s / w))
-                .collect();
-            maps.push((k, values, length.show(depth_sum / (nx * ny) as f64)));
-        }
-        let (lo, hi) = maps
-            .iter()
-            .flat_map(|(_, v, _)| v.iter().flatten())
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
-                (a.min(v), b.max(v))
-            });
-        let range = if lo.is_finite() {
-            if hi > lo {
-                (lo, hi)
-            } else {
-                (lo - 0.5, hi + 0.5)
-            }
-        } else {
-            (0.0, 1.0)
-        };
+        let maps = layer_maps(case, pressure, &layers, block, &p_unit, &length);
+        let range = colour_range(&maps);
 
         let _ = writeln!(
             s,
@@ -729,3 +705,71 @@ pub(crate) fn derived_cautions(
 
 /// Relative balance error above which the report warns.
 pub(crate) const BALANCE_CAUTION: f64 = 1e-4;
+
+/// One drawn layer: its index, the block-averaged display pressures
+/// (`None` for a block without active cells, row by row from `j = 0`) and
+/// its mean cell centre depth in the display length unit.
+type LayerMap = (usize, Vec<Option<f64>>, f64);
+
+/// The chosen layers' pressures averaged over blocks of `block` x `block`
+/// columns, weighted by column area over the active cells with a finite
+/// pressure, in the display pressure unit.
+fn layer_maps(
+    case: &Case,
+    pressure: &[f64],
+    layers: &[usize],
+    block: usize,
+    p_unit: &Unit,
+    length: &Unit,
+) -> Vec<LayerMap> {
+    let grid = &case.grid;
+    let (nx, ny) = (grid.nx, grid.ny);
+    let (bx, by) = (nx.div_ceil(block), ny.div_ceil(block));
+    let depth = cell_center_depths(grid);
+    let mut maps: Vec<LayerMap> = Vec::new();
+    for &k in layers {
+        let mut sum = vec![0.0; bx * by];
+        let mut weight = vec![0.0; bx * by];
+        let mut depth_sum = 0.0;
+        for j in 0..ny {
+            for i in 0..nx {
+                let c = grid.index(i, j, k);
+                depth_sum += depth[c];
+                let p = pressure[c];
+                if case.rock.is_active(c) && p.is_finite() {
+                    let a = grid.dx[i] * grid.dy[j];
+                    let b = i / block + bx * (j / block);
+                    sum[b] += a * p_unit.show(p);
+                    weight[b] += a;
+                }
+            }
+        }
+        let values = sum
+            .iter()
+            .zip(&weight)
+            .map(|(s, w)| (*w > 0.0).then(|| s / w))
+            .collect();
+        maps.push((k, values, length.show(depth_sum / (nx * ny) as f64)));
+    }
+    maps
+}
+
+/// The one colour scale of all maps: the lowest and highest value drawn,
+/// widened to a unit span when they agree, (0, 1) when nothing is drawn.
+fn colour_range(maps: &[LayerMap]) -> (f64, f64) {
+    let (lo, hi) = maps
+        .iter()
+        .flat_map(|(_, v, _)| v.iter().flatten())
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
+            (a.min(v), b.max(v))
+        });
+    if lo.is_finite() {
+        if hi > lo {
+            (lo, hi)
+        } else {
+            (lo - 0.5, hi + 0.5)
+        }
+    } else {
+        (0.0, 1.0)
+    }
+}

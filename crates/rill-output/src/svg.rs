@@ -316,7 +316,37 @@ impl LineChart<'_> {
             M_TOP + PLOT_H / 2.0,
             escape(self.y_label)
         );
-        // Series.
+        self.series(&mut s, sx, sy);
+        // Legend.
+        let top = M_TOP + PLOT_H + M_BOTTOM + 4.0;
+        s.push_str("<g class=\"legend\">\n");
+        for item in &legend {
+            let (colour, dash) = series_style(self.lines[item.line].style);
+            let y = top + item.row as f64 * LEGEND_ROW + 8.0;
+            let x = M_LEFT + item.x;
+            let dash_attr = if dash.is_empty() {
+                String::new()
+            } else {
+                format!(" stroke-dasharray=\"{dash}\"")
+            };
+            let _ = writeln!(
+                s,
+                "<line x1=\"{x:.1}\" x2=\"{:.1}\" y1=\"{y:.1}\" y2=\"{y:.1}\" stroke=\"{colour}\" stroke-width=\"2.5\"{dash_attr}/>\
+                 <text x=\"{:.1}\" y=\"{:.1}\" class=\"legend-text\">{}</text>",
+                x + 22.0,
+                x + 28.0,
+                y + 4.0,
+                escape(&item.label)
+            );
+        }
+        s.push_str("</g>\n</svg>\n");
+        s
+    }
+
+    /// Each line as a path (broken at non-finite points), with point
+    /// markers when there are few report times; `sx`, `sy` map data to
+    /// drawing coordinates.
+    fn series(&self, s: &mut String, sx: impl Fn(f64) -> f64, sy: impl Fn(f64) -> f64) {
         let markers = self.xs.len() <= 40;
         for line in &self.lines {
             let (colour, dash) = series_style(line.style);
@@ -362,30 +392,6 @@ impl LineChart<'_> {
             }
             s.push_str("</g>\n");
         }
-        // Legend.
-        let top = M_TOP + PLOT_H + M_BOTTOM + 4.0;
-        s.push_str("<g class=\"legend\">\n");
-        for item in &legend {
-            let (colour, dash) = series_style(self.lines[item.line].style);
-            let y = top + item.row as f64 * LEGEND_ROW + 8.0;
-            let x = M_LEFT + item.x;
-            let dash_attr = if dash.is_empty() {
-                String::new()
-            } else {
-                format!(" stroke-dasharray=\"{dash}\"")
-            };
-            let _ = writeln!(
-                s,
-                "<line x1=\"{x:.1}\" x2=\"{:.1}\" y1=\"{y:.1}\" y2=\"{y:.1}\" stroke=\"{colour}\" stroke-width=\"2.5\"{dash_attr}/>\
-                 <text x=\"{:.1}\" y=\"{:.1}\" class=\"legend-text\">{}</text>",
-                x + 22.0,
-                x + 28.0,
-                y + 4.0,
-                escape(&item.label)
-            );
-        }
-        s.push_str("</g>\n</svg>\n");
-        s
     }
 }
 
@@ -453,29 +459,7 @@ impl HeatMap<'_> {
         let px = |x: f64| ml + (x - self.x_edges[0]) / lx * w;
         let py = |y: f64| mt + h - (y - self.y_edges[0]) / ly * h;
 
-        let (lo, hi) = self.range;
-        let level = |v: f64| -> usize {
-            let t = if hi > lo { (v - lo) / (hi - lo) } else { 0.5 };
-            ((t * LEVELS as f64).floor().max(0.0) as usize).min(LEVELS - 1)
-        };
-        // One path per colour level; runs of equal level in a row are merged.
-        let mut paths: Vec<String> = vec![String::new(); LEVELS + 1];
-        for j in 0..nj {
-            let (y0, y1) = (py(self.y_edges[j + 1]), py(self.y_edges[j]));
-            let mut i = 0;
-            while i < ni {
-                let lv = self.values[i + ni * j].map_or(LEVELS, level);
-                let start = i;
-                while i + 1 < ni && self.values[i + 1 + ni * j].map_or(LEVELS, level) == lv {
-                    i += 1;
-                }
-                let (x0, x1) = (px(self.x_edges[start]), px(self.x_edges[i + 1]));
-                let d = &mut paths[lv];
-                let (x0, x1) = (r1(x0), r1(x1));
-                let _ = write!(d, "M{x0} {}H{x1}V{}H{x0}z", r1(y0), r1(y1));
-                i += 1;
-            }
-        }
+        let paths = self.level_paths(px, py);
         let mut s = String::new();
         let _ = write!(
             s,
@@ -574,6 +558,38 @@ impl HeatMap<'_> {
         );
         s.push_str("</svg>\n");
         s
+    }
+
+    /// One SVG path per colour level (the last, [`LEVELS`], for cells
+    /// without data); runs of equal level in a row are merged into one
+    /// rectangle. `px`, `py` map edge coordinates to drawing coordinates.
+    fn level_paths(&self, px: impl Fn(f64) -> f64, py: impl Fn(f64) -> f64) -> Vec<String> {
+        let ni = self.x_edges.len() - 1;
+        let nj = self.y_edges.len() - 1;
+        let (lo, hi) = self.range;
+        let level = |v: f64| -> usize {
+            let t = if hi > lo { (v - lo) / (hi - lo) } else { 0.5 };
+            ((t * LEVELS as f64).floor().max(0.0) as usize).min(LEVELS - 1)
+        };
+        // One path per colour level; runs of equal level in a row are merged.
+        let mut paths: Vec<String> = vec![String::new(); LEVELS + 1];
+        for j in 0..nj {
+            let (y0, y1) = (py(self.y_edges[j + 1]), py(self.y_edges[j]));
+            let mut i = 0;
+            while i < ni {
+                let lv = self.values[i + ni * j].map_or(LEVELS, level);
+                let start = i;
+                while i + 1 < ni && self.values[i + 1 + ni * j].map_or(LEVELS, level) == lv {
+                    i += 1;
+                }
+                let (x0, x1) = (px(self.x_edges[start]), px(self.x_edges[i + 1]));
+                let d = &mut paths[lv];
+                let (x0, x1) = (r1(x0), r1(x1));
+                let _ = write!(d, "M{x0} {}H{x1}V{}H{x0}z", r1(y0), r1(y1));
+                i += 1;
+            }
+        }
+        paths
     }
 }
 

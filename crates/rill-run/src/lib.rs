@@ -20,6 +20,7 @@
 //! and stay in the editor and on the command line. See [`cautions`].
 
 #![warn(missing_docs)]
+#![warn(clippy::too_many_lines)]
 
 mod summary;
 

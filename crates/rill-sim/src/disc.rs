@@ -126,40 +126,7 @@ impl Disc {
         }
 
         // Wells: geometry and the (cell, well) couplings, deduplicated.
-        let mut wells = Vec::with_capacity(n_wells);
-        let mut couplings: Vec<(usize, usize)> = Vec::new(); // (cell, well)
-        for (w, well) in case.wells.iter().enumerate() {
-            let active: Vec<_> = well
-                .completions
-                .iter()
-                .filter(|cp| rock.is_active(cp.cell))
-                .collect();
-            let datum = active
-                .iter()
-                .map(|cp| all_depth[cp.cell])
-                .fold(f64::INFINITY, f64::min);
-            let mut comps = Vec::new();
-            let mut wi_sum = 0.0;
-            for cp in active {
-                let wi = derived::well_index(grid, rock, cp, well.radius, well.skin).geometric;
-                let cell = active_of[cp.cell];
-                wi_sum += wi;
-                t_sum[cell] += wi;
-                comps.push(Comp {
-                    cell,
-                    wi,
-                    dd: all_depth[cp.cell] - datum,
-                    pos_cw: 0,
-                    pos_wc: 0,
-                });
-                couplings.push((cell, w));
-            }
-            wells.push(WellGeom {
-                comps,
-                wi_sum,
-                diag: 0,
-            });
-        }
+        let (mut wells, mut couplings) = well_geometry(case, &active_of, &all_depth, &mut t_sum);
         couplings.sort_unstable();
         couplings.dedup();
         let mut well_cols = vec![0usize; n];
@@ -221,35 +188,7 @@ impl Disc {
             }
         }
 
-        // Boundary faces.
-        let mut bfaces = Vec::new();
-        for (bi, bnd) in case.boundaries.iter().enumerate() {
-            for c in derived::cells_on_side(grid, bnd.side) {
-                let a = active_of[c];
-                if a == usize::MAX {
-                    continue;
-                }
-                let t = derived::boundary_face(grid, rock, c, bnd.side).geometric_trans;
-                if t <= 0.0 {
-                    continue;
-                }
-                let half = 0.5 * grid.dz[c];
-                let face_depth = match bnd.side {
-                    Side::Top => all_depth[c] - half,
-                    Side::Bottom => all_depth[c] + half,
-                    _ => all_depth[c],
-                };
-                t_sum[a] += t;
-                bfaces.push(BFace {
-                    cell: a,
-                    boundary: bi,
-                    t,
-                    face_depth,
-                    dd: all_depth[c] - face_depth,
-                });
-            }
-        }
-        bfaces.sort_by_key(|f| f.cell);
+        let bfaces = boundary_faces(case, &active_of, &all_depth, &mut t_sum);
 
         Disc {
             n_cells,
@@ -282,6 +221,97 @@ impl Disc {
             values: vec![0.0; self.col_idx.len()],
         }
     }
+}
+
+/// Each well's completions in active cells (well index, depth below the
+/// well's datum, the shallowest completed cell centre) and the (cell, well)
+/// couplings of the pattern, unsorted. Adds each well index to its cell's
+/// `t_sum`.
+fn well_geometry(
+    case: &Case,
+    active_of: &[usize],
+    all_depth: &[f64],
+    t_sum: &mut [f64],
+) -> (Vec<WellGeom>, Vec<(usize, usize)>) {
+    let grid = &case.grid;
+    let rock = &case.rock;
+    let mut wells = Vec::with_capacity(case.wells.len());
+    let mut couplings: Vec<(usize, usize)> = Vec::new(); // (cell, well)
+    for (w, well) in case.wells.iter().enumerate() {
+        let active: Vec<_> = well
+            .completions
+            .iter()
+            .filter(|cp| rock.is_active(cp.cell))
+            .collect();
+        let datum = active
+            .iter()
+            .map(|cp| all_depth[cp.cell])
+            .fold(f64::INFINITY, f64::min);
+        let mut comps = Vec::new();
+        let mut wi_sum = 0.0;
+        for cp in active {
+            let wi = derived::well_index(grid, rock, cp, well.radius, well.skin).geometric;
+            let cell = active_of[cp.cell];
+            wi_sum += wi;
+            t_sum[cell] += wi;
+            comps.push(Comp {
+                cell,
+                wi,
+                dd: all_depth[cp.cell] - datum,
+                pos_cw: 0,
+                pos_wc: 0,
+            });
+            couplings.push((cell, w));
+        }
+        wells.push(WellGeom {
+            comps,
+            wi_sum,
+            diag: 0,
+        });
+    }
+    (wells, couplings)
+}
+
+/// The faces of active cells on constant-pressure boundaries with a
+/// positive half-cell transmissibility, sorted by cell. Adds each face's
+/// transmissibility to its cell's `t_sum`.
+fn boundary_faces(
+    case: &Case,
+    active_of: &[usize],
+    all_depth: &[f64],
+    t_sum: &mut [f64],
+) -> Vec<BFace> {
+    let grid = &case.grid;
+    let rock = &case.rock;
+    let mut bfaces = Vec::new();
+    for (bi, bnd) in case.boundaries.iter().enumerate() {
+        for c in derived::cells_on_side(grid, bnd.side) {
+            let a = active_of[c];
+            if a == usize::MAX {
+                continue;
+            }
+            let t = derived::boundary_face(grid, rock, c, bnd.side).geometric_trans;
+            if t <= 0.0 {
+                continue;
+            }
+            let half = 0.5 * grid.dz[c];
+            let face_depth = match bnd.side {
+                Side::Top => all_depth[c] - half,
+                Side::Bottom => all_depth[c] + half,
+                _ => all_depth[c],
+            };
+            t_sum[a] += t;
+            bfaces.push(BFace {
+                cell: a,
+                boundary: bi,
+                t,
+                face_depth,
+                dd: all_depth[c] - face_depth,
+            });
+        }
+    }
+    bfaces.sort_by_key(|f| f.cell);
+    bfaces
 }
 
 /// How each well is driven during an assembly.
@@ -496,6 +526,18 @@ pub(crate) fn assemble(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) {
         }
     });
 
+    add_boundaries_and_wells(d, ctx, x, out);
+}
+
+/// Adds the boundary faces and the wells to an assembly whose cell rows
+/// are done: their rates, their terms in the cell rows, and the well rows
+/// (a fixed BHP, or the surface rate's control equation).
+fn add_boundaries_and_wells(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) {
+    let nc = d.n_cells;
+    let pvt = ctx.pvt;
+    let dt = ctx.dt;
+    let mu = pvt.mu;
+    let rp = &d.row_ptr;
     // Boundaries.
     out.bnd_rate.fill(0.0);
     for (f, &pb) in d.bfaces.iter().zip(ctx.bface_p) {

@@ -29,6 +29,7 @@
 //! (ignored in debug builds; run it with `--release -- --ignored`).
 
 #![warn(missing_docs)]
+#![warn(clippy::too_many_lines)]
 
 mod disc;
 /// The linear algebra, a crate of its own; kept under this name for the front ends.

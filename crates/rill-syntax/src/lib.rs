@@ -79,6 +79,7 @@
 //!   deeper one is one error and is skipped without recursion.
 
 #![warn(missing_docs)]
+#![warn(clippy::too_many_lines)]
 
 pub mod ast;
 mod compare;

@@ -57,6 +57,7 @@
 //! re-exported here.
 
 #![warn(missing_docs)]
+#![warn(clippy::too_many_lines)]
 
 mod dim;
 mod display;

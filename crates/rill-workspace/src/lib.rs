@@ -11,6 +11,7 @@
 //! It must never interpret file contents, and never write any file.
 
 #![warn(missing_docs)]
+#![warn(clippy::too_many_lines)]
 
 use rill_model::source::{normalize, Source, SourceError};
 use std::collections::HashMap;

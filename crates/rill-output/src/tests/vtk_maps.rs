@@ -114,67 +114,7 @@ fn vtr_is_valid_xml_with_extents_coordinates_and_cell_arrays() {
         axis[2]
     );
 
-    let cell_data = piece
-        .children()
-        .find(|n| n.has_tag_name("CellData"))
-        .unwrap();
-    let cells = nx * ny * nz;
-    let mut names = Vec::new();
-    for array in cell_data.children().filter(|n| n.has_tag_name("DataArray")) {
-        let name = array.attribute("Name").unwrap();
-        let bytes = decode(array.text().unwrap());
-        let size = match array.attribute("type").unwrap() {
-            "Float64" => 8,
-            "Int32" => 4,
-            "UInt8" => 1,
-            other => panic!("type {other}"),
-        };
-        assert_eq!(bytes.len(), cells * size, "{name}");
-        names.push(name.to_string());
-        let vtk = |i: usize, j: usize, layer: usize| i + nx * (j + ny * (nz - layer));
-        match name {
-            "pressure" => {
-                let p = f64s(&bytes);
-                // Deck cell (i=1, j=2, layer 1) at report time 2: 3000 - 20 - c psi.
-                let c = 1 + nx * 2;
-                assert!((p[vtk(1, 2, 1)] - (2980.0 - c as f64)).abs() < 1e-9);
-                // The inactive cell is the last one (top-right of the bottom layer).
-                assert!(p[vtk(nx - 1, ny - 1, nz)].is_nan());
-                assert_eq!(p.iter().filter(|v| v.is_nan()).count(), 1);
-            }
-            "active" => assert_eq!(bytes.iter().filter(|&&b| b == 0).count(), 1),
-            "kx" => {
-                let k = f64s(&bytes);
-                assert!((k[vtk(0, 0, 1)] - 100.0).abs() < 1e-9, "md");
-                assert!((k[vtk(0, 0, 2)] - 150.0).abs() < 1e-9, "md");
-            }
-            "depth" => {
-                let d = f64s(&bytes);
-                // Column (3, 0): top 7006 ft; layer 2 centre = 7006 + 20 + 25/2.
-                assert!(
-                    (d[vtk(3, 0, 2)] - 7038.5).abs() < 1e-9,
-                    "{}",
-                    d[vtk(3, 0, 2)]
-                );
-            }
-            "layer" => {
-                let l: Vec<i32> = bytes
-                    .chunks(4)
-                    .map(|c| i32::from_le_bytes(c.try_into().unwrap()))
-                    .collect();
-                assert_eq!(
-                    (l[0], l[cells - 1]),
-                    (2, 1),
-                    "VTK k runs from the bottom layer up"
-                );
-            }
-            _ => {}
-        }
-    }
-    assert_eq!(
-        names,
-        ["pressure", "active", "porosity", "kx", "ky", "kz", "depth", "layer"]
-    );
+    check_cell_arrays(piece, nx, ny, nz);
 
     // Field data: the time and the units.
     let field = grid
@@ -249,4 +189,70 @@ fn no_cell_pressures_means_no_maps() {
     assert!(!files.dir.join("maps").exists());
     let html = std::fs::read_to_string(files.report_html).unwrap();
     assert!(html.contains("no maps"));
+}
+
+/// The cell arrays of the map at report time 2 of the fixture case: their
+/// names and order, sizes, and sample values in field units.
+fn check_cell_arrays(piece: roxmltree::Node, nx: usize, ny: usize, nz: usize) {
+    let cell_data = piece
+        .children()
+        .find(|n| n.has_tag_name("CellData"))
+        .unwrap();
+    let cells = nx * ny * nz;
+    let mut names = Vec::new();
+    for array in cell_data.children().filter(|n| n.has_tag_name("DataArray")) {
+        let name = array.attribute("Name").unwrap();
+        let bytes = decode(array.text().unwrap());
+        let size = match array.attribute("type").unwrap() {
+            "Float64" => 8,
+            "Int32" => 4,
+            "UInt8" => 1,
+            other => panic!("type {other}"),
+        };
+        assert_eq!(bytes.len(), cells * size, "{name}");
+        names.push(name.to_string());
+        let vtk = |i: usize, j: usize, layer: usize| i + nx * (j + ny * (nz - layer));
+        match name {
+            "pressure" => {
+                let p = f64s(&bytes);
+                // Deck cell (i=1, j=2, layer 1) at report time 2: 3000 - 20 - c psi.
+                let c = 1 + nx * 2;
+                assert!((p[vtk(1, 2, 1)] - (2980.0 - c as f64)).abs() < 1e-9);
+                // The inactive cell is the last one (top-right of the bottom layer).
+                assert!(p[vtk(nx - 1, ny - 1, nz)].is_nan());
+                assert_eq!(p.iter().filter(|v| v.is_nan()).count(), 1);
+            }
+            "active" => assert_eq!(bytes.iter().filter(|&&b| b == 0).count(), 1),
+            "kx" => {
+                let k = f64s(&bytes);
+                assert!((k[vtk(0, 0, 1)] - 100.0).abs() < 1e-9, "md");
+                assert!((k[vtk(0, 0, 2)] - 150.0).abs() < 1e-9, "md");
+            }
+            "depth" => {
+                let d = f64s(&bytes);
+                // Column (3, 0): top 7006 ft; layer 2 centre = 7006 + 20 + 25/2.
+                assert!(
+                    (d[vtk(3, 0, 2)] - 7038.5).abs() < 1e-9,
+                    "{}",
+                    d[vtk(3, 0, 2)]
+                );
+            }
+            "layer" => {
+                let l: Vec<i32> = bytes
+                    .chunks(4)
+                    .map(|c| i32::from_le_bytes(c.try_into().unwrap()))
+                    .collect();
+                assert_eq!(
+                    (l[0], l[cells - 1]),
+                    (2, 1),
+                    "VTK k runs from the bottom layer up"
+                );
+            }
+            _ => {}
+        }
+    }
+    assert_eq!(
+        names,
+        ["pressure", "active", "porosity", "kx", "ky", "kz", "depth", "layer"]
+    );
 }
