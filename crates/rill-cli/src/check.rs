@@ -230,6 +230,61 @@ pub fn render_text(analysis: &Analysis) {
     let _ = err.flush();
 }
 
+/// The files among `spans` that hold a line too long to show whole, each cut
+/// around the spans of this diagnostic that fall in it.
+fn cut_long_files(
+    sources: &Sources,
+    spans: &[(usize, usize, usize)],
+) -> std::collections::HashMap<usize, CutFile> {
+    let mut cut = std::collections::HashMap::new();
+    for &(f, _, _) in spans {
+        if cut.contains_key(&f) {
+            continue;
+        }
+        let Some((text, index)) = sources.text_and_lines(f) else {
+            continue;
+        };
+        let starts = index.line_starts();
+        let long = starts.windows(2).any(|w| w[1] - w[0] > MAX_LINE + 2)
+            || text.len() - starts.last().copied().unwrap_or(0) > MAX_LINE;
+        if long {
+            let points: Vec<usize> = spans
+                .iter()
+                .filter(|s| s.0 == f)
+                .flat_map(|s| [s.1, s.2])
+                .collect();
+            cut.insert(f, CutFile::new(text, index, &points));
+        }
+    }
+    cut
+}
+
+/// The last line: the deck's name and its count of each severity.
+fn summary_line(analysis: &Analysis) -> String {
+    let count = |s: Severity| {
+        analysis
+            .diagnostics
+            .iter()
+            .filter(|d| d.severity == s)
+            .count()
+    };
+    let (e, w, i) = (
+        count(Severity::Error),
+        count(Severity::Warning),
+        count(Severity::Info),
+    );
+    let name = analysis
+        .files
+        .first()
+        .map(|f| f.path.display().to_string())
+        .unwrap_or_default();
+    if e + w + i == 0 {
+        format!("{name}: clean\n")
+    } else {
+        format!("{name}: {e} error(s), {w} warning(s), {i} note(s)\n")
+    }
+}
+
 /// The text `render_text` writes (with colour codes when `color`).
 pub fn render_to_string(analysis: &Analysis, color: bool) -> String {
     let sources = Sources::new(analysis);
@@ -259,27 +314,7 @@ pub fn render_to_string(analysis: &Analysis, color: bool) -> String {
                 spans.push((l.location.file, l.location.start, l.location.end));
             }
         }
-        // Cut the files that hold a long line, around this diagnostic's spans.
-        let mut cut = std::collections::HashMap::new();
-        for &(f, _, _) in &spans {
-            if cut.contains_key(&f) {
-                continue;
-            }
-            let Some((text, index)) = sources.text_and_lines(f) else {
-                continue;
-            };
-            let starts = index.line_starts();
-            let long = starts.windows(2).any(|w| w[1] - w[0] > MAX_LINE + 2)
-                || text.len() - starts.last().copied().unwrap_or(0) > MAX_LINE;
-            if long {
-                let points: Vec<usize> = spans
-                    .iter()
-                    .filter(|s| s.0 == f)
-                    .flat_map(|s| [s.1, s.2])
-                    .collect();
-                cut.insert(f, CutFile::new(text, index, &points));
-            }
-        }
+        let cut = cut_long_files(&sources, &spans);
         let range = |f: usize, s: usize, e: usize| match cut.get(&f) {
             Some(c) => {
                 let (a, b) = (c.map(s), c.map(e));
@@ -336,28 +371,7 @@ pub fn render_to_string(analysis: &Analysis, color: bool) -> String {
             cut_message(message)
         );
     }
-    let count = |s: Severity| {
-        analysis
-            .diagnostics
-            .iter()
-            .filter(|d| d.severity == s)
-            .count()
-    };
-    let (e, w, i) = (
-        count(Severity::Error),
-        count(Severity::Warning),
-        count(Severity::Info),
-    );
-    let name = analysis
-        .files
-        .first()
-        .map(|f| f.path.display().to_string())
-        .unwrap_or_default();
-    if e + w + i == 0 {
-        out += &format!("{name}: clean\n");
-    } else {
-        out += &format!("{name}: {e} error(s), {w} warning(s), {i} note(s)\n");
-    }
+    out += &summary_line(analysis);
     out
 }
 

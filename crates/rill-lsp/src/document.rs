@@ -9,9 +9,12 @@ use std::path::PathBuf;
 use std::sync::Arc;
 use tower_lsp::lsp_types::{TextDocumentContentChangeEvent, Url};
 
+/// An open document: the client's text of it, as of its latest version.
 #[derive(Debug, Clone)]
 pub struct Document {
+    /// The version the client gave with the last change applied.
     pub version: i32,
+    /// The text, as a rope so that incremental changes are cheap.
     pub rope: Rope,
     /// The file the buffer stands for; `None` for unsaved `untitled:` buffers.
     pub path: Option<PathBuf>,
@@ -20,6 +23,7 @@ pub struct Document {
 }
 
 impl Document {
+    /// A document as `didOpen` gives it.
     pub fn new(uri: &Url, version: i32, text: &str) -> Self {
         Document {
             version,
@@ -29,6 +33,7 @@ impl Document {
         }
     }
 
+    /// The whole text, shared; made once per version.
     pub fn text(&mut self) -> Arc<str> {
         if let Some(t) = &self.text {
             return t.clone();
@@ -63,13 +68,19 @@ pub fn uri_path(uri: &Url) -> Option<PathBuf> {
     }
 }
 
+/// Why a `didChange` was not applied.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum ChangeError {
     /// No open document with that URI.
     NotOpen,
     /// The change carries a version not above the one held: it was
     /// superseded or repeated, and is dropped.
-    Stale { held: i32, got: i32 },
+    Stale {
+        /// The version the server holds.
+        held: i32,
+        /// The version the change carried.
+        got: i32,
+    },
 }
 
 impl std::fmt::Display for ChangeError {
@@ -84,17 +95,22 @@ impl std::fmt::Display for ChangeError {
     }
 }
 
+/// The open documents by URI: the only text the server holds that the
+/// client owns.
 #[derive(Debug, Default)]
 pub struct Documents {
     docs: HashMap<Url, Document>,
 }
 
 impl Documents {
+    /// Hold a document as opened (replacing one with the same URI).
     pub fn open(&mut self, uri: Url, version: i32, text: &str) {
         let doc = Document::new(&uri, version, text);
         self.docs.insert(uri, doc);
     }
 
+    /// Apply one `didChange`: its changes in order, then its version.
+    /// Changes with a version not above the held one are refused.
     pub fn change(
         &mut self,
         uri: &Url,
@@ -118,18 +134,22 @@ impl Documents {
         Ok(doc)
     }
 
+    /// Forget a closed document, giving it back.
     pub fn close(&mut self, uri: &Url) -> Option<Document> {
         self.docs.remove(uri)
     }
 
+    /// The open document at `uri`.
     pub fn get(&self, uri: &Url) -> Option<&Document> {
         self.docs.get(uri)
     }
 
+    /// The open document at `uri`, to change it.
     pub fn get_mut(&mut self, uri: &Url) -> Option<&mut Document> {
         self.docs.get_mut(uri)
     }
 
+    /// The URIs of every open document.
     pub fn uris(&self) -> Vec<Url> {
         self.docs.keys().cloned().collect()
     }

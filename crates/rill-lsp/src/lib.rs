@@ -40,6 +40,9 @@
 //!   (dynamic registration), invalidating the `DiskSource` cache;
 //! - exit code 0 after `shutdown` then `exit`, 1 for `exit` alone.
 
+#![warn(clippy::too_many_lines)]
+#![warn(missing_docs)]
+
 mod answers;
 mod convert;
 pub mod document;

@@ -32,6 +32,7 @@ impl Encoding {
         }
     }
 
+    /// The protocol's name for this encoding, as announced to the client.
     pub fn kind(self) -> PositionEncodingKind {
         match self {
             Encoding::Utf8 => PositionEncodingKind::UTF8,

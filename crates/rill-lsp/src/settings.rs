@@ -8,7 +8,9 @@ use std::path::{Path, PathBuf};
 
 #[derive(Debug, Clone, PartialEq, Default, Deserialize)]
 #[serde(rename_all = "camelCase", default)]
+/// The server's settings (section `rill`, or `initializationOptions`).
 pub struct Settings {
+    /// Inlay hints (computed values at the end of lines).
     pub inlay_hints: InlayHints,
     /// Folders outside the workspace whose files includes and arrays may read.
     pub allowed_include_paths: Vec<String>,
@@ -18,7 +20,9 @@ pub struct Settings {
 
 #[derive(Debug, Clone, PartialEq, Deserialize)]
 #[serde(rename_all = "camelCase", default)]
+/// The inlay-hint settings.
 pub struct InlayHints {
+    /// Whether hints are sent at all (default true).
     pub enabled: bool,
 }
 
