@@ -65,6 +65,22 @@ pub fn cell_center_depths(grid: &Grid) -> Vec<f64> {
     depth
 }
 
+/// Depths of the shallowest and the deepest cell centre of the grid, m.
+pub fn depth_range(grid: &Grid) -> (f64, f64) {
+    let mut range = (f64::INFINITY, f64::NEG_INFINITY);
+    let plane = grid.nx * grid.ny;
+    for col in 0..plane {
+        let mut top = grid.top[col];
+        for k in 0..grid.nz {
+            let dz = grid.dz[col + plane * k];
+            let centre = top + 0.5 * dz;
+            range = (range.0.min(centre), range.1.max(centre));
+            top += dz;
+        }
+    }
+    range
+}
+
 /// Pore volume at the rock reference pressure, reservoir m^3.
 pub fn pore_volume(grid: &Grid, rock: &Rock, c: usize) -> f64 {
     rock.porosity[c] * cell_volume(grid, c)

@@ -261,6 +261,22 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Check the unit and the cell size.",
     },
     Explanation {
+        code: Code::SanityPressure,
+        summary: "An absolute pressure (BHP control or limit, boundary pressure) that is zero or negative.",
+        details: "Pressures in rill are absolute; gauge units (psig, barg) count from 1 atm. A BHP of 0 psia or less, or a boundary held at it, cannot be reached by a liquid: usually a sign slip or a gauge value written in an absolute unit. (An extension of the specification's minimum set.)",
+        wrong: "control = bhp -150 psi",
+        right: "control = bhp 150 psi",
+        fix: "Check the sign and the unit of the pressure.",
+    },
+    Explanation {
+        code: Code::InitialPressure,
+        summary: "The initial pressure is zero, negative or below 1 atm somewhere in the grid.",
+        details: "With `pressure = P at DEPTH` the initial state is the hydrostatic column through the datum; a datum far below the grid (metres written for feet, or a depth with the wrong sign) makes the pressure at the top of the grid fall below zero. The message gives the lowest pressure, the grid's depth range and the datum. A liquid below 1 atm would boil. (An extension of the specification's minimum set.)",
+        wrong: "pressure = 3850 psi at 8450 m   # grid top at 8000 ft",
+        right: "pressure = 3850 psi at 8450 ft",
+        fix: "Put the datum in the grid's depth range with the right unit, or correct the pressure.",
+    },
+    Explanation {
         code: Code::WellCompletion,
         summary: "A completion outside the grid or in an inactive cell.",
         details: "Completed cells must be inside 1..NX, 1..NY, 1..NZ and have porosity above 0.",
