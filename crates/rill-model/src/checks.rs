@@ -449,8 +449,42 @@ fn well_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic
         }
         let radius_at = ws.radius.unwrap_or(comp_at);
         radius_checks(case, well, radius_at, sys, out);
+        productivity_check(case, well, comp_at, out);
         bhp_checks(case, w_index, well, &ws, comp_at, sys, out);
     }
+}
+
+/// A well whose every completion has a zero well index can neither produce
+/// nor inject: its rate cannot be met and its BHP has no meaning.
+fn productivity_check(case: &Case, well: &Well, comp_at: Location, out: &mut Vec<Diagnostic>) {
+    let grid = &case.grid;
+    let mut reasons = Vec::new();
+    for c in &well.completions {
+        match derived::zero_index_reason(grid, &case.rock, c, well.radius, well.skin) {
+            Some(why) => reasons.push(format!("{}: {why}", cell_name(grid, c.cell))),
+            None => return,
+        }
+    }
+    if reasons.is_empty() {
+        return;
+    }
+    let mut d = Diagnostic::error(
+        Code::WellProductivity,
+        comp_at,
+        format!(
+            "every completion of well \"{}\" has a zero well index: the well cannot flow",
+            well.name
+        ),
+    );
+    for r in reasons.iter().take(8) {
+        d = d.with_note(r.clone());
+    }
+    if reasons.len() > 8 {
+        d = d.with_note(format!("and {} more completions", reasons.len() - 8));
+    }
+    out.push(d.with_note(
+        "complete the well in cells with permeability normal to the wellbore, or give them some",
+    ));
 }
 
 /// A bottom-hole pressure a well is given (control, limit or event control).

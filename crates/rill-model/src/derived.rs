@@ -544,6 +544,36 @@ pub fn well_index(
     WellIndex { r_eq, geometric }
 }
 
+/// Why completion `completion` has a zero well index, if it does: the cell
+/// is inactive, or a permeability normal to the wellbore is zero, or the
+/// radius and skin leave no positive denominator.
+pub fn zero_index_reason(
+    grid: &Grid,
+    rock: &Rock,
+    completion: &Completion,
+    radius: f64,
+    skin: f64,
+) -> Option<String> {
+    let c = completion.cell;
+    if !rock.is_active(c) {
+        return Some("the cell is inactive (porosity 0)".into());
+    }
+    let zero: Vec<&str> = [("kx", rock.kx[c]), ("ky", rock.ky[c])]
+        .into_iter()
+        .filter(|(_, k)| *k <= 0.0)
+        .map(|(name, _)| name)
+        .collect();
+    if !zero.is_empty() {
+        return Some(format!(
+            "{} {} zero normal to the wellbore",
+            zero.join(" and "),
+            if zero.len() == 1 { "is" } else { "are" }
+        ));
+    }
+    let wi = well_index(grid, rock, completion, radius, skin);
+    (wi.geometric <= 0.0).then(|| "ln(r_eq / r_w) + skin is not positive".into())
+}
+
 /// Pressure at `depth` in a static column of the case's liquid, given
 /// `p_datum` at `datum_depth`: dp/dz = rho(p) g with
 /// rho(p) = rho_ref exp(c (p - p_ref)), integrated exactly.

@@ -263,6 +263,8 @@ codes! {
     WellCompletion = "well.completion",
     /// A BHP on the wrong side of the initial pressure for the well's role.
     WellBhp = "well.bhp",
+    /// A well whose every completion has a zero well index.
+    WellProductivity = "well.productivity",
     /// An injector BHP that may exceed fracture pressure.
     WellInjectionPressure = "well.injection-pressure",
     /// An active cell cut off from all flow.

@@ -293,6 +293,14 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Check the role and the pressure.",
     },
     Explanation {
+        code: Code::WellProductivity,
+        summary: "Every completion of a well has a zero well index: the well cannot flow.",
+        details: "Peaceman's well index needs both permeabilities normal to the wellbore (kx and ky for a vertical completion) above zero, and an active cell. A well completed only in cells without them takes and gives nothing; its rate could never be met. Each completion is listed with the reason. (An extension of the specification's minimum set.)",
+        wrong: "kx = 0 md   # the only completed layer",
+        right: "kx = 120 md",
+        fix: "Complete the well in permeable, active cells, or correct the permeabilities.",
+    },
+    Explanation {
         code: Code::WellInjectionPressure,
         summary: "An injector BHP above 0.8 psi/ft times its depth.",
         details: "Such a pressure may exceed the fracture pressure of the rock (fracture gradients mostly fall between 0.6 and 0.9 psi/ft; common practice, no published source). The local fracture gradient, the injection permit and a licensed engineer decide; rill only warns.",

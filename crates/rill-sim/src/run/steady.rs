@@ -57,6 +57,7 @@ impl Runner<'_> {
                 break;
             }
         }
+        self.guard(x, end, 1)?;
         let drive: Vec<WellDrive> = wells.iter().map(WellState::drive).collect();
         flows(
             &self.d,

@@ -163,6 +163,7 @@ impl Runner<'_> {
             let proposal = sizer.propose(stop - t);
             let taken = self.take_step(x, wells, proposal, &mut acc, t, step, observer)?;
             step += 1;
+            self.guard(x, t + taken.dt, step)?;
             self.stats.steps += 1;
             let balance = self.close_step(x, &mut acc, taken.dt);
             t = if taken.hits { stop } else { t + taken.dt };
