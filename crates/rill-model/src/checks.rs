@@ -450,6 +450,7 @@ fn well_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic
         let radius_at = ws.radius.unwrap_or(comp_at);
         radius_checks(case, well, radius_at, sys, out);
         productivity_check(case, well, comp_at, out);
+        trajectory_check(case, well, comp_at, out);
         bhp_checks(case, w_index, well, &ws, comp_at, sys, out);
     }
 }
@@ -487,6 +488,39 @@ fn productivity_check(case: &Case, well: &Well, comp_at: Location, out: &mut Vec
     ));
 }
 
+/// Successive completions along one direction should be neighbours along
+/// it: a gap, or a step to another row, is wellbore the model leaves out
+/// (each completion is a straight piece through its own cell).
+fn trajectory_check(case: &Case, well: &Well, comp_at: Location, out: &mut Vec<Diagnostic>) {
+    let grid = &case.grid;
+    let along = |c: &Completion| match c.direction {
+        Direction::X => (c.i, (c.j, c.k)),
+        Direction::Y => (c.j, (c.i, c.k)),
+        Direction::Z => (c.k, (c.i, c.j)),
+    };
+    let gap = well.completions.windows(2).find(|pair| {
+        let (a, b) = (&pair[0], &pair[1]);
+        let ((pa, ra), (pb, rb)) = (along(a), along(b));
+        a.direction == b.direction && (ra != rb || pa.abs_diff(pb) != 1)
+    });
+    if let Some(pair) = gap {
+        out.push(
+            Diagnostic::warning(
+                Code::WellCompletion,
+                comp_at,
+                format!(
+                    "the completions {} and {} of well \"{}\" both run along {} but are not neighbours along it: the wellbore between them is not modelled",
+                    cell_name(grid, pair[0].cell),
+                    cell_name(grid, pair[1].cell),
+                    well.name,
+                    pair[0].direction.name()
+                ),
+            )
+            .with_note("list the cells in order along the wellbore, or give a deviated stretch its own direction"),
+        );
+    }
+}
+
 /// A bottom-hole pressure a well is given (control, limit or event control).
 struct GivenBhp {
     pressure: f64,
@@ -508,8 +542,8 @@ fn radius_checks(
         .completions
         .iter()
         .map(|c| {
-            let (dx, dy, _) = derived::cell_size(grid, c.cell);
-            0.5 * dx.min(dy)
+            let f = derived::wellbore_frame(grid, &case.rock, c);
+            0.5 * f.d1.min(f.d2)
         })
         .fold(f64::INFINITY, f64::min);
     if well.radius <= 0.0 {

@@ -51,6 +51,7 @@ pub fn case(nx: usize, ny: usize, nz: usize, units: UnitSystem) -> Case {
                 j,
                 k,
                 cell: i + nx * (j + ny * k),
+                direction: Direction::Z,
             })
             .collect(),
         radius: 0.3 * FT,
