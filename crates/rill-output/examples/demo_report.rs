@@ -295,6 +295,7 @@ fn demo_results(case: &Case, n: usize) -> RunResults {
             })
             .collect(),
         pressure,
+        events: Vec::new(),
         times,
         stats: SolverStats {
             steps: 41,

@@ -291,6 +291,9 @@ pub(crate) struct WellDrive {
     pub bhp: bool,
     /// Target surface rate (production positive), used when `!bhp`.
     pub rate: f64,
+    /// Shut: no completion flows (the BHP row is held; the run reports the
+    /// shut-in BHP).
+    pub shut: bool,
 }
 
 /// Inputs of one assembly besides the unknowns.
@@ -372,7 +375,7 @@ pub(crate) fn flows(d: &Disc, ctx: &Ctx, x: &[f64], well_rate: &mut [f64], bnd_r
     }
     for (w, wg) in d.wells.iter().enumerate() {
         let pw = x[d.n_cells + w];
-        well_rate[w] = if wg.wi_sum > 0.0 {
+        well_rate[w] = if wg.wi_sum > 0.0 && !ctx.drive[w].shut {
             wg.comps
                 .iter()
                 .map(|cp| completion_rate(ctx.pvt, cp, x[cp.cell], pw).0)
@@ -511,7 +514,7 @@ pub(crate) fn assemble(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) {
         let vals = &mut out.jac.values;
         vals[rp[row]..rp[row + 1]].fill(0.0);
         let drive = ctx.drive[w];
-        if wg.wi_sum <= 0.0 {
+        if wg.wi_sum <= 0.0 || drive.shut {
             vals[wg.diag] = ctx.pin_scale;
             out.resid[row] = 0.0;
             out.well_rate[w] = 0.0;
@@ -655,6 +658,7 @@ mod tests {
             .map(|f| 2.1e7 + 9000.0 * (f.face_depth - 1000.0))
             .collect();
         let drive = [WellDrive {
+            shut: false,
             bhp: false,
             rate: 1e-3,
         }];

@@ -155,6 +155,7 @@ pub fn results(case: &Case) -> RunResults {
         }],
         balance_error: vec![0.0, 1.5e-9, 2.25e-9],
         pressure,
+        events: Vec::new(),
         stats: SolverStats {
             steps: 14,
             step_cuts: 1,

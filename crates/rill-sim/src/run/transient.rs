@@ -160,10 +160,12 @@ impl Runner<'_> {
                 next_event += 1;
             }
             let stop = stops[si];
+            let modes: Vec<_> = wells.iter().map(|w| w.mode).collect();
             let proposal = sizer.propose(stop - t);
             let taken = self.take_step(x, wells, proposal, &mut acc, t, step, observer)?;
             step += 1;
             self.guard(x, t + taken.dt, step)?;
+            super::report::record_events(res, t, &modes, wells);
             self.stats.steps += 1;
             let balance = self.close_step(x, &mut acc, taken.dt);
             t = if taken.hits { stop } else { t + taken.dt };
