@@ -157,6 +157,7 @@ pub(crate) fn well_markdown(case: &Case, name: &str) -> Option<String> {
     let control = match w.control {
         Control::Rate(q) => format!("rate {}", show(q, Kind::SurfaceRate, sys)),
         Control::Bhp(p) => format!("bhp {}", show(p, Kind::Pressure, sys)),
+        Control::Shut => "shut".to_string(),
     };
     s.push_str(&format!(
         "radius {}, skin {}, control {}",

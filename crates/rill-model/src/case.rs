@@ -211,6 +211,8 @@ pub enum Control {
     Rate(f64),
     /// Bottom-hole pressure at the well's datum (its top completion centre), Pa.
     Bhp(f64),
+    /// Shut by the deck: the well flows nothing until an event opens it.
+    Shut,
 }
 
 /// The axis a completed stretch of wellbore runs along.

@@ -111,7 +111,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
     Explanation {
         code: Code::DeckChoice,
         summary: "A word that is not one of the choices its key allows.",
-        details: "Some keys take one word from a fixed list: `role` (producer, injector), `side` of a boundary, `kind` of a run, report `units`, the mode of a `control` (rate, bhp), the axes of a `patch` (i, j, k). The message lists the choices and, for a near miss, offers the nearest. (An extension of the specification's minimum set.)",
+        details: "Some keys take one word from a fixed list: `role` (producer, injector), `side` of a boundary, `kind` of a run, report `units`, the mode of a `control` (rate, bhp, shut), the axes of a `patch` (i, j, k). The message lists the choices and, for a near miss, offers the nearest. (An extension of the specification's minimum set.)",
         wrong: "role = farmer",
         right: "role = producer",
         fix: "Write one of the listed choices.",

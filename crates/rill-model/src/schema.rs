@@ -113,7 +113,8 @@ pub const SIDES: &[&str] = &["west", "east", "south", "north", "top", "bottom"];
 pub const RUN_KINDS: &[&str] = &["transient", "steady"];
 /// Values of the report's `units`.
 pub const SYSTEMS: &[&str] = &["field", "metric", "si"];
-/// Modes of a well's `control`.
+/// Modes of a well's `control` that take a value; `shut`, which takes none,
+/// is read apart in the lowering of wells.
 pub const CONTROL_MODES: &[&str] = &["rate", "bhp"];
 
 /// The `case` block: the title of the case.
@@ -291,7 +292,7 @@ pub static WELL: BlockDef = BlockDef {
         key("direction", ValueKind::Choice(DIRECTIONS), false, "Axis the wellbore runs along in the listed `completions` (x, y or z); defaults to z. A range in a cell sets it for that cell; `location` wells are vertical."),
         key("radius", ValueKind::Quantity(Dim::LENGTH), true, "Wellbore radius."),
         key("skin", ValueKind::Number, false, "Skin factor; defaults to 0."),
-        key("control", ValueKind::Control, true, "`rate <surface rate>` or `bhp <pressure>`."),
+        key("control", ValueKind::Control, true, "`rate <surface rate>`, `bhp <pressure>` or `shut`."),
         key("bhp_limit", ValueKind::Quantity(Dim::PRESSURE), false, "Producer: lowest bottom-hole pressure; injector: highest. Rate control switches to it."),
     ],
     children: &[],

@@ -150,3 +150,29 @@ fn event_pressures_are_checked_too() {
     assert_eq!(&text[d[0].location.start..d[0].location.end], "0 psi");
     assert!(d[0].message.contains("in an event"));
 }
+
+#[test]
+fn shut_is_a_control_from_the_start_and_in_events() {
+    let text = deck("3850 psi at 8450 ft", "control = shut\n  bhp_limit = 1500 psi", "")
+        .replace(
+            "  end = 100 day\n",
+            "  end = 100 day\n  at 50 day {\n    well \"K-1\" { control = rate 300 stb/day }\n  }\n  at 80 day {\n    well \"K-1\" { control = shut }\n  }\n",
+        );
+    let a = analyze_text(Path::new("/w/k.rill"), &text, &MemorySource::new());
+    assert!(!a.has_errors(), "{:?}", a.diagnostics);
+    let case = a.case.unwrap();
+    assert_eq!(case.wells[0].control, rill_model::Control::Shut);
+    let controls: Vec<_> = case
+        .timeline
+        .events
+        .iter()
+        .map(|e| e.changes[0].control)
+        .collect();
+    assert_eq!(
+        controls,
+        vec![
+            Some(rill_model::Control::Rate(300.0 * 0.158987294928 / 86400.0)),
+            Some(rill_model::Control::Shut)
+        ]
+    );
+}

@@ -32,8 +32,9 @@ pub enum WellAction {
     Reopened,
 }
 
-/// A well shut or reopened by the run (not by the deck), from the start of
-/// the step at `time`.
+/// A well shut or reopened, by the run (it would have flowed against its
+/// role) or by a timeline event (`control = shut` and back), from the start
+/// of the step at `time`.
 #[derive(Debug, Clone, PartialEq)]
 pub struct WellEvent {
     /// Start of the step from which it holds, s.

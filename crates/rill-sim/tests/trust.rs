@@ -270,3 +270,40 @@ fn a_shut_producer_reopens_when_an_injector_lifts_the_pressure() {
         res.wells[2].rate
     );
 }
+
+#[test]
+fn a_well_shut_by_the_deck_flows_nothing_until_an_event_opens_it() {
+    let mut case = depleting_block();
+    case.wells[1].control = Control::Shut;
+    case.timeline.events.push(Event {
+        time: 50.0 * DAY,
+        changes: vec![WellChange {
+            well: 1,
+            control: Some(Control::Rate(300.0 * STB_DAY)),
+            bhp_limit: Some(1000.0 * PSI),
+        }],
+        origin: Origin::default(),
+    });
+    case.wells[0].control = Control::Bhp(2900.0 * PSI);
+    let res = run(&case, &RunOptions::default(), &mut NoObserver).unwrap();
+    let s = &res.wells[1];
+    for (n, t) in res.times.iter().enumerate() {
+        if *t <= 50.0 * DAY {
+            assert_eq!(s.rate[n], 0.0, "t = {t}");
+            assert_eq!(s.mode[n], ControlMode::Shut);
+        } else {
+            // On its rate, or on its limit once the block cannot give it.
+            assert!(
+                s.rate[n] > 0.0 && s.rate[n] <= 300.0 * STB_DAY * (1.0 + 1e-8),
+                "t = {t}"
+            );
+            assert_ne!(s.mode[n], ControlMode::Shut);
+        }
+    }
+    let ev: Vec<_> = res.events.iter().filter(|e| e.well == "Wren-S").collect();
+    assert_eq!(ev.len(), 1, "{:?}", res.events);
+    assert_eq!(
+        (ev[0].action, ev[0].time),
+        (WellAction::Reopened, 50.0 * DAY)
+    );
+}

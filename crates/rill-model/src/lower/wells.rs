@@ -17,6 +17,10 @@ impl<'s> Lowerer<'s> {
         match stmt.value.atoms.as_slice() {
             [Atom {
                 kind: AtomKind::Ident(mode),
+                ..
+            }] if mode == "shut" => Some(Control::Shut),
+            [Atom {
+                kind: AtomKind::Ident(mode),
                 span: mode_span,
             }, rest @ ..]
                 if mode == "rate" || mode == "bhp" =>
@@ -81,7 +85,7 @@ impl<'s> Lowerer<'s> {
                     Code::DeckChoice,
                     Location::new(file, first.span),
                     format!(
-                        "`control` expects `rate <surface rate>` or `bhp <pressure>`, found {}",
+                        "`control` expects `rate <surface rate>`, `bhp <pressure>` or `shut`, found {}",
                         crate::props::atom_words(&first.kind)
                     ),
                 );

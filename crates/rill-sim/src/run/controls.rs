@@ -57,6 +57,7 @@ impl WellState {
         match self.control {
             Control::Bhp(p) => Some(p),
             Control::Rate(_) => self.limit,
+            Control::Shut => None,
         }
     }
     /// The BHP held when the well is on BHP control.
@@ -69,6 +70,15 @@ impl WellState {
     }
 }
 
+/// The mode a control starts in.
+fn mode_of(c: Control) -> ControlMode {
+    match c {
+        Control::Rate(_) => ControlMode::Rate,
+        Control::Bhp(_) => ControlMode::Bhp,
+        Control::Shut => ControlMode::Shut,
+    }
+}
+
 /// Each well on the control the deck gives it.
 pub(super) fn initial_wells(case: &Case) -> Vec<WellState> {
     case.wells
@@ -76,10 +86,7 @@ pub(super) fn initial_wells(case: &Case) -> Vec<WellState> {
         .map(|w| WellState {
             control: w.control,
             limit: w.bhp_limit,
-            mode: match w.control {
-                Control::Rate(_) => ControlMode::Rate,
-                Control::Bhp(_) => ControlMode::Bhp,
-            },
+            mode: mode_of(w.control),
             sign: if w.role == Role::Producer { 1.0 } else { -1.0 },
             switches: 0,
         })
@@ -94,10 +101,7 @@ pub(super) fn apply_event(wells: &mut [WellState], ev: &rill_model::Event) {
         };
         if let Some(c) = ch.control {
             st.control = c;
-            st.mode = match c {
-                Control::Rate(_) => ControlMode::Rate,
-                Control::Bhp(_) => ControlMode::Bhp,
-            };
+            st.mode = mode_of(c);
         }
         if let Some(l) = ch.bhp_limit {
             st.limit = Some(l);
@@ -161,6 +165,10 @@ impl Runner<'_> {
     /// flow its way (on rate control when that BHP gives more than the
     /// target). Returns true when it reopened.
     fn retest_shut(&self, w: usize, st: &mut WellState, x: &mut [f64]) -> bool {
+        if st.control == Control::Shut {
+            // Shut by the deck: only an event opens it.
+            return false;
+        }
         let Some(p) = st.held_bhp() else {
             // A rate control without limit never reverses; never shut.
             st.mode = ControlMode::Rate;
@@ -216,6 +224,7 @@ impl Runner<'_> {
                 continue;
             }
             match st.control {
+                Control::Shut => st.mode = ControlMode::Shut,
                 Control::Bhp(p) => {
                     st.mode = ControlMode::Bhp;
                     x[xw] = p;
