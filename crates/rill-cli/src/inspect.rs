@@ -100,6 +100,7 @@ pub fn to_json(r: &CellReport) -> Value {
             json!({
                 "name": w.name,
                 "role": role(w.role),
+                "direction": w.direction.name(),
                 "r_eq_ft": field(w.r_eq, Kind::Length),
                 "well_index_md_ft": field(w.well_index, Kind::WellIndex),
                 "productivity_stb_day_psi": field(w.productivity, Kind::Productivity),
@@ -176,7 +177,12 @@ fn print_text(r: &CellReport) {
     }
     for w in &r.wells {
         println!();
-        println!("  well \"{}\" ({})", w.name, role(w.role));
+        println!(
+            "  well \"{}\" ({}, along {})",
+            w.name,
+            role(w.role),
+            w.direction.name()
+        );
         println!("    Peaceman r_eq  {} ft", format_number(ft(w.r_eq)));
         println!(
             "    well index     {} md*ft",

@@ -132,9 +132,10 @@ fn render_cell(case: &Case, r: &CellReport, heading: &str) -> String {
     }
     for w in &r.wells {
         s.push_str(&format!(
-            "\nwell \"{}\" ({}): r_eq {}, well index {}, productivity {}\n",
+            "\nwell \"{}\" ({}, along {}): r_eq {}, well index {}, productivity {}\n",
             escape_md(&w.name),
             role_name(w.role),
+            w.direction.name(),
             show(w.r_eq, Kind::Length, sys),
             show(w.well_index, Kind::WellIndex, sys),
             show(w.productivity, Kind::Productivity, sys)
@@ -156,6 +157,7 @@ pub(crate) fn well_markdown(case: &Case, name: &str) -> Option<String> {
     let control = match w.control {
         Control::Rate(q) => format!("rate {}", show(q, Kind::SurfaceRate, sys)),
         Control::Bhp(p) => format!("bhp {}", show(p, Kind::Pressure, sys)),
+        Control::Shut => "shut".to_string(),
     };
     s.push_str(&format!(
         "radius {}, skin {}, control {}",
@@ -171,7 +173,7 @@ pub(crate) fn well_markdown(case: &Case, name: &str) -> Option<String> {
     let wi = display_unit(Kind::WellIndex, sys).name;
     let pi = display_unit(Kind::Productivity, sys).name;
     s.push_str(&format!(
-        "| completion | r_eq [{len}] | well index [{wi}] | productivity [{pi}] |\n|---|---:|---:|---:|\n"
+        "| completion | r_eq [{len}] | well index [{wi}] | productivity [{pi}] | along |\n|---|---:|---:|---:|---|\n"
     ));
     let mut total = 0.0;
     for c in &w.completions {
@@ -182,13 +184,14 @@ pub(crate) fn well_markdown(case: &Case, name: &str) -> Option<String> {
         let prod = derived::fluid_trans(case, index.geometric);
         total += prod;
         s.push_str(&format!(
-            "| ({}, {}, {}) | {} | {} | {} |\n",
+            "| ({}, {}, {}) | {} | {} | {} | {} |\n",
             c.i + 1,
             c.j + 1,
             c.k + 1,
             num(index.r_eq, Kind::Length, sys),
             num(index.geometric, Kind::WellIndex, sys),
-            num(prod, Kind::Productivity, sys)
+            num(prod, Kind::Productivity, sys),
+            c.direction.name()
         ));
     }
     if w.completions.len() > 1 {

@@ -211,6 +211,37 @@ pub enum Control {
     Rate(f64),
     /// Bottom-hole pressure at the well's datum (its top completion centre), Pa.
     Bhp(f64),
+    /// Shut by the deck: the well flows nothing until an event opens it.
+    Shut,
+}
+
+/// The axis a completed stretch of wellbore runs along.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default)]
+pub enum Direction {
+    /// Along x (i): a horizontal wellbore east-west.
+    X,
+    /// Along y (j): a horizontal wellbore south-north.
+    Y,
+    /// Along z (k): a vertical wellbore.
+    #[default]
+    Z,
+}
+
+impl Direction {
+    /// Every direction, in the order x, y, z.
+    pub const ALL: [Direction; 3] = [Direction::X, Direction::Y, Direction::Z];
+    /// The name as written in decks (`x`, `y`, `z`).
+    pub fn name(self) -> &'static str {
+        match self {
+            Direction::X => "x",
+            Direction::Y => "y",
+            Direction::Z => "z",
+        }
+    }
+    /// The direction written `name`, if any.
+    pub fn from_name(name: &str) -> Option<Direction> {
+        Direction::ALL.into_iter().find(|d| d.name() == name)
+    }
 }
 
 /// One completed cell of a well.
@@ -224,6 +255,21 @@ pub struct Completion {
     pub k: usize,
     /// The cell index.
     pub cell: usize,
+    /// The axis the wellbore runs along in this cell.
+    pub direction: Direction,
+}
+
+impl Completion {
+    /// The completion of 0-based cell `(i, j, k)` along `direction`.
+    pub fn new(grid: &Grid, i: usize, j: usize, k: usize, direction: Direction) -> Completion {
+        Completion {
+            i,
+            j,
+            k,
+            cell: grid.index(i, j, k),
+            direction,
+        }
+    }
 }
 
 /// A well: where it is completed and how it is controlled.

@@ -8,7 +8,7 @@ use crate::derived;
 use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::lower::{Spans, WellSpans};
 use crate::reuse::{kept, Held, Reuse};
-use rill_units::{display_unit, Kind, System};
+use rill_units::{display_unit, Kind, System, STANDARD_ATMOSPHERE_PA as ATM};
 use std::collections::HashSet;
 use std::sync::Arc;
 
@@ -61,6 +61,8 @@ pub fn run(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<Diag
     let sys = case.report.units;
     rock_checks(case, spans, reuse, out);
     fluid_checks(case, spans, sys, out);
+    initial_checks(case, spans, reuse, sys, out);
+    pressure_checks(case, spans, sys, out);
     well_checks(case, spans, sys, out);
     flow_checks(case, spans, reuse, out);
 }
@@ -226,6 +228,189 @@ fn fluid_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnosti
     }
 }
 
+/// The initial pressure must stay above 1 atm in every cell: a liquid below
+/// it would boil, and zero or less has no meaning. The usual causes are a
+/// datum depth in the wrong unit (metres for feet) or with the wrong sign,
+/// so the message gives the grid's depth range and the datum.
+fn initial_checks(
+    case: &Case,
+    spans: &Spans,
+    reuse: Option<&Reuse>,
+    sys: System,
+    out: &mut Vec<Diagnostic>,
+) {
+    let grid = &case.grid;
+    let at = spans.initial.unwrap_or(spans.main);
+    let params: Vec<u64> = [grid.nx as u64, grid.ny as u64, grid.nz as u64]
+        .into_iter()
+        .chain(grid.top.iter().map(|v| v.to_bits()))
+        .collect();
+    let (shallow, deep) = kept(
+        reuse,
+        "depth range of the cell centres",
+        &[grid.dz.shared().clone()],
+        &params,
+        || derived::depth_range(grid),
+    );
+    let range = format!(
+        "the grid's cell centres lie between {} and {} deep",
+        show(shallow, Kind::Length, sys),
+        show(deep, Kind::Length, sys)
+    );
+    let what = |p: f64| {
+        if p <= 0.0 {
+            "zero or negative"
+        } else {
+            "below 1 atm"
+        }
+    };
+    match &case.initial {
+        Initial::Datum { pressure, depth } => {
+            let p_at = |z| derived::hydrostatic_pressure(&case.fluid, *pressure, *depth, z);
+            // Monotone in depth: the lowest pressure is at one end of the grid.
+            let (z, p) = [(shallow, p_at(shallow)), (deep, p_at(deep))]
+                .into_iter()
+                .min_by(|a, b| a.1.total_cmp(&b.1))
+                .unwrap_or((shallow, f64::NAN));
+            if p >= ATM {
+                return;
+            }
+            let mut d = Diagnostic::error(
+                Code::InitialPressure,
+                at,
+                format!(
+                    "the initial pressure in equilibrium is {} ({}) at {} deep: {range}, and the datum ({}) is at {}",
+                    what(p),
+                    show(p, Kind::Pressure, sys),
+                    show(z, Kind::Length, sys),
+                    show(*pressure, Kind::Pressure, sys),
+                    show(*depth, Kind::Length, sys)
+                ),
+            );
+            if *depth < shallow || *depth > deep {
+                let off = if *depth < shallow {
+                    shallow - depth
+                } else {
+                    depth - deep
+                };
+                d = d.with_note(format!(
+                    "the datum lies {} {} the grid: check the depth's unit (m or ft) and its sign (depth grows downward)",
+                    show(off, Kind::Length, sys),
+                    if *depth < shallow { "above" } else { "below" }
+                ));
+            }
+            out.push(d);
+        }
+        Initial::Cells(values) => {
+            let bad = kept(
+                reuse,
+                "active cells with an initial pressure below 1 atm",
+                &[values.shared().clone(), case.rock.porosity.shared().clone()],
+                &[],
+                || {
+                    use rayon::prelude::*;
+                    (0..values.len())
+                        .into_par_iter()
+                        .filter(|&c| {
+                            case.rock.is_active(c) && (values[c] < ATM || values[c].is_nan())
+                        })
+                        .min()
+                },
+            );
+            if let Some(c) = bad {
+                out.push(Diagnostic::error(
+                    Code::InitialPressure,
+                    at,
+                    format!(
+                        "the initial pressure of cell {} is {} ({}); {range}",
+                        cell_name(grid, c),
+                        what(values[c]),
+                        show(values[c], Kind::Pressure, sys)
+                    ),
+                ));
+            }
+        }
+    }
+}
+
+/// Every absolute pressure given to a well or a boundary must be positive.
+fn pressure_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic>) {
+    let mut given: Vec<(f64, Location, String)> = Vec::new();
+    for (w, well) in case.wells.iter().enumerate() {
+        let ws = spans.wells.get(w).cloned().unwrap_or_default();
+        let origin = Location::new(well.origin.file, well.origin.span);
+        let name = &well.name;
+        if let Control::Bhp(p) = well.control {
+            given.push((
+                p,
+                ws.control.unwrap_or(origin),
+                format!("the BHP control of \"{name}\""),
+            ));
+        }
+        if let Some(p) = well.bhp_limit {
+            given.push((
+                p,
+                ws.bhp_limit.unwrap_or(origin),
+                format!("the `bhp_limit` of \"{name}\""),
+            ));
+        }
+        for (e, ev) in case.timeline.events.iter().enumerate() {
+            let ev_at = Location::new(ev.origin.file, ev.origin.span);
+            let find = |list: &[(usize, Location)]| {
+                list.iter()
+                    .find(|(i, _)| *i == e)
+                    .map(|(_, l)| *l)
+                    .unwrap_or(ev_at)
+            };
+            for ch in ev.changes.iter().filter(|ch| ch.well == w) {
+                if let Some(Control::Bhp(p)) = ch.control {
+                    given.push((
+                        p,
+                        find(&ws.event_controls),
+                        format!("the BHP control of \"{name}\" in an event"),
+                    ));
+                }
+                if let Some(p) = ch.bhp_limit {
+                    given.push((
+                        p,
+                        find(&ws.event_limits),
+                        format!("the `bhp_limit` of \"{name}\" in an event"),
+                    ));
+                }
+            }
+        }
+    }
+    for (b, boundary) in case.boundaries.iter().enumerate() {
+        let at = spans
+            .boundaries
+            .get(b)
+            .copied()
+            .unwrap_or(Location::new(boundary.origin.file, boundary.origin.span));
+        given.push((
+            boundary.pressure,
+            at,
+            format!("the pressure of boundary \"{}\"", boundary.name),
+        ));
+    }
+    for (p, at, what) in given {
+        if p <= 0.0 || p.is_nan() {
+            out.push(
+                Diagnostic::error(
+                    Code::SanityPressure,
+                    at,
+                    format!(
+                        "{what} is {}: an absolute pressure must be positive",
+                        show(p, Kind::Pressure, sys)
+                    ),
+                )
+                .with_note(
+                    "a gauge pressure (psig, barg) counts from 1 atm; check the sign and the unit",
+                ),
+            );
+        }
+    }
+}
+
 /// Initial pressure at a depth, from the datum in hydrostatic equilibrium.
 pub fn initial_pressure_at(case: &Case, depth: f64) -> Option<f64> {
     match &case.initial {
@@ -264,7 +449,75 @@ fn well_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic
         }
         let radius_at = ws.radius.unwrap_or(comp_at);
         radius_checks(case, well, radius_at, sys, out);
+        productivity_check(case, well, comp_at, out);
+        trajectory_check(case, well, comp_at, out);
         bhp_checks(case, w_index, well, &ws, comp_at, sys, out);
+    }
+}
+
+/// A well whose every completion has a zero well index can neither produce
+/// nor inject: its rate cannot be met and its BHP has no meaning.
+fn productivity_check(case: &Case, well: &Well, comp_at: Location, out: &mut Vec<Diagnostic>) {
+    let grid = &case.grid;
+    let mut reasons = Vec::new();
+    for c in &well.completions {
+        match derived::zero_index_reason(grid, &case.rock, c, well.radius, well.skin) {
+            Some(why) => reasons.push(format!("{}: {why}", cell_name(grid, c.cell))),
+            None => return,
+        }
+    }
+    if reasons.is_empty() {
+        return;
+    }
+    let mut d = Diagnostic::error(
+        Code::WellProductivity,
+        comp_at,
+        format!(
+            "every completion of well \"{}\" has a zero well index: the well cannot flow",
+            well.name
+        ),
+    );
+    for r in reasons.iter().take(8) {
+        d = d.with_note(r.clone());
+    }
+    if reasons.len() > 8 {
+        d = d.with_note(format!("and {} more completions", reasons.len() - 8));
+    }
+    out.push(d.with_note(
+        "complete the well in cells with permeability normal to the wellbore, or give them some",
+    ));
+}
+
+/// Successive completions along one direction should be neighbours along
+/// it: a gap, or a step to another row, is wellbore the model leaves out
+/// (each completion is a straight piece through its own cell).
+fn trajectory_check(case: &Case, well: &Well, comp_at: Location, out: &mut Vec<Diagnostic>) {
+    let grid = &case.grid;
+    let along = |c: &Completion| match c.direction {
+        Direction::X => (c.i, (c.j, c.k)),
+        Direction::Y => (c.j, (c.i, c.k)),
+        Direction::Z => (c.k, (c.i, c.j)),
+    };
+    let gap = well.completions.windows(2).find(|pair| {
+        let (a, b) = (&pair[0], &pair[1]);
+        let ((pa, ra), (pb, rb)) = (along(a), along(b));
+        a.direction == b.direction && (ra != rb || pa.abs_diff(pb) != 1)
+    });
+    if let Some(pair) = gap {
+        out.push(
+            Diagnostic::warning(
+                Code::WellCompletion,
+                comp_at,
+                format!(
+                    "the completions {} and {} of well \"{}\" both run along {} but are not neighbours along it: the wellbore between them is not modelled",
+                    cell_name(grid, pair[0].cell),
+                    cell_name(grid, pair[1].cell),
+                    well.name,
+                    pair[0].direction.name()
+                ),
+            )
+            .with_note("list the cells in order along the wellbore, or give a deviated stretch its own direction"),
+        );
     }
 }
 
@@ -289,8 +542,8 @@ fn radius_checks(
         .completions
         .iter()
         .map(|c| {
-            let (dx, dy, _) = derived::cell_size(grid, c.cell);
-            0.5 * dx.min(dy)
+            let f = derived::wellbore_frame(grid, &case.rock, c);
+            0.5 * f.d1.min(f.d2)
         })
         .fold(f64::INFINITY, f64::min);
     if well.radius <= 0.0 {

@@ -8,7 +8,7 @@
 //! by viscosity times formation volume factor gives surface m^3 per second per
 //! pascal.
 
-use crate::case::{Case, Completion, Grid, Rock, Side};
+use crate::case::{Case, Completion, Direction, Grid, Rock, Side};
 
 /// Standard gravity, m/s^2 (NIST SP 811, exact).
 pub const GRAVITY: f64 = 9.80665;
@@ -63,6 +63,22 @@ pub fn cell_center_depths(grid: &Grid) -> Vec<f64> {
         }
     }
     depth
+}
+
+/// Depths of the shallowest and the deepest cell centre of the grid, m.
+pub fn depth_range(grid: &Grid) -> (f64, f64) {
+    let mut range = (f64::INFINITY, f64::NEG_INFINITY);
+    let plane = grid.nx * grid.ny;
+    for col in 0..plane {
+        let mut top = grid.top[col];
+        for k in 0..grid.nz {
+            let dz = grid.dz[col + plane * k];
+            let centre = top + 0.5 * dz;
+            range = (range.0.min(centre), range.1.max(centre));
+            top += dz;
+        }
+    }
+    range
 }
 
 /// Pore volume at the rock reference pressure, reservoir m^3.
@@ -503,11 +519,69 @@ pub fn peaceman_radius(dx: f64, dy: f64, kx: f64, ky: f64) -> f64 {
 pub struct WellIndex {
     /// Equivalent radius, m.
     pub r_eq: f64,
-    /// Geometric well index `2 pi sqrt(kx ky) dz / (ln(r_eq / r_w) + s)`, m^3.
+    /// Geometric well index `2 pi sqrt(k1 k2) L / (ln(r_eq / r_w) + s)`, m^3,
+    /// with `k1`, `k2` the permeabilities normal to the wellbore and `L` the
+    /// cell length along it (for a vertical completion: kx, ky and dz).
     pub geometric: f64,
 }
 
-/// Well index of a vertical completion in cell `completion.cell`.
+/// A cell seen from a wellbore through it: the permeabilities and cell
+/// sizes along the two axes normal to the wellbore, and the cell length
+/// along it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WellboreFrame {
+    /// Names of the two normal permeabilities (`("ky", "kz")` along x).
+    pub names: (&'static str, &'static str),
+    /// Permeability along the first normal axis, m^2.
+    pub k1: f64,
+    /// Permeability along the second normal axis, m^2.
+    pub k2: f64,
+    /// Cell size along the first normal axis, m.
+    pub d1: f64,
+    /// Cell size along the second normal axis, m.
+    pub d2: f64,
+    /// Cell length along the wellbore, m.
+    pub length: f64,
+}
+
+/// The [`WellboreFrame`] of a completion along its direction: x has the
+/// normal axes (y, z), y has (x, z), z has (x, y). Peaceman (1983) derives
+/// the radius for a vertical well; applying it to a horizontal wellbore by
+/// rotating the axes is common practice, no published source.
+pub fn wellbore_frame(grid: &Grid, rock: &Rock, completion: &Completion) -> WellboreFrame {
+    let c = completion.cell;
+    let (dx, dy, dz) = cell_size(grid, c);
+    let (kx, ky, kz) = (rock.kx[c], rock.ky[c], rock.kz[c]);
+    match completion.direction {
+        Direction::X => WellboreFrame {
+            names: ("ky", "kz"),
+            k1: ky,
+            k2: kz,
+            d1: dy,
+            d2: dz,
+            length: dx,
+        },
+        Direction::Y => WellboreFrame {
+            names: ("kx", "kz"),
+            k1: kx,
+            k2: kz,
+            d1: dx,
+            d2: dz,
+            length: dy,
+        },
+        Direction::Z => WellboreFrame {
+            names: ("kx", "ky"),
+            k1: kx,
+            k2: ky,
+            d1: dx,
+            d2: dy,
+            length: dz,
+        },
+    }
+}
+
+/// Well index of the completion in cell `completion.cell` along its
+/// direction (Peaceman 1983, with the axes of [`wellbore_frame`]).
 pub fn well_index(
     grid: &Grid,
     rock: &Rock,
@@ -515,17 +589,47 @@ pub fn well_index(
     radius: f64,
     skin: f64,
 ) -> WellIndex {
-    let c = completion.cell;
-    let (dx, dy, dz) = cell_size(grid, c);
-    let (kx, ky) = (rock.kx[c], rock.ky[c]);
-    let r_eq = peaceman_radius(dx, dy, kx, ky);
+    let f = wellbore_frame(grid, rock, completion);
+    let r_eq = peaceman_radius(f.d1, f.d2, f.k1, f.k2);
     let denom = (r_eq / radius).ln() + skin;
-    let geometric = if rock.is_active(c) && denom > 0.0 && kx > 0.0 && ky > 0.0 {
-        2.0 * std::f64::consts::PI * (kx * ky).sqrt() * dz / denom
+    let geometric = if rock.is_active(completion.cell) && denom > 0.0 && f.k1 > 0.0 && f.k2 > 0.0 {
+        2.0 * std::f64::consts::PI * (f.k1 * f.k2).sqrt() * f.length / denom
     } else {
         0.0
     };
     WellIndex { r_eq, geometric }
+}
+
+/// Why completion `completion` has a zero well index, if it does: the cell
+/// is inactive, or a permeability normal to the wellbore is zero, or the
+/// radius and skin leave no positive denominator.
+pub fn zero_index_reason(
+    grid: &Grid,
+    rock: &Rock,
+    completion: &Completion,
+    radius: f64,
+    skin: f64,
+) -> Option<String> {
+    let c = completion.cell;
+    if !rock.is_active(c) {
+        return Some("the cell is inactive (porosity 0)".into());
+    }
+    let f = wellbore_frame(grid, rock, completion);
+    let zero: Vec<&str> = [(f.names.0, f.k1), (f.names.1, f.k2)]
+        .into_iter()
+        .filter(|(_, k)| *k <= 0.0)
+        .map(|(name, _)| name)
+        .collect();
+    if !zero.is_empty() {
+        return Some(format!(
+            "{} {} zero normal to the wellbore (along {})",
+            zero.join(" and "),
+            if zero.len() == 1 { "is" } else { "are" },
+            completion.direction.name()
+        ));
+    }
+    let wi = well_index(grid, rock, completion, radius, skin);
+    (wi.geometric <= 0.0).then(|| "ln(r_eq / r_w) + skin is not positive".into())
 }
 
 /// Pressure at `depth` in a static column of the case's liquid, given

@@ -255,10 +255,16 @@ codes! {
     SanityDensity = "sanity.density",
     /// A wellbore radius too large for its cell, or very small.
     SanityRadius = "sanity.radius",
+    /// An absolute pressure (BHP control or limit, boundary) that is zero or negative.
+    SanityPressure = "sanity.pressure",
+    /// An initial pressure that is zero, negative or below 1 atm somewhere in the grid.
+    InitialPressure = "initial.pressure",
     /// A completion outside the grid or in an inactive cell.
     WellCompletion = "well.completion",
     /// A BHP on the wrong side of the initial pressure for the well's role.
     WellBhp = "well.bhp",
+    /// A well whose every completion has a zero well index.
+    WellProductivity = "well.productivity",
     /// An injector BHP that may exceed fracture pressure.
     WellInjectionPressure = "well.injection-pressure",
     /// An active cell cut off from all flow.

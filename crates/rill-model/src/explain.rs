@@ -111,7 +111,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
     Explanation {
         code: Code::DeckChoice,
         summary: "A word that is not one of the choices its key allows.",
-        details: "Some keys take one word from a fixed list: `role` (producer, injector), `side` of a boundary, `kind` of a run, report `units`, the mode of a `control` (rate, bhp), the axes of a `patch` (i, j, k). The message lists the choices and, for a near miss, offers the nearest. (An extension of the specification's minimum set.)",
+        details: "Some keys take one word from a fixed list: `role` (producer, injector), `side` of a boundary, `kind` of a run, report `units`, the mode of a `control` (rate, bhp, shut), the axes of a `patch` (i, j, k). The message lists the choices and, for a near miss, offers the nearest. (An extension of the specification's minimum set.)",
         wrong: "role = farmer",
         right: "role = producer",
         fix: "Write one of the listed choices.",
@@ -261,6 +261,22 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Check the unit and the cell size.",
     },
     Explanation {
+        code: Code::SanityPressure,
+        summary: "An absolute pressure (BHP control or limit, boundary pressure) that is zero or negative.",
+        details: "Pressures in rill are absolute; gauge units (psig, barg) count from 1 atm. A BHP of 0 psia or less, or a boundary held at it, cannot be reached by a liquid: usually a sign slip or a gauge value written in an absolute unit. (An extension of the specification's minimum set.)",
+        wrong: "control = bhp -150 psi",
+        right: "control = bhp 150 psi",
+        fix: "Check the sign and the unit of the pressure.",
+    },
+    Explanation {
+        code: Code::InitialPressure,
+        summary: "The initial pressure is zero, negative or below 1 atm somewhere in the grid.",
+        details: "With `pressure = P at DEPTH` the initial state is the hydrostatic column through the datum; a datum far below the grid (metres written for feet, or a depth with the wrong sign) makes the pressure at the top of the grid fall below zero. The message gives the lowest pressure, the grid's depth range and the datum. A liquid below 1 atm would boil. (An extension of the specification's minimum set.)",
+        wrong: "pressure = 3850 psi at 8450 m   # grid top at 8000 ft",
+        right: "pressure = 3850 psi at 8450 ft",
+        fix: "Put the datum in the grid's depth range with the right unit, or correct the pressure.",
+    },
+    Explanation {
         code: Code::WellCompletion,
         summary: "A completion outside the grid or in an inactive cell.",
         details: "Completed cells must be inside 1..NX, 1..NY, 1..NZ and have porosity above 0.",
@@ -275,6 +291,14 @@ pub static EXPLANATIONS: &[Explanation] = &[
         wrong: "role = producer\ncontrol = bhp 3500 psi   # reservoir at 3200 psi",
         right: "role = producer\ncontrol = bhp 1500 psi",
         fix: "Check the role and the pressure.",
+    },
+    Explanation {
+        code: Code::WellProductivity,
+        summary: "Every completion of a well has a zero well index: the well cannot flow.",
+        details: "Peaceman's well index needs both permeabilities normal to the wellbore (kx and ky for a vertical completion) above zero, and an active cell. A well completed only in cells without them takes and gives nothing; its rate could never be met. Each completion is listed with the reason. (An extension of the specification's minimum set.)",
+        wrong: "kx = 0 md   # the only completed layer",
+        right: "kx = 120 md",
+        fix: "Complete the well in permeable, active cells, or correct the permeabilities.",
     },
     Explanation {
         code: Code::WellInjectionPressure,

@@ -4,7 +4,7 @@
 //! editor hover both render this, so they always show the same numbers,
 //! which are the numbers the simulator assembles (`derived`).
 
-use crate::case::{Case, Role, Side};
+use crate::case::{Case, Direction, Role, Side};
 use crate::derived;
 
 /// All values in SI.
@@ -62,9 +62,12 @@ pub struct WellReport {
     pub name: String,
     /// Producer or injector.
     pub role: Role,
+    /// The axis the wellbore runs along in the cell.
+    pub direction: Direction,
     /// Peaceman equivalent radius, m.
     pub r_eq: f64,
-    /// Geometric well index 2 pi sqrt(kx ky) dz / (ln(r_eq / r_w) + s), m^3.
+    /// Geometric well index 2 pi sqrt(k1 k2) L / (ln(r_eq / r_w) + s), m^3,
+    /// with the permeabilities normal to the wellbore and the length along it.
     pub well_index: f64,
     /// Well index with viscosity and formation volume factor: surface m^3 / (s Pa).
     pub productivity: f64,
@@ -120,6 +123,7 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
             WellReport {
                 name: w.name.clone(),
                 role: w.role,
+                direction: comp.direction,
                 r_eq: wi.r_eq,
                 well_index: wi.geometric,
                 productivity: derived::fluid_trans(case, wi.geometric),

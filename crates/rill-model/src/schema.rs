@@ -105,13 +105,16 @@ const fn key(name: &'static str, kind: ValueKind, required: bool, doc: &'static 
 
 /// Values of a well's `role`.
 pub const ROLES: &[&str] = &["producer", "injector"];
+/// Directions of a completed wellbore.
+pub const DIRECTIONS: &[&str] = &["x", "y", "z"];
 /// Values of a boundary's `side`.
 pub const SIDES: &[&str] = &["west", "east", "south", "north", "top", "bottom"];
 /// Values of the timeline's `kind`.
 pub const RUN_KINDS: &[&str] = &["transient", "steady"];
 /// Values of the report's `units`.
 pub const SYSTEMS: &[&str] = &["field", "metric", "si"];
-/// Modes of a well's `control`.
+/// Modes of a well's `control` that take a value; `shut`, which takes none,
+/// is read apart in the lowering of wells.
 pub const CONTROL_MODES: &[&str] = &["rate", "bhp"];
 
 /// The `case` block: the title of the case.
@@ -285,10 +288,11 @@ pub static WELL: BlockDef = BlockDef {
         key("role", ValueKind::Choice(ROLES), true, "`producer` or `injector`."),
         key("location", ValueKind::Column, false, "Column `(i, j)` of a vertical well; completed in `layers`."),
         key("layers", ValueKind::LayerRange, false, "Layers completed at `location`, e.g. `1..4`; defaults to all."),
-        key("completions", ValueKind::Cells, false, "Explicit completed cells `[(i, j, k) ...]`, instead of location and layers."),
+        key("completions", ValueKind::Cells, false, "Explicit completed cells `[(i, j, k) ...]`, instead of location and layers; one index of a cell may be a range, `(28..35, 10, 2)`: the cells along that axis, completed along it."),
+        key("direction", ValueKind::Choice(DIRECTIONS), false, "Axis the wellbore runs along in the listed `completions` (x, y or z); defaults to z. A range in a cell sets it for that cell; `location` wells are vertical."),
         key("radius", ValueKind::Quantity(Dim::LENGTH), true, "Wellbore radius."),
         key("skin", ValueKind::Number, false, "Skin factor; defaults to 0."),
-        key("control", ValueKind::Control, true, "`rate <surface rate>` or `bhp <pressure>`."),
+        key("control", ValueKind::Control, true, "`rate <surface rate>`, `bhp <pressure>` or `shut`."),
         key("bhp_limit", ValueKind::Quantity(Dim::PRESSURE), false, "Producer: lowest bottom-hole pressure; injector: highest. Rate control switches to it."),
     ],
     children: &[],

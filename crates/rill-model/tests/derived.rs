@@ -211,6 +211,7 @@ fn well_index_field_units() {
         j: 1,
         k: 0,
         cell: c.grid.index(0, 1, 0),
+        direction: Direction::Z,
     };
     let wi = well_index(&c.grid, &c.rock, &comp, 0.3 * FT, 2.0);
     let (kx, ky) = (40.0, 21.0);

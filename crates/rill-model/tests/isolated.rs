@@ -8,7 +8,8 @@ use std::path::Path;
 
 /// A 3 x 1 x 1 row whose middle cell has no permeability in x: its two faces
 /// carry nothing, so the middle and the east cell are cut off from the well
-/// in the west cell; `extra` adds blocks.
+/// in the west cell; `extra` adds blocks. (`ky` and `kz` cross no face of a
+/// one-row grid; they give a wellbore along x in the middle cell its index.)
 fn deck(extra: &str) -> String {
     format!(
         r#"grid {{
@@ -22,6 +23,8 @@ fn deck(extra: &str) -> String {
 rock {{
   porosity = 0.2
   kx = cells [100 0 100] md
+  ky = 100 md
+  kz = 100 md
   compressibility = 4e-6 1/psi
 }}
 
@@ -82,7 +85,7 @@ fn a_boundary_through_a_permeable_face_rescues_the_cell_it_touches() {
 
 #[test]
 fn a_well_in_the_cell_rescues_it() {
-    let well = "\nwell \"W-2\" {\n  role = injector\n  location = (2, 1)\n  radius = 0.3 ft\n  control = bhp 3500 psi\n}\n";
+    let well = "\nwell \"W-2\" {\n  role = injector\n  completions = [(2, 1, 1)]\n  direction = x\n  radius = 0.3 ft\n  control = bhp 3500 psi\n}\n";
     let m = isolated(&deck(well)).expect("the east cell stays isolated");
     assert!(m.starts_with("1 active cell(s)"), "{m}");
     assert!(m.contains("the first (3, 1, 1)"), "{m}");

@@ -84,6 +84,7 @@ fn demo_case(nx: usize, ny: usize, nz: usize) -> Case {
                 j,
                 k,
                 cell: i + nx * (j + ny * k),
+                direction: Direction::Z,
             })
             .collect(),
         radius: 0.3 * FT,
@@ -294,6 +295,7 @@ fn demo_results(case: &Case, n: usize) -> RunResults {
             })
             .collect(),
         pressure,
+        events: Vec::new(),
         times,
         stats: SolverStats {
             steps: 41,

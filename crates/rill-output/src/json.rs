@@ -27,11 +27,11 @@
 use std::io::{self, Write};
 
 use rill_model::{Case, Role};
-use rill_sim::{ControlMode, RunResults};
+use rill_sim::{ControlMode, RunResults, WellAction};
 use serde::Serialize;
 
 use crate::series::{Owner, SeriesTable};
-use crate::units::system_name;
+use crate::units::{display_unit, system_name, Quantity};
 use crate::RunMeta;
 
 #[derive(Serialize)]
@@ -48,7 +48,19 @@ struct Doc<'a> {
     boundaries: Vec<Boundary<'a>>,
     solver: Solver<'a>,
     cautions: &'a [String],
+    /// Wells the run shut (they would have flowed against their role) or
+    /// reopened, in time order.
+    events: Vec<EventDoc<'a>>,
     timings: TimingsDoc<'a>,
+}
+
+#[derive(Serialize)]
+struct EventDoc<'a> {
+    /// Start of the step from which it holds, in the time unit of the series.
+    time: f64,
+    well: &'a str,
+    /// `shut` or `reopened`.
+    action: &'static str,
 }
 
 #[derive(Serialize)]
@@ -183,6 +195,18 @@ pub(crate) fn write_json(
             linear_solver: &stats.linear_solver,
         },
         cautions,
+        events: results
+            .events
+            .iter()
+            .map(|e| EventDoc {
+                time: display_unit(Quantity::Time, case.report.units).show(e.time),
+                well: &e.well,
+                action: match e.action {
+                    WellAction::Shut => "shut",
+                    WellAction::Reopened => "reopened",
+                },
+            })
+            .collect(),
         timings: TimingsDoc {
             solver_seconds: stats.wall_seconds,
             run_seconds: meta.wall_seconds,
@@ -201,5 +225,6 @@ pub(crate) fn mode_name(mode: ControlMode) -> &'static str {
     match mode {
         ControlMode::Rate => "rate",
         ControlMode::Bhp => "bhp",
+        ControlMode::Shut => "shut",
     }
 }

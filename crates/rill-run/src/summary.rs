@@ -67,6 +67,7 @@ impl Summary {
         for w in &r.wells {
             let mode = match w.mode.get(last) {
                 Some(ControlMode::Bhp) => "on BHP",
+                Some(ControlMode::Shut) => "shut",
                 _ => "on rate",
             };
             lines.push(format!(

@@ -321,6 +321,9 @@ pub(crate) struct WellDrive {
     pub bhp: bool,
     /// Target surface rate (production positive), used when `!bhp`.
     pub rate: f64,
+    /// Shut: no completion flows (the BHP row is held; the run reports the
+    /// shut-in BHP).
+    pub shut: bool,
 }
 
 /// Inputs of one assembly besides the unknowns.
@@ -402,7 +405,7 @@ pub(crate) fn flows(d: &Disc, ctx: &Ctx, x: &[f64], well_rate: &mut [f64], bnd_r
     }
     for (w, wg) in d.wells.iter().enumerate() {
         let pw = x[d.n_cells + w];
-        well_rate[w] = if wg.wi_sum > 0.0 {
+        well_rate[w] = if wg.wi_sum > 0.0 && !ctx.drive[w].shut {
             wg.comps
                 .iter()
                 .map(|cp| completion_rate(ctx.pvt, cp, x[cp.cell], pw).0)
@@ -553,7 +556,7 @@ fn add_boundaries_and_wells(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) 
         let vals = &mut out.jac.values;
         vals[rp[row]..rp[row + 1]].fill(0.0);
         let drive = ctx.drive[w];
-        if wg.wi_sum <= 0.0 {
+        if wg.wi_sum <= 0.0 || drive.shut {
             vals[wg.diag] = ctx.pin_scale;
             out.resid[row] = 0.0;
             out.well_rate[w] = 0.0;
@@ -635,18 +638,21 @@ mod tests {
                         j: 1,
                         k: 0,
                         cell: 4,
+                        direction: Direction::Z,
                     },
                     Completion {
                         i: 0,
                         j: 0,
                         k: 1,
                         cell: 6,
+                        direction: Direction::Z,
                     },
                     Completion {
                         i: 2,
                         j: 1,
                         k: 1,
                         cell: 11,
+                        direction: Direction::Z,
                     },
                 ],
                 radius: 0.1,
@@ -694,6 +700,7 @@ mod tests {
             .map(|f| 2.1e7 + 9000.0 * (f.face_depth - 1000.0))
             .collect();
         let drive = [WellDrive {
+            shut: false,
             bhp: false,
             rate: 1e-3,
         }];

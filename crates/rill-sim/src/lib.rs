@@ -16,7 +16,8 @@
 //! * wells: Peaceman completions, BHP at the centre of the shallowest
 //!   completion, wellbore fluid on the same hydrostat, rate control with the
 //!   BHP as an unknown, switching to and from the BHP limit after every
-//!   Newton update;
+//!   Newton update; a well that would flow against its role at its BHP is
+//!   shut and reopened when it can flow again (module `run::controls`);
 //! * boundaries: half-cell transmissibility to a constant (or hydrostatic)
 //!   pressure at the face centre;
 //! * backward Euler, Newton with line search, step halving, report times

@@ -18,6 +18,31 @@ pub enum ControlMode {
     /// Held at a bottom-hole pressure: its BHP target, or the BHP limit of a
     /// rate-controlled well that could not hold its rate.
     Bhp,
+    /// Shut: at its BHP control or limit it would have flowed the wrong way
+    /// (a producer injecting, an injector producing), so it does not flow.
+    Shut,
+}
+
+/// What happened to a well at a [`WellEvent`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum WellAction {
+    /// Shut: at its BHP it would have flowed against its role.
+    Shut,
+    /// Reopened: at its BHP it can flow its way again.
+    Reopened,
+}
+
+/// A well shut or reopened, by the run (it would have flowed against its
+/// role) or by a timeline event (`control = shut` and back), from the start
+/// of the step at `time`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WellEvent {
+    /// Start of the step from which it holds, s.
+    pub time: f64,
+    /// The well's name in the deck.
+    pub well: String,
+    /// Shut or reopened.
+    pub action: WellAction,
 }
 
 /// One well's series, one value per report time.
@@ -83,6 +108,8 @@ pub struct RunResults {
     pub balance_error: Vec<f64>,
     /// Cell pressures per report time, Pa (NaN in inactive cells).
     pub pressure: Vec<Vec<f64>>,
+    /// Wells the run shut or reopened, in time order.
+    pub events: Vec<WellEvent>,
     /// Steps, iterations and time spent.
     pub stats: SolverStats,
 }

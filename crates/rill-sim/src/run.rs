@@ -7,6 +7,7 @@
 
 mod controls;
 mod floating;
+mod guard;
 mod newton;
 mod report;
 mod steady;
@@ -144,6 +145,16 @@ pub enum RunError {
         /// What went wrong in the last attempt.
         reason: String,
     },
+    /// An accepted step left a state no liquid can have: a cell pressure
+    /// not positive or not finite, or a bottom-hole pressure not finite.
+    Unphysical {
+        /// The step, counting from 1.
+        step: usize,
+        /// Time at the end of the step, s.
+        time: f64,
+        /// The cell or well, the value and the likely cause.
+        reason: String,
+    },
     /// The case cannot be run as it stands (e.g. a steady run with nothing
     /// that fixes the pressure level).
     Setup(String),
@@ -159,6 +170,11 @@ impl fmt::Display for RunError {
                 "step {step} failed at t = {} day (last step size {} day) after {cuts} cuts: {reason}",
                 fmt_g(time / DAY),
                 fmt_g(step_size / DAY)
+            ),
+            RunError::Unphysical { step, time, reason } => write!(
+                f,
+                "step {step} ended at t = {} day with an impossible state, so the run stopped: {reason}",
+                fmt_g(time / DAY)
             ),
             RunError::Setup(msg) => write!(f, "cannot run this case: {msg}"),
         }
@@ -298,6 +314,18 @@ pub fn run(
         return Err(RunError::Setup(
             "the grid has no active cell (porosity 0 everywhere)".into(),
         ));
+    }
+    // A rate no completion can deliver would leave the BHP undetermined.
+    if let Some(w) = case
+        .wells
+        .iter()
+        .zip(&d.wells)
+        .find(|(w, g)| matches!(w.control, rill_model::Control::Rate(_)) && g.wi_sum <= 0.0)
+    {
+        return Err(RunError::Setup(format!(
+            "well \"{}\" is on a rate control but every completion has a zero well index (well.productivity): its rate cannot be delivered",
+            w.0.name
+        )));
     }
     let steady = case.timeline.kind == RunKind::Steady;
     let mut x = initial_state(case, &d);

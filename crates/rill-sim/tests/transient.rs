@@ -458,6 +458,7 @@ fn rate_control_switches_to_bhp_limit_and_back() {
                 assert_eq!(s.bhp[n], 2500.0 * PSI);
                 assert!(s.rate[n] < 200.0 * STB_DAY);
             }
+            ControlMode::Shut => panic!("t = {t}: a producer above its limit is never shut"),
         }
     }
     assert!(saw_bhp, "the well never reached its limit");
@@ -509,7 +510,9 @@ fn events_and_report_times_are_exact() {
             time: 9.1 * DAY,
             changes: vec![WellChange {
                 well: 0,
-                control: Some(Control::Bhp(2800.0 * PSI)),
+                // Below the depleted block (about 2540 psi by then), so
+                // that the producer produces rather than being shut.
+                control: Some(Control::Bhp(1800.0 * PSI)),
                 bhp_limit: None,
             }],
             origin: Origin::default(),
@@ -538,7 +541,7 @@ fn events_and_report_times_are_exact() {
     assert!((s.rate[at(9.1 * DAY)] / STB_DAY - 50.0).abs() < 1e-6);
     for n in at(10.0 * DAY)..r.times.len() {
         assert_eq!(s.mode[n], ControlMode::Bhp);
-        assert_eq!(s.bhp[n], 2800.0 * PSI);
+        assert_eq!(s.bhp[n], 1800.0 * PSI);
     }
     // Progress never overshoots a report time and ends at the end.
     let mut last = 0.0;

@@ -1,11 +1,20 @@
 use super::*;
 
 impl<'s> Lowerer<'s> {
-    pub(super) fn lower_boundary(&mut self, file: usize, block: &Block) -> Option<Boundary> {
+    pub(super) fn lower_boundary(
+        &mut self,
+        file: usize,
+        block: &Block,
+        spans: &mut Spans,
+    ) -> Option<Boundary> {
         let name = label_of(block)?;
         let side = find(block, "side")
             .and_then(|s| self.choice(file, s, schema::SIDES))
             .and_then(Side::from_name);
+        let pressure_at = find(block, "pressure")
+            .map(|s| Location::new(file, s.value.span))
+            .unwrap_or(Location::new(file, block.name.span));
+        spans.boundaries.push(pressure_at);
         let pressure = find(block, "pressure").and_then(|s| match self.pressure_at_depth(file, s) {
             Some(Some(v)) => Some(v),
             Some(None) => {

@@ -6,8 +6,10 @@ impl<'s> Lowerer<'s> {
         file: usize,
         block: &Block,
         shape: Shape,
+        spans: &mut Spans,
     ) -> Option<Initial> {
         let stmt = find(block, "pressure")?;
+        spans.initial = Some(Location::new(file, stmt.value.span));
         if let Some((p, depth)) = self.pressure_at_depth(file, stmt)? {
             return Some(match depth {
                 Some(d) => Initial::Datum {

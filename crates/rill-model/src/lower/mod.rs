@@ -74,6 +74,10 @@ pub struct Spans {
     pub rock_compressibility: Option<Location>,
     /// Per well: (radius, control, bhp_limit, completions) spans.
     pub wells: Vec<WellSpans>,
+    /// Value span of the initial `pressure`.
+    pub initial: Option<Location>,
+    /// Value span of each boundary's `pressure`, in deck order.
+    pub boundaries: Vec<Location>,
     /// Name span of the `timeline` block.
     pub timeline: Option<Location>,
     /// Value span of `first_step`.
@@ -97,6 +101,8 @@ pub struct WellSpans {
     pub completions: Option<Location>,
     /// Event controls: (event index, location).
     pub event_controls: Vec<(usize, Location)>,
+    /// Event BHP limits: (event index, location).
+    pub event_limits: Vec<(usize, Location)>,
 }
 
 impl<'s> Lowerer<'s> {
@@ -156,7 +162,8 @@ impl<'s> Lowerer<'s> {
             ny: grid.ny,
             nz: grid.nz,
         };
-        let initial = initial_found.and_then(|f| self.lower_initial(f.file, f.block, shape));
+        let initial =
+            initial_found.and_then(|f| self.lower_initial(f.file, f.block, shape, &mut spans));
         let datum_pressure = match &initial {
             Some(Initial::Datum { pressure, .. }) => Some(*pressure),
             Some(Initial::Cells(v)) if !v.is_empty() => {
@@ -180,7 +187,7 @@ impl<'s> Lowerer<'s> {
             .get("boundary")
             .map(|v| {
                 v.iter()
-                    .filter_map(|f| self.lower_boundary(f.file, f.block))
+                    .filter_map(|f| self.lower_boundary(f.file, f.block, &mut spans))
                     .collect()
             })
             .unwrap_or_default();

@@ -268,13 +268,17 @@ impl<'s> Lowerer<'s> {
                 None => None,
             };
             let bhp_limit = match find(wb, "bhp_limit") {
-                Some(s) => match self.quantity(file, s, Dim::PRESSURE, Gauge::Allowed) {
-                    Some(v) => Some(v),
-                    None => {
-                        *ok = false;
-                        None
+                Some(s) => {
+                    if let Some(slot) = spans.wells.get_mut(index) {
+                        slot.event_limits
+                            .push((event, Location::new(file, s.value.span)));
                     }
-                },
+                    let limit = self.quantity(file, s, Dim::PRESSURE, Gauge::Allowed);
+                    if limit.is_none() {
+                        *ok = false;
+                    }
+                    limit
+                }
                 None => None,
             };
             changes.push(WellChange {

@@ -1,18 +1,24 @@
 use super::*;
 
-/// The completion of cell (i, j, k), 0-based.
-fn completion(grid: &Grid, i: usize, j: usize, k: usize) -> Completion {
-    Completion {
-        i,
-        j,
-        k,
-        cell: grid.index(i, j, k),
-    }
+/// The completion of cell (i, j, k), 0-based, along `direction`.
+fn completion(grid: &Grid, i: usize, j: usize, k: usize, direction: Direction) -> Completion {
+    Completion::new(grid, i, j, k, direction)
 }
+
+/// The axes of a cell tuple, in order.
+const AXES: [(&str, Direction); 3] = [
+    ("i", Direction::X),
+    ("j", Direction::Y),
+    ("k", Direction::Z),
+];
 
 impl<'s> Lowerer<'s> {
     pub(super) fn control(&mut self, file: usize, stmt: &Statement) -> Option<Control> {
         match stmt.value.atoms.as_slice() {
+            [Atom {
+                kind: AtomKind::Ident(mode),
+                ..
+            }] if mode == "shut" => Some(Control::Shut),
             [Atom {
                 kind: AtomKind::Ident(mode),
                 span: mode_span,
@@ -79,7 +85,7 @@ impl<'s> Lowerer<'s> {
                     Code::DeckChoice,
                     Location::new(file, first.span),
                     format!(
-                        "`control` expects `rate <surface rate>` or `bhp <pressure>`, found {}",
+                        "`control` expects `rate <surface rate>`, `bhp <pressure>` or `shut`, found {}",
                         crate::props::atom_words(&first.kind)
                     ),
                 );
@@ -180,7 +186,20 @@ impl<'s> Lowerer<'s> {
         let location = find(block, "location");
         let layers = find(block, "layers");
         let explicit = find(block, "completions");
+        let direction = find(block, "direction");
         let at = Location::new(file, block.name.span);
+        if let (Some(d), Some(_)) = (direction, location) {
+            self.diags.push(Diagnostic::error(
+                Code::DeckValue,
+                Location::new(file, d.key.span),
+                "`direction` goes with explicit `completions`; a well at a `location` is vertical",
+            ));
+            return None;
+        }
+        let direction = match direction {
+            Some(d) => Direction::from_name(self.choice(file, d, schema::DIRECTIONS)?)?,
+            None => Direction::Z,
+        };
         match (location, explicit) {
             (Some(_), Some(e)) => {
                 self.diags.push(Diagnostic::error(
@@ -204,7 +223,7 @@ impl<'s> Lowerer<'s> {
             }
             (None, Some(e)) => {
                 ws.completions = Some(Location::new(file, e.value.span));
-                self.listed_completions(file, e, layers, grid)
+                self.listed_completions(file, e, layers, grid, direction)
             }
         }
     }
@@ -262,18 +281,21 @@ impl<'s> Lowerer<'s> {
         };
         Some(
             (k0..=k1)
-                .map(|k| completion(grid, i as usize - 1, j as usize - 1, k - 1))
+                .map(|k| completion(grid, i as usize - 1, j as usize - 1, k - 1, Direction::Z))
                 .collect(),
         )
     }
 
-    /// `completions = [(i, j, k) ...]`: the listed cells, each once.
+    /// `completions = [(i, j, k) ...]`: the listed cells, each once, along
+    /// `direction`; a cell with a range, `(28..35, 10, 2)`, is the cells
+    /// along that axis, completed along it.
     fn listed_completions(
         &mut self,
         file: usize,
         e: &Statement,
         layers: Option<&Statement>,
         grid: &Grid,
+        direction: Direction,
     ) -> Option<Vec<Completion>> {
         if let Some(l) = layers {
             self.diags.push(Diagnostic::error(
@@ -319,6 +341,17 @@ impl<'s> Lowerer<'s> {
                 ok = false;
                 continue;
             };
+            if t.iter().any(|a| matches!(a.kind, AtomKind::Range { .. })) {
+                match self.ranged_cells(file, t, item.span, grid) {
+                    Some(cells) => {
+                        for c in cells {
+                            ok &= self.push_once(file, item.span, &mut out, c);
+                        }
+                    }
+                    None => ok = false,
+                }
+                continue;
+            }
             let Some(ijk) = self.tuple_indices(file, t, item.span, 3) else {
                 ok = false;
                 continue;
@@ -342,17 +375,14 @@ impl<'s> Lowerer<'s> {
                 ok = false;
                 continue;
             }
-            let c = completion(grid, i as usize - 1, j as usize - 1, k as usize - 1);
-            if out.iter().any(|o: &Completion| o.cell == c.cell) {
-                self.diags.push(Diagnostic::error(
-                    Code::DeckDuplicateKey,
-                    Location::new(file, item.span),
-                    format!("the cell ({i}, {j}, {k}) is completed twice"),
-                ));
-                ok = false;
-                continue;
-            }
-            out.push(c);
+            let c = completion(
+                grid,
+                i as usize - 1,
+                j as usize - 1,
+                k as usize - 1,
+                direction,
+            );
+            ok &= self.push_once(file, item.span, &mut out, c);
         }
         if out.is_empty() && ok {
             self.diags.push(Diagnostic::error(
@@ -363,5 +393,72 @@ impl<'s> Lowerer<'s> {
             return None;
         }
         ok.then_some(out)
+    }
+
+    /// Adds `c` unless its cell is completed already (an error then).
+    fn push_once(
+        &mut self,
+        file: usize,
+        span: Span,
+        out: &mut Vec<Completion>,
+        c: Completion,
+    ) -> bool {
+        if out.iter().any(|o| o.cell == c.cell) {
+            self.diags.push(Diagnostic::error(
+                Code::DeckDuplicateKey,
+                Location::new(file, span),
+                format!(
+                    "the cell ({}, {}, {}) is completed twice",
+                    c.i + 1,
+                    c.j + 1,
+                    c.k + 1
+                ),
+            ));
+            return false;
+        }
+        out.push(c);
+        true
+    }
+
+    /// The cells of a tuple with one range, `(28..35, 10, 2)`, completed
+    /// along the axis of the range.
+    fn ranged_cells(
+        &mut self,
+        file: usize,
+        t: &[Atom],
+        span: Span,
+        grid: &Grid,
+    ) -> Option<Vec<Completion>> {
+        let ranges = t
+            .iter()
+            .filter(|a| matches!(a.kind, AtomKind::Range { .. }))
+            .count();
+        if t.len() != 3 || ranges != 1 {
+            self.diags.push(Diagnostic::error(
+                Code::DeckValue,
+                Location::new(file, span),
+                "a completed stretch is a cell with one range, `(28..35, 10, 2)`: three indices, one of them a range",
+            ));
+            return None;
+        }
+        let sizes = [grid.nx, grid.ny, grid.nz];
+        let mut bounds = [(0, 0); 3];
+        let mut along = Direction::Z;
+        for (a, atom) in t.iter().enumerate() {
+            bounds[a] = self.index_range(file, atom, sizes[a], AXES[a].0, Code::WellCompletion)?;
+            if matches!(atom.kind, AtomKind::Range { .. }) {
+                along = AXES[a].1;
+            }
+        }
+        let [(i0, i1), (j0, j1), (k0, k1)] = bounds;
+        let mut cells = Vec::new();
+        for k in k0..=k1 {
+            for j in j0..=j1 {
+                for i in i0..=i1 {
+                    cells.push(completion(grid, i - 1, j - 1, k - 1, along));
+                }
+            }
+        }
+        Some(cells)
     }
 }

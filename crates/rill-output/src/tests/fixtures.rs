@@ -51,6 +51,7 @@ pub fn case(nx: usize, ny: usize, nz: usize, units: UnitSystem) -> Case {
                 j,
                 k,
                 cell: i + nx * (j + ny * k),
+                direction: Direction::Z,
             })
             .collect(),
         radius: 0.3 * FT,
@@ -154,6 +155,7 @@ pub fn results(case: &Case) -> RunResults {
         }],
         balance_error: vec![0.0, 1.5e-9, 2.25e-9],
         pressure,
+        events: Vec::new(),
         stats: SolverStats {
             steps: 14,
             step_cuts: 1,

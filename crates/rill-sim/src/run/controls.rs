@@ -1,5 +1,13 @@
 //! Well control state: the control each well is on, switching between a
 //! rate target and its BHP limit, timeline events, and the shut-in BHP.
+//!
+//! No backflow: a well is never allowed to flow against its role. A well
+//! held at a BHP (its control, or the limit of a rate control) at which its
+//! completions together would flow the wrong way (a producer injecting, an
+//! injector producing) is shut instead: it flows nothing, and its BHP is
+//! the shut-in one. A shut well is re-tested before each step and after
+//! every Newton update, and reopens as soon as its BHP lets it flow its
+//! way. Each shut and reopening is recorded in the results' events.
 
 use rill_model::derived;
 use rill_model::{Case, Control, Role};
@@ -26,14 +34,30 @@ pub(super) struct WellState {
 impl WellState {
     pub(super) fn drive(&self) -> WellDrive {
         match (self.mode, self.control) {
+            (ControlMode::Shut, _) => WellDrive {
+                bhp: false,
+                rate: 0.0,
+                shut: true,
+            },
             (ControlMode::Rate, Control::Rate(q)) => WellDrive {
                 bhp: false,
                 rate: self.sign * q,
+                shut: false,
             },
             _ => WellDrive {
                 bhp: true,
                 rate: 0.0,
+                shut: false,
             },
+        }
+    }
+    /// The BHP the well would hold if it were on BHP control: its BHP
+    /// control, or the limit of its rate control.
+    fn held_bhp(&self) -> Option<f64> {
+        match self.control {
+            Control::Bhp(p) => Some(p),
+            Control::Rate(_) => self.limit,
+            Control::Shut => None,
         }
     }
     /// The BHP held when the well is on BHP control.
@@ -46,6 +70,15 @@ impl WellState {
     }
 }
 
+/// The mode a control starts in.
+fn mode_of(c: Control) -> ControlMode {
+    match c {
+        Control::Rate(_) => ControlMode::Rate,
+        Control::Bhp(_) => ControlMode::Bhp,
+        Control::Shut => ControlMode::Shut,
+    }
+}
+
 /// Each well on the control the deck gives it.
 pub(super) fn initial_wells(case: &Case) -> Vec<WellState> {
     case.wells
@@ -53,10 +86,7 @@ pub(super) fn initial_wells(case: &Case) -> Vec<WellState> {
         .map(|w| WellState {
             control: w.control,
             limit: w.bhp_limit,
-            mode: match w.control {
-                Control::Rate(_) => ControlMode::Rate,
-                Control::Bhp(_) => ControlMode::Bhp,
-            },
+            mode: mode_of(w.control),
             sign: if w.role == Role::Producer { 1.0 } else { -1.0 },
             switches: 0,
         })
@@ -71,10 +101,7 @@ pub(super) fn apply_event(wells: &mut [WellState], ev: &rill_model::Event) {
         };
         if let Some(c) = ch.control {
             st.control = c;
-            st.mode = match c {
-                Control::Rate(_) => ControlMode::Rate,
-                Control::Bhp(_) => ControlMode::Bhp,
-            };
+            st.mode = mode_of(c);
         }
         if let Some(l) = ch.bhp_limit {
             st.limit = Some(l);
@@ -125,6 +152,60 @@ impl Runner<'_> {
         pw
     }
 
+    /// The well's surface rate if its BHP were `pw`, at the cell pressures of `x`.
+    fn rate_at(&self, w: usize, x: &[f64], pw: f64) -> f64 {
+        self.d.wells[w]
+            .comps
+            .iter()
+            .map(|cp| completion_rate(&self.pvt, cp, x[cp.cell], pw).0)
+            .sum()
+    }
+
+    /// Re-tests a shut well: it reopens when the BHP it would hold lets it
+    /// flow its way (on rate control when that BHP gives more than the
+    /// target). Returns true when it reopened.
+    fn retest_shut(&self, w: usize, st: &mut WellState, x: &mut [f64]) -> bool {
+        if st.control == Control::Shut {
+            // Shut by the deck: only an event opens it.
+            return false;
+        }
+        let Some(p) = st.held_bhp() else {
+            // A rate control without limit never reverses; never shut.
+            st.mode = ControlMode::Rate;
+            return true;
+        };
+        let qa = self.rate_at(w, x, p);
+        if st.sign * qa <= 0.0 || st.switches >= self.opts.newton.max_switches {
+            return false;
+        }
+        st.switches += 1;
+        st.mode = match st.control {
+            Control::Rate(q) if st.sign * qa > q => ControlMode::Rate,
+            _ => {
+                x[self.d.n_cells + w] = p;
+                ControlMode::Bhp
+            }
+        };
+        true
+    }
+
+    /// Shuts a well on BHP control that would flow against its role at its
+    /// BHP. Returns true when it shut.
+    fn shut_if_reversed(&self, w: usize, st: &mut WellState, x: &mut [f64]) -> bool {
+        let xw = self.d.n_cells + w;
+        if st.mode != ControlMode::Bhp
+            || st.switches >= self.opts.newton.max_switches
+            || self.d.wells[w].wi_sum <= 0.0
+            || st.sign * self.rate_at(w, x, x[xw]) >= 0.0
+        {
+            return false;
+        }
+        st.switches += 1;
+        st.mode = ControlMode::Shut;
+        x[xw] = self.shut_in_bhp(x, w);
+        true
+    }
+
     /// Applies control switching at `x` and holds BHP-controlled wells at
     /// their targets. Returns true when a control changed.
     ///
@@ -138,7 +219,12 @@ impl Runner<'_> {
         let mut switched = false;
         for (w, st) in wells.iter_mut().enumerate() {
             let xw = nc + w;
+            if st.mode == ControlMode::Shut {
+                switched |= self.retest_shut(w, st, x);
+                continue;
+            }
             match st.control {
+                Control::Shut => st.mode = ControlMode::Shut,
                 Control::Bhp(p) => {
                     st.mode = ControlMode::Bhp;
                     x[xw] = p;
@@ -162,19 +248,17 @@ impl Runner<'_> {
                     }
                     (ControlMode::Bhp, Some(lim)) => {
                         x[xw] = lim;
-                        let qa: f64 = self.d.wells[w]
-                            .comps
-                            .iter()
-                            .map(|cp| completion_rate(&self.pvt, cp, x[cp.cell], lim).0)
-                            .sum();
+                        let qa = self.rate_at(w, x, lim);
                         if st.sign * qa > q && st.switches < max_sw {
                             st.mode = ControlMode::Rate;
                             st.switches += 1;
                             switched = true;
                         }
                     }
+                    (ControlMode::Shut, _) => {}
                 },
             }
+            switched |= self.shut_if_reversed(w, st, x);
         }
         switched
     }

@@ -44,7 +44,29 @@ pub(super) fn empty_results(case: &Case) -> RunResults {
             .collect(),
         balance_error: Vec::new(),
         pressure: Vec::new(),
+        events: Vec::new(),
         stats: SolverStats::default(),
+    }
+}
+
+/// Records the wells whose shut state changed between `before` and `after`.
+pub(super) fn record_events(
+    res: &mut RunResults,
+    time: f64,
+    before: &[ControlMode],
+    after: &[WellState],
+) {
+    for (w, (b, a)) in before.iter().zip(after).enumerate() {
+        let action = match (*b == ControlMode::Shut, a.mode == ControlMode::Shut) {
+            (false, true) => WellAction::Shut,
+            (true, false) => WellAction::Reopened,
+            _ => continue,
+        };
+        res.events.push(WellEvent {
+            time,
+            well: res.wells[w].name.clone(),
+            action,
+        });
     }
 }
 
@@ -76,7 +98,12 @@ impl Runner<'_> {
             x[..nc].iter().sum::<f64>() / nc as f64
         });
         for (w, s) in res.wells.iter_mut().enumerate() {
-            s.bhp.push(x[nc + w]);
+            // A shut well's BHP is the one at which it would not flow.
+            s.bhp.push(if wells[w].mode == ControlMode::Shut {
+                self.shut_in_bhp(x, w)
+            } else {
+                x[nc + w]
+            });
             s.rate.push(row.well_rate[w]);
             s.cumulative.push(row.well_cum[w]);
             s.mode.push(wells[w].mode);

@@ -31,6 +31,7 @@ impl Runner<'_> {
         let n = self.d.n();
         let mut rhs = vec![0.0; n];
         let mut rounds = 0;
+        let modes: Vec<_> = wells.iter().map(|w| w.mode).collect();
         self.update_controls(wells, x);
         loop {
             if observer.cancelled() {
@@ -57,6 +58,8 @@ impl Runner<'_> {
                 break;
             }
         }
+        self.guard(x, end, 1)?;
+        super::report::record_events(res, 0.0, &modes, wells);
         let drive: Vec<WellDrive> = wells.iter().map(WellState::drive).collect();
         flows(
             &self.d,

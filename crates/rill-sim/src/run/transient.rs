@@ -155,6 +155,8 @@ impl Runner<'_> {
         let mut si = 0;
         let mut step = 0;
         while si < stops.len() {
+            // Modes before the events, so that a shut or opening by an event is recorded.
+            let modes: Vec<_> = wells.iter().map(|w| w.mode).collect();
             while next_event < events.len() && events[next_event].time <= t + 1e-9 * end.max(1.0) {
                 controls::apply_event(wells, &events[next_event]);
                 next_event += 1;
@@ -163,6 +165,8 @@ impl Runner<'_> {
             let proposal = sizer.propose(stop - t);
             let taken = self.take_step(x, wells, proposal, &mut acc, t, step, observer)?;
             step += 1;
+            self.guard(x, t + taken.dt, step)?;
+            super::report::record_events(res, t, &modes, wells);
             self.stats.steps += 1;
             let balance = self.close_step(x, &mut acc, taken.dt);
             t = if taken.hits { stop } else { t + taken.dt };

@@ -99,6 +99,7 @@ pub fn well(
                 j,
                 k,
                 cell: case.grid.index(i, j, k),
+                direction: Direction::Z,
             })
             .collect(),
         radius: 0.3 * FT,
