@@ -488,20 +488,20 @@ fn productivity_check(case: &Case, well: &Well, comp_at: Location, out: &mut Vec
     ));
 }
 
-/// Successive completions along one direction should be neighbours along
-/// it: a gap, or a step to another row, is wellbore the model leaves out
-/// (each completion is a straight piece through its own cell).
+/// Successive completions along one direction should touch: a gap between
+/// them is wellbore the model leaves out (each completion is a straight
+/// piece through its own cell). A step to a touching cell of the next row
+/// (a deviated well listed cell by cell, `[(15, 10, 1) (16, 10, 2)]`) is
+/// how such wells are written and is not a gap.
 fn trajectory_check(case: &Case, well: &Well, comp_at: Location, out: &mut Vec<Diagnostic>) {
     let grid = &case.grid;
-    let along = |c: &Completion| match c.direction {
-        Direction::X => (c.i, (c.j, c.k)),
-        Direction::Y => (c.j, (c.i, c.k)),
-        Direction::Z => (c.k, (c.i, c.j)),
-    };
     let gap = well.completions.windows(2).find(|pair| {
         let (a, b) = (&pair[0], &pair[1]);
-        let ((pa, ra), (pb, rb)) = (along(a), along(b));
-        a.direction == b.direction && (ra != rb || pa.abs_diff(pb) != 1)
+        let step =
+            a.i.abs_diff(b.i)
+                .max(a.j.abs_diff(b.j))
+                .max(a.k.abs_diff(b.k));
+        a.direction == b.direction && step != 1
     });
     if let Some(pair) = gap {
         out.push(
@@ -509,7 +509,7 @@ fn trajectory_check(case: &Case, well: &Well, comp_at: Location, out: &mut Vec<D
                 Code::WellCompletion,
                 comp_at,
                 format!(
-                    "the completions {} and {} of well \"{}\" both run along {} but are not neighbours along it: the wellbore between them is not modelled",
+                    "the completions {} and {} of well \"{}\" both run along {} but do not touch: the wellbore between them is not modelled",
                     cell_name(grid, pair[0].cell),
                     cell_name(grid, pair[1].cell),
                     well.name,

@@ -234,6 +234,16 @@ fn gaps_along_the_direction_are_a_warning() {
 }
 
 #[test]
+fn a_deviated_well_listed_cell_by_cell_is_not_a_gap() {
+    let a = analyze(&deck("  completions = [(1, 3, 1) (2, 3, 2)]"));
+    assert!(
+        !a.diagnostics.iter().any(|d| d.code == Code::WellCompletion),
+        "{:?}",
+        a.diagnostics
+    );
+}
+
+#[test]
 fn two_ranges_in_one_cell_are_refused() {
     let a = analyze(&deck("  completions = [(1..2, 2..3, 2)]"));
     assert!(
