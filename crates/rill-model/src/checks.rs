@@ -488,11 +488,8 @@ fn productivity_check(case: &Case, well: &Well, comp_at: Location, out: &mut Vec
     ));
 }
 
-/// Successive completions along one direction should touch: a gap between
-/// them is wellbore the model leaves out (each completion is a straight
-/// piece through its own cell). A step to a touching cell of the next row
-/// (a deviated well listed cell by cell, `[(15, 10, 1) (16, 10, 2)]`) is
-/// how such wells are written and is not a gap.
+/// Successive completions along one direction should touch: a gap is
+/// wellbore the model leaves out; a deviated well listed cell by cell is not.
 fn trajectory_check(case: &Case, well: &Well, comp_at: Location, out: &mut Vec<Diagnostic>) {
     let grid = &case.grid;
     let gap = well.completions.windows(2).find(|pair| {
