@@ -51,12 +51,7 @@ pub fn pgmres<P: Preconditioner>(
         a.residual_into(b, x, &mut w);
         let beta = norm2(&w);
         if !beta.is_finite() {
-            return KrylovOutcome {
-                converged: false,
-                breakdown: true,
-                iterations: it,
-                rel_residual: f64::NAN,
-            };
+            return KrylovOutcome::non_finite(it);
         }
         let done = beta <= rel_tol * bnorm;
         if done || it >= max_iter || breakdown {

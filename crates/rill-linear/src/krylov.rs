@@ -158,6 +158,16 @@ impl KrylovOutcome {
             rel_residual: 0.0,
         }
     }
+
+    /// The residual is no longer finite after `iterations`: a breakdown.
+    pub(crate) fn non_finite(iterations: usize) -> Self {
+        KrylovOutcome {
+            converged: false,
+            breakdown: true,
+            iterations,
+            rel_residual: f64::NAN,
+        }
+    }
 }
 
 /// Preconditioned conjugate gradients for symmetric positive definite `a`
@@ -188,12 +198,7 @@ pub fn pcg<P: Preconditioner>(
         a.residual_into(b, x, &mut r);
         let mut rnorm = norm2(&r);
         if !rnorm.is_finite() {
-            return KrylovOutcome {
-                converged: false,
-                breakdown: true,
-                iterations: it,
-                rel_residual: f64::NAN,
-            };
+            return KrylovOutcome::non_finite(it);
         }
         if rnorm <= rel_tol * bnorm || it >= max_iter || breakdown {
             return KrylovOutcome {
@@ -261,12 +266,7 @@ pub fn pbicgstab<P: Preconditioner>(
         a.residual_into(b, x, &mut r);
         let rnorm0 = norm2(&r);
         if !rnorm0.is_finite() {
-            return KrylovOutcome {
-                converged: false,
-                breakdown: true,
-                iterations: it,
-                rel_residual: f64::NAN,
-            };
+            return KrylovOutcome::non_finite(it);
         }
         if rnorm0 <= rel_tol * bnorm || it >= max_iter || (breakdown && restarts > 3) {
             return KrylovOutcome {
