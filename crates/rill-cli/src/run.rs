@@ -1,5 +1,6 @@
 //! `rill run`: check the deck, run it through the shared pipeline
-//! (`rill_run`) with a progress bar on stderr, and print the pipeline's
+//! (`rill_run`) with a progress bar on stderr (plain progress lines when
+//! stderr is not a terminal: a log file, CI), and print the pipeline's
 //! summary with the caution that results are engineering estimates.
 
 use indicatif::{ProgressBar, ProgressStyle};
@@ -20,12 +21,35 @@ pub struct Args {
     pub quiet: bool,
 }
 
-/// Progress bar and Ctrl-C.
+/// Progress bar (or progress lines) and Ctrl-C.
 struct CliObserver {
     bar: Option<ProgressBar>,
     started: Instant,
     cancel: Arc<AtomicBool>,
     quiet: bool,
+    /// stderr is a terminal: a bar; otherwise a line now and then.
+    terminal: bool,
+    /// When the last progress line was printed (not a terminal).
+    last_line: Option<Instant>,
+    /// (first line after, interval between lines).
+    line_timing: (Duration, Duration),
+}
+
+/// The first progress line comes after this long, then one per interval, so
+/// a log shows that a long run is alive and how far it got without
+/// flooding with a line per step. `RILL_PROGRESS_SECONDS` sets both (0: a
+/// line after every step).
+const FIRST_LINE_AFTER: Duration = Duration::from_secs(2);
+const LINE_INTERVAL: Duration = Duration::from_secs(10);
+
+/// (first line after, interval) from `RILL_PROGRESS_SECONDS` or the defaults.
+fn line_timing() -> (Duration, Duration) {
+    std::env::var("RILL_PROGRESS_SECONDS")
+        .ok()
+        .and_then(|v| v.trim().parse::<f64>().ok())
+        .filter(|s| s.is_finite() && *s >= 0.0 && *s < 1e9)
+        .map(|s| (Duration::from_secs_f64(s), Duration::from_secs_f64(s)))
+        .unwrap_or((FIRST_LINE_AFTER, LINE_INTERVAL))
 }
 
 impl CliObserver {
@@ -33,7 +57,7 @@ impl CliObserver {
         // Only for runs longer than a moment, only on a terminal.
         if self.bar.is_none()
             && !self.quiet
-            && std::io::stderr().is_terminal()
+            && self.terminal
             && self.started.elapsed() > Duration::from_millis(300)
         {
             let bar = ProgressBar::new(1000);
@@ -46,10 +70,50 @@ impl CliObserver {
         }
         self.bar.as_ref()
     }
+
+    /// A plain progress line on stderr when it is due (not a terminal).
+    fn line(&mut self, p: &Progress) {
+        if self.quiet || self.terminal {
+            return;
+        }
+        let due = match self.last_line {
+            None => self.started.elapsed() >= self.line_timing.0,
+            Some(at) => at.elapsed() >= self.line_timing.1,
+        };
+        if !due {
+            return;
+        }
+        self.last_line = Some(Instant::now());
+        eprintln!("{}", progress_line(p, self.started.elapsed()));
+    }
+}
+
+/// `progress: t = 12.5 of 180 day (6.9%), step 1234 (0.01 day), 4 Newton /
+/// 31 linear iterations, 10 s elapsed`.
+fn progress_line(p: &Progress, elapsed: Duration) -> String {
+    let percent = if p.end > 0.0 {
+        format!(
+            " ({}%)",
+            format_number((p.time / p.end * 1000.0).round() / 10.0)
+        )
+    } else {
+        String::new()
+    };
+    format!(
+        "progress: t = {} of {} day{percent}, step {} ({} day), {} Newton / {} linear iterations, {} s elapsed",
+        format_number(p.time / 86400.0),
+        format_number(p.end / 86400.0),
+        p.step,
+        format_number(p.step_size / 86400.0),
+        p.newton_iterations,
+        p.linear_iterations,
+        elapsed.as_secs()
+    )
 }
 
 impl Observer for CliObserver {
     fn progress(&mut self, p: &Progress) {
+        self.line(p);
         if let Some(bar) = self.bar(p.end) {
             bar.set_position((p.time / 86400.0 * 1000.0) as u64);
             bar.set_message(format!(
@@ -96,6 +160,9 @@ pub fn run(args: Args) -> u8 {
         started,
         cancel,
         quiet: args.quiet,
+        terminal: std::io::stderr().is_terminal(),
+        last_line: None,
+        line_timing: line_timing(),
     };
     let out_dir = args
         .out

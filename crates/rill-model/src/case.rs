@@ -372,12 +372,26 @@ pub struct Timeline {
     pub first_step: f64,
     /// The longest time step, s.
     pub max_step: f64,
+    /// The shortest step a cut may leave, s: a step that fails at this
+    /// length stops the run (see [`Timeline::DEFAULT_MIN_STEP`]).
+    pub min_step: f64,
+    /// The most steps the run may take (see [`Timeline::DEFAULT_MAX_STEPS`]).
+    pub max_steps: usize,
     /// Factor by which a time step may grow over the last (1 to 10).
     pub growth: f64,
     /// Report interval, s; `None`: report at the end and at events only.
     pub report_every: Option<f64>,
     /// In time order.
     pub events: Vec<Event>,
+}
+
+impl Timeline {
+    /// `min_step` when the deck gives none: 1 s, or `first_step` when that
+    /// is shorter. A step cut below a second is no longer a time step of a
+    /// reservoir model but a sign that the case cannot be solved as written.
+    pub const DEFAULT_MIN_STEP: f64 = 1.0;
+    /// `max_steps` when the deck gives none.
+    pub const DEFAULT_MAX_STEPS: usize = 100_000;
 }
 
 /// A change of well settings at a time.

@@ -273,6 +273,9 @@ codes! {
     FlowNoDrive = "flow.no-drive",
     /// Events out of order, or a step or event beyond the end of the run.
     TimelineOrder = "timeline.order",
+    /// The run cannot finish within `max_steps`, or `min_step` is above
+    /// `first_step` or `max_step`.
+    TimelineSteps = "timeline.steps",
 }
 
 impl Code {

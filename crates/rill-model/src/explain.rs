@@ -332,6 +332,14 @@ pub static EXPLANATIONS: &[Explanation] = &[
         right: "end = 365 day\nat 180 day { ... }",
         fix: "Reorder the events or extend `end`.",
     },
+    Explanation {
+        code: Code::TimelineSteps,
+        summary: "The run cannot finish within `max_steps`, or `min_step` is above `first_step` or `max_step`.",
+        details: "A run takes at least `end` / `max_step` steps; when that is above `max_steps` (default 100000) it would stop before the end. `min_step` (default 1 s, or `first_step` when shorter) is the shortest step a cut may leave: a step that fails at that length stops the run rather than creep on for hours.",
+        wrong: "end = 100 day\nmax_step = 1e-4 day",
+        right: "end = 100 day\nmax_step = 5 day",
+        fix: "Raise `max_step`, shorten `end`, or raise `max_steps` when that many steps are really meant.",
+    },
 ];
 
 #[cfg(test)]

@@ -348,6 +348,18 @@ pub static TIMELINE: BlockDef = BlockDef {
             "Largest time step; defaults to end/10.",
         ),
         key(
+            "min_step",
+            ValueKind::Quantity(Dim::TIME),
+            false,
+            "Shortest step a cut may leave; a step that fails at it stops the run. Defaults to 1 s (or first_step, if shorter).",
+        ),
+        key(
+            "max_steps",
+            ValueKind::Number,
+            false,
+            "Most time steps the run may take; defaults to 100000.",
+        ),
+        key(
             "growth",
             ValueKind::Number,
             false,

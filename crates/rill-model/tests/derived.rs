@@ -67,6 +67,8 @@ fn case() -> Case {
             end: 0.0,
             first_step: 1.0,
             max_step: 1.0,
+            min_step: rill_model::Timeline::DEFAULT_MIN_STEP,
+            max_steps: rill_model::Timeline::DEFAULT_MAX_STEPS,
             growth: 1.5,
             report_every: None,
             events: vec![],

@@ -171,6 +171,8 @@ fn demo_case(nx: usize, ny: usize, nz: usize) -> Case {
             end: 360.0 * DAY,
             first_step: 0.1 * DAY,
             max_step: 30.0 * DAY,
+            min_step: rill_model::Timeline::DEFAULT_MIN_STEP,
+            max_steps: rill_model::Timeline::DEFAULT_MAX_STEPS,
             growth: 1.5,
             report_every: Some(30.0 * DAY),
             events: vec![],

@@ -673,6 +673,8 @@ mod tests {
                 end: 1e5,
                 first_step: 1e3,
                 max_step: 1e4,
+                min_step: rill_model::Timeline::DEFAULT_MIN_STEP,
+                max_steps: rill_model::Timeline::DEFAULT_MAX_STEPS,
                 growth: 1.5,
                 report_every: None,
                 events: vec![],

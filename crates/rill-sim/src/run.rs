@@ -9,6 +9,7 @@ mod controls;
 mod floating;
 mod guard;
 mod newton;
+mod pace;
 mod report;
 mod steady;
 mod transient;
@@ -155,6 +156,35 @@ pub enum RunError {
         /// The cell or well, the value and the likely cause.
         reason: String,
     },
+    /// A step failed at the shortest length a cut may leave
+    /// (`timeline.min_step`).
+    StepTooShort {
+        /// The step that failed, counting from 1.
+        step: usize,
+        /// Time at the start of the step, s.
+        time: f64,
+        /// Length of the last attempt, s.
+        step_size: f64,
+        /// `timeline.min_step`, s.
+        min_step: f64,
+        /// What went wrong in the last attempt.
+        reason: String,
+    },
+    /// The run used `timeline.max_steps` steps before its end, or the pace
+    /// of its last steps projects far more (see `run::pace`).
+    TooManySteps {
+        /// Steps taken.
+        steps: usize,
+        /// Time reached, s.
+        time: f64,
+        /// End of the run, s.
+        end: f64,
+        /// `timeline.max_steps`.
+        max_steps: usize,
+        /// Steps the whole run would take at the pace of its last steps,
+        /// once measured.
+        projected: Option<u64>,
+    },
     /// The case cannot be run as it stands (e.g. a steady run with nothing
     /// that fixes the pressure level).
     Setup(String),
@@ -176,6 +206,30 @@ impl fmt::Display for RunError {
                 "step {step} ended at t = {} day with an impossible state, so the run stopped: {reason}",
                 fmt_g(time / DAY)
             ),
+            RunError::StepTooShort { step, time, step_size, min_step, reason } => write!(
+                f,
+                "step {step} failed at t = {} day with a step of {} s, the shortest allowed (`min_step` = {} s): {reason}; the case is likely too hard to solve as written (check the units of viscosity, permeability and compressibility, and well rates the rock can deliver), or lower `min_step`",
+                fmt_g(time / DAY),
+                fmt_g(*step_size),
+                fmt_g(*min_step)
+            ),
+            RunError::TooManySteps { steps, time, end, max_steps, projected } => {
+                write!(
+                    f,
+                    "the run stopped after {steps} steps at t = {} day of {} day",
+                    fmt_g(time / DAY),
+                    fmt_g(end / DAY)
+                )?;
+                match projected {
+                    Some(p) if *steps < *max_steps => write!(
+                        f,
+                        ": at the pace of its last steps it would need about {p} steps, far above `max_steps` = {max_steps}"
+                    )?,
+                    Some(p) => write!(f, ", its `max_steps`; at the pace of its last steps it would need about {p}")?,
+                    None => write!(f, ", its `max_steps`")?,
+                }
+                write!(f, "; steps this short point to a case that is hard to solve as written (check the units of viscosity, permeability and compressibility), or raise `max_step` or `max_steps`")
+            }
             RunError::Setup(msg) => write!(f, "cannot run this case: {msg}"),
         }
     }

@@ -9,7 +9,100 @@ struct RunEnd {
     loc: Option<Location>,
 }
 
+/// The step lengths the guard is checked against, s.
+struct Steps {
+    first: f64,
+    max: f64,
+    /// `max_step` is written in the deck (not the default `end`/10).
+    max_given: bool,
+}
+
 impl<'s> Lowerer<'s> {
+    /// `min_step` and `max_steps` with their defaults, checked against the
+    /// other step lengths and against the fewest steps the run can take
+    /// (`end` / `max_step`). Errors are `timeline.steps`.
+    fn lower_step_guard(
+        &mut self,
+        file: usize,
+        block: &Block,
+        run_end: &RunEnd,
+        steps: &Steps,
+    ) -> Option<(f64, usize)> {
+        let min_stmt = find(block, "min_step");
+        let min_step = match min_stmt {
+            None => Timeline::DEFAULT_MIN_STEP.min(steps.first),
+            Some(s) => {
+                let v = self.quantity(file, s, Dim::TIME, Gauge::Refused)?;
+                let at = Location::new(file, s.value.span);
+                let above = if v <= 0.0 {
+                    Some("`min_step` must be a positive time".to_string())
+                } else if v > steps.first {
+                    Some(
+                        "`min_step` is longer than `first_step`: the first step could never be cut"
+                            .into(),
+                    )
+                } else if v > steps.max {
+                    Some("`min_step` is longer than `max_step`".into())
+                } else {
+                    None
+                };
+                if let Some(msg) = above {
+                    self.diags
+                        .push(Diagnostic::error(Code::TimelineSteps, at, msg));
+                    return None;
+                }
+                v
+            }
+        };
+        let max_stmt = find(block, "max_steps");
+        let max_steps = match max_stmt {
+            None => Timeline::DEFAULT_MAX_STEPS,
+            Some(s) => {
+                let v = self.number(file, s)?;
+                if !(v >= 1.0 && v.fract() == 0.0 && v <= 1e12) {
+                    self.diags.push(Diagnostic::error(
+                        Code::DeckOutOfRange,
+                        Location::new(file, s.value.span),
+                        format!("`max_steps` must be a whole number from 1 to 1e12, found {v}"),
+                    ));
+                    return None;
+                }
+                v as usize
+            }
+        };
+        if run_end.kind == RunKind::Transient && steps.max > 0.0 {
+            let fewest = (run_end.end / steps.max).ceil();
+            if fewest > max_steps as f64 {
+                let at = max_stmt
+                    .or(if steps.max_given {
+                        find(block, "max_step")
+                    } else {
+                        None
+                    })
+                    .map(|s| Location::new(file, s.value.span))
+                    .or(run_end.loc)
+                    .unwrap_or(Location::new(file, block.name.span));
+                let needed = run_end.end / max_steps as f64;
+                self.diags.push(
+                    Diagnostic::error(
+                        Code::TimelineSteps,
+                        at,
+                        format!(
+                            "the run needs at least {} steps (`end` / `max_step`), more than `max_steps` = {max_steps}: it would stop before the end",
+                            fewest as u64
+                        ),
+                    )
+                    .with_note(format!(
+                        "raise `max_step` to {} day or more, shorten `end`, or raise `max_steps` if that many steps are meant",
+                        rill_units::format_number(needed / 86400.0)
+                    )),
+                );
+                return None;
+            }
+        }
+        Some((min_step, max_steps))
+    }
+
     pub(super) fn lower_timeline(
         &mut self,
         file: usize,
@@ -109,12 +202,20 @@ impl<'s> Lowerer<'s> {
             end: end_v,
             loc: end_loc,
         };
+        let steps = Steps {
+            first: first_step_v,
+            max: max_step_v,
+            max_given: max_step.is_some(),
+        };
+        let (min_step, max_steps) = self.lower_step_guard(file, block, &run_end, &steps)?;
         let events = self.lower_events(file, block, &run_end, wells, spans)?;
         Some(Timeline {
             kind,
             end: end_v,
             first_step: first_step_v,
             max_step: max_step_v,
+            min_step,
+            max_steps,
             growth,
             report_every,
             events,

@@ -104,6 +104,8 @@ pub fn case(nx: usize, ny: usize, nz: usize, units: UnitSystem) -> Case {
             end: 20.0 * DAY,
             first_step: 0.1 * DAY,
             max_step: 10.0 * DAY,
+            min_step: rill_model::Timeline::DEFAULT_MIN_STEP,
+            max_steps: rill_model::Timeline::DEFAULT_MAX_STEPS,
             growth: 1.5,
             report_every: Some(10.0 * DAY),
             events: vec![],

@@ -6,6 +6,7 @@ use rill_model::Timeline;
 
 use super::controls::{self, WellState};
 use super::newton::{Iterations, StepFail};
+use super::pace::Pace;
 use super::report::ReportRow;
 use super::{Observer, Progress, RunError, Runner};
 use crate::disc::Assembly;
@@ -151,6 +152,7 @@ impl Runner<'_> {
         let stops = report_stops(tl);
         let mut acc = self.start_transient(x, wells, res);
         let mut sizer = StepSizer::new(tl);
+        let mut pace = Pace::new(tl);
         let mut t = 0.0;
         let mut si = 0;
         let mut step = 0;
@@ -195,6 +197,7 @@ impl Runner<'_> {
                 );
             }
             sizer.after(proposal, taken);
+            pace.check(step, t)?;
         }
         Ok(())
     }
@@ -238,7 +241,7 @@ impl Runner<'_> {
     }
 
     /// One step by Newton, halved and retried from the state before it on
-    /// failure, up to `max_step_cuts` times.
+    /// failure, up to `max_step_cuts` times and never below `min_step`.
     #[allow(clippy::too_many_arguments)]
     fn take_step(
         &mut self,
@@ -279,6 +282,18 @@ impl Runner<'_> {
                 Err(StepFail::Cancelled) => return Err(RunError::Cancelled { time: t }),
                 Err(StepFail::Failed { reason, iterations }) => {
                     taken.iterations.add(iterations);
+                    let min_step = self.case.timeline.min_step;
+                    if taken.dt <= min_step * (1.0 + 1e-12) {
+                        // A failure at the shortest length allowed (after
+                        // cuts, or a step that short to reach a report time).
+                        return Err(RunError::StepTooShort {
+                            step: step + 1,
+                            time: t,
+                            step_size: taken.dt,
+                            min_step,
+                            reason,
+                        });
+                    }
                     taken.cuts += 1;
                     self.stats.step_cuts += 1;
                     if taken.cuts > self.opts.max_step_cuts {
@@ -290,7 +305,8 @@ impl Runner<'_> {
                             reason,
                         });
                     }
-                    taken.dt *= 0.5;
+                    // Never below min_step: the last try is at min_step itself.
+                    taken.dt = (taken.dt * 0.5).max(min_step);
                     taken.hits = false;
                     x.copy_from_slice(&x_before);
                     wells.clone_from_slice(&wells_before);

@@ -65,6 +65,8 @@ pub fn block(dx: Vec<f64>, dy: Vec<f64>, dz_layers: Vec<f64>, top: f64) -> Case 
             end: 10.0 * DAY,
             first_step: 0.01 * DAY,
             max_step: 5.0 * DAY,
+            min_step: rill_model::Timeline::DEFAULT_MIN_STEP,
+            max_steps: rill_model::Timeline::DEFAULT_MAX_STEPS,
             growth: 1.5,
             report_every: None,
             events: Vec::new(),
