@@ -658,7 +658,10 @@ async fn run_is_one_per_case_and_cancellable() {
         .replace("cells = 11 x 11 x 1", "cells = 30 x 30 x 2")
         .replace("end = 180 day", "end = 36500 day")
         .replace("first_step = 0.05 day", "first_step = 0.001 day")
-        .replace("max_step = 10 day", "max_step = 0.01 day");
+        .replace(
+            "max_step = 10 day",
+            "max_step = 0.01 day\n  max_steps = 5000000",
+        );
     std::fs::write(&deck, &text).unwrap();
     let uri = url(&deck);
     let mut c = Client::start();

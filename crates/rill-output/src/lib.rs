@@ -11,6 +11,9 @@
 //! - [`write_results`]`(out_dir, case, results, meta)` writes a result set
 //!   and returns the [`WrittenFiles`]. [`default_out_dir`] gives
 //!   `<deck stem>.out/` beside the deck.
+//! - [`ResultWriter`] writes the same set while the run goes: `begin`
+//!   before it, `map` at each report time, `finish` at the end, so a run's
+//!   memory does not grow with its report times.
 //! - [`write_system`] / [`write_system_with`] write `matrix.mtx` and
 //!   `rhs.mtx` for `rill run --export-system DIR` (the MatrixMarket text
 //!   itself comes from `rill-sim`).
@@ -220,7 +223,8 @@ pub fn default_out_dir(deck: &Path) -> PathBuf {
 
 /// Writes the result set of a run into `out_dir`, atomically (see the crate
 /// doc). The previous contents of `out_dir`, if it is a rill result set, are
-/// replaced as a whole.
+/// replaced as a whole. `results.pressure` holds one array per report time
+/// (a map each) or none; a run that streams its maps uses [`ResultWriter`].
 pub fn write_results(
     out_dir: &Path,
     case: &Case,
@@ -228,74 +232,154 @@ pub fn write_results(
     meta: &RunMeta,
 ) -> Result<WrittenFiles, OutputError> {
     validate(case, results)?;
-    let target = check_target(out_dir, &meta.deck)?;
-    let system = case.report.units;
-    let table = series::SeriesTable::new(results, system);
-    let title = meta
-        .title
-        .clone()
-        .or_else(|| case.title.clone())
-        .filter(|t| !t.trim().is_empty())
-        .unwrap_or_else(|| {
-            meta.deck
-                .file_name()
-                .map_or("rill run".into(), |n| n.to_string_lossy().into_owned())
-        });
-    let mut cautions = vec![CAUTION.to_string()];
-    cautions.extend(meta.cautions.iter().cloned());
-    cautions.extend(report::derived_cautions(case, results, &table));
-
-    let mut staging = atomic::Staging::new(&target)?;
-    staging.file("series.csv", |w| csv::write_csv(&table, w))?;
-    staging.file("series.json", |w| {
-        json::write_json(w, case, results, meta, &table, &title, &cautions)
-    })?;
-
-    let mut relative: Vec<String> = vec!["series.csv".into(), "series.json".into()];
-    let mut subdirs = Vec::new();
-    if !results.pressure.is_empty() {
-        staging.subdir("maps")?;
-        subdirs.push("maps");
-        let maps = vtk::MapWriter::new(case);
-        let time = table.time();
-        let mut steps = Vec::new();
-        for (n, pressure) in results.pressure.iter().enumerate() {
-            let name = format!("step_{n:04}.vtr");
-            let rel = format!("maps/{name}");
-            staging.file(&rel, |w| maps.write_step(w, pressure, time.values[n]))?;
-            steps.push((time.values[n], name));
-            relative.push(rel);
-        }
-        staging.file("maps/rill.pvd", |w| vtk::write_pvd(w, &steps))?;
-        relative.push("maps/rill.pvd".into());
+    if !results.pressure.is_empty() && results.pressure.len() != results.times.len() {
+        return Err(OutputError::Inconsistent(format!(
+            "cell pressures are stored for {} of {} report times",
+            results.pressure.len(),
+            results.times.len()
+        )));
     }
-    let page = report::Report {
-        case,
-        results,
-        meta,
-        table: &table,
-        title: &title,
-        cautions: &cautions,
-        files: &relative,
-    };
-    staging.file("report.html", |w| report::write_report(w, &page))?;
+    let mut writer = ResultWriter::begin(out_dir, case, &meta.deck)?;
+    for (&time, pressure) in results.times.iter().zip(&results.pressure) {
+        writer.map(time, pressure)?;
+    }
+    writer.finish(case, results, meta)
+}
 
-    let (files, notes) = staging.publish(&subdirs)?;
-    let at = |rel: &str| target.join(rel);
-    Ok(WrittenFiles {
-        series_csv: at("series.csv"),
-        series_json: at("series.json"),
-        report_html: at("report.html"),
-        pvd: (!results.pressure.is_empty()).then(|| at("maps/rill.pvd")),
-        maps: files
-            .iter()
-            .filter(|p| p.extension().is_some_and(|e| e == "vtr"))
-            .cloned()
-            .collect(),
-        files,
-        notes,
-        dir: target,
-    })
+/// A result set written while the run goes: each report time's map goes to
+/// the staging folder when it comes ([`ResultWriter::map`]), so memory does
+/// not grow with the number of report times; [`ResultWriter::finish`] then
+/// writes the series, the collection and the report and swaps the set in.
+/// Dropped unfinished (a failed or cancelled run), it removes its staging
+/// folder and leaves the previous set as it was.
+pub struct ResultWriter {
+    target: PathBuf,
+    staging: atomic::Staging,
+    maps: vtk::MapWriter,
+    /// (time in report units, file name) of each map written.
+    steps: Vec<(f64, String)>,
+    time_unit: units::Unit,
+    cells: usize,
+}
+
+impl ResultWriter {
+    /// Checks `out_dir` (the refusals of the crate doc) and opens the
+    /// staging folder beside it, before the run starts: a refused target
+    /// fails at once, not after hours of simulation.
+    pub fn begin(out_dir: &Path, case: &Case, deck: &Path) -> Result<ResultWriter, OutputError> {
+        let target = check_target(out_dir, deck)?;
+        let staging = atomic::Staging::new(&target)?;
+        Ok(ResultWriter {
+            target,
+            staging,
+            maps: vtk::MapWriter::new(case),
+            steps: Vec::new(),
+            time_unit: units::display_unit(units::Quantity::Time, case.report.units),
+            cells: case.grid.cell_count(),
+        })
+    }
+
+    /// Writes the map of the report time `time` (s): `pressure` in Pa, one
+    /// value per grid cell (NaN in inactive cells).
+    pub fn map(&mut self, time: f64, pressure: &[f64]) -> Result<(), OutputError> {
+        if pressure.len() != self.cells {
+            return Err(OutputError::Inconsistent(format!(
+                "cell pressures at report time {} have {} values for {} cells",
+                self.steps.len(),
+                pressure.len(),
+                self.cells
+            )));
+        }
+        if self.steps.is_empty() {
+            self.staging.subdir("maps")?;
+        }
+        let name = format!("step_{:04}.vtr", self.steps.len());
+        let shown = self.time_unit.show(time);
+        let maps = &self.maps;
+        self.staging.file(&format!("maps/{name}"), |w| {
+            maps.write_step(w, pressure, shown)
+        })?;
+        self.steps.push((shown, name));
+        Ok(())
+    }
+
+    /// Writes the series, the map collection and the report, then swaps the
+    /// set into place. The maps written must be one per report time of
+    /// `results`, or none; the report draws `results.pressure`'s last array.
+    pub fn finish(
+        mut self,
+        case: &Case,
+        results: &RunResults,
+        meta: &RunMeta,
+    ) -> Result<WrittenFiles, OutputError> {
+        validate(case, results)?;
+        let n = results.times.len();
+        if !self.steps.is_empty() && self.steps.len() != n {
+            return Err(OutputError::Inconsistent(format!(
+                "maps were written for {} of {n} report times",
+                self.steps.len()
+            )));
+        }
+        let system = case.report.units;
+        let table = series::SeriesTable::new(results, system);
+        let title = meta
+            .title
+            .clone()
+            .or_else(|| case.title.clone())
+            .filter(|t| !t.trim().is_empty())
+            .unwrap_or_else(|| {
+                meta.deck
+                    .file_name()
+                    .map_or("rill run".into(), |n| n.to_string_lossy().into_owned())
+            });
+        let mut cautions = vec![CAUTION.to_string()];
+        cautions.extend(meta.cautions.iter().cloned());
+        cautions.extend(report::derived_cautions(case, results, &table));
+
+        let staging = &mut self.staging;
+        staging.file("series.csv", |w| csv::write_csv(&table, w))?;
+        staging.file("series.json", |w| {
+            json::write_json(w, case, results, meta, &table, &title, &cautions)
+        })?;
+        let mut relative: Vec<String> = vec!["series.csv".into(), "series.json".into()];
+        let mut subdirs = Vec::new();
+        let has_maps = !self.steps.is_empty();
+        if has_maps {
+            subdirs.push("maps");
+            relative.extend(self.steps.iter().map(|(_, name)| format!("maps/{name}")));
+            let steps = &self.steps;
+            staging.file("maps/rill.pvd", |w| vtk::write_pvd(w, steps))?;
+            relative.push("maps/rill.pvd".into());
+        }
+        let page = report::Report {
+            case,
+            results,
+            meta,
+            table: &table,
+            title: &title,
+            cautions: &cautions,
+            files: &relative,
+        };
+        staging.file("report.html", |w| report::write_report(w, &page))?;
+
+        let target = self.target;
+        let (files, notes) = self.staging.publish(&subdirs)?;
+        let at = |rel: &str| target.join(rel);
+        Ok(WrittenFiles {
+            series_csv: at("series.csv"),
+            series_json: at("series.json"),
+            report_html: at("report.html"),
+            pvd: has_maps.then(|| at("maps/rill.pvd")),
+            maps: files
+                .iter()
+                .filter(|p| p.extension().is_some_and(|e| e == "vtr"))
+                .cloned()
+                .collect(),
+            files,
+            notes,
+            dir: target,
+        })
+    }
 }
 
 /// Writes `matrix.mtx` and `rhs.mtx` (MatrixMarket text from
@@ -417,6 +501,7 @@ fn check_target(out_dir: &Path, deck: &Path) -> Result<PathBuf, OutputError> {
 
 /// Checks that every series has one value per report time and every cell
 /// array one value per cell, so that no writer can index out of bounds.
+/// (How many pressure arrays there are is checked by the callers.)
 fn validate(case: &Case, results: &RunResults) -> Result<(), OutputError> {
     let n = results.times.len();
     let grid = &case.grid;
@@ -476,24 +561,16 @@ fn validate(case: &Case, results: &RunResults) -> Result<(), OutputError> {
     {
         return bad("the rock arrays do not have one value per cell".into());
     }
-    if !results.pressure.is_empty() {
-        if results.pressure.len() != n {
-            return bad(format!(
-                "cell pressures are stored for {} of {n} report times",
-                results.pressure.len()
-            ));
-        }
-        if let Some((t, p)) = results
-            .pressure
-            .iter()
-            .enumerate()
-            .find(|(_, p)| p.len() != cells)
-        {
-            return bad(format!(
-                "cell pressures at report time {t} have {} values for {cells} cells",
-                p.len()
-            ));
-        }
+    if let Some((t, p)) = results
+        .pressure
+        .iter()
+        .enumerate()
+        .find(|(_, p)| p.len() != cells)
+    {
+        return bad(format!(
+            "cell pressures at report time {t} have {} values for {cells} cells",
+            p.len()
+        ));
     }
     Ok(())
 }

@@ -28,9 +28,9 @@ use std::fmt;
 use std::path::{Path, PathBuf};
 
 use rill_model::{Analysis, Diagnostic, Severity};
-use rill_output::{OutputError, RunMeta, WrittenFiles};
+use rill_output::{OutputError, ResultWriter, RunMeta, WrittenFiles};
 use rill_sim::linear::CsrMatrix;
-use rill_sim::{Observer, Progress, RunError, RunOptions, RunResults, Timings};
+use rill_sim::{KeepPressures, Observer, Progress, RunError, RunOptions, RunResults, Timings};
 
 pub use summary::Summary;
 
@@ -43,7 +43,9 @@ pub struct Request<'a> {
     pub deck: &'a Path,
     /// Where the result set goes (replaced as a whole; see `rill_output`).
     pub out_dir: &'a Path,
-    /// Solver settings.
+    /// Solver settings. The result set's maps are written as the run goes
+    /// whatever `options.keep_pressures` says; it only decides what
+    /// [`Finished::results`] keeps.
     pub options: RunOptions,
     /// Also write the first linear system as MatrixMarket `matrix.mtx` and
     /// `rhs.mtx` into this directory.
@@ -51,13 +53,18 @@ pub struct Request<'a> {
 }
 
 impl<'a> Request<'a> {
-    /// A request with the default solver settings and no system export.
+    /// A request with the default solver settings, the last report time's
+    /// cell pressures kept (the maps of the others are on disk), and no
+    /// system export.
     pub fn new(analysis: &'a Analysis, deck: &'a Path, out_dir: &'a Path) -> Request<'a> {
         Request {
             analysis,
             deck,
             out_dir,
-            options: RunOptions::default(),
+            options: RunOptions {
+                keep_pressures: KeepPressures::Last,
+                ..RunOptions::default()
+            },
             export_system: None,
         }
     }
@@ -172,7 +179,20 @@ pub fn run(request: &Request, observer: &mut dyn Observer) -> Outcome {
     };
     // The same deck is recorded the same way whoever runs it.
     let deck = std::fs::canonicalize(request.deck).unwrap_or_else(|_| request.deck.to_path_buf());
+    // Opened before the run: a refused result folder fails at once, and the
+    // maps go to disk as each report time comes.
+    let writer = match ResultWriter::begin(request.out_dir, case, &deck) {
+        Ok(w) => w,
+        Err(e) => {
+            return Outcome {
+                export: not_asked(),
+                result: Err(Failure::Output(e)),
+            }
+        }
+    };
     let mut watch = Watch {
+        maps: writer,
+        map_error: None,
         inner: observer,
         export: request
             .export_system
@@ -182,10 +202,16 @@ pub fn run(request: &Request, observer: &mut dyn Observer) -> Outcome {
         timings: Timings::default(),
     };
     let results = rill_sim::run(case, &request.options, &mut watch);
-    let (export, timings) = (watch.exported, watch.timings);
-    let results = match results {
-        Ok(r) => r,
-        Err(e) => {
+    let (export, timings, writer) = (watch.exported, watch.timings, watch.maps);
+    let results = match (results, watch.map_error) {
+        (_, Some(e)) => {
+            return Outcome {
+                export,
+                result: Err(Failure::Output(e)),
+            }
+        }
+        (Ok(r), None) => r,
+        (Err(e), None) => {
             return Outcome {
                 export,
                 result: Err(Failure::Run(e)),
@@ -197,7 +223,7 @@ pub fn run(request: &Request, observer: &mut dyn Observer) -> Outcome {
     meta.cautions = cautions.clone();
     meta.timings = Some(timings.clone());
     meta.wall_seconds = Some(started.elapsed().as_secs_f64());
-    let written = match rill_output::write_results(request.out_dir, case, &results, &meta) {
+    let written = match writer.finish(case, &results, &meta) {
         Ok(w) => w,
         Err(e) => {
             return Outcome {
@@ -221,10 +247,13 @@ pub fn run(request: &Request, observer: &mut dyn Observer) -> Outcome {
     }
 }
 
-/// Passes progress and cancellation through, exports the first system when
-/// asked, and keeps the timings.
+/// Passes progress and cancellation through, writes each report time's map,
+/// exports the first system when asked, and keeps the timings. A map that
+/// cannot be written stops the run (as a cancellation) and is the failure.
 struct Watch<'a> {
     inner: &'a mut dyn Observer,
+    maps: ResultWriter,
+    map_error: Option<OutputError>,
     /// (directory, deck) of the export still to do.
     export: Option<(&'a Path, &'a Path)>,
     exported: SystemExport,
@@ -237,7 +266,16 @@ impl Observer for Watch<'_> {
     }
 
     fn cancelled(&self) -> bool {
-        self.inner.cancelled()
+        self.map_error.is_some() || self.inner.cancelled()
+    }
+
+    fn report_time(&mut self, time: f64, pressure: &[f64]) {
+        if self.map_error.is_none() {
+            if let Err(e) = self.maps.map(time, pressure) {
+                self.map_error = Some(e);
+            }
+        }
+        self.inner.report_time(time, pressure);
     }
 
     fn first_system(&mut self, matrix: &CsrMatrix, rhs: &[f64]) {

@@ -156,3 +156,81 @@ fn a_cancelled_run_writes_nothing() {
         .starts_with("the run failed: run cancelled"));
     assert!(!out.exists());
 }
+
+/// Counts the report times and, at the first one, removes the staging
+/// folder the maps are streamed into (as a full disk or a vanished mount
+/// would make the next write fail).
+struct MapWatcher {
+    parent: PathBuf,
+    report_times: usize,
+    sabotage: bool,
+}
+
+impl Observer for MapWatcher {
+    fn report_time(&mut self, _time: f64, pressure: &[f64]) {
+        assert!(!pressure.is_empty());
+        self.report_times += 1;
+        if self.sabotage && self.report_times == 1 {
+            for e in std::fs::read_dir(&self.parent).unwrap().flatten() {
+                if e.file_name().to_string_lossy().contains(".rill-new-") {
+                    std::fs::remove_dir_all(e.path()).unwrap();
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn maps_are_streamed_and_only_the_last_pressures_are_kept() {
+    let (dir, path, analysis) = deck(BLOCK);
+    let out = dir.path().join("block.out");
+    let mut watch = MapWatcher {
+        parent: dir.path().to_path_buf(),
+        report_times: 0,
+        sabotage: false,
+    };
+    let done = run(&Request::new(&analysis, &path, &out), &mut watch)
+        .result
+        .unwrap();
+    let n = done.results.times.len();
+    // t = 0 and every 15 days to 180: 13 report times, a map each.
+    assert_eq!(n, 13);
+    assert_eq!(watch.report_times, n);
+    assert_eq!(done.written.maps.len(), n);
+    assert_eq!(done.results.pressure.len(), 1, "only the last is kept");
+    // The map written last holds that last array.
+    let last = std::fs::read_to_string(out.join("maps/step_0012.vtr")).unwrap();
+    assert!(last.contains("TimeValue"));
+    // Keeping every report time's pressures is still possible.
+    let mut request = Request::new(&analysis, &path, &out);
+    request.options.keep_pressures = rill_sim::KeepPressures::Every;
+    let every = run(&request, &mut rill_sim::NoObserver).result.unwrap();
+    assert_eq!(every.results.pressure.len(), n);
+    assert_eq!(every.results.pressure[n - 1], done.results.pressure[0]);
+}
+
+#[test]
+fn a_map_that_cannot_be_written_stops_the_run_and_keeps_the_earlier_set() {
+    let (dir, path, analysis) = deck(BLOCK);
+    let out = dir.path().join("block.out");
+    let first = run(
+        &Request::new(&analysis, &path, &out),
+        &mut rill_sim::NoObserver,
+    )
+    .result
+    .unwrap();
+    let csv_before = std::fs::read(&first.written.series_csv).unwrap();
+    let mut watch = MapWatcher {
+        parent: dir.path().to_path_buf(),
+        report_times: 0,
+        sabotage: true,
+    };
+    let outcome = run(&Request::new(&analysis, &path, &out), &mut watch);
+    match outcome.result {
+        Err(Failure::Output(e)) => assert!(!e.to_string().is_empty()),
+        other => panic!("expected an output failure, got {other:?}"),
+    }
+    // Stopped at the next report time, not run to the end.
+    assert_eq!(watch.report_times, 2);
+    assert_eq!(std::fs::read(out.join("series.csv")).unwrap(), csv_before);
+}

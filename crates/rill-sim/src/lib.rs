@@ -40,4 +40,6 @@ pub mod results;
 mod run;
 
 pub use results::*;
-pub use run::{run, NewtonOptions, NoObserver, Observer, Progress, RunError, RunOptions};
+pub use run::{
+    run, KeepPressures, NewtonOptions, NoObserver, Observer, Progress, RunError, RunOptions,
+};

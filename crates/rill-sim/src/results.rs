@@ -106,7 +106,8 @@ pub struct RunResults {
     /// surface volume in place (0 at t = 0). Steady runs: |net outflow| over
     /// half the sum of |rates| of all wells and boundaries.
     pub balance_error: Vec<f64>,
-    /// Cell pressures per report time, Pa (NaN in inactive cells).
+    /// Cell pressures, Pa (NaN in inactive cells): one array per report
+    /// time, or the last report time's only (`RunOptions::keep_pressures`).
     pub pressure: Vec<Vec<f64>>,
     /// Wells the run shut or reopened, in time order.
     pub events: Vec<WellEvent>,

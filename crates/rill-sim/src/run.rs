@@ -72,8 +72,21 @@ pub struct RunOptions {
     pub newton: NewtonOptions,
     /// Consecutive halvings of one time step before the run gives up.
     pub max_step_cuts: usize,
-    /// Keep the cell pressures at every report time (`RunResults::pressure`).
-    pub keep_pressures: bool,
+    /// Which report times keep their cell pressures in
+    /// `RunResults::pressure`. Every report time's pressures also go to
+    /// [`Observer::report_time`], so a caller that writes them as they
+    /// come keeps only the last ([`KeepPressures::Last`]) and its memory
+    /// does not grow with the number of report times.
+    pub keep_pressures: KeepPressures,
+}
+
+/// Which report times keep their cell pressures in `RunResults::pressure`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum KeepPressures {
+    /// One array per report time.
+    Every,
+    /// The last report time's array only (what the report's maps draw).
+    Last,
 }
 
 impl Default for RunOptions {
@@ -82,7 +95,7 @@ impl Default for RunOptions {
             linear: SolverOptions::default(),
             newton: NewtonOptions::default(),
             max_step_cuts: 12,
-            keep_pressures: true,
+            keep_pressures: KeepPressures::Every,
         }
     }
 }
@@ -119,6 +132,10 @@ pub trait Observer {
     fn first_system(&mut self, _matrix: &CsrMatrix, _rhs: &[f64]) {}
     /// Where the time went, once at the end of a successful run.
     fn timings(&mut self, _t: &Timings) {}
+    /// At each report time (t = 0 first), after its series values are
+    /// recorded: the time, s, and the cell pressures, Pa, one per grid cell
+    /// in grid order (NaN in inactive cells).
+    fn report_time(&mut self, _time: f64, _pressure: &[f64]) {}
 }
 
 /// An observer that watches nothing.

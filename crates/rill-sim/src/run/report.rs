@@ -4,7 +4,7 @@ use rayon::prelude::*;
 use rill_model::Case;
 
 use super::controls::WellState;
-use super::Runner;
+use super::{KeepPressures, Observer, Runner};
 use crate::results::*;
 
 /// What one report needs beyond the unknowns.
@@ -73,13 +73,14 @@ pub(super) fn record_events(
 impl Runner<'_> {
     /// Appends one report row: the average pressure, BHPs and control modes
     /// at `x`, the given rates, cumulatives and balance error, and the cell
-    /// pressures when they are kept.
+    /// pressures, given to the observer and kept as `keep_pressures` says.
     pub(super) fn record(
         &self,
         res: &mut RunResults,
         x: &[f64],
         wells: &[WellState],
         row: ReportRow,
+        observer: &mut dyn Observer,
     ) {
         let d = &self.d;
         let nc = d.n_cells;
@@ -113,12 +114,14 @@ impl Runner<'_> {
             s.cumulative.push(row.bnd_cum[b]);
         }
         res.balance_error.push(row.balance);
-        if self.opts.keep_pressures {
-            let mut p = vec![f64::NAN; self.case.grid.cell_count()];
-            for (i, &c) in d.cell_of.iter().enumerate() {
-                p[c] = x[i];
-            }
-            res.pressure.push(p);
+        let mut p = vec![f64::NAN; self.case.grid.cell_count()];
+        for (i, &c) in d.cell_of.iter().enumerate() {
+            p[c] = x[i];
         }
+        observer.report_time(row.time, &p);
+        if self.opts.keep_pressures == KeepPressures::Last {
+            res.pressure.clear();
+        }
+        res.pressure.push(p);
     }
 }

@@ -84,6 +84,7 @@ impl Runner<'_> {
                 bnd_cum: &zeros_b,
                 balance,
             },
+            observer,
         );
         observer.progress(&Progress {
             time: end,

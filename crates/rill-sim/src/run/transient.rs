@@ -150,7 +150,7 @@ impl Runner<'_> {
         let events = &tl.events;
         let end = tl.end;
         let stops = report_stops(tl);
-        let mut acc = self.start_transient(x, wells, res);
+        let mut acc = self.start_transient(x, wells, res, observer);
         let mut sizer = StepSizer::new(tl);
         let mut pace = Pace::new(tl);
         let mut t = 0.0;
@@ -194,6 +194,7 @@ impl Runner<'_> {
                         bnd_cum: &acc.bnd_cum,
                         balance,
                     },
+                    observer,
                 );
             }
             sizer.after(proposal, taken);
@@ -208,6 +209,7 @@ impl Runner<'_> {
         x: &[f64],
         wells: &[WellState],
         res: &mut RunResults,
+        observer: &mut dyn Observer,
     ) -> Accumulation {
         let nb = self.case.boundaries.len();
         let nw = self.d.n_wells;
@@ -230,6 +232,7 @@ impl Runner<'_> {
                 bnd_cum: &zb,
                 balance: 0.0,
             },
+            observer,
         );
         Accumulation {
             asm: Assembly::new(&self.d, nb),
