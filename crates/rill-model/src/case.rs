@@ -424,4 +424,18 @@ pub use rill_units::System as UnitSystem;
 pub struct ReportSettings {
     /// The unit system of reports.
     pub units: UnitSystem,
+    /// Which report times get a map file.
+    pub maps: MapSelection,
+}
+
+/// Which report times get a pressure map file (`report { maps = ... }`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum MapSelection {
+    /// Every report time (the default).
+    #[default]
+    All,
+    /// The last report time only.
+    Last,
+    /// No map files (the report still draws the last layer maps).
+    None,
 }

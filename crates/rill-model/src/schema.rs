@@ -111,6 +111,8 @@ pub const DIRECTIONS: &[&str] = &["x", "y", "z"];
 pub const SIDES: &[&str] = &["west", "east", "south", "north", "top", "bottom"];
 /// Values of the timeline's `kind`.
 pub const RUN_KINDS: &[&str] = &["transient", "steady"];
+/// Choices of `report.maps`.
+pub const MAP_SELECTIONS: &[&str] = &["all", "last", "none"];
 /// Values of the report's `units`.
 pub const SYSTEMS: &[&str] = &["field", "metric", "si"];
 /// Modes of a well's `control` that take a value; `shut`, which takes none,
@@ -414,12 +416,20 @@ pub static REPORT: BlockDef = BlockDef {
     name: "report",
     label: LabelRule::None,
     repeatable: false,
-    keys: &[key(
-        "units",
-        ValueKind::Choice(SYSTEMS),
-        false,
-        "Unit system of the results: field (default), metric or si.",
-    )],
+    keys: &[
+        key(
+            "units",
+            ValueKind::Choice(SYSTEMS),
+            false,
+            "Unit system of the results: field (default), metric or si.",
+        ),
+        key(
+            "maps",
+            ValueKind::Choice(MAP_SELECTIONS),
+            false,
+            "Which report times get a pressure map file: all (default), last or none.",
+        ),
+    ],
     children: &[],
     doc: "How results are shown.",
 };

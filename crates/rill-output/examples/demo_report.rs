@@ -179,6 +179,7 @@ fn demo_case(nx: usize, ny: usize, nz: usize) -> Case {
         },
         report: ReportSettings {
             units: UnitSystem::Field,
+            ..ReportSettings::default()
         },
     }
 }

@@ -101,7 +101,7 @@ use std::fmt;
 use std::io::{self, Write};
 use std::path::{Path, PathBuf};
 
-use rill_model::Case;
+use rill_model::{Case, MapSelection};
 use rill_sim::RunResults;
 
 pub use report::CAUTION;
@@ -260,6 +260,11 @@ pub struct ResultWriter {
     steps: Vec<(f64, String)>,
     time_unit: units::Unit,
     cells: usize,
+    /// `report { maps = ... }`: `map` writes only with `All`; `finish`
+    /// writes the last report time's map with `Last`.
+    selection: MapSelection,
+    /// Report times seen by `map`.
+    seen: usize,
 }
 
 impl ResultWriter {
@@ -276,20 +281,31 @@ impl ResultWriter {
             steps: Vec::new(),
             time_unit: units::display_unit(units::Quantity::Time, case.report.units),
             cells: case.grid.cell_count(),
+            selection: case.report.maps,
+            seen: 0,
         })
     }
 
     /// Writes the map of the report time `time` (s): `pressure` in Pa, one
-    /// value per grid cell (NaN in inactive cells).
+    /// value per grid cell (NaN in inactive cells). With `maps = last` or
+    /// `none` it writes nothing (`finish` writes the last one).
     pub fn map(&mut self, time: f64, pressure: &[f64]) -> Result<(), OutputError> {
         if pressure.len() != self.cells {
             return Err(OutputError::Inconsistent(format!(
                 "cell pressures at report time {} have {} values for {} cells",
-                self.steps.len(),
+                self.seen,
                 pressure.len(),
                 self.cells
             )));
         }
+        self.seen += 1;
+        if self.selection != MapSelection::All {
+            return Ok(());
+        }
+        self.write_map(time, pressure)
+    }
+
+    fn write_map(&mut self, time: f64, pressure: &[f64]) -> Result<(), OutputError> {
         if self.steps.is_empty() {
             self.staging.subdir("maps")?;
         }
@@ -319,6 +335,11 @@ impl ResultWriter {
                 "maps were written for {} of {n} report times",
                 self.steps.len()
             )));
+        }
+        if self.selection == MapSelection::Last {
+            if let (Some(&time), Some(pressure)) = (results.times.last(), results.pressure.last()) {
+                self.write_map(time, pressure)?;
+            }
         }
         let system = case.report.units;
         let table = series::SeriesTable::new(results, system);

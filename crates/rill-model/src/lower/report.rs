@@ -6,6 +6,12 @@ impl<'s> Lowerer<'s> {
             .and_then(|s| self.choice(file, s, schema::SYSTEMS))
             .and_then(rill_units::System::from_name)
             .unwrap_or_default();
-        ReportSettings { units }
+        let maps =
+            match find(block, "maps").and_then(|s| self.choice(file, s, schema::MAP_SELECTIONS)) {
+                Some("last") => MapSelection::Last,
+                Some("none") => MapSelection::None,
+                _ => MapSelection::All,
+            };
+        ReportSettings { units, maps }
     }
 }

@@ -110,7 +110,10 @@ pub fn case(nx: usize, ny: usize, nz: usize, units: UnitSystem) -> Case {
             report_every: Some(10.0 * DAY),
             events: vec![],
         },
-        report: ReportSettings { units },
+        report: ReportSettings {
+            units,
+            ..ReportSettings::default()
+        },
     }
 }
 

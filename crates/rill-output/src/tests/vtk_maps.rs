@@ -256,3 +256,72 @@ fn check_cell_arrays(piece: roxmltree::Node, nx: usize, ny: usize, nz: usize) {
         ["pressure", "active", "porosity", "kx", "ky", "kz", "depth", "layer"]
     );
 }
+
+/// The (timestep, file) pairs of a `.pvd` collection.
+fn pvd_sets(path: &std::path::Path) -> Vec<(String, String)> {
+    let text = std::fs::read_to_string(path).unwrap();
+    let doc = roxmltree::Document::parse(&text).unwrap();
+    doc.descendants()
+        .filter(|n| n.has_tag_name("DataSet"))
+        .map(|n| {
+            (
+                n.attribute("timestep").unwrap().into(),
+                n.attribute("file").unwrap().into(),
+            )
+        })
+        .collect()
+}
+
+#[test]
+fn maps_last_writes_the_last_report_time_only() {
+    let (dir, deck) = deck_dir();
+    let mut case = case(2, 2, 1, UnitSystem::Field);
+    case.report.maps = rill_model::MapSelection::Last;
+    let results = results(&case);
+    let files = write_results(
+        &dir.path().join("lobe.out"),
+        &case,
+        &results,
+        &RunMeta::new(&deck),
+    )
+    .unwrap();
+    assert_eq!(files.maps.len(), 1);
+    assert_eq!(
+        pvd_sets(files.pvd.as_ref().unwrap()),
+        [("20".into(), "step_0000.vtr".into())]
+    );
+    // It holds the last report time's pressures: the same file as the
+    // third map of a `maps = all` set.
+    let (dir_all, deck_all) = deck_dir();
+    let all_case = self::case(2, 2, 1, UnitSystem::Field);
+    let all = write_results(
+        &dir_all.path().join("lobe.out"),
+        &all_case,
+        &results,
+        &RunMeta::new(&deck_all),
+    )
+    .unwrap();
+    assert_eq!(
+        std::fs::read(&files.maps[0]).unwrap(),
+        std::fs::read(all.dir.join("maps/step_0002.vtr")).unwrap()
+    );
+}
+
+#[test]
+fn maps_none_writes_no_map_but_the_report_keeps_its_layer_maps() {
+    let (dir, deck) = deck_dir();
+    let mut case = case(2, 2, 1, UnitSystem::Field);
+    case.report.maps = rill_model::MapSelection::None;
+    let results = results(&case);
+    let files = write_results(
+        &dir.path().join("lobe.out"),
+        &case,
+        &results,
+        &RunMeta::new(&deck),
+    )
+    .unwrap();
+    assert!(files.pvd.is_none() && files.maps.is_empty());
+    assert!(!files.dir.join("maps").exists());
+    let html = std::fs::read_to_string(files.report_html).unwrap();
+    assert!(!html.contains("no maps"), "the layer maps are drawn");
+}
