@@ -20,7 +20,7 @@ use crate::props::{
 };
 use crate::reuse::{kept, Reuse};
 use crate::schema::{self, BlockDef, KeyDef, LabelRule, ValueKind};
-use crate::source::{resolve, Source};
+use crate::source::Source;
 use crate::values::{describe_expected, to_si, Gauge, Reporter};
 use crate::FileInfo;
 use rill_syntax::{Atom, AtomKind, Block, Item, Span, Statement, Value};
@@ -35,6 +35,7 @@ const MAX_CELLS: u64 = 20_000_000;
 
 /// Deepest chain of includes followed.
 const MAX_INCLUDE_DEPTH: usize = 16;
+use crate::source::MAX_INCLUDE_LEN;
 
 /// A block found in some file.
 struct Found<'t> {

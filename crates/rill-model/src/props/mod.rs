@@ -13,7 +13,7 @@ pub use expr::{check_result_dim, evaluate, evaluate_kept, infer_dim, Expr};
 use crate::arrays;
 use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::reuse::{kept, Reuse};
-use crate::source::{resolve, Source};
+use crate::source::Source;
 use crate::values::{checked_unit, Gauge, Reporter};
 use crate::{CellValues, FileInfo};
 use rayon::prelude::*;
@@ -563,7 +563,7 @@ impl PropReader<'_> {
     }
 
     fn load_file(&mut self, r: &mut Reporter, name: &str, span: Span) -> Option<Arc<Vec<f64>>> {
-        let path = resolve(&self.deck_path, name);
+        let path = self.source.resolve(&self.deck_path, name);
         let bytes = match self.source.read(&path) {
             Ok(b) => b,
             Err(e) => {
