@@ -16,7 +16,8 @@ mod wells;
 use crate::case::*;
 use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::props::{
-    check_result_dim, evaluate, evaluate_kept, infer_dim, Expr, Field, Forms, PropReader, Shape,
+    check_result_dim, evaluate, evaluate_kept, infer_dim, Expr, Failed, Field, Forms, PropReader,
+    Shape,
 };
 use crate::reuse::{kept, Reuse};
 use crate::schema::{self, BlockDef, KeyDef, LabelRule, ValueKind};
