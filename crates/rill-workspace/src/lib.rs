@@ -8,7 +8,13 @@
 //! Parsed arrays and derived results are not kept here: they live in the
 //! `Reuse` that the caller owns and passes to the analysis.
 //!
-//! It must never interpret file contents, and never write any file.
+//! It reads regular files only, opened without blocking and at most
+//! `rill_model::source::MAX_FILE_LEN` bytes, so that no FIFO, device or
+//! runaway file can hold or exhaust an analysis; and it resolves `..` the
+//! way the file system does.
+//!
+//! It must never interpret file contents, never block on a read, and never
+//! write any file.
 
 #![warn(missing_docs)]
 #![warn(clippy::too_many_lines)]
