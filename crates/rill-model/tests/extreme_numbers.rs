@@ -121,14 +121,15 @@ proptest! {
         let (path, text, source) = &corpus.decks[d];
         let mut lines: Vec<String> = text.lines().map(String::from).collect();
         let mut overflowing_literal = false;
+        let mut replaced = std::collections::HashSet::new();
         for (pick, (a, b, op, pair)) in &picks {
             // Numbers of the same deck only.
             let same: Vec<_> = corpus.numbers.iter().filter(|n| n.0 == d).collect();
             let (_, l, range, rest) = same[pick.index(same.len())];
-            let line = &lines[*l];
-            if line.len() < range.end {
-                continue; // already replaced on this line
+            if !replaced.insert(*l) {
+                continue; // one replacement per line
             }
+            let line = &lines[*l];
             let unit = rest.split_whitespace().next().filter(|u| !u.starts_with('#') && !u.starts_with(',') && *u != "at" && *u != "x" && *u != "..").unwrap_or("");
             let value = if *pair && !unit.is_empty() {
                 format!("{a} {unit} {op} {b}")
