@@ -582,7 +582,7 @@ fn read_arrays(
         let mut found = Vec::new();
         collect_file_refs(&tree.items, &mut found);
         for (span, name) in found {
-            let path = rill_model::source::resolve(&file.path, &name);
+            let path = source.resolve(&file.path, &name);
             let stats = by_path
                 .entry(path.clone())
                 .or_insert_with(|| match source.read(&path) {

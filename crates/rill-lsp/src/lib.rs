@@ -8,7 +8,8 @@
 //! It must never contain analysis logic: every answer comes from
 //! `rill_ide::Snapshot` (which builds on `rill_model`), and files are read
 //! only through `rill_workspace::DiskSource`, confined to the workspace
-//! folders. It never writes a file except the result set of `rill.run`
+//! folders (with none open: the folders of saved documents, and nothing
+//! for an unsaved buffer). It never writes a file except the result set of `rill.run`
 //! (through `rill_output`).
 //!
 //! Built on `tower-lsp` 0.20 rather than its community fork

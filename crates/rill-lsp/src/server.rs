@@ -354,7 +354,9 @@ impl LanguageServer for Backend {
         let config = self.shared.config();
         let offset = crate::position::offset(&a.rope, p.position, config.encoding);
         // File names come from the source, which keeps to the workspace.
-        let source = self.shared.source();
+        let source = self
+            .shared
+            .source_for(uri_path(&p.text_document.uri).as_deref());
         let items: Vec<CompletionItem> = a
             .snap
             .completion_with_files(offset, &*source)

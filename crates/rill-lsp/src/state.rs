@@ -164,7 +164,8 @@ impl Shared {
             client,
             docs: Mutex::new(Documents::default()),
             config: RwLock::new(Config::default()),
-            source: RwLock::new(Arc::new(DiskSource::unconfined())),
+            // Nothing is read before `initialize` says where the workspace is.
+            source: RwLock::new(Arc::new(DiskSource::confined(Vec::new(), Vec::new()))),
             cache: Arc::new(Reuse::new()),
             analyses: Mutex::new(Analyses::default()),
             publish_lock: tokio::sync::Mutex::new(()),
@@ -198,6 +199,17 @@ impl Shared {
             .read()
             .unwrap_or_else(|e| e.into_inner())
             .clone()
+    }
+
+    /// The source for a document at `path` (`None`: an unsaved buffer).
+    /// An unsaved buffer has no folder of its own: with no workspace folder
+    /// open either, there is nowhere on disk it may read.
+    pub fn source_for(&self, path: Option<&Path>) -> Arc<DiskSource> {
+        if path.is_none() && self.config().roots.is_empty() {
+            Arc::new(DiskSource::unsaved())
+        } else {
+            self.source()
+        }
     }
 
     /// A log line in the client's output (not a popup).
@@ -252,6 +264,7 @@ impl Shared {
     pub fn input(&self, uri: &Url) -> Option<Input> {
         let mut docs = lock(&self.docs);
         let doc = docs.get_mut(uri)?;
+        let source = self.source_for(doc.path.as_deref());
         let path = doc
             .path
             .clone()
@@ -261,7 +274,7 @@ impl Shared {
             text: doc.text(),
             rope: doc.rope.clone(),
             path,
-            source: self.source(),
+            source,
             cache: self.cache.clone(),
         })
     }

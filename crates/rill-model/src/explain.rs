@@ -87,7 +87,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
     Explanation {
         code: Code::DeckInclude,
         summary: "An include or array file that is missing, unreadable, cyclic or outside the workspace.",
-        details: "Paths are relative to the file that names them. A file that includes itself, directly or through others, is refused; so is a path outside the workspace folders unless the editor settings allow it.",
+        details: "Paths are relative to the file that names them, and `..` is taken from its real folder. A file that includes itself, directly or through others, is refused; so is a path outside the workspace folders unless the editor settings allow it (with no folder open, a saved deck reads its own folder only and an unsaved buffer nothing). Only regular files are read: a FIFO, a device, a directory or a loop of symbolic links is refused at once, and so is an array file over 512 MiB or an included deck over 16 MiB.",
         wrong: "include \"wells-typo.rill\"",
         right: "include \"wells.rill\"",
         fix: "Correct the path, or create the file.",
@@ -119,7 +119,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
     Explanation {
         code: Code::DeckOutOfRange,
         summary: "A number of the right form outside the range its key allows.",
-        details: "`growth` of the time step lies between 1 and 10; a well rate is positive (the well's `role` says whether it produces or injects). Physical properties out of range are `sanity.*` instead. (An extension of the specification's minimum set.)",
+        details: "`growth` of the time step lies between 1 and 10; a well rate is positive (the well's `role` says whether it produces or injects). Every number must be finite and below about 1.8e308 in SI and in the units rill shows it in: `1e309`, `1e306 darcy` (1e309 md) or `1e308 md * 10` is refused, as is any step of arithmetic that overflows. Physical properties out of range are `sanity.*` instead. (An extension of the specification's minimum set.)",
         wrong: "control = rate -600 stb/day",
         right: "control = rate 600 stb/day",
         fix: "Bring the value inside the range the message names; for a rate, drop the sign.",

@@ -18,6 +18,47 @@ pub enum SourceError {
     Unreadable(String),
     /// The path leaves the workspace and the user has not allowed that.
     OutsideWorkspace,
+    /// The path is not a regular file: what it is ("a FIFO (named pipe)",
+    /// "a character device", "a directory").
+    NotRegular(&'static str),
+    /// The file is larger than a source accepts (its length and the limit, bytes).
+    TooLarge {
+        /// The length found.
+        len: u64,
+        /// The largest length accepted.
+        limit: u64,
+    },
+    /// The deck is an unsaved buffer and no folder is open: there is no
+    /// place on disk it may read from.
+    Unsaved,
+}
+
+/// The largest file a source on disk reads, in bytes (512 MiB): an array
+/// file for the largest grid (20 million cells) written at 25 characters a
+/// value fits, and a runaway file cannot exhaust memory.
+pub const MAX_FILE_LEN: u64 = 512 << 20;
+
+/// The largest included deck, in bytes (16 MiB): decks are written by hand,
+/// bulk values belong in array files (which may reach [`MAX_FILE_LEN`]).
+pub const MAX_INCLUDE_LEN: u64 = 16 << 20;
+
+/// A length in bytes as people read it: "3.2 GiB", "700 KiB", "12 bytes".
+pub fn human_len(len: u64) -> String {
+    const UNITS: [&str; 4] = ["KiB", "MiB", "GiB", "TiB"];
+    if len < 1024 {
+        return format!("{len} bytes");
+    }
+    let mut v = len as f64 / 1024.0;
+    let mut unit = 0;
+    while v >= 1024.0 && unit + 1 < UNITS.len() {
+        v /= 1024.0;
+        unit += 1;
+    }
+    if v < 10.0 {
+        format!("{v:.1} {}", UNITS[unit])
+    } else {
+        format!("{v:.0} {}", UNITS[unit])
+    }
 }
 
 impl std::fmt::Display for SourceError {
@@ -25,7 +66,29 @@ impl std::fmt::Display for SourceError {
         match self {
             SourceError::NotFound => write!(f, "no such file"),
             SourceError::Unreadable(why) => write!(f, "cannot be read: {why}"),
-            SourceError::OutsideWorkspace => write!(f, "it lies outside the workspace folders"),
+            SourceError::OutsideWorkspace => write!(
+                f,
+                "it lies outside the workspace folders (with no folder open: outside the \
+                 deck's own folder); open a folder that holds it, or allow its folder in \
+                 the settings"
+            ),
+            SourceError::NotRegular(what) => write!(
+                f,
+                "expected a regular file (under {}), found {what}; name a regular file",
+                human_len(MAX_FILE_LEN)
+            ),
+            SourceError::TooLarge { len, limit } => write!(
+                f,
+                "expected a regular file under {}, found a {} file ({len} bytes); \
+                 split it or coarsen the grid",
+                human_len(*limit),
+                human_len(*len)
+            ),
+            SourceError::Unsaved => write!(
+                f,
+                "the deck is an unsaved buffer and no folder is open, so nothing is read \
+                 from disk; save the deck or open a folder"
+            ),
         }
     }
 }
@@ -34,6 +97,13 @@ impl std::fmt::Display for SourceError {
 pub trait Source {
     /// The bytes of the file at `path` (already resolved against the including file).
     fn read(&self, path: &Path) -> Result<Arc<[u8]>, SourceError>;
+
+    /// The path that `relative`, written in the file at `from`, names.
+    /// Lexical by default ([`resolve`]); a source on disk resolves `..`
+    /// against the real folder of `from`, as the file system does.
+    fn resolve(&self, from: &Path, relative: &str) -> PathBuf {
+        resolve(from, relative)
+    }
 
     /// The entries of the folder `dir`, as (name, is a folder), for path
     /// completion in an editor; none by default. Confined like [`Source::read`].
@@ -54,17 +124,21 @@ pub fn resolve(from: &Path, relative: &str) -> PathBuf {
     normalize(&joined)
 }
 
-/// Lexical normalisation of `.` and `..` components.
+/// Lexical normalisation of `.` and `..` components. A `..` removes the
+/// name before it only: leading `..` of a relative path are kept (`../..`
+/// is two folders up, never nothing), and `..` at the root stays there.
 pub fn normalize(path: &Path) -> PathBuf {
     let mut out = PathBuf::new();
     for comp in path.components() {
         match comp {
             Component::CurDir => {}
-            Component::ParentDir => {
-                if !out.pop() {
-                    out.push("..");
+            Component::ParentDir => match out.components().next_back() {
+                Some(Component::Normal(_)) => {
+                    out.pop();
                 }
-            }
+                Some(Component::RootDir | Component::Prefix(_)) => {}
+                _ => out.push(".."),
+            },
             other => out.push(other.as_os_str()),
         }
     }
@@ -121,5 +195,37 @@ impl Source for MemorySource {
         }
         out.sort();
         out
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn leading_parent_folders_are_kept() {
+        assert_eq!(
+            normalize(Path::new("../../common.rill")),
+            Path::new("../../common.rill")
+        );
+        assert_eq!(
+            resolve(Path::new("deck.rill"), "../../c.rill"),
+            Path::new("../../c.rill")
+        );
+        assert_eq!(
+            resolve(Path::new("a/deck.rill"), "../../c.rill"),
+            Path::new("../c.rill")
+        );
+        assert_eq!(normalize(Path::new("a/b/../c")), Path::new("a/c"));
+        assert_eq!(normalize(Path::new("/../x")), Path::new("/x"));
+        assert_eq!(normalize(Path::new("./../a/./b/..")), Path::new("../a"));
+    }
+
+    #[test]
+    fn lengths_read_as_people_write_them() {
+        assert_eq!(human_len(12), "12 bytes");
+        assert_eq!(human_len(700 * 1024), "700 KiB");
+        assert_eq!(human_len(MAX_FILE_LEN), "512 MiB");
+        assert_eq!(human_len(3_435_973_837), "3.2 GiB");
     }
 }

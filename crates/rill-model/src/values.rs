@@ -26,6 +26,95 @@ impl Reporter<'_> {
     }
 }
 
+/// The largest magnitude, in SI, that a value of dimension `dim` may have:
+/// the largest `f64` both in SI and in every unit rill shows such values
+/// in. A permeability of 1e309 md is finite in m^2 (9.9e293) but not in
+/// md, and the simulator's products of such values overflow.
+pub fn largest(dim: Dim) -> f64 {
+    use rill_units::{display_unit, Kind, System};
+    let smallest_factor = Kind::ALL
+        .iter()
+        .filter(|k| k.dim() == dim)
+        .flat_map(|k| [System::Field, System::Metric, System::Si].map(|s| display_unit(*k, s)))
+        .map(|u| u.factor)
+        .fold(1.0_f64, f64::min);
+    f64::MAX * smallest_factor
+}
+
+/// Whether `si` is a value a case can hold: finite and within [`largest`]
+/// (`limit` is `largest(dim)`, computed once for a whole array).
+pub fn within(si: f64, limit: f64) -> bool {
+    si.is_finite() && si.abs() <= limit
+}
+
+/// The message for a value of `key` that a case cannot hold; `place`
+/// says where within the value ("in cell (3, 1, 1)", "value 7 of the file").
+pub fn beyond_message(key: &str, si: f64, dim: Dim, place: &str) -> String {
+    use rill_units::{display_unit, Kind, System};
+    let at = if place.is_empty() {
+        String::new()
+    } else {
+        format!(" {place}")
+    };
+    if si.is_nan() {
+        return format!(
+            "`{key}`{at} is not a number (NaN, from an undefined operation such as \
+             infinity minus infinity); expected a finite value: check the exponents and \
+             units of the arithmetic"
+        );
+    }
+    // Shown in the unit of its dimension with the smallest factor: the
+    // one in which it overflows first (md for a permeability).
+    let shown = Kind::ALL
+        .iter()
+        .filter(|k| k.dim() == dim)
+        .flat_map(|k| [System::Field, System::Metric].map(|s| display_unit(*k, s)))
+        .min_by(|a, b| a.factor.total_cmp(&b.factor))
+        .map(|u| (si / u.factor, u.name))
+        .unwrap_or((si, ""));
+    let found = if shown.0.is_finite() {
+        format!("{} {}", rill_units::format_number(shown.0), shown.1)
+    } else {
+        format!("beyond 1.8e308 {}", shown.1)
+    };
+    format!(
+        "`{key}`{at} overflows: expected a value a 64-bit number holds in SI and in the \
+         units rill shows (about 1.8e308 at most), found {}; check the exponent and the unit",
+        found.trim_end()
+    )
+}
+
+/// Whether the number written at `span` was read as a finite value; if
+/// not (`1e309` overflows when read), a `deck.out-of-range` error.
+pub fn finite_literal(r: &mut Reporter, value: f64, span: Span, key: &str) -> bool {
+    if value.is_finite() {
+        return true;
+    }
+    r.push(Diagnostic::error(
+        Code::DeckOutOfRange,
+        r.loc(span),
+        format!(
+            "`{key}`: expected a number a 64-bit float holds (about 1.8e308 at most), \
+             found one beyond it; check the exponent"
+        ),
+    ));
+    false
+}
+
+/// `si` when a case can hold it (see [`within`]), else `None` after a
+/// `deck.out-of-range` error at `span`.
+pub fn held(r: &mut Reporter, si: f64, dim: Dim, span: Span, key: &str) -> Option<f64> {
+    if within(si, largest(dim)) {
+        return Some(si);
+    }
+    r.push(Diagnostic::error(
+        Code::DeckOutOfRange,
+        r.loc(span),
+        beyond_message(key, si, dim, ""),
+    ));
+    None
+}
+
 /// Where a gauge unit (`psig`, `barg`) may be used.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Gauge {
@@ -180,7 +269,7 @@ pub fn to_si(
     key: &str,
 ) -> Option<f64> {
     let u = checked_unit(r, value, number_span, unit, expected, gauge, key)?;
-    Some(u.to_si(value))
+    held(r, u.to_si(value), expected, number_span, key)
 }
 
 /// The unit of a value, checked against `expected`. A missing unit is fine
@@ -194,6 +283,9 @@ pub fn checked_unit(
     gauge: Gauge,
     key: &str,
 ) -> Option<Unit> {
+    if !finite_literal(r, value, number_span, key) {
+        return None;
+    }
     let Some(unit) = unit else {
         if expected == Dim::NONE {
             return Some(Unit {

@@ -145,7 +145,8 @@ impl<'s> Lowerer<'s> {
             forms,
             key,
         )?;
-        let field = evaluate(&expr, shape, &|_| None)?;
+        let field = evaluate(&expr, shape, Dim::LENGTH, &|_| None);
+        let field = self.evaluated(file, key, Dim::LENGTH, field)?;
         Some(Spacing {
             field,
             loc: Location::new(file, stmt.value.span),

@@ -16,11 +16,12 @@ mod wells;
 use crate::case::*;
 use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::props::{
-    check_result_dim, evaluate, evaluate_kept, infer_dim, Expr, Field, Forms, PropReader, Shape,
+    check_result_dim, evaluate, evaluate_kept, infer_dim, Expr, Failed, Field, Forms, PropReader,
+    Shape,
 };
 use crate::reuse::{kept, Reuse};
 use crate::schema::{self, BlockDef, KeyDef, LabelRule, ValueKind};
-use crate::source::{resolve, Source};
+use crate::source::Source;
 use crate::values::{describe_expected, to_si, Gauge, Reporter};
 use crate::FileInfo;
 use rill_syntax::{Atom, AtomKind, Block, Item, Span, Statement, Value};
@@ -35,6 +36,7 @@ const MAX_CELLS: u64 = 20_000_000;
 
 /// Deepest chain of includes followed.
 const MAX_INCLUDE_DEPTH: usize = 16;
+use crate::source::MAX_INCLUDE_LEN;
 
 /// A block found in some file.
 struct Found<'t> {

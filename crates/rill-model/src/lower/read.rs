@@ -206,7 +206,29 @@ impl<'s> Lowerer<'s> {
         if !check_result_dim(&mut self.reporter(file), &expr, found, dim, &stmt.key.name) {
             return None;
         }
-        evaluate(&expr, shape, &|_| None)
+        self.evaluated(
+            file,
+            &stmt.key.name,
+            dim,
+            evaluate(&expr, shape, dim, &|_| None),
+        )
+    }
+
+    /// The value of an evaluation, or `None` after reporting why it has none.
+    pub(super) fn evaluated(
+        &mut self,
+        file: usize,
+        key: &str,
+        dim: Dim,
+        result: Result<Field, Failed>,
+    ) -> Option<Field> {
+        match result {
+            Ok(field) => Some(field),
+            Err(failed) => {
+                self.diags.extend(failed.diagnostic(file, key, dim));
+                None
+            }
+        }
     }
 
     #[allow(clippy::too_many_arguments)]

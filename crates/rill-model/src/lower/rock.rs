@@ -316,7 +316,10 @@ impl<'s> Lowerer<'s> {
             let mut base: Option<Field> = None;
             let mut patches: Vec<(&[usize], Field)> = Vec::new();
             for def in defs.get(name).map(|v| v.as_slice()).unwrap_or(&[]) {
-                let value = evaluate_kept(&def.expr, shape, &|r| finals.get(r).cloned(), reuse)?;
+                let dim = dim_of(name).unwrap_or(Dim::NONE);
+                let value =
+                    evaluate_kept(&def.expr, shape, dim, &|r| finals.get(r).cloned(), reuse);
+                let value = self.evaluated(def.loc.file, name, dim, value)?;
                 spans.rock.entry(name).or_default().push(def.loc);
                 match &def.cells {
                     None => base = Some(value),

@@ -176,7 +176,7 @@ impl<'s> Lowerer<'s> {
                     continue;
                 }
             };
-            let path = resolve(&self.files[file].path, &name);
+            let path = self.source.resolve(&self.files[file].path, &name);
             if stack.contains(&path) {
                 self.diags.push(Diagnostic::error(
                     Code::DeckInclude,
@@ -215,6 +215,21 @@ impl<'s> Lowerer<'s> {
                     continue;
                 }
             };
+            if bytes.len() as u64 > MAX_INCLUDE_LEN {
+                self.diags.push(Diagnostic::error(
+                    Code::DeckInclude,
+                    loc,
+                    format!(
+                        "cannot include \"{name}\" ({}): expected a deck under {}, found a {} \
+                         file ({} bytes); put bulk values in an array file (`file \"...\"`)",
+                        path.display(),
+                        crate::source::human_len(MAX_INCLUDE_LEN),
+                        crate::source::human_len(bytes.len() as u64),
+                        bytes.len()
+                    ),
+                ));
+                continue;
+            }
             let (text, tree) = rill_syntax::parse_bytes(&bytes);
             let tree = Arc::new(tree);
             let index = self.files.len();

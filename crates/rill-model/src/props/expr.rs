@@ -10,7 +10,10 @@
 use super::{atom_words, cells_by_index, cells_from, Field, Shape};
 use crate::diagnostic::{Code, Diagnostic};
 use crate::reuse::{kept, Reuse};
-use crate::values::{checked_unit, describe_expected, describe_found, Gauge, Reporter};
+use crate::values::{
+    beyond_message, checked_unit, describe_expected, describe_found, finite_literal, held, largest,
+    within, Gauge, Reporter,
+};
 use rill_syntax::{Atom, AtomKind, ExprError, Op, Span, Value};
 use rill_units::Dim;
 use std::sync::Arc;
@@ -167,6 +170,9 @@ impl Operands<'_> {
     fn operand(&self, r: &mut Reporter, atom: &Atom, in_arithmetic: bool) -> Option<Expr> {
         match &atom.kind {
             AtomKind::Number { value, unit, .. } => {
+                if !finite_literal(r, *value, atom.span, self.key) {
+                    return None;
+                }
                 let Some(unit) = unit else {
                     return Some(Expr::Const {
                         si: *value,
@@ -198,7 +204,7 @@ impl Operands<'_> {
                     }
                 };
                 Some(Expr::Const {
-                    si: u.to_si(*value),
+                    si: held(r, u.to_si(*value), u.dim, atom.span, self.key)?,
                     dim: u.dim,
                     bare: false,
                     span: atom.span,
@@ -351,17 +357,50 @@ fn op_code(op: Op) -> u64 {
     }
 }
 
+/// Why an expression has no value.
+#[derive(Debug, Clone)]
+pub enum Failed {
+    /// A referenced property has no value (reported where it is defined).
+    Missing,
+    /// A value a case cannot hold (see [`crate::values::within`]): where
+    /// (the operation or term), in which cell, layer or column, and what.
+    Beyond {
+        /// The operation or term that gave it.
+        span: Span,
+        /// "in cell (3, 1, 1)", "in layer 2", or empty for a single value.
+        place: String,
+        /// The value, SI.
+        value: f64,
+    },
+}
+
+impl Failed {
+    /// The diagnostic for this failure of `key` (of dimension `dim`) in
+    /// file `file`; none when a property was missing.
+    pub fn diagnostic(&self, file: usize, key: &str, dim: Dim) -> Option<Diagnostic> {
+        match self {
+            Failed::Missing => None,
+            Failed::Beyond { span, place, value } => Some(Diagnostic::error(
+                Code::DeckOutOfRange,
+                crate::diagnostic::Location::new(file, *span),
+                beyond_message(key, *value, dim, place),
+            )),
+        }
+    }
+}
+
 /// [`evaluate`], kept in `reuse` for the next analysis when the expression
 /// computes anything (`0.1 * kx`): the key is the expression's structure
 /// with the values it reads, never its position in the text.
 pub fn evaluate_kept(
     e: &Expr,
     shape: Shape,
+    dim: Dim,
     lookup: &dyn Fn(&str) -> Option<Field>,
     reuse: Option<&Reuse>,
-) -> Option<Field> {
+) -> Result<Field, Failed> {
     if reuse.is_none() || !matches!(e, Expr::Chain { .. }) {
-        return evaluate_in(e, shape, lookup, reuse);
+        return evaluate_in(e, shape, largest(dim), lookup, reuse);
     }
     fn encode(
         e: &Expr,
@@ -384,36 +423,83 @@ pub fn evaluate_kept(
         }
         Some(())
     }
+    let limit = largest(dim);
     let mut arrays = Vec::new();
-    let mut params = vec![shape.nx as u64, shape.ny as u64, shape.nz as u64];
-    encode(e, lookup, &mut arrays, &mut params)?;
+    let mut params = vec![
+        shape.nx as u64,
+        shape.ny as u64,
+        shape.nz as u64,
+        limit.to_bits(),
+    ];
+    encode(e, lookup, &mut arrays, &mut params).ok_or(Failed::Missing)?;
     kept(reuse, "expression", &arrays, &params, || {
-        evaluate_in(e, shape, lookup, reuse)
+        evaluate_in(e, shape, limit, lookup, reuse)
     })
 }
 
-/// Evaluate an expression over the grid; `lookup` gives the final value of
-/// a referenced property.
-pub fn evaluate(e: &Expr, shape: Shape, lookup: &dyn Fn(&str) -> Option<Field>) -> Option<Field> {
-    evaluate_in(e, shape, lookup, None)
+/// Evaluate an expression of dimension `dim` over the grid; `lookup` gives
+/// the final value of a referenced property. Every operation must give
+/// finite values, and each term and the result values a case can hold
+/// ([`crate::values::within`]), or the evaluation fails there.
+pub fn evaluate(
+    e: &Expr,
+    shape: Shape,
+    dim: Dim,
+    lookup: &dyn Fn(&str) -> Option<Field>,
+) -> Result<Field, Failed> {
+    evaluate_in(e, shape, largest(dim), lookup, None)
+}
+
+/// The first value of `field` outside `limit` (or not finite), with its place.
+fn first_beyond(field: &Field, shape: Shape, limit: f64) -> Option<(String, f64)> {
+    let bad = |v: &f64| !within(*v, limit);
+    match field {
+        Field::Uniform(v) => bad(v).then(|| (String::new(), *v)),
+        Field::Layers(v) => v
+            .iter()
+            .position(bad)
+            .map(|k| (format!("in layer {}", k + 1), v[k])),
+        Field::Columns(v) => v.iter().position(bad).map(|c| {
+            let nx = shape.nx.max(1);
+            (format!("in column ({}, {})", c % nx + 1, c / nx + 1), v[c])
+        }),
+        Field::Cells(v) => v.iter().position(bad).map(|c| {
+            let (nx, ny) = (shape.nx.max(1), shape.ny.max(1));
+            let place = format!(
+                "in cell ({}, {}, {})",
+                c % nx + 1,
+                c / nx % ny + 1,
+                c / (nx * ny) + 1
+            );
+            (place, v[c])
+        }),
+    }
 }
 
 /// [`evaluate`], writing new per-cell arrays into spare buffers of `pool`
-/// and giving it back the intermediate ones.
+/// and giving it back the intermediate ones. `limit` bounds the terms of a
+/// sum and the result (they have the expression's dimension); the factors
+/// of a product, of other dimensions, need only be finite.
 fn evaluate_in(
     e: &Expr,
     shape: Shape,
+    limit: f64,
     lookup: &dyn Fn(&str) -> Option<Field>,
     pool: Option<&Reuse>,
-) -> Option<Field> {
+) -> Result<Field, Failed> {
     match e {
-        Expr::Const { si, .. } => Some(Field::Uniform(*si)),
-        Expr::Data { field, .. } => Some(field.clone()),
-        Expr::Ref { name, .. } => lookup(name),
-        Expr::Chain { first, rest, .. } => {
-            let mut acc = evaluate_in(first, shape, lookup, pool)?;
+        Expr::Const { si, .. } => Ok(Field::Uniform(*si)),
+        Expr::Data { field, .. } => Ok(field.clone()),
+        Expr::Ref { name, .. } => lookup(name).ok_or(Failed::Missing),
+        Expr::Chain { first, rest, span } => {
+            let is_sum = matches!(rest.first(), Some((Op::Add | Op::Sub, _)));
+            // Within a product only the whole product has the dimension
+            // of the expression; a product standing as a term of a sum does too.
+            let step_limit = if is_sum { limit } else { f64::MAX };
+            let mut acc = evaluate_in(first, shape, limit, lookup, pool)?;
+            let mut done = first.span();
             for (op, next) in rest {
-                let b = evaluate_in(next, shape, lookup, pool)?;
+                let b = evaluate_in(next, shape, limit, lookup, pool)?;
                 let out = apply(*op, &acc, &b, shape, pool);
                 if let Some(pool) = pool {
                     for used in [acc, b] {
@@ -424,9 +510,24 @@ fn evaluate_in(
                         }
                     }
                 }
+                done = done.join(next.span());
+                if let Some((place, value)) = first_beyond(&out, shape, step_limit) {
+                    return Err(Failed::Beyond {
+                        span: done,
+                        place,
+                        value,
+                    });
+                }
                 acc = out;
             }
-            Some(acc)
+            if let Some((place, value)) = first_beyond(&acc, shape, limit) {
+                return Err(Failed::Beyond {
+                    span: *span,
+                    place,
+                    value,
+                });
+            }
+            Ok(acc)
         }
     }
 }

@@ -8,13 +8,13 @@
 mod expr;
 
 use expr::Operands;
-pub use expr::{check_result_dim, evaluate, evaluate_kept, infer_dim, Expr};
+pub use expr::{check_result_dim, evaluate, evaluate_kept, infer_dim, Expr, Failed};
 
 use crate::arrays;
 use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::reuse::{kept, Reuse};
-use crate::source::{resolve, Source};
-use crate::values::{checked_unit, Gauge, Reporter};
+use crate::source::Source;
+use crate::values::{beyond_message, checked_unit, largest, within, Gauge, Reporter};
 use crate::{CellValues, FileInfo};
 use rayon::prelude::*;
 use rill_syntax::{Atom, AtomKind, Span, UnitExpr, Value};
@@ -235,6 +235,20 @@ fn list_values(
         None => None,
     };
     let mut missing_reported = false;
+    let limit = largest(expected);
+    let push = |r: &mut Reporter, out: &mut Vec<f64>, si: f64, span: Span| {
+        if within(si, limit) {
+            out.push(si);
+            true
+        } else {
+            r.push(Diagnostic::error(
+                Code::DeckOutOfRange,
+                r.loc(span),
+                beyond_message(key, si, expected, ""),
+            ));
+            false
+        }
+    };
     for item in items {
         match &item.kind {
             AtomKind::Number {
@@ -242,14 +256,21 @@ fn list_values(
                 unit: Some(u),
                 ..
             } => match checked_unit(r, *value, item.span, Some(u), expected, gauge, key) {
-                Some(unit) => out.push(unit.to_si(*value)),
+                Some(unit) => ok &= push(r, &mut out, unit.to_si(*value), item.span),
                 None => ok = false,
             },
             AtomKind::Number {
                 value, unit: None, ..
+            } if !value.is_finite() => {
+                // An overflowing literal: `checked_unit` reports it.
+                checked_unit(r, *value, item.span, None, Dim::NONE, gauge, key);
+                ok = false;
+            }
+            AtomKind::Number {
+                value, unit: None, ..
             } => match shared {
-                Some(unit) => out.push(unit.to_si(*value)),
-                None if expected == Dim::NONE => out.push(*value),
+                Some(unit) => ok &= push(r, &mut out, unit.to_si(*value), item.span),
+                None if expected == Dim::NONE => ok &= push(r, &mut out, *value, item.span),
                 None => {
                     if !missing_reported {
                         checked_unit(r, *value, item.span, None, expected, gauge, key);
@@ -273,7 +294,12 @@ fn list_values(
     }
     if missing_reported {
         // One diagnostic for the whole list; say where the unit goes.
-        if let Some(d) = r.diags.last_mut() {
+        if let Some(d) = r
+            .diags
+            .iter_mut()
+            .rev()
+            .find(|d| d.code == Code::UnitMissing)
+        {
             d.notes
                 .push("a unit after the closing `]` applies to every item".into());
         }
@@ -542,11 +568,35 @@ impl PropReader<'_> {
             ));
             return None;
         }
-        if unit.factor == 1.0 && !unit.gauge {
-            return Some(raw);
+        let si = if unit.factor == 1.0 && !unit.gauge {
+            raw
+        } else {
+            self.file_in_si(raw, unit)
+        };
+        // Every number of the file is finite (the parser refuses the
+        // others); in SI and in the units values are shown in it must
+        // stay so.
+        let limit = largest(unit.dim);
+        if let Some(i) = si.iter().position(|v| !within(*v, limit)) {
+            r.push(Diagnostic::error(
+                Code::DeckOutOfRange,
+                r.loc(span),
+                beyond_message(
+                    key,
+                    si[i],
+                    unit.dim,
+                    &format!("(value {} of file \"{name}\")", i + 1),
+                ),
+            ));
+            return None;
         }
+        Some(si)
+    }
+
+    /// The values of an array file converted to SI, kept between analyses.
+    fn file_in_si(&mut self, raw: Arc<Vec<f64>>, unit: rill_units::Unit) -> Arc<Vec<f64>> {
         let params = [unit.factor.to_bits(), u64::from(unit.gauge)];
-        Some(kept(
+        kept(
             Some(self.cache),
             "array file in SI",
             std::slice::from_ref(&raw),
@@ -559,11 +609,11 @@ impl PropReader<'_> {
                     }
                 }))
             },
-        ))
+        )
     }
 
     fn load_file(&mut self, r: &mut Reporter, name: &str, span: Span) -> Option<Arc<Vec<f64>>> {
-        let path = resolve(&self.deck_path, name);
+        let path = self.source.resolve(&self.deck_path, name);
         let bytes = match self.source.read(&path) {
             Ok(b) => b,
             Err(e) => {
