@@ -235,3 +235,117 @@ async fn answers_never_interleave_with_refusals() {
     }
     assert_eq!((answered, refused), (200, 200));
 }
+
+/// A JSON value of any shape: what a broken or hostile client may send in
+/// any field.
+fn any_json() -> impl proptest::strategy::Strategy<Value = Value> {
+    use proptest::prelude::*;
+    let leaf = prop_oneof![
+        Just(Value::Null),
+        any::<bool>().prop_map(Value::from),
+        any::<i64>().prop_map(Value::from),
+        any::<f64>()
+            .prop_map(|f| serde_json::Number::from_f64(f).map_or(Value::Null, Value::Number)),
+        Just(json!(1_180_591_620_717_411_303_424.0)), // 2^70
+        "[ -~]{0,20}".prop_map(Value::from),
+    ];
+    leaf.prop_recursive(3, 24, 6, |inner| {
+        prop_oneof![
+            proptest::collection::vec(inner.clone(), 0..6).prop_map(Value::from),
+            proptest::collection::vec(
+                (
+                    prop_oneof![
+                        Just("jsonrpc".to_string()),
+                        Just("id".to_string()),
+                        Just("method".to_string()),
+                        Just("params".to_string()),
+                        "[a-z]{1,8}"
+                    ],
+                    inner
+                ),
+                0..6
+            )
+            .prop_map(|kv| Value::Object(kv.into_iter().collect())),
+        ]
+    })
+}
+
+/// One garbage body: random bytes, any JSON, or a request or notification
+/// with one field replaced by anything. Never a valid `shutdown` or `exit`,
+/// and never an id of the probes (strings starting with `probe-`).
+fn garbage() -> impl proptest::strategy::Strategy<Value = Vec<u8>> {
+    use proptest::prelude::*;
+    let method = prop_oneof![
+        Just("textDocument/hover".to_string()),
+        Just("textDocument/didOpen".to_string()),
+        Just("textDocument/didChange".to_string()),
+        Just("initialize".to_string()),
+        Just("$/cancelRequest".to_string()),
+        Just("$/unknown".to_string()),
+        Just("rill/documentText".to_string()),
+        "[a-z/$]{0,12}",
+    ]
+    .prop_filter("never shutdown or exit", |m| m != "shutdown" && m != "exit");
+    let field = prop_oneof![Just("jsonrpc"), Just("id"), Just("method"), Just("params")];
+    let mutated = (method, any::<bool>(), field, any_json(), any_json()).prop_map(
+        |(method, with_id, field, value, params)| {
+            let mut msg = json!({"jsonrpc": "2.0", "method": method, "params": params});
+            if with_id {
+                msg["id"] = json!(7);
+            }
+            msg[field] = value;
+            serde_json::to_vec(&msg).unwrap()
+        },
+    );
+    prop_oneof![
+        proptest::collection::vec(any::<u8>(), 0..120),
+        any_json().prop_map(|v| serde_json::to_vec(&v).unwrap()),
+        mutated,
+    ]
+    .prop_filter("no probe ids", |b| !b.windows(6).any(|w| w == b"probe-"))
+}
+
+/// Protocol garbage campaign: correctly framed bodies of every kind of
+/// garbage, each followed by a valid request; every valid request is
+/// answered, so the session never ends over a message. `cargo test` runs
+/// 300 bodies; `PROTOCOL_CASES=20000` runs more (see scripts/fuzz-checker).
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn random_garbage_never_ends_the_session() {
+    use proptest::strategy::{Strategy, ValueTree};
+    let cases: usize = std::env::var("PROTOCOL_CASES")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(300);
+    let dir = tempfile::tempdir().unwrap();
+    let root = tower_lsp::lsp_types::Url::from_file_path(dir.path()).unwrap();
+    let mut c = Client::start();
+    c.request(
+        1,
+        "initialize",
+        json!({"processId": null, "rootUri": root, "capabilities": {}}),
+    )
+    .await;
+    c.body(r#"{"jsonrpc":"2.0","method":"initialized","params":{}}"#)
+        .await;
+    let mut runner = proptest::test_runner::TestRunner::deterministic();
+    let strategy = garbage();
+    for n in 0..cases {
+        let body = strategy.new_tree(&mut runner).unwrap().current();
+        let mut framed = format!("Content-Length: {}\r\n\r\n", body.len()).into_bytes();
+        framed.extend_from_slice(&body);
+        c.raw(&framed).await;
+        let probe = format!("probe-{n}");
+        let ask = json!({"jsonrpc": "2.0", "id": probe, "method": "rill/documentText",
+                         "params": {"uri": root.join("none.rill").unwrap()}});
+        c.body(&ask.to_string()).await;
+        // Answers to the garbage (refusals, errors to its id) come first or
+        // not at all; the probe's answer must come.
+        loop {
+            let r = c.answer().await;
+            if r["id"] == probe {
+                break;
+            }
+        }
+    }
+    assert!(!c.server.is_finished(), "the server is still serving");
+}
