@@ -384,6 +384,7 @@ fn example(k: &KeyDef) -> String {
         ValueKind::LayerRange => "1..1".into(),
         ValueKind::Cells => "[(1, 1, 1)]".into(),
         ValueKind::Control => "rate 500 stb/day".into(),
+        ValueKind::Times => "[1 2 6 12] hr".into(),
         ValueKind::Number => "0".into(),
         ValueKind::Quantity(d) | ValueKind::Property(d) => match d {
             Dim::NONE => "0.2".into(),

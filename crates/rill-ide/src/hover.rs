@@ -691,6 +691,7 @@ pub(crate) fn key_dim(kind: ValueKind) -> Option<Dim> {
         ValueKind::Quantity(d) | ValueKind::Property(d) => Some(d),
         ValueKind::Spacing(_) | ValueKind::Top => Some(Dim::LENGTH),
         ValueKind::PressureAtDepth => Some(Dim::PRESSURE),
+        ValueKind::Times => Some(Dim::TIME),
         _ => None,
     }
 }
@@ -714,6 +715,7 @@ pub(crate) fn value_words(kind: ValueKind) -> String {
         ValueKind::LayerRange => "a layer range like 1..4".into(),
         ValueKind::Cells => "a list of cells [(i, j, k) ...]".into(),
         ValueKind::Control => "`rate <surface rate>` or `bhp <pressure>`".into(),
+        ValueKind::Times => "a list of times, e.g. `[1 2 6 12] hr`".into(),
     }
 }
 

@@ -381,6 +381,8 @@ pub struct Timeline {
     pub growth: f64,
     /// Report interval, s; `None`: report at the end and at events only.
     pub report_every: Option<f64>,
+    /// Report times listed in `report_at`, s, increasing, within the run.
+    pub report_at: Vec<f64>,
     /// In time order.
     pub events: Vec<Event>,
 }

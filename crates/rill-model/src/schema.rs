@@ -44,6 +44,8 @@ pub enum ValueKind {
     Cells,
     /// `rate <surface rate>` or `bhp <pressure>`.
     Control,
+    /// A list of times, `[1 2 6 12] hr` (a unit after `]` or on each item).
+    Times,
 }
 
 /// One key of a block: its name, value kind, whether required, and its meaning.
@@ -372,6 +374,12 @@ pub static TIMELINE: BlockDef = BlockDef {
             ValueKind::Quantity(Dim::TIME),
             false,
             "Interval of report times; without it: events and the end.",
+        ),
+        key(
+            "report_at",
+            ValueKind::Times,
+            false,
+            "Report times as a list, e.g. `[1 2 6 12 24 48] hr`; merged with report_every.",
         ),
     ],
     children: &["at"],

@@ -175,6 +175,7 @@ fn demo_case(nx: usize, ny: usize, nz: usize) -> Case {
             max_steps: rill_model::Timeline::DEFAULT_MAX_STEPS,
             growth: 1.5,
             report_every: Some(30.0 * DAY),
+            report_at: Vec::new(),
             events: vec![],
         },
         report: ReportSettings {

@@ -234,3 +234,31 @@ fn a_map_that_cannot_be_written_stops_the_run_and_keeps_the_earlier_set() {
     assert_eq!(watch.report_times, 2);
     assert_eq!(std::fs::read(out.join("series.csv")).unwrap(), csv_before);
 }
+
+#[test]
+fn report_at_times_appear_exactly_in_the_series() {
+    let text = BLOCK.replace(
+        "  report_every = 15 day\n",
+        "  report_every = 15 day\n  report_at = [1 2 6 12 24 48] hr\n",
+    );
+    let (dir, path, analysis) = deck(&text);
+    let out = dir.path().join("block.out");
+    let done = run(
+        &Request::new(&analysis, &path, &out),
+        &mut rill_sim::NoObserver,
+    )
+    .result
+    .unwrap();
+    let csv = std::fs::read_to_string(&done.written.series_csv).unwrap();
+    let days: Vec<f64> = csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').next().unwrap().parse().unwrap())
+        .collect();
+    for h in [1.0, 2.0, 6.0, 12.0, 24.0, 48.0] {
+        let want = h * 3600.0 / 86400.0;
+        assert!(days.contains(&want), "{want} day missing from {days:?}");
+    }
+    // With every 15 days from 0 to 180: 13 + 6 report times.
+    assert_eq!(days.len(), 19);
+}

@@ -677,6 +677,7 @@ mod tests {
                 max_steps: rill_model::Timeline::DEFAULT_MAX_STEPS,
                 growth: 1.5,
                 report_every: None,
+                report_at: Vec::new(),
                 events: vec![],
             },
             report: ReportSettings::default(),

@@ -261,5 +261,6 @@ fn example_value(k: &KeyDef) -> String {
         ValueKind::LayerRange => "1..1".into(),
         ValueKind::Cells => "[(1, 1, 1)]".into(),
         ValueKind::Control => "rate 500 stb/day".into(),
+        ValueKind::Times => "[1 2 6] hr".into(),
     }
 }

@@ -208,6 +208,7 @@ impl<'s> Lowerer<'s> {
             max_given: max_step.is_some(),
         };
         let (min_step, max_steps) = self.lower_step_guard(file, block, &run_end, &steps)?;
+        let report_at = self.lower_report_at(file, block, &run_end)?;
         let events = self.lower_events(file, block, &run_end, wells, spans)?;
         Some(Timeline {
             kind,
@@ -218,8 +219,97 @@ impl<'s> Lowerer<'s> {
             max_steps,
             growth,
             report_every,
+            report_at,
             events,
         })
+    }
+
+    /// `report_at = [1 2 6] hr`: positive times within the run, sorted, each
+    /// once. A unit after `]` applies to every item; an item may carry its
+    /// own. Times after `end` are `timeline.order` errors.
+    fn lower_report_at(
+        &mut self,
+        file: usize,
+        block: &Block,
+        run_end: &RunEnd,
+    ) -> Option<Vec<f64>> {
+        let Some(stmt) = find(block, "report_at") else {
+            return Some(Vec::new());
+        };
+        let [Atom {
+            kind: AtomKind::List { items, unit, .. },
+            ..
+        }] = stmt.value.atoms.as_slice()
+        else {
+            self.diags.push(
+                Diagnostic::error(
+                    Code::DeckValue,
+                    Location::new(file, stmt.value.span),
+                    "`report_at` expects a list of times, e.g. `[1 2 6 12] hr`",
+                )
+                .with_note("for a uniform interval use `report_every`"),
+            );
+            return None;
+        };
+        let mut times = Vec::with_capacity(items.len());
+        let mut ok = true;
+        for item in items {
+            let AtomKind::Number {
+                value,
+                unit: own_unit,
+                ..
+            } = &item.kind
+            else {
+                self.diags.push(Diagnostic::error(
+                    Code::DeckValue,
+                    Location::new(file, item.span),
+                    "each item of `report_at` is a time, e.g. `12` or `12 hr`",
+                ));
+                ok = false;
+                continue;
+            };
+            let unit = own_unit.as_ref().or(unit.as_ref());
+            let Some(t) = to_si(
+                &mut self.reporter(file),
+                *value,
+                item.span,
+                unit,
+                Dim::TIME,
+                Gauge::Refused,
+                "report_at",
+            ) else {
+                ok = false;
+                continue;
+            };
+            let at = Location::new(file, item.span);
+            if t <= 0.0 {
+                self.diags.push(Diagnostic::error(
+                    Code::TimelineOrder,
+                    at,
+                    "a report time must be after the start (t = 0 is always reported)",
+                ));
+                ok = false;
+            } else if run_end.kind == RunKind::Transient && t > run_end.end * (1.0 + 1e-12) {
+                let mut d = Diagnostic::error(
+                    Code::TimelineOrder,
+                    at,
+                    "this report time is after the end of the run",
+                );
+                if let Some(end) = run_end.loc {
+                    d = d.with_label(end, "the run ends here");
+                }
+                self.diags.push(d);
+                ok = false;
+            } else {
+                times.push(t);
+            }
+        }
+        if !ok {
+            return None;
+        }
+        times.sort_by(f64::total_cmp);
+        times.dedup();
+        Some(times)
     }
 
     /// The `at TIME { ... }` events, in time order and within the run.

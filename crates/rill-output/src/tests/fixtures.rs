@@ -108,6 +108,7 @@ pub fn case(nx: usize, ny: usize, nz: usize, units: UnitSystem) -> Case {
             max_steps: rill_model::Timeline::DEFAULT_MAX_STEPS,
             growth: 1.5,
             report_every: Some(10.0 * DAY),
+            report_at: Vec::new(),
             events: vec![],
         },
         report: ReportSettings {

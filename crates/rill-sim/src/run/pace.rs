@@ -91,6 +91,7 @@ mod tests {
             max_steps,
             growth: 1.5,
             report_every: None,
+            report_at: Vec::new(),
             events: Vec::new(),
         }
     }

@@ -12,7 +12,8 @@ use super::{Observer, Progress, RunError, Runner};
 use crate::disc::Assembly;
 use crate::results::RunResults;
 
-/// Report times after t = 0: every `report_every`, the events, the end;
+/// Report times after t = 0: every `report_every`, every `report_at`, the
+/// events, the end;
 /// sorted, without near-duplicates.
 fn report_stops(tl: &Timeline) -> Vec<f64> {
     let end = tl.end;
@@ -28,6 +29,7 @@ fn report_stops(tl: &Timeline) -> Vec<f64> {
         tl.events
             .iter()
             .map(|e| e.time)
+            .chain(tl.report_at.iter().copied())
             .filter(|&t| t > 0.0 && t < end),
     );
     stops.push(end);

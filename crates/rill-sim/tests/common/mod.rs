@@ -69,6 +69,7 @@ pub fn block(dx: Vec<f64>, dy: Vec<f64>, dz_layers: Vec<f64>, top: f64) -> Case 
             max_steps: rill_model::Timeline::DEFAULT_MAX_STEPS,
             growth: 1.5,
             report_every: None,
+            report_at: Vec::new(),
             events: Vec::new(),
         },
         report: ReportSettings::default(),
