@@ -116,6 +116,8 @@ pub const SYSTEMS: &[&str] = &["field", "metric", "si"];
 /// Modes of a well's `control` that take a value; `shut`, which takes none,
 /// is read apart in the lowering of wells.
 pub const CONTROL_MODES: &[&str] = &["rate", "bhp"];
+/// Every word that may start a `control`: the modes with a value, and `shut`.
+pub const CONTROL_WORDS: &[&str] = &["rate", "bhp", "shut"];
 
 /// The `case` block: the title of the case.
 pub static CASE: BlockDef = BlockDef {
