@@ -394,9 +394,15 @@ pub static EVENT_WELL: BlockDef = BlockDef {
             false,
             "The new BHP limit from the event time on.",
         ),
+        key(
+            "skin",
+            ValueKind::Number,
+            false,
+            "The new skin factor from the event time on (damage or a stimulation); the well index changes with it.",
+        ),
     ],
     children: &[],
-    doc: "A change to a well's control at the event time.",
+    doc: "A change to a well's control, BHP limit or skin at the event time.",
 };
 
 /// The `report` block: how results are shown.

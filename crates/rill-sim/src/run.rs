@@ -341,7 +341,7 @@ pub fn run(
     let mut next_event = 0;
     if !steady {
         while next_event < events.len() && events[next_event].time <= 0.0 {
-            controls::apply_event(&mut wells, &events[next_event]);
+            r.apply_event(&mut wells, &events[next_event]);
             next_event += 1;
         }
     }

@@ -16,6 +16,16 @@ use super::Runner;
 use crate::disc::{completion_rate, WellDrive};
 use crate::results::ControlMode;
 
+/// Switches between a rate target and its BHP limit after which a well
+/// stays on its limit for the rest of the step. Near the boundary between
+/// the two (a target close to what the limit delivers) the Newton iterates
+/// can carry a well back and forth; each switch costs an iteration, and
+/// several wells doing so would exhaust Newton and cut the step. Settling on
+/// the limit keeps the BHP limit, a hard constraint, honoured; the rate then
+/// exceeds the target by no more than the Newton iterates disagreed, and the
+/// next step tests the well afresh.
+pub(super) const SETTLE_AFTER: usize = 2;
+
 /// Control state of one well.
 #[derive(Debug, Clone)]
 pub(super) struct WellState {
@@ -27,7 +37,8 @@ pub(super) struct WellState {
     pub(super) mode: ControlMode,
     /// +1 producer, -1 injector.
     sign: f64,
-    /// Switches in the current step (see `NewtonOptions::max_switches`).
+    /// Switches in the current step (see `NewtonOptions::max_switches` and
+    /// [`SETTLE_AFTER`]).
     pub(super) switches: usize,
 }
 
@@ -110,6 +121,17 @@ pub(super) fn apply_event(wells: &mut [WellState], ev: &rill_model::Event) {
 }
 
 impl Runner<'_> {
+    /// Applies a timeline event: the well changes of [`apply_event`], and a
+    /// new skin, which changes the well's indices from the event on.
+    pub(super) fn apply_event(&mut self, wells: &mut [WellState], ev: &rill_model::Event) {
+        apply_event(wells, ev);
+        for ch in &ev.changes {
+            if let Some(skin) = ch.skin {
+                self.d.set_skin(self.case, ch.well, skin);
+            }
+        }
+    }
+
     /// First guess of each BHP: its target, or the shut-in BHP moved by the
     /// target rate over the well's total index.
     pub(super) fn guess_bhps(&self, x: &mut [f64], wells: &[WellState]) {
@@ -249,7 +271,9 @@ impl Runner<'_> {
                     (ControlMode::Bhp, Some(lim)) => {
                         x[xw] = lim;
                         let qa = self.rate_at(w, x, lim);
-                        if st.sign * qa > q && st.switches < max_sw {
+                        // A well that has gone there and back in this step
+                        // stays on its limit until the step ends.
+                        if st.sign * qa > q && st.switches < max_sw.min(SETTLE_AFTER) {
                             st.mode = ControlMode::Rate;
                             st.switches += 1;
                             switched = true;
