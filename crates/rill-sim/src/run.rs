@@ -46,6 +46,16 @@ pub struct NewtonOptions {
     /// Control switches (rate <-> BHP limit) allowed per well in one step;
     /// past that the control stays as it is for the rest of the step.
     pub max_switches: usize,
+    /// Switches after which a rate-controlled well that went to its BHP
+    /// limit stays there for the rest of the step (at most `max_switches`
+    /// apply). Near the boundary between the two controls (a target close
+    /// to what the limit delivers) the Newton iterates can carry a well back
+    /// and forth; each switch costs an iteration, and several wells doing so
+    /// use up Newton and cut the step. Settling on the limit keeps the
+    /// limit, a hard constraint, honoured; the rate then exceeds the target
+    /// by no more than the iterates disagreed, and the next step tests the
+    /// well afresh.
+    pub settle_after_switches: usize,
 }
 
 impl Default for NewtonOptions {
@@ -57,6 +67,7 @@ impl Default for NewtonOptions {
             pressure_tolerance: 0.1,
             line_search_cuts: 4,
             max_switches: 4,
+            settle_after_switches: 2,
         }
     }
 }

@@ -16,16 +16,6 @@ use super::Runner;
 use crate::disc::{completion_rate, WellDrive};
 use crate::results::ControlMode;
 
-/// Switches between a rate target and its BHP limit after which a well
-/// stays on its limit for the rest of the step. Near the boundary between
-/// the two (a target close to what the limit delivers) the Newton iterates
-/// can carry a well back and forth; each switch costs an iteration, and
-/// several wells doing so would exhaust Newton and cut the step. Settling on
-/// the limit keeps the BHP limit, a hard constraint, honoured; the rate then
-/// exceeds the target by no more than the Newton iterates disagreed, and the
-/// next step tests the well afresh.
-pub(super) const SETTLE_AFTER: usize = 2;
-
 /// Control state of one well.
 #[derive(Debug, Clone)]
 pub(super) struct WellState {
@@ -38,7 +28,7 @@ pub(super) struct WellState {
     /// +1 producer, -1 injector.
     sign: f64,
     /// Switches in the current step (see `NewtonOptions::max_switches` and
-    /// [`SETTLE_AFTER`]).
+    /// `NewtonOptions::settle_after_switches`).
     pub(super) switches: usize,
 }
 
@@ -273,7 +263,9 @@ impl Runner<'_> {
                         let qa = self.rate_at(w, x, lim);
                         // A well that has gone there and back in this step
                         // stays on its limit until the step ends.
-                        if st.sign * qa > q && st.switches < max_sw.min(SETTLE_AFTER) {
+                        if st.sign * qa > q
+                            && st.switches < max_sw.min(self.opts.newton.settle_after_switches)
+                        {
                             st.mode = ControlMode::Rate;
                             st.switches += 1;
                             switched = true;
