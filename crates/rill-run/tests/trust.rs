@@ -52,11 +52,11 @@ fn read(dir: &Path, name: &str) -> String {
     std::fs::read_to_string(dir.join(name)).unwrap()
 }
 
-/// A closed single-layer block of the fictional Larkspur field with one
+/// A closed single-layer block of the fictional Quillon field with one
 /// producer in the middle and the given timeline.
-fn larkspur(well_extra: &str, timeline: &str) -> String {
+fn quillon(well_extra: &str, timeline: &str) -> String {
     format!(
-        r#"case "Larkspur block" {{
+        r#"case "Quillon block" {{
   title = "closed block, one producer"
 }}
 grid {{
@@ -80,7 +80,7 @@ fluid "brine" {{
 initial {{
   pressure = 3000 psi at 5020 ft
 }}
-well "LK-1" {{
+well "QN-1" {{
   role = producer
   location = (5, 5)
   radius = 0.3 ft
@@ -107,9 +107,9 @@ fn peaceman_wi(k: f64, h: f64, dx: f64, r_w: f64, skin: f64) -> f64 {
 
 #[test]
 fn a_skin_event_lowers_the_bhp_by_peacemans_index() {
-    let done = run_deck(&larkspur(
+    let done = run_deck(&quillon(
         "",
-        "  end = 90 day\n  first_step = 0.5 day\n  max_step = 5 day\n  report_every = 10 day\n  at 60 day {\n    well \"LK-1\" { skin = 6 }\n  }\n",
+        "  end = 90 day\n  first_step = 0.5 day\n  max_step = 5 day\n  report_every = 10 day\n  at 60 day {\n    well \"QN-1\" { skin = 6 }\n  }\n",
     ));
     let r = &done.results;
     let w = &r.wells[0];
@@ -155,9 +155,9 @@ fn a_skin_event_lowers_the_bhp_by_peacemans_index() {
 
 #[test]
 fn a_well_shut_by_an_event_shows_zero_rates_and_the_report_lists_the_events() {
-    let done = run_deck(&larkspur(
+    let done = run_deck(&quillon(
         "",
-        "  end = 100 day\n  first_step = 0.5 day\n  max_step = 5 day\n  report_every = 10 day\n  at 30 day {\n    well \"LK-1\" { control = shut }\n  }\n  at 70 day {\n    well \"LK-1\" { control = rate 150 stb/day }\n  }\n",
+        "  end = 100 day\n  first_step = 0.5 day\n  max_step = 5 day\n  report_every = 10 day\n  at 30 day {\n    well \"QN-1\" { control = shut }\n  }\n  at 70 day {\n    well \"QN-1\" { control = rate 150 stb/day }\n  }\n",
     ));
     let csv = read(&done.out, "series.csv");
     let mut lines = csv.lines();
@@ -168,7 +168,7 @@ fn a_well_shut_by_an_event_shows_zero_rates_and_the_report_lists_the_events() {
             .position(|h| h.starts_with(name))
             .unwrap_or_else(|| panic!("no column {name} in {header:?}"))
     };
-    let (ct, cq) = (col("time"), col("LK-1 rate"));
+    let (ct, cq) = (col("time"), col("QN-1 rate"));
     let rows: Vec<Vec<f64>> = lines
         .map(|l| l.split(',').map(|v| v.trim().parse().unwrap()).collect())
         .collect();

@@ -173,6 +173,15 @@ impl Runner<'_> {
             .sum()
     }
 
+    /// The rate below which well `w` at BHP `pw` is at rest rather than
+    /// flowing either way: what a drawdown of 1e-9 of its BHP (the relative
+    /// round-off of the solved pressures, and Newton's mass tolerance) drives
+    /// through its completions. A well at rest by this measure is neither
+    /// shut for reversing nor reopened, so that round-off cannot flip it.
+    pub(super) fn rest_rate(&self, w: usize, pw: f64) -> f64 {
+        self.lam_ref * self.d.wells[w].wi_sum * 1e-9 * pw.abs().max(1.0)
+    }
+
     /// Re-tests a shut well: it reopens when the BHP it would hold lets it
     /// flow its way (on rate control when that BHP gives more than the
     /// target). Returns true when it reopened.
@@ -187,7 +196,7 @@ impl Runner<'_> {
             return true;
         };
         let qa = self.rate_at(w, x, p);
-        if st.sign * qa <= 0.0 || st.switches >= self.opts.newton.max_switches {
+        if st.sign * qa <= self.rest_rate(w, p) || st.switches >= self.opts.newton.max_switches {
             return false;
         }
         st.switches += 1;
@@ -202,13 +211,14 @@ impl Runner<'_> {
     }
 
     /// Shuts a well on BHP control that would flow against its role at its
-    /// BHP. Returns true when it shut.
+    /// BHP. Returns true when it shut. Shutting is allowed past
+    /// `max_switches` (only reopening is not): a well that keeps flipping
+    /// ends the step shut, never flowing the wrong way.
     fn shut_if_reversed(&self, w: usize, st: &mut WellState, x: &mut [f64]) -> bool {
         let xw = self.d.n_cells + w;
         if st.mode != ControlMode::Bhp
-            || st.switches >= self.opts.newton.max_switches
             || self.d.wells[w].wi_sum <= 0.0
-            || st.sign * self.rate_at(w, x, x[xw]) >= 0.0
+            || st.sign * self.rate_at(w, x, x[xw]) >= -self.rest_rate(w, x[xw])
         {
             return false;
         }

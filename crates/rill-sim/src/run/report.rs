@@ -104,7 +104,10 @@ impl Runner<'_> {
             } else {
                 x[nc + w]
             });
-            s.rate.push(row.well_rate[w]);
+            // A well at rest reports zero, not the round-off of either sign.
+            let q = row.well_rate[w];
+            let at_rest = q.abs() <= self.rest_rate(w, x[nc + w]);
+            s.rate.push(if at_rest { 0.0 } else { q });
             s.cumulative.push(row.well_cum[w]);
             s.mode.push(wells[w].mode);
         }
