@@ -38,7 +38,7 @@ struct RandomDeck {
 }
 
 fn perm() -> impl Strategy<Value = f64> {
-    prop_oneof![1 => Just(0.0), 4 => 0.5f64..800.0]
+    prop_oneof![1 => Just(0.0), 6 => 0.5f64..800.0]
 }
 
 fn well(n: (usize, usize, usize)) -> impl Strategy<Value = RandomWell> {
@@ -145,11 +145,22 @@ impl RandomDeck {
     }
 }
 
+/// `PROPTEST_CASES`, or 32.
+fn case_count() -> u32 {
+    std::env::var("PROPTEST_CASES")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(32)
+}
+
 proptest! {
-    #![proptest_config(ProptestConfig {
-        cases: std::env::var("PROPTEST_CASES").ok().and_then(|v| v.parse().ok()).unwrap_or(32),
+    #![proptest_config({ let cases = case_count(); ProptestConfig {
+        cases,
+        // Decks the checker refuses (a well whose every completion has a
+        // zero permeability) are skipped; about one in six is.
+        max_global_rejects: cases * 2,
         ..ProptestConfig::default()
-    })]
+    }})]
 
     #[test]
     fn random_decks_never_flow_backwards_nor_write_non_finite_numbers(d in random_deck()) {

@@ -389,3 +389,66 @@ fn wells_near_their_limits_settle_without_cuts() {
     assert_eq!(s.step_cuts, 0, "{s:?}");
     assert!(s.newton_iterations <= 4 * s.steps, "{s:?}");
 }
+
+/// Found by the random-deck property: a steady run judged the injector at
+/// the initial pressure (3000 psi, above its 200 psi BHP, so it "would
+/// produce"), shut it, and solved a system with nothing holding the
+/// pressure level; the next round started from that far-off solution and
+/// lost the balance to cancellation. A steady run judges controls only on
+/// a solution, and linearises every round at the initial pressures.
+#[test]
+fn a_steady_run_judges_controls_on_its_solution_only() {
+    let done = run_deck(ONE_CELL);
+    let r = &done.results;
+    let (q_prod, q_inj) = (r.wells[0].rate[0], r.wells[1].rate[0]);
+    assert!(
+        (q_prod - 871.25 * STB / DAY).abs() <= 1e-9 * q_prod,
+        "{q_prod}"
+    );
+    assert!((q_prod + q_inj).abs() <= 1e-12 * q_prod, "{q_prod} {q_inj}");
+    assert_eq!(r.wells[1].mode[0], ControlMode::Bhp);
+    assert!(r.balance_error[0] <= 1e-12, "{:e}", r.balance_error[0]);
+}
+
+const ONE_CELL: &str = r#"case "Fenwick single cell" {
+  title = "one cell"
+}
+grid {
+  cells = 1 x 1 x 1
+  dx = 150 ft
+  dy = 150 ft
+  dz = 25 ft
+  top = 5000 ft
+}
+rock {
+  porosity = 0.2
+  kx = 448.8 md
+  ky = 297.5 md
+  kz = 0 md
+  compressibility = 4e-6 1/psi
+}
+fluid "brine" {
+  viscosity = 0.8 cP
+  fvf = 1.02 rb/stb
+  compressibility = 3e-6 1/psi
+  density = 63 lb/ft^3
+}
+initial {
+  pressure = 3000 psi at 5000 ft
+}
+well "FW-0" {
+  role = producer
+  completions = [(1, 1, 1)]
+  radius = 0.3 ft
+  control = rate 871.25 stb/day
+}
+well "FW-1" {
+  role = injector
+  completions = [(1, 1, 1)]
+  radius = 0.3 ft
+  control = bhp 200 psi
+}
+timeline {
+  kind = steady
+}
+"#;

@@ -33,11 +33,21 @@ impl Runner<'_> {
         let mut rhs = vec![0.0; n];
         let mut rounds = 0;
         let modes: Vec<_> = wells.iter().map(|w| w.mode).collect();
-        self.update_controls(wells, x);
+        // The first round solves with the deck's controls: the initial
+        // pressures say nothing about the steady state, so no control is
+        // judged (switched or shut) before a solution exists.
+        // Each round is linearised at the initial cell pressures (with the
+        // current BHPs): the problem is linear, so any point gives the same
+        // system, and one of the pressure's own size keeps A x - R(x) free of
+        // cancellation even when the round before was far off (a round whose
+        // only anchor a shut well was).
+        let nc = self.d.n_cells;
+        let base: Vec<f64> = x[..nc].to_vec();
         loop {
             if observer.cancelled() {
                 return Err(RunError::Cancelled { time: 0.0 });
             }
+            x[..nc].copy_from_slice(&base);
             let drive: Vec<WellDrive> = wells.iter().map(WellState::drive).collect();
             self.assemble_at(1.0, None, &drive, x, &mut asm);
             // The problem is linear: A x - R(x) is the right-hand side of A p = b.
