@@ -4,7 +4,10 @@
 //!
 //! The default is 32 cases (`PROPTEST_CASES` overrides it) on grids of at
 //! most 7 x 7 x 3 = 147 cells, so that CI stays quick. Run once by hand with
-//! `PROPTEST_CASES=1000`: 1000 cases passed (about 5 minutes on 2 cores).
+//! `PROPTEST_CASES=1000`: 1000 cases passed in 28 s (two earlier runs of
+//! 2000 found the bugs whose seeds `random_decks.proptest-regressions`
+//! keeps: a steady run judged on its initial pressures, and an injector
+//! left producing once its switches ran out).
 
 use proptest::prelude::*;
 use rill_model::MemorySource;
