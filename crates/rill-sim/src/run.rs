@@ -46,16 +46,19 @@ pub struct NewtonOptions {
     /// Control switches (rate <-> BHP limit) allowed per well in one step;
     /// past that the control stays as it is for the rest of the step.
     pub max_switches: usize,
-    /// Switches after which a rate-controlled well that went to its BHP
-    /// limit stays there for the rest of the step (at most `max_switches`
-    /// apply). Near the boundary between the two controls (a target close
-    /// to what the limit delivers) the Newton iterates can carry a well back
-    /// and forth; each switch costs an iteration, and several wells doing so
-    /// use up Newton and cut the step. Settling on the limit keeps the
-    /// limit, a hard constraint, honoured; the rate then exceeds the target
-    /// by no more than the iterates disagreed, and the next step tests the
-    /// well afresh.
+    /// Switches after which a well on its BHP limit goes back to its rate
+    /// target only when the limit would deliver more than the target by
+    /// the relative `settle_margin` (hysteresis). Near the boundary between
+    /// the two controls (a target close to what the limit delivers) the
+    /// Newton iterates can carry a well back and forth; each switch costs an
+    /// iteration, and several wells doing so use up Newton and cut the
+    /// step. Within the margin the well settles on its limit for the rest
+    /// of the step: the limit, a hard constraint, is honoured and the rate
+    /// exceeds the target by less than the margin; the next step tests the
+    /// well afresh. Going to the limit is never restricted.
     pub settle_after_switches: usize,
+    /// The hysteresis band of `settle_after_switches`, relative to the target.
+    pub settle_margin: f64,
 }
 
 impl Default for NewtonOptions {
@@ -68,6 +71,7 @@ impl Default for NewtonOptions {
             line_search_cuts: 4,
             max_switches: 4,
             settle_after_switches: 2,
+            settle_margin: 1e-3,
         }
     }
 }

@@ -104,10 +104,15 @@ impl Runner<'_> {
             } else {
                 x[nc + w]
             });
-            // A well at rest reports zero, not the round-off of either sign.
+            // A well at rest reports zero, not a wrong-way round-off.
             let q = row.well_rate[w];
-            let at_rest = q.abs() <= self.rest_rate(w, x[nc + w]);
-            s.rate.push(if at_rest { 0.0 } else { q });
+            let sign = if self.case.wells[w].role == rill_model::Role::Producer {
+                1.0
+            } else {
+                -1.0
+            };
+            let wrong_way_round_off = sign * q < 0.0 && q.abs() <= self.rest_rate(w, x[nc + w]);
+            s.rate.push(if wrong_way_round_off { 0.0 } else { q });
             s.cumulative.push(row.well_cum[w]);
             s.mode.push(wells[w].mode);
         }
