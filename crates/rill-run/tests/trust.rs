@@ -356,9 +356,9 @@ fn run_with(text: &str, options: rill_sim::RunOptions) -> RunResults {
 /// The bound this guards: every producer reaches its limit, yet the run
 /// takes the steps its step-size rule asks for (36: from 0.1 day growing by
 /// 1.5 to 15 day over 365 days, shortened for report times) and not one cut.
-/// `NewtonOptions::settle_after_switches` keeps a well that has gone there
-/// and back on its limit for the rest of the step, so switching alone can
-/// take at most 3 Newton iterations per well and never exhausts Newton.
+/// After two switches a well returns from its limit only past a 0.1 %
+/// hysteresis band (`NewtonOptions::settle_after_switches`, `settle_margin`),
+/// so a well flipping at the boundary settles instead of exhausting Newton.
 #[test]
 fn wells_near_their_limits_settle_without_cuts() {
     // First the producers on their limits: what the block delivers there

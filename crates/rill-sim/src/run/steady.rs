@@ -32,6 +32,7 @@ impl Runner<'_> {
         let n = self.d.n();
         let mut rhs = vec![0.0; n];
         let mut rounds = 0;
+        let mut forced = 0;
         let modes: Vec<_> = wells.iter().map(|w| w.mode).collect();
         // The first round solves with the deck's controls: the initial
         // pressures say nothing about the steady state, so no control is
@@ -65,9 +66,16 @@ impl Runner<'_> {
             }
             *x = sol;
             rounds += 1;
-            if !self.update_controls(wells, x) || rounds > 2 * self.opts.newton.max_switches + 1 {
-                break;
+            if self.update_controls(wells, x) && rounds <= 2 * self.opts.newton.max_switches + 1 {
+                continue;
             }
+            // No backflow in the result: a well still flowing the wrong way
+            // is shut and the state solved again (each well at most once).
+            if forced < self.d.n_wells && self.shut_reversed(wells, x) {
+                forced += 1;
+                continue;
+            }
+            break;
         }
         self.guard(x, end, 1)?;
         super::report::record_events(res, 0.0, &modes, wells);
