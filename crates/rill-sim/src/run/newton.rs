@@ -82,8 +82,8 @@ impl Runner<'_> {
                         linear: lin,
                     });
                 }
-                // No backflow in an accepted step: solve again with it shut.
-                switched = true;
+                // No backflow in an accepted step: one more Newton update
+                // with it shut (below), not a return.
                 drive = wells.iter().map(WellState::drive).collect();
                 self.assemble_at(dt, Some(mass_old), &drive, x, asm);
                 res = self.measure(asm, dt, &drive);
