@@ -498,7 +498,7 @@ fn first_word_items(def: &BlockDef, kd: &KeyDef, replace: Span) -> Vec<Completio
     let mut out = Vec::new();
     let names: &[&str] = match kd.kind {
         ValueKind::Choice(names) => names,
-        ValueKind::Control => schema::CONTROL_MODES,
+        ValueKind::Control => schema::CONTROL_WORDS,
         _ => &[],
     };
     for (n, name) in names.iter().enumerate() {

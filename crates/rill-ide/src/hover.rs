@@ -760,8 +760,8 @@ fn ident_doc(word: &str, key: Option<&KeyDef>, block: &str) -> Option<String> {
     let key = key?;
     match key.kind {
         ValueKind::Choice(names) => Some(choice_doc(word, names, key)),
-        ValueKind::Control if schema::CONTROL_MODES.contains(&word) => {
-            Some(choice_doc(word, schema::CONTROL_MODES, key))
+        ValueKind::Control if schema::CONTROL_WORDS.contains(&word) => {
+            Some(choice_doc(word, schema::CONTROL_WORDS, key))
         }
         ValueKind::Property(_) => Some(format!(
             "**{word}** — the value of `{word}` in this `{block}` block (after patches)"

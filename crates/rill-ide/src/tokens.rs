@@ -128,7 +128,7 @@ fn atom(out: &mut Out, a: &Atom) {
                 schema::SIDES,
                 schema::RUN_KINDS,
                 schema::SYSTEMS,
-                schema::CONTROL_MODES,
+                schema::CONTROL_WORDS,
             ]
             .iter()
             .any(|names| names.contains(&w))

@@ -85,7 +85,22 @@ fn enum_values_after_choice_keys() {
             "  side = ",
             vec!["west", "east", "south", "north", "top", "bottom"],
         ),
-        ("  control = rate", "  control = ", vec!["rate", "bhp"]),
+        (
+            "  control = rate",
+            "  control = ",
+            vec!["rate", "bhp", "shut"],
+        ),
+        // In an event too: a well may be shut from a time on.
+        (
+            "    well \"P-1\" { control = bhp",
+            "    well \"P-1\" { control = ",
+            vec!["rate", "bhp", "shut"],
+        ),
+        (
+            "    well \"P-1\" { control = bhp",
+            "    well \"P-1\" { control = sh",
+            vec!["rate", "bhp", "shut"],
+        ),
         (
             "  units = field",
             "  units = ",

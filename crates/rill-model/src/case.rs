@@ -416,6 +416,9 @@ pub struct WellChange {
     pub control: Option<Control>,
     /// The new BHP limit (Pa), if changed.
     pub bhp_limit: Option<f64>,
+    /// The new skin factor (dimensionless), if changed: the well's indices
+    /// change with it from the event on.
+    pub skin: Option<f64>,
 }
 
 /// How results are shown: `field`, `metric` or `si`.

@@ -12,7 +12,9 @@ use rill_units::{display_unit, Kind, System, STANDARD_ATMOSPHERE_PA as ATM};
 use std::collections::HashSet;
 use std::sync::Arc;
 
-use rill_units::factors::{CP, FT, IN as INCH, MD, PSI};
+use rill_units::factors::{CP, FT, MD, PSI};
+
+mod wellbore;
 
 /// How many values match `bad`, and the first that does, in one parallel
 /// pass (per-cell arrays hold a million values, checked on every edit).
@@ -448,7 +450,7 @@ fn well_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic
             }
         }
         let radius_at = ws.radius.unwrap_or(comp_at);
-        radius_checks(case, well, radius_at, sys, out);
+        wellbore::radius_checks(case, w_index, well, &ws, radius_at, sys, out);
         productivity_check(case, well, comp_at, out);
         trajectory_check(case, well, comp_at, out);
         bhp_checks(case, w_index, well, &ws, comp_at, sys, out);
@@ -523,67 +525,6 @@ struct GivenBhp {
     pressure: f64,
     at: Location,
     what: &'static str,
-}
-
-/// The wellbore radius against the completed cells and the skin.
-fn radius_checks(
-    case: &Case,
-    well: &Well,
-    radius_at: Location,
-    sys: System,
-    out: &mut Vec<Diagnostic>,
-) {
-    let grid = &case.grid;
-    // Radius against the completed cells.
-    let half_width = well
-        .completions
-        .iter()
-        .map(|c| {
-            let f = derived::wellbore_frame(grid, &case.rock, c);
-            0.5 * f.d1.min(f.d2)
-        })
-        .fold(f64::INFINITY, f64::min);
-    if well.radius <= 0.0 {
-        out.push(Diagnostic::error(
-            Code::SanityRadius,
-            radius_at,
-            "the wellbore radius must be positive",
-        ));
-    } else if well.radius >= half_width {
-        out.push(Diagnostic::error(
-            Code::SanityRadius,
-            radius_at,
-            format!(
-                "a wellbore radius of {} is not below half the cell width ({}); check the unit (in, not ft?)",
-                show(well.radius, Kind::Length, sys),
-                show(half_width, Kind::Length, sys)
-            ),
-        ));
-    } else if well.radius < INCH {
-        out.push(Diagnostic::warning(
-            Code::SanityRadius,
-            radius_at,
-            format!(
-                "a wellbore radius of {} is below 1 inch; check the unit",
-                show(well.radius, Kind::Length, sys)
-            ),
-        ));
-    } else if let Some(c) = well.completions.first() {
-        // Peaceman's model needs r_eq > r_w e^(-s); otherwise the index is meaningless.
-        let wi = derived::well_index(grid, &case.rock, c, well.radius, well.skin);
-        if (wi.r_eq / well.radius).ln() + well.skin <= 0.0 {
-            out.push(Diagnostic::error(
-                Code::SanityRadius,
-                radius_at,
-                format!(
-                    "with skin {} the well index of \"{}\" would not be positive: ln(r_eq / r_w) + s <= 0 (r_eq = {})",
-                    well.skin,
-                    well.name,
-                    show(wi.r_eq, Kind::Length, sys)
-                ),
-            ));
-        }
-    }
 }
 
 /// Each BHP the well is given against the initial pressure at its datum

@@ -120,6 +120,8 @@ pub const SYSTEMS: &[&str] = &["field", "metric", "si"];
 /// Modes of a well's `control` that take a value; `shut`, which takes none,
 /// is read apart in the lowering of wells.
 pub const CONTROL_MODES: &[&str] = &["rate", "bhp"];
+/// Every word that may start a `control`: the modes with a value, and `shut`.
+pub const CONTROL_WORDS: &[&str] = &["rate", "bhp", "shut"];
 
 /// The `case` block: the title of the case.
 pub static CASE: BlockDef = BlockDef {
@@ -414,9 +416,15 @@ pub static EVENT_WELL: BlockDef = BlockDef {
             false,
             "The new BHP limit from the event time on.",
         ),
+        key(
+            "skin",
+            ValueKind::Number,
+            false,
+            "The new skin factor from the event time on (damage or a stimulation); the well index changes with it.",
+        ),
     ],
     children: &[],
-    doc: "A change to a well's control at the event time.",
+    doc: "A change to a well's control, BHP limit or skin at the event time.",
 };
 
 /// The `report` block: how results are shown.

@@ -94,6 +94,7 @@ mod report;
 mod series;
 mod svg;
 mod text;
+mod timeline;
 mod units;
 mod vtk;
 

@@ -1,5 +1,6 @@
 //! `report.html`: one self-contained page (inline CSS and SVG, no scripts,
-//! no external resources) with the caution, a summary, plots of rates,
+//! no external resources) with the caution, a summary, the timeline of
+//! well events (`timeline.rs`), plots of rates,
 //! cumulatives, BHP and average pressure, and pressure maps per layer.
 //!
 //! Size limits for large grids: at most [`MAX_LAYER_MAPS`] layer maps, chosen
@@ -113,6 +114,7 @@ impl Report<'_> {
         );
         self.caution(&mut s);
         self.summary(&mut s);
+        crate::timeline::section(self.case, self.results, &mut s);
         self.charts(&mut s);
         self.maps(&mut s);
         self.notes(&mut s);

@@ -223,6 +223,30 @@ impl Disc {
     }
 }
 
+impl Disc {
+    /// Gives well `w` the skin `skin` from now on: each completion's well
+    /// index is computed again by [`derived::well_index`] (the completions in
+    /// active cells, in the order [`well_geometry`] keeps them), and the
+    /// cells' transmissibility sums follow the change.
+    pub fn set_skin(&mut self, case: &Case, w: usize, skin: f64) {
+        let (Some(well), Some(geom)) = (case.wells.get(w), self.wells.get_mut(w)) else {
+            return;
+        };
+        let active = well
+            .completions
+            .iter()
+            .filter(|cp| case.rock.is_active(cp.cell));
+        let mut wi_sum = 0.0;
+        for (comp, cp) in geom.comps.iter_mut().zip(active) {
+            let wi = derived::well_index(&case.grid, &case.rock, cp, well.radius, skin).geometric;
+            self.t_sum[comp.cell] += wi - comp.wi;
+            comp.wi = wi;
+            wi_sum += wi;
+        }
+        geom.wi_sum = wi_sum;
+    }
+}
+
 /// Each well's completions in active cells (well index, depth below the
 /// well's datum, the shallowest completed cell centre) and the (cell, well)
 /// couplings of the pattern, unsorted. Adds each well index to its cell's

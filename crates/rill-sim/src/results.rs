@@ -102,9 +102,12 @@ pub struct RunResults {
     /// One series per boundary, in deck order.
     pub boundaries: Vec<BoundarySeries>,
     /// Relative mass balance error of the last step before each report time:
-    /// |change of surface volume in place + net outflow over the step| /
-    /// surface volume in place (0 at t = 0). Steady runs: |net outflow| over
-    /// half the sum of |rates| of all wells and boundaries.
+    /// |change of surface volume in place + net outflow over the step| over
+    /// the largest of the volume in place, the step's gross throughput and
+    /// the change itself (0 at t = 0). Steady runs: |net outflow| over the
+    /// largest of the total inflow, the largest single face or completion
+    /// flow, and the flow 1 Pa drives through the largest cell
+    /// transmissibility sum. Neither scale vanishes when nothing flows.
     pub balance_error: Vec<f64>,
     /// Cell pressures, Pa (NaN in inactive cells): one array per report
     /// time, or the last report time's only (`RunOptions::keep_pressures`).

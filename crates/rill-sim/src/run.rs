@@ -47,6 +47,19 @@ pub struct NewtonOptions {
     /// Control switches (rate <-> BHP limit) allowed per well in one step;
     /// past that the control stays as it is for the rest of the step.
     pub max_switches: usize,
+    /// Switches after which a well on its BHP limit goes back to its rate
+    /// target only when the limit would deliver more than the target by
+    /// the relative `settle_margin` (hysteresis). Near the boundary between
+    /// the two controls (a target close to what the limit delivers) the
+    /// Newton iterates can carry a well back and forth; each switch costs an
+    /// iteration, and several wells doing so use up Newton and cut the
+    /// step. Within the margin the well settles on its limit for the rest
+    /// of the step: the limit, a hard constraint, is honoured and the rate
+    /// exceeds the target by less than the margin; the next step tests the
+    /// well afresh. Going to the limit is never restricted.
+    pub settle_after_switches: usize,
+    /// The hysteresis band of `settle_after_switches`, relative to the target.
+    pub settle_margin: f64,
 }
 
 impl Default for NewtonOptions {
@@ -58,6 +71,8 @@ impl Default for NewtonOptions {
             pressure_tolerance: 0.1,
             line_search_cuts: 4,
             max_switches: 4,
+            settle_after_switches: 2,
+            settle_margin: 1e-3,
         }
     }
 }
@@ -412,7 +427,7 @@ pub fn run(
     let mut next_event = 0;
     if !steady {
         while next_event < events.len() && events[next_event].time <= 0.0 {
-            controls::apply_event(&mut wells, &events[next_event]);
+            r.apply_event(&mut wells, &events[next_event]);
             next_event += 1;
         }
     }

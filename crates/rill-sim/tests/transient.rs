@@ -425,6 +425,7 @@ fn rate_control_switches_to_bhp_limit_and_back() {
             well: 0,
             control: None,
             bhp_limit: Some(1500.0 * PSI),
+            skin: None,
         }],
         origin: Origin::default(),
     }];
@@ -503,6 +504,7 @@ fn events_and_report_times_are_exact() {
                 well: 0,
                 control: Some(Control::Rate(50.0 * STB_DAY)),
                 bhp_limit: None,
+                skin: None,
             }],
             origin: Origin::default(),
         },
@@ -514,6 +516,7 @@ fn events_and_report_times_are_exact() {
                 // that the producer produces rather than being shut.
                 control: Some(Control::Bhp(1800.0 * PSI)),
                 bhp_limit: None,
+                skin: None,
             }],
             origin: Origin::default(),
         },

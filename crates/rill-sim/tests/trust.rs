@@ -227,11 +227,13 @@ fn a_shut_producer_reopens_when_an_injector_lifts_the_pressure() {
                 well: 0,
                 control: Some(Control::Bhp(4000.0 * PSI)),
                 bhp_limit: None,
+                skin: None,
             },
             WellChange {
                 well: 2,
                 control: Some(Control::Rate(800.0 * STB_DAY)),
                 bhp_limit: None,
+                skin: None,
             },
         ],
         origin: Origin::default(),
@@ -281,6 +283,7 @@ fn a_well_shut_by_the_deck_flows_nothing_until_an_event_opens_it() {
             well: 1,
             control: Some(Control::Rate(300.0 * STB_DAY)),
             bhp_limit: Some(1000.0 * PSI),
+            skin: None,
         }],
         origin: Origin::default(),
     });

@@ -105,6 +105,8 @@ pub struct WellSpans {
     pub event_controls: Vec<(usize, Location)>,
     /// Event BHP limits: (event index, location).
     pub event_limits: Vec<(usize, Location)>,
+    /// Event skins: (event index, location).
+    pub event_skins: Vec<(usize, Location)>,
 }
 
 impl<'s> Lowerer<'s> {

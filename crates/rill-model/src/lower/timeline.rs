@@ -472,10 +472,25 @@ impl<'s> Lowerer<'s> {
                 }
                 None => None,
             };
+            let skin = match find(wb, "skin") {
+                Some(s) => {
+                    if let Some(slot) = spans.wells.get_mut(index) {
+                        slot.event_skins
+                            .push((event, Location::new(file, s.value.span)));
+                    }
+                    let skin = self.number(file, s);
+                    if skin.is_none() {
+                        *ok = false;
+                    }
+                    skin
+                }
+                None => None,
+            };
             changes.push(WellChange {
                 well: index,
                 control,
                 bhp_limit,
+                skin,
             });
         }
         changes

@@ -90,7 +90,7 @@ impl<'s> Lowerer<'s> {
                     ),
                 );
                 if let AtomKind::Ident(w) = &first.kind {
-                    if let Some(near) = schema::nearest(w, schema::CONTROL_MODES.iter().copied()) {
+                    if let Some(near) = schema::nearest(w, schema::CONTROL_WORDS.iter().copied()) {
                         d = d.with_replacement(
                             format!("replace by `{near}`"),
                             Location::new(file, first.span),

@@ -27,7 +27,8 @@ pub(super) struct WellState {
     pub(super) mode: ControlMode,
     /// +1 producer, -1 injector.
     sign: f64,
-    /// Switches in the current step (see `NewtonOptions::max_switches`).
+    /// Switches in the current step (see `NewtonOptions::max_switches` and
+    /// `NewtonOptions::settle_after_switches`).
     pub(super) switches: usize,
 }
 
@@ -110,6 +111,17 @@ pub(super) fn apply_event(wells: &mut [WellState], ev: &rill_model::Event) {
 }
 
 impl Runner<'_> {
+    /// Applies a timeline event: the well changes of [`apply_event`], and a
+    /// new skin, which changes the well's indices from the event on.
+    pub(super) fn apply_event(&mut self, wells: &mut [WellState], ev: &rill_model::Event) {
+        apply_event(wells, ev);
+        for ch in &ev.changes {
+            if let Some(skin) = ch.skin {
+                self.d.set_skin(self.case, ch.well, skin);
+            }
+        }
+    }
+
     /// First guess of each BHP: its target, or the shut-in BHP moved by the
     /// target rate over the well's total index.
     pub(super) fn guess_bhps(&self, x: &mut [f64], wells: &[WellState]) {
@@ -161,6 +173,16 @@ impl Runner<'_> {
             .sum()
     }
 
+    /// The rate below which well `w` at BHP `pw` is at rest rather than
+    /// flowing either way: what a drawdown of 1e-9 of its BHP (the relative
+    /// round-off of the solved pressures, and Newton's mass tolerance) drives
+    /// through its completions. A well reverses only past it (it reopens as
+    /// soon as it would flow its way at all), so round-off cannot flip it,
+    /// and a wrong-way rate within it is reported as zero.
+    pub(super) fn rest_rate(&self, w: usize, pw: f64) -> f64 {
+        self.lam_ref * self.d.wells[w].wi_sum * 1e-9 * pw.abs().max(1.0)
+    }
+
     /// Re-tests a shut well: it reopens when the BHP it would hold lets it
     /// flow its way (on rate control when that BHP gives more than the
     /// target). Returns true when it reopened.
@@ -190,13 +212,14 @@ impl Runner<'_> {
     }
 
     /// Shuts a well on BHP control that would flow against its role at its
-    /// BHP. Returns true when it shut.
-    fn shut_if_reversed(&self, w: usize, st: &mut WellState, x: &mut [f64]) -> bool {
+    /// BHP. Returns true when it shut. Past `max_switches` only `force`
+    /// shuts it (see [`Runner::shut_reversed`]).
+    fn shut_if_reversed(&self, w: usize, st: &mut WellState, x: &mut [f64], force: bool) -> bool {
         let xw = self.d.n_cells + w;
         if st.mode != ControlMode::Bhp
-            || st.switches >= self.opts.newton.max_switches
+            || (st.switches >= self.opts.newton.max_switches && !force)
             || self.d.wells[w].wi_sum <= 0.0
-            || st.sign * self.rate_at(w, x, x[xw]) >= 0.0
+            || st.sign * self.rate_at(w, x, x[xw]) >= -self.rest_rate(w, x[xw])
         {
             return false;
         }
@@ -204,6 +227,18 @@ impl Runner<'_> {
         st.mode = ControlMode::Shut;
         x[xw] = self.shut_in_bhp(x, w);
         true
+    }
+
+    /// At a converged state: shuts every well still flowing against its
+    /// role, whatever its switches (a well whose switches ran out during
+    /// the iterations is otherwise left open). Returns true when one shut;
+    /// it cannot reopen in this step, so this ends.
+    pub(super) fn shut_reversed(&self, wells: &mut [WellState], x: &mut [f64]) -> bool {
+        let mut shut = false;
+        for (w, st) in wells.iter_mut().enumerate() {
+            shut |= self.shut_if_reversed(w, st, x, true);
+        }
+        shut
     }
 
     /// Applies control switching at `x` and holds BHP-controlled wells at
@@ -231,10 +266,9 @@ impl Runner<'_> {
                 }
                 Control::Rate(q) => match (st.mode, st.limit) {
                     (ControlMode::Rate, Some(lim)) => {
-                        if st.sign * (lim - x[xw]) > 0.0
-                            && st.switches < max_sw
-                            && self.d.wells[w].wi_sum > 0.0
-                        {
+                        // Going to the limit is always allowed (only coming
+                        // back is counted): a limit is never passed.
+                        if st.sign * (lim - x[xw]) > 0.0 && self.d.wells[w].wi_sum > 0.0 {
                             st.mode = ControlMode::Bhp;
                             st.switches += 1;
                             x[xw] = lim;
@@ -249,7 +283,15 @@ impl Runner<'_> {
                     (ControlMode::Bhp, Some(lim)) => {
                         x[xw] = lim;
                         let qa = self.rate_at(w, x, lim);
-                        if st.sign * qa > q && st.switches < max_sw {
+                        // A well that has gone there and back in this step
+                        // returns only past the hysteresis band.
+                        let no = &self.opts.newton;
+                        let band = if st.switches >= no.settle_after_switches {
+                            1.0 + no.settle_margin
+                        } else {
+                            1.0
+                        };
+                        if st.sign * qa > q * band && st.switches < max_sw {
                             st.mode = ControlMode::Rate;
                             st.switches += 1;
                             switched = true;
@@ -258,7 +300,7 @@ impl Runner<'_> {
                     (ControlMode::Shut, _) => {}
                 },
             }
-            switched |= self.shut_if_reversed(w, st, x);
+            switched |= self.shut_if_reversed(w, st, x, false);
         }
         switched
     }

@@ -76,10 +76,17 @@ impl Runner<'_> {
             }
             let res_ok = res.cells <= no.mass_tolerance && res.wells <= no.well_tolerance;
             if res_ok && !switched && (it == 0 || last_dp <= no.pressure_tolerance) {
-                return Ok(Iterations {
-                    newton: it,
-                    linear: lin,
-                });
+                if !self.shut_reversed(wells, x) {
+                    return Ok(Iterations {
+                        newton: it,
+                        linear: lin,
+                    });
+                }
+                // No backflow in an accepted step: one more Newton update
+                // with it shut (below), not a return.
+                drive = wells.iter().map(WellState::drive).collect();
+                self.assemble_at(dt, Some(mass_old), &drive, x, asm);
+                res = self.measure(asm, dt, &drive);
             }
             if !res.merit.is_finite() {
                 return Err(failed("the residual is not finite".into(), it, lin));

@@ -105,7 +105,15 @@ impl Runner<'_> {
             } else {
                 x[nc + w]
             });
-            s.rate.push(row.well_rate[w]);
+            // A well at rest reports zero, not a wrong-way round-off.
+            let q = row.well_rate[w];
+            let sign = if self.case.wells[w].role == rill_model::Role::Producer {
+                1.0
+            } else {
+                -1.0
+            };
+            let wrong_way_round_off = sign * q < 0.0 && q.abs() <= self.rest_rate(w, x[nc + w]);
+            s.rate.push(if wrong_way_round_off { 0.0 } else { q });
             s.cumulative.push(row.well_cum[w]);
             s.mode.push(wells[w].mode);
         }

@@ -4,7 +4,7 @@
 use rayon::prelude::*;
 use rill_model::Timeline;
 
-use super::controls::{self, WellState};
+use super::controls::WellState;
 use super::newton::{Iterations, StepFail};
 use super::pace::Pace;
 use super::report::ReportRow;
@@ -162,7 +162,7 @@ impl Runner<'_> {
             // Modes before the events, so that a shut or opening by an event is recorded.
             let modes: Vec<_> = wells.iter().map(|w| w.mode).collect();
             while next_event < events.len() && events[next_event].time <= t + 1e-9 * end.max(1.0) {
-                controls::apply_event(wells, &events[next_event]);
+                self.apply_event(wells, &events[next_event]);
                 next_event += 1;
             }
             let stop = stops[si];
@@ -320,9 +320,15 @@ impl Runner<'_> {
         }
     }
 
-    /// Closes an accepted step: its mass balance error (accumulation change
-    /// plus net outflow, relative to the volume in place), the cumulatives,
+    /// Closes an accepted step: its mass balance error, the cumulatives,
     /// and the accumulation the next step starts from.
+    ///
+    /// The balance error is |accumulation change + net outflow over the
+    /// step| over a scale that cannot vanish: the largest of the surface
+    /// volume in place, the gross throughput of the step (every well and
+    /// boundary, each counted by its size) and the accumulation change. The
+    /// volume in place is never zero in an active grid, so a step in which
+    /// almost nothing flows reports round-off against it.
     fn close_step(&self, x: &[f64], acc: &mut Accumulation, dt: f64) -> f64 {
         let asm = &acc.asm;
         let mass_old = &acc.mass_old;
@@ -332,8 +338,16 @@ impl Runner<'_> {
             .map(|i| (asm.mass[i] - mass_old[i], asm.mass[i]))
             .reduce(|| (0.0, 0.0), |p, q| (p.0 + q.0, p.1 + q.1));
         let out: f64 = asm.well_rate.iter().chain(&asm.bnd_rate).sum::<f64>() * dt;
-        let balance = if fip > 0.0 {
-            (dm + out).abs() / fip
+        let gross: f64 = asm
+            .well_rate
+            .iter()
+            .chain(&asm.bnd_rate)
+            .map(|q| q.abs())
+            .sum::<f64>()
+            * dt;
+        let scale = fip.max(gross).max(dm.abs());
+        let balance = if scale > 0.0 {
+            (dm + out).abs() / scale
         } else {
             0.0
         };
