@@ -38,7 +38,11 @@ fn run_deck(text: &str) -> Done {
     let (dir, path, analysis) = deck(text);
     assert!(!analysis.has_errors(), "{:#?}", analysis.diagnostics);
     let out = dir.path().join("deck.out");
-    let outcome = run(&Request::new(&analysis, &path, &out), &mut NoObserver);
+    // Every report time's cell pressures: the tests compare them with hand
+    // calculations (the pipeline keeps only the last by default).
+    let mut request = Request::new(&analysis, &path, &out);
+    request.options.keep_pressures = rill_sim::KeepPressures::Every;
+    let outcome = run(&request, &mut NoObserver);
     let done = outcome.result.unwrap_or_else(|e| panic!("{e}"));
     Done {
         results: done.results,
