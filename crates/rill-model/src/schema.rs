@@ -474,20 +474,25 @@ pub fn child_block(parent: &BlockDef, name: &str) -> Option<&'static BlockDef> {
 }
 
 /// The nearest of `candidates` to `name`, if it is close enough to be a likely typo.
+/// The edit distance is only computed where it can pass: its cost grows with
+/// the product of the lengths, and a 50 MB name is no typo of any key.
 pub fn nearest<'a>(name: &str, candidates: impl IntoIterator<Item = &'a str>) -> Option<&'a str> {
     let lower = name.to_ascii_lowercase();
     candidates
         .into_iter()
-        .map(|c| {
-            (
-                strsim::damerau_levenshtein(&lower, &c.to_ascii_lowercase()),
-                c,
-            )
-        })
-        .filter(|(d, c)| {
-            *d <= (c.len().max(name.len()) / 3).max(1)
-                || c.starts_with(&lower)
-                || lower.starts_with(*c)
+        .filter_map(|c| {
+            let c_lower = c.to_ascii_lowercase();
+            let (n, m) = (lower.len(), c.len());
+            if c.starts_with(&lower) || lower.starts_with(c) {
+                // A prefix: the distance is the difference in length.
+                return Some((n.abs_diff(m), c));
+            }
+            let allowed = (m.max(n) / 3).max(1);
+            if n.abs_diff(m) > allowed {
+                return None;
+            }
+            let d = strsim::damerau_levenshtein(&lower, &c_lower);
+            (d <= allowed).then_some((d, c))
         })
         .min_by_key(|(d, _)| *d)
         .map(|(_, c)| c)

@@ -88,6 +88,11 @@ pub fn suggest(name: &str) -> Vec<String> {
             .enumerate()
             .filter_map(|(i, d)| {
                 let cand = d.name.to_lowercase();
+                // The distance is at least the difference in length; skip
+                // the quadratic computation where it cannot pass.
+                if n.abs_diff(cand.chars().count()) > max {
+                    return None;
+                }
                 let dist = strsim::damerau_levenshtein(&lower, &cand);
                 // Never "correct" a name into a totally different short one.
                 let shorter = n.min(cand.chars().count());
