@@ -278,6 +278,11 @@ impl<'s> Lowerer<'s> {
                 let mut refs = Vec::new();
                 def.expr.refs(&mut refs);
                 for (r, span) in refs {
+                    // In a patch, the property's own name is its value
+                    // before the patch: no dependency on the final value.
+                    if def.cells.is_some() && r == name {
+                        continue;
+                    }
                     if let Some(p) = PROPS.iter().copied().find(|p| *p == r) {
                         out.push((p, span));
                     }
@@ -317,8 +322,19 @@ impl<'s> Lowerer<'s> {
             let mut patches: Vec<(&[usize], Field)> = Vec::new();
             for def in defs.get(name).map(|v| v.as_slice()).unwrap_or(&[]) {
                 let dim = dim_of(name).unwrap_or(Dim::NONE);
-                let value =
-                    evaluate_kept(&def.expr, shape, dim, &|r| finals.get(r).cloned(), reuse);
+                // A patch that names its own property scales the value
+                // before it: the base with the earlier patches applied.
+                let before = match (&def.cells, &base) {
+                    (Some(_), Some(b)) if refers_to(&def.expr, name) => {
+                        Some(patched(reuse, shape, b, &patches))
+                    }
+                    _ => None,
+                };
+                let lookup = |r: &str| match &before {
+                    Some(f) if r == name => Some(f.clone()),
+                    _ => finals.get(r).cloned(),
+                };
+                let value = evaluate_kept(&def.expr, shape, dim, &lookup, reuse);
                 let value = self.evaluated(def.loc.file, name, dim, value)?;
                 spans.rock.entry(name).or_default().push(def.loc);
                 match &def.cells {
@@ -327,28 +343,7 @@ impl<'s> Lowerer<'s> {
                 }
             }
             let base = base?;
-            let field = if patches.is_empty() {
-                base
-            } else {
-                let (mut arrays, mut params) = (Vec::new(), vec![shape.cells() as u64]);
-                base.encode(&mut arrays, &mut params);
-                for (sel, value) in &patches {
-                    params.push(sel.len() as u64);
-                    params.extend(sel.iter().map(|&c| c as u64));
-                    value.encode(&mut arrays, &mut params);
-                }
-                Field::Cells(kept(reuse, "patched property", &arrays, &params, || {
-                    let mut target =
-                        crate::props::cells_by_index(shape.cells(), reuse, |c| base.at(c, shape));
-                    for (sel, value) in &patches {
-                        for &c in *sel {
-                            target[c] = value.at(c, shape);
-                        }
-                    }
-                    Arc::new(target)
-                }))
-            };
-            finals.insert(name, field);
+            finals.insert(name, patched(reuse, shape, &base, &patches));
         }
         Some(finals)
     }
@@ -410,4 +405,41 @@ impl<'s> Lowerer<'s> {
         }
         Some(cells)
     }
+}
+
+/// Whether `expr` refers to the property `name`.
+fn refers_to(expr: &Expr, name: &str) -> bool {
+    let mut refs = Vec::new();
+    expr.refs(&mut refs);
+    refs.iter().any(|(r, _)| r == name)
+}
+
+/// `base` with `patches` applied in order. Kept for the next analysis: an
+/// edit elsewhere in the deck finds the same inputs and gets the same
+/// array back.
+fn patched(
+    reuse: Option<&Reuse>,
+    shape: Shape,
+    base: &Field,
+    patches: &[(&[usize], Field)],
+) -> Field {
+    if patches.is_empty() {
+        return base.clone();
+    }
+    let (mut arrays, mut params) = (Vec::new(), vec![shape.cells() as u64]);
+    base.encode(&mut arrays, &mut params);
+    for (sel, value) in patches {
+        params.push(sel.len() as u64);
+        params.extend(sel.iter().map(|&c| c as u64));
+        value.encode(&mut arrays, &mut params);
+    }
+    Field::Cells(kept(reuse, "patched property", &arrays, &params, || {
+        let mut target = crate::props::cells_by_index(shape.cells(), reuse, |c| base.at(c, shape));
+        for (sel, value) in patches {
+            for &c in *sel {
+                target[c] = value.at(c, shape);
+            }
+        }
+        Arc::new(target)
+    }))
 }
