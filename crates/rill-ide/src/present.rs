@@ -222,31 +222,11 @@ pub(crate) fn boundary_markdown(case: &Case, name: &str) -> Option<String> {
         )),
         None => s.push_str(" at every face centre"),
     }
-    // The cells on that side: a plane of the grid, never all cells.
-    let (ni, nj, nk) = (g.nx, g.ny, g.nz);
-    if ni == 0 || nj == 0 || nk == 0 {
+    // The cells on that side it holds: part of a plane, never all cells.
+    if g.nx == 0 || g.ny == 0 || g.nz == 0 {
         return Some(s);
     }
-    let cells: Vec<usize> = match b.side {
-        rill_model::Side::West => (0..nk)
-            .flat_map(|k| (0..nj).map(move |j| g.index(0, j, k)))
-            .collect(),
-        rill_model::Side::East => (0..nk)
-            .flat_map(|k| (0..nj).map(move |j| g.index(ni - 1, j, k)))
-            .collect(),
-        rill_model::Side::South => (0..nk)
-            .flat_map(|k| (0..ni).map(move |i| g.index(i, 0, k)))
-            .collect(),
-        rill_model::Side::North => (0..nk)
-            .flat_map(|k| (0..ni).map(move |i| g.index(i, nj - 1, k)))
-            .collect(),
-        rill_model::Side::Top => (0..nj)
-            .flat_map(|j| (0..ni).map(move |i| g.index(i, j, 0)))
-            .collect(),
-        rill_model::Side::Bottom => (0..nj)
-            .flat_map(|j| (0..ni).map(move |i| g.index(i, j, nk - 1)))
-            .collect(),
-    };
+    let cells = b.cells(g);
     let total: f64 = cells
         .iter()
         .filter(|c| **c < g.cell_count())

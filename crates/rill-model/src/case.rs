@@ -348,8 +348,47 @@ pub struct Boundary {
     pub pressure: f64,
     /// Datum depth (m) for a hydrostatic face; `None`: the pressure holds at every face centre.
     pub datum: Option<f64>,
+    /// The cells of the side whose outer faces it holds (`i`, `j`, `k`
+    /// selectors; all by default).
+    pub select: Selection,
     /// Where the boundary block is written.
     pub origin: Origin,
+}
+
+impl Boundary {
+    /// Whether it holds the outer face of cell `c` on its side.
+    pub fn covers(&self, grid: &Grid, c: usize) -> bool {
+        crate::derived::is_on_side(grid, c, self.side) && self.select.contains(grid.ijk(c))
+    }
+
+    /// The cells whose outer face on its side it holds, in grid order.
+    pub fn cells(&self, grid: &Grid) -> Vec<usize> {
+        crate::derived::cells_on_side(grid, self.side)
+            .into_iter()
+            .filter(|&c| self.select.contains(grid.ijk(c)))
+            .collect()
+    }
+}
+
+/// Index ranges along i, j and k (0-based, inclusive); `None` on an axis
+/// means every index.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct Selection {
+    /// Range of i.
+    pub i: Option<(usize, usize)>,
+    /// Range of j.
+    pub j: Option<(usize, usize)>,
+    /// Range of k.
+    pub k: Option<(usize, usize)>,
+}
+
+impl Selection {
+    /// Whether the cell `(i, j, k)` (0-based) lies in every range.
+    pub fn contains(&self, (i, j, k): (usize, usize, usize)) -> bool {
+        let within =
+            |r: Option<(usize, usize)>, v: usize| r.is_none_or(|(lo, hi)| lo <= v && v <= hi);
+        within(self.i, i) && within(self.j, j) && within(self.k, k)
+    }
 }
 
 /// Whether the run steps in time.

@@ -706,7 +706,7 @@ fn flow_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
         .filter(|&c| {
             !with_well.contains(&c)
                 && !case.boundaries.iter().any(|b| {
-                    derived::is_on_side(grid, c, b.side)
+                    b.covers(grid, c)
                         && derived::boundary_face(grid, rock, c, b.side).geometric_trans > 0.0
                 })
         })

@@ -297,7 +297,7 @@ pub fn cell_faces(case: &Case, c: usize) -> [(Side, Option<Face>); 6] {
         let face = interior_face(&case.grid, &case.rock, c, side).or_else(|| {
             case.boundaries
                 .iter()
-                .any(|b| b.side == side)
+                .any(|b| b.side == side && b.covers(&case.grid, c))
                 .then(|| boundary_face(&case.grid, &case.rock, c, side))
         });
         (side, face)

@@ -267,6 +267,8 @@ codes! {
     WellProductivity = "well.productivity",
     /// An injector BHP that may exceed fracture pressure.
     WellInjectionPressure = "well.injection-pressure",
+    /// Two boundaries hold the same outer face.
+    BoundaryOverlap = "boundary.overlap",
     /// An active cell cut off from all flow.
     FlowIsolated = "flow.isolated",
     /// No well and no boundary: nothing moves.

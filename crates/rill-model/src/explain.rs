@@ -333,6 +333,14 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Reorder the events or extend `end`.",
     },
     Explanation {
+        code: Code::BoundaryOverlap,
+        summary: "Two boundaries hold the same outer face of the grid.",
+        details: "A face can be held at one pressure only. Boundaries on one side must select disjoint cells with their `i`, `j`, `k` selectors.",
+        wrong: "boundary \"A\" { side = east ... }\nboundary \"B\" { side = east  j = 1..5 ... }",
+        right: "boundary \"A\" { side = east  j = 6..12 ... }\nboundary \"B\" { side = east  j = 1..5 ... }",
+        fix: "Restrict one of them with `i`, `j` or `k` so that they do not share a face.",
+    },
+    Explanation {
         code: Code::TimelineSteps,
         summary: "The run cannot finish within `max_steps`, or `min_step` is above `first_step` or `max_step`.",
         details: "A run takes at least `end` / `max_step` steps; when that is above `max_steps` (default 100000) it would stop before the end. `min_step` (default 1 s, or `first_step` when shorter) is the shortest step a cut may leave: a step that fails at that length stops the run rather than creep on for hours.",

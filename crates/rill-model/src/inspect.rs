@@ -88,7 +88,7 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
             let boundary = if n.is_none() {
                 case.boundaries
                     .iter()
-                    .find(|b| b.side == *side)
+                    .find(|b| b.side == *side && b.covers(g, c))
                     .map(|b| b.name.clone())
             } else {
                 None

@@ -164,6 +164,7 @@ fn demo_case(nx: usize, ny: usize, nz: usize) -> Case {
             side: Side::East,
             pressure: 3150.0 * PSI,
             datum: Some(7150.0 * FT),
+            select: rill_model::Selection::default(),
             origin: Origin::default(),
         }],
         timeline: Timeline {

@@ -309,7 +309,7 @@ fn boundary_faces(
     let rock = &case.rock;
     let mut bfaces = Vec::new();
     for (bi, bnd) in case.boundaries.iter().enumerate() {
-        for c in derived::cells_on_side(grid, bnd.side) {
+        for c in bnd.cells(grid) {
             let a = active_of[c];
             if a == usize::MAX {
                 continue;
@@ -690,6 +690,7 @@ mod tests {
                 side: Side::East,
                 pressure: 2.1e7,
                 datum: Some(1000.0),
+                select: rill_model::Selection::default(),
                 origin: Origin::default(),
             }],
             timeline: Timeline {

@@ -5,6 +5,7 @@ impl<'s> Lowerer<'s> {
         &mut self,
         file: usize,
         block: &Block,
+        grid: &Grid,
         spans: &mut Spans,
     ) -> Option<Boundary> {
         let name = label_of(block)?;
@@ -27,16 +28,123 @@ impl<'s> Lowerer<'s> {
             }
             None => None,
         });
+        let select = self.boundary_selection(file, block, grid);
         let (pressure, datum) = pressure?;
-        Some(Boundary {
+        let boundary = Boundary {
             name,
             side: side?,
             pressure,
             datum,
+            select: select?,
             origin: Origin {
                 file,
                 span: block.name.span,
             },
-        })
+        };
+        if boundary.cells(grid).is_empty() {
+            let at = ["i", "j", "k"]
+                .iter()
+                .find_map(|k| find(block, k))
+                .map_or(Location::new(file, block.name.span), |s| {
+                    Location::new(file, s.value.span)
+                });
+            self.diags.push(Diagnostic::error(
+                Code::GridIndex,
+                at,
+                format!(
+                    "boundary \"{}\" selects no face on the {} side: its `i`, `j`, `k` miss the side's cells",
+                    boundary.name,
+                    boundary.side.name()
+                ),
+            ));
+            return None;
+        }
+        Some(boundary)
+    }
+
+    /// The boundaries, or fewer when two hold one outer face
+    /// (`boundary.overlap`, on the later one; the case then does not run).
+    pub(super) fn without_overlap(
+        &mut self,
+        boundaries: Vec<Boundary>,
+        grid: &Grid,
+    ) -> Vec<Boundary> {
+        let mut holder: HashMap<(usize, u8), usize> = HashMap::new();
+        let mut keep = vec![true; boundaries.len()];
+        for (n, b) in boundaries.iter().enumerate() {
+            let side = b.side as u8;
+            let clash = b
+                .cells(grid)
+                .into_iter()
+                .find_map(|c| match holder.get(&(c, side)) {
+                    Some(&other) => Some((c, other)),
+                    None => {
+                        holder.insert((c, side), n);
+                        None
+                    }
+                });
+            if let Some((c, other)) = clash {
+                let (i, j, k) = grid.ijk(c);
+                let first = &boundaries[other];
+                self.diags.push(
+                    Diagnostic::error(
+                        Code::BoundaryOverlap,
+                        Location::new(b.origin.file, b.origin.span),
+                        format!(
+                            "boundary \"{}\" holds faces that boundary \"{}\" already holds (the {} face of cell ({}, {}, {}), and maybe more)",
+                            b.name,
+                            first.name,
+                            b.side.name(),
+                            i + 1,
+                            j + 1,
+                            k + 1
+                        ),
+                    )
+                    .with_label(
+                        Location::new(first.origin.file, first.origin.span),
+                        "the first boundary on these faces",
+                    )
+                    .with_note("restrict one of them with `i`, `j` or `k` so that they share no face"),
+                );
+                keep[n] = false;
+            }
+        }
+        boundaries
+            .into_iter()
+            .zip(keep)
+            .filter_map(|(b, k)| k.then_some(b))
+            .collect()
+    }
+
+    /// The `i`, `j`, `k` selectors of a boundary (1-based in the deck).
+    fn boundary_selection(&mut self, file: usize, block: &Block, grid: &Grid) -> Option<Selection> {
+        let mut select = Selection::default();
+        let mut ok = true;
+        for (axis, n) in [("i", grid.nx), ("j", grid.ny), ("k", grid.nz)] {
+            let Some(stmt) = find(block, axis) else {
+                continue;
+            };
+            let [atom] = stmt.value.atoms.as_slice() else {
+                self.diags.push(Diagnostic::error(
+                    Code::DeckValue,
+                    Location::new(file, stmt.value.span),
+                    format!("`{axis}` takes one index or one range like `2..5`"),
+                ));
+                ok = false;
+                continue;
+            };
+            match self.index_range(file, atom, n, axis, Code::GridIndex) {
+                Some((lo, hi)) => {
+                    let r = Some((lo - 1, hi - 1));
+                    match axis {
+                        "i" => select.i = r,
+                        "j" => select.j = r,
+                        _ => select.k = r,
+                    }
+                }
+                None => ok = false,
+            }
+        }
+        ok.then_some(select)
     }
 }

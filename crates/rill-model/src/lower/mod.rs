@@ -191,10 +191,11 @@ impl<'s> Lowerer<'s> {
             .get("boundary")
             .map(|v| {
                 v.iter()
-                    .filter_map(|f| self.lower_boundary(f.file, f.block, &mut spans))
+                    .filter_map(|f| self.lower_boundary(f.file, f.block, &grid, &mut spans))
                     .collect()
             })
             .unwrap_or_default();
+        let boundaries = self.without_overlap(boundaries, &grid);
         let timeline =
             timeline_found.and_then(|f| self.lower_timeline(f.file, f.block, &wells, &mut spans));
         let report = blocks

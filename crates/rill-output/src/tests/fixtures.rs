@@ -97,6 +97,7 @@ pub fn case(nx: usize, ny: usize, nz: usize, units: UnitSystem) -> Case {
             side: Side::East,
             pressure: 3000.0 * PSI,
             datum: Some(7000.0 * FT),
+            select: rill_model::Selection::default(),
             origin: Origin::default(),
         }],
         timeline: Timeline {

@@ -119,6 +119,7 @@ pub fn boundary(name: &str, side: Side, pressure: f64, datum: Option<f64>) -> Bo
         side,
         pressure,
         datum,
+        select: Selection::default(),
         origin: Origin::default(),
     }
 }
