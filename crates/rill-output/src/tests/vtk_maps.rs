@@ -149,19 +149,11 @@ fn pvd_lists_every_step_with_report_times() {
         &RunMeta::new(&deck),
     )
     .unwrap();
-    let text = std::fs::read_to_string(files.pvd.unwrap()).unwrap();
+    let pvd = files.pvd.unwrap();
+    let text = std::fs::read_to_string(&pvd).unwrap();
     let doc = roxmltree::Document::parse(&text).unwrap();
     assert_eq!(doc.root_element().attribute("type"), Some("Collection"));
-    let sets: Vec<(String, String)> = doc
-        .descendants()
-        .filter(|n| n.has_tag_name("DataSet"))
-        .map(|n| {
-            (
-                n.attribute("timestep").unwrap().into(),
-                n.attribute("file").unwrap().into(),
-            )
-        })
-        .collect();
+    let sets = pvd_sets(&pvd);
     assert_eq!(
         sets,
         [
@@ -272,11 +264,12 @@ fn pvd_sets(path: &std::path::Path) -> Vec<(String, String)> {
         .collect()
 }
 
-#[test]
-fn maps_last_writes_the_last_report_time_only() {
+/// The fixture case's result set written with `maps = selection`; the
+/// temporary folder lives as long as the files are read.
+fn written_with(selection: rill_model::MapSelection) -> (tempfile::TempDir, crate::WrittenFiles) {
     let (dir, deck) = deck_dir();
     let mut case = case(2, 2, 1, UnitSystem::Field);
-    case.report.maps = rill_model::MapSelection::Last;
+    case.report.maps = selection;
     let results = results(&case);
     let files = write_results(
         &dir.path().join("lobe.out"),
@@ -285,6 +278,12 @@ fn maps_last_writes_the_last_report_time_only() {
         &RunMeta::new(&deck),
     )
     .unwrap();
+    (dir, files)
+}
+
+#[test]
+fn maps_last_writes_the_last_report_time_only() {
+    let (_dir, files) = written_with(rill_model::MapSelection::Last);
     assert_eq!(files.maps.len(), 1);
     assert_eq!(
         pvd_sets(files.pvd.as_ref().unwrap()),
@@ -292,15 +291,7 @@ fn maps_last_writes_the_last_report_time_only() {
     );
     // It holds the last report time's pressures: the same file as the
     // third map of a `maps = all` set.
-    let (dir_all, deck_all) = deck_dir();
-    let all_case = self::case(2, 2, 1, UnitSystem::Field);
-    let all = write_results(
-        &dir_all.path().join("lobe.out"),
-        &all_case,
-        &results,
-        &RunMeta::new(&deck_all),
-    )
-    .unwrap();
+    let (_dir_all, all) = written_with(rill_model::MapSelection::All);
     assert_eq!(
         std::fs::read(&files.maps[0]).unwrap(),
         std::fs::read(all.dir.join("maps/step_0002.vtr")).unwrap()
@@ -309,17 +300,7 @@ fn maps_last_writes_the_last_report_time_only() {
 
 #[test]
 fn maps_none_writes_no_map_but_the_report_keeps_its_layer_maps() {
-    let (dir, deck) = deck_dir();
-    let mut case = case(2, 2, 1, UnitSystem::Field);
-    case.report.maps = rill_model::MapSelection::None;
-    let results = results(&case);
-    let files = write_results(
-        &dir.path().join("lobe.out"),
-        &case,
-        &results,
-        &RunMeta::new(&deck),
-    )
-    .unwrap();
+    let (_dir, files) = written_with(rill_model::MapSelection::None);
     assert!(files.pvd.is_none() && files.maps.is_empty());
     assert!(!files.dir.join("maps").exists());
     let html = std::fs::read_to_string(files.report_html).unwrap();
