@@ -109,6 +109,9 @@ fn main() -> ExitCode {
             };
         }
     };
+    if !matches!(cli.command, Command::Lsp) {
+        end_quietly_on_closed_pipe();
+    }
     let code = match cli.command {
         Command::Check { files, format } => check::run(&files, format),
         Command::Inspect { file, cell, format } => inspect::run(&file, &cell, format),
@@ -128,6 +131,19 @@ fn main() -> ExitCode {
         Command::Lsp => rill_lsp::run_stdio(),
     };
     ExitCode::from(code)
+}
+
+/// A reader that stops early (`rill inspect ... | head`) closes the pipe;
+/// like the usual Unix tools, the command then ends at its next write
+/// (SIGPIPE) instead of panicking in `println!`. Not for `rill lsp`, whose
+/// protocol layer handles a vanished client itself.
+fn end_quietly_on_closed_pipe() {
+    #[cfg(unix)]
+    // SAFETY: restoring the default disposition of one signal at start-up,
+    // before any thread is spawned; no handler code is involved.
+    unsafe {
+        libc::signal(libc::SIGPIPE, libc::SIG_DFL);
+    }
 }
 
 fn explain(code: &str) -> u8 {
