@@ -1,7 +1,8 @@
 //! `rill inspect --cell I,J,K`: renders `rill_model::inspect::cell_report`
-//! as text or as the JSON of the specification (field units in the names).
+//! as text, in the deck's report units or those of `--units`, or as the
+//! JSON of the specification (field units, named in its keys).
 
-use crate::Format;
+use crate::{Format, Units};
 use rill_model::inspect::{cell_report, CellReport};
 use rill_model::{Case, Role};
 use rill_units::{display_unit, format_number, Kind, System};
@@ -9,7 +10,7 @@ use rill_workspace::DiskSource;
 use serde_json::{json, Value};
 use std::path::Path;
 
-pub fn run(path: &Path, cell: &str, format: Format) -> u8 {
+pub fn run(path: &Path, cell: &str, format: Format, units: Option<Units>) -> u8 {
     let source = DiskSource::unconfined();
     let analysis = match crate::check::load(path, &source) {
         Ok(a) => a,
@@ -37,7 +38,15 @@ pub fn run(path: &Path, cell: &str, format: Format) -> u8 {
             "{}",
             serde_json::to_string_pretty(&to_json(&report)).unwrap_or_default()
         ),
-        Format::Text => print_text(&report),
+        Format::Text => {
+            let system = match units {
+                Some(Units::Field) => System::Field,
+                Some(Units::Metric) => System::Metric,
+                Some(Units::Si) => System::Si,
+                None => case.report.units,
+            };
+            print_text(&report, system);
+        }
     }
     0
 }
@@ -123,9 +132,10 @@ pub fn to_json(r: &CellReport) -> Value {
     })
 }
 
-fn print_text(r: &CellReport) {
-    let ft = |v: f64| field(v, Kind::Length);
-    let md = |v: f64| format_number(field(v, Kind::Permeability));
+fn print_text(r: &CellReport, system: System) {
+    let unit = |kind| display_unit(kind, system);
+    let show = |v: f64, kind| format_number(unit(kind).from_si(v));
+    let (len, perm) = (unit(Kind::Length).name, unit(Kind::Permeability).name);
     println!(
         "cell ({}, {}, {}){}",
         r.i,
@@ -138,27 +148,33 @@ fn print_text(r: &CellReport) {
         }
     );
     println!(
-        "  size        {} x {} x {} ft",
-        format_number(ft(r.size.0)),
-        format_number(ft(r.size.1)),
-        format_number(ft(r.size.2))
+        "  size        {} x {} x {} {len}",
+        show(r.size.0, Kind::Length),
+        show(r.size.1, Kind::Length),
+        show(r.size.2, Kind::Length)
     );
-    println!("  depth       {} ft (centre)", format_number(ft(r.depth)));
+    println!(
+        "  depth       {} {len} (centre)",
+        show(r.depth, Kind::Length)
+    );
     println!("  porosity    {}", format_number(r.porosity));
     println!(
-        "  kx, ky, kz  {} md, {} md, {} md",
-        md(r.kx),
-        md(r.ky),
-        md(r.kz)
+        "  kx, ky, kz  {} {perm}, {} {perm}, {} {perm}",
+        show(r.kx, Kind::Permeability),
+        show(r.ky, Kind::Permeability),
+        show(r.kz, Kind::Permeability)
     );
     println!(
-        "  pore volume {} rb",
-        format_number(field(r.pore_volume, Kind::ReservoirVolume))
+        "  pore volume {} {}",
+        show(r.pore_volume, Kind::ReservoirVolume),
+        unit(Kind::ReservoirVolume).name
     );
     println!();
+    let t_head = format!("T [{}]", unit(Kind::Transmissibility).name);
+    let k_head = format!("k_face [{perm}]");
     println!(
         "  {:<7} {:<22} {:>12} {:>17} {:>14}",
-        "face", "neighbour", "k_face [md]", "T [stb/day/psi]", "T [sm3/s/Pa]"
+        "face", "neighbour", k_head, t_head, "T [sm3/s/Pa]"
     );
     for f in &r.faces {
         let neighbour = match (&f.neighbor, &f.boundary) {
@@ -170,8 +186,8 @@ fn print_text(r: &CellReport) {
             "  {:<7} {:<22} {:>12} {:>17} {:>14}",
             f.side.name(),
             neighbour,
-            md(f.perm_face),
-            format_number(field(f.trans, Kind::Transmissibility)),
+            show(f.perm_face, Kind::Permeability),
+            show(f.trans, Kind::Transmissibility),
             format_number(f.trans)
         );
     }
@@ -183,14 +199,16 @@ fn print_text(r: &CellReport) {
             role(w.role),
             w.direction.name()
         );
-        println!("    Peaceman r_eq  {} ft", format_number(ft(w.r_eq)));
+        println!("    Peaceman r_eq  {} {len}", show(w.r_eq, Kind::Length));
         println!(
-            "    well index     {} md*ft",
-            format_number(field(w.well_index, Kind::WellIndex))
+            "    well index     {} {}",
+            show(w.well_index, Kind::WellIndex),
+            unit(Kind::WellIndex).name
         );
         println!(
-            "    productivity   {} stb/day/psi",
-            format_number(field(w.productivity, Kind::Productivity))
+            "    productivity   {} {}",
+            show(w.productivity, Kind::Productivity),
+            unit(Kind::Productivity).name
         );
     }
 }

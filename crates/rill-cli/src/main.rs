@@ -44,6 +44,14 @@ struct Cli {
     command: Command,
 }
 
+/// A unit system for `rill inspect --units`.
+#[derive(Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Units {
+    Field,
+    Metric,
+    Si,
+}
+
 #[derive(Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum Format {
     Text,
@@ -67,6 +75,10 @@ enum Command {
         cell: String,
         #[arg(long, value_enum, default_value = "text")]
         format: Format,
+        /// Units of the text output; default: the deck's `report { units }`.
+        /// The JSON keeps the specification's field-unit names.
+        #[arg(long, value_enum)]
+        units: Option<Units>,
     },
     /// Rewrite decks in the canonical layout; the meaning never changes.
     Fmt {
@@ -114,7 +126,12 @@ fn main() -> ExitCode {
     }
     let code = match cli.command {
         Command::Check { files, format } => check::run(&files, format),
-        Command::Inspect { file, cell, format } => inspect::run(&file, &cell, format),
+        Command::Inspect {
+            file,
+            cell,
+            format,
+            units,
+        } => inspect::run(&file, &cell, format, units),
         Command::Fmt { files, check } => fmt::run(&files, check),
         Command::Run {
             file,

@@ -392,3 +392,33 @@ fn which(name: &str) -> Option<PathBuf> {
         .map(|d| Path::new(d).join(name))
         .find(|p| p.is_file())
 }
+
+#[test]
+fn inspect_text_follows_the_report_units_and_the_units_option() {
+    let dir = tempfile::tempdir().unwrap();
+    let deck = dir.path().join("metric.rill");
+    let text = std::fs::read_to_string(example("teaching-block.rill"))
+        .unwrap()
+        .replace("units = field", "units = metric");
+    std::fs::write(&deck, text).unwrap();
+    let inspect = |extra: &[&str]| {
+        let o = rill()
+            .arg("inspect")
+            .arg(&deck)
+            .args(["--cell", "6,6,1"])
+            .args(extra)
+            .output()
+            .unwrap();
+        assert_eq!(o.status.code(), Some(0));
+        String::from_utf8(o.stdout).unwrap()
+    };
+    // 100 ft cells are 30.48 m; the deck's report units are metric.
+    let metric = inspect(&[]);
+    assert!(metric.contains("30.48 x 30.48 x 9.144 m"), "{metric}");
+    assert!(metric.contains("T [sm3/day/bar]"), "{metric}");
+    let field = inspect(&["--units", "field"]);
+    assert!(field.contains("100 x 100 x 30 ft"), "{field}");
+    assert!(field.contains("T [stb/day/psi]"), "{field}");
+    let si = inspect(&["--units", "si"]);
+    assert!(si.contains("30.48 x 30.48 x 9.144 m"), "{si}");
+}
