@@ -617,13 +617,17 @@ impl PropReader<'_> {
         let bytes = match self.source.read(&path) {
             Ok(b) => b,
             Err(e) => {
+                // The resolved path only where it says more than the name.
+                let resolved = path.display().to_string();
+                let at = if resolved == name {
+                    String::new()
+                } else {
+                    format!(" ({resolved})")
+                };
                 r.push(Diagnostic::error(
                     Code::DeckInclude,
                     r.loc(span),
-                    format!(
-                        "array file \"{name}\" ({}) cannot be used: {e}",
-                        path.display()
-                    ),
+                    format!("array file \"{name}\"{at} cannot be used: {e}"),
                 ));
                 return None;
             }
