@@ -5,10 +5,7 @@
 
 use serde_json::{json, Value};
 use std::collections::HashSet;
-use std::io::{BufRead, BufReader, Read, Write};
-use std::process::{Child, ChildStdin, Command, Stdio};
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
-use std::sync::mpsc::{channel, Receiver};
 use std::sync::Arc;
 use std::time::Duration;
 
@@ -17,91 +14,8 @@ const DOCUMENTS: usize = 300;
 /// A deck with one dimension error (`kx` in psi).
 const DECK: &str = "grid {\n  cells = 3 x 3 x 1\n  dx = 100 ft\n  dy = 100 ft\n  dz = 30 ft\n  top = 5000 ft\n}\nrock {\n  porosity = 0.2\n  kx = 150 psi\n  ky = 20 mD\n  kz = 5 mD\n}\nfluid \"brine\" {\n  viscosity = 0.7 cP\n  fvf = 1.01 rb/stb\n  density = 64.0 lb/ft^3\n}\ninitial {\n  pressure = 2500 psi at 5015 ft\n}\ntimeline {\n  end = 10 day\n}\n";
 
-struct Server {
-    child: Child,
-    stdin: ChildStdin,
-    frames: Receiver<Value>,
-}
-
-impl Server {
-    fn start() -> Server {
-        let mut child = Command::new(env!("CARGO_BIN_EXE_rill"))
-            .arg("lsp")
-            .stdin(Stdio::piped())
-            .stdout(Stdio::piped())
-            .stderr(Stdio::null())
-            .spawn()
-            .unwrap();
-        let stdin = child.stdin.take().unwrap();
-        let mut out = BufReader::new(child.stdout.take().unwrap());
-        let (tx, frames) = channel();
-        std::thread::spawn(move || loop {
-            let mut len = None;
-            loop {
-                let mut line = String::new();
-                if out.read_line(&mut line).unwrap_or(0) == 0 {
-                    return;
-                }
-                let line = line.trim_end();
-                if line.is_empty() {
-                    break;
-                }
-                if let Some(n) = line.strip_prefix("Content-Length: ") {
-                    len = n.parse::<usize>().ok();
-                }
-            }
-            let mut body = vec![0; len.unwrap_or(0)];
-            if out.read_exact(&mut body).is_err() {
-                return;
-            }
-            let v: Value = serde_json::from_slice(&body).expect("whole JSON frames");
-            if tx.send(v).is_err() {
-                return;
-            }
-        });
-        Server {
-            child,
-            stdin,
-            frames,
-        }
-    }
-
-    fn send(&mut self, msg: Value) {
-        let body = serde_json::to_vec(&msg).unwrap();
-        write!(self.stdin, "Content-Length: {}\r\n\r\n", body.len()).unwrap();
-        self.stdin.write_all(&body).unwrap();
-        self.stdin.flush().unwrap();
-    }
-
-    fn next(&mut self) -> Value {
-        loop {
-            let msg = self
-                .frames
-                .recv_timeout(Duration::from_secs(60))
-                .expect("the server answers within 60 s");
-            if msg.get("method").is_some() && msg.get("id").is_some() {
-                let result = if msg["method"] == "workspace/configuration" {
-                    json!([null])
-                } else {
-                    Value::Null
-                };
-                self.send(json!({"jsonrpc": "2.0", "id": msg["id"], "result": result}));
-                continue;
-            }
-            return msg;
-        }
-    }
-
-    fn request(&mut self, id: i64, method: &str, params: Value) -> Value {
-        self.send(json!({"jsonrpc": "2.0", "id": id, "method": method, "params": params}));
-        loop {
-            let m = self.next();
-            if m.get("id") == Some(&json!(id)) {
-                return m;
-            }
-        }
-    }
-}
+mod common;
+use common::Server;
 
 fn threads(pid: u32) -> usize {
     std::fs::read_to_string(format!("/proc/{pid}/status"))

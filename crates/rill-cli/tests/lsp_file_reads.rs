@@ -4,10 +4,7 @@
 //! versions still get their diagnostics).
 
 use serde_json::{json, Value};
-use std::io::{BufRead, BufReader, Read, Write};
-use std::process::{Child, ChildStdin, Command, Stdio};
-use std::sync::mpsc::{channel, Receiver};
-use std::time::Duration;
+use std::process::Command;
 
 /// A clean deck followed by `extra`, with `kx` as given.
 fn deck(kx: &str, extra: &str) -> String {
@@ -20,132 +17,14 @@ fn deck(kx: &str, extra: &str) -> String {
     )
 }
 
-struct Server {
-    child: Child,
-    stdin: ChildStdin,
-    frames: Receiver<Value>,
-}
+mod common;
+use common::Server;
 
-impl Server {
-    /// A server initialised with `root` (a `file:` URI) or with no workspace at all.
-    fn start(root: Option<&str>) -> Server {
-        let mut child = Command::new(env!("CARGO_BIN_EXE_rill"))
-            .arg("lsp")
-            .stdin(Stdio::piped())
-            .stdout(Stdio::piped())
-            .stderr(Stdio::null())
-            .spawn()
-            .unwrap();
-        let stdin = child.stdin.take().unwrap();
-        let mut out = BufReader::new(child.stdout.take().unwrap());
-        let (tx, frames) = channel();
-        std::thread::spawn(move || loop {
-            let mut len = None;
-            loop {
-                let mut line = String::new();
-                if out.read_line(&mut line).unwrap_or(0) == 0 {
-                    return;
-                }
-                let line = line.trim_end();
-                if line.is_empty() {
-                    break;
-                }
-                if let Some(n) = line.strip_prefix("Content-Length: ") {
-                    len = n.parse::<usize>().ok();
-                }
-            }
-            let mut body = vec![0; len.unwrap_or(0)];
-            if out.read_exact(&mut body).is_err() {
-                return;
-            }
-            let v: Value = serde_json::from_slice(&body).expect("whole JSON frames");
-            if tx.send(v).is_err() {
-                return;
-            }
-        });
-        let mut s = Server {
-            child,
-            stdin,
-            frames,
-        };
-        let folders = match root {
-            Some(r) => json!([{"uri": r, "name": "w"}]),
-            None => Value::Null,
-        };
-        s.send(
-            json!({"jsonrpc": "2.0", "id": 1, "method": "initialize", "params": {
-            "processId": null, "rootUri": root, "workspaceFolders": folders,
-            "capabilities": {}}}),
-        );
-        while s.next().get("id") != Some(&json!(1)) {}
-        s.send(json!({"jsonrpc": "2.0", "method": "initialized", "params": {}}));
-        s
-    }
-
-    fn send(&mut self, msg: Value) {
-        let body = serde_json::to_vec(&msg).unwrap();
-        write!(self.stdin, "Content-Length: {}\r\n\r\n", body.len()).unwrap();
-        self.stdin.write_all(&body).unwrap();
-        self.stdin.flush().unwrap();
-    }
-
-    fn next(&mut self) -> Value {
-        loop {
-            let msg = self
-                .frames
-                .recv_timeout(Duration::from_secs(30))
-                .expect("the server answers within 30 s");
-            if msg.get("method").is_some() && msg.get("id").is_some() {
-                let result = if msg["method"] == "workspace/configuration" {
-                    json!([null])
-                } else {
-                    Value::Null
-                };
-                self.send(json!({"jsonrpc": "2.0", "id": msg["id"], "result": result}));
-                continue;
-            }
-            return msg;
-        }
-    }
-
-    fn open(&mut self, uri: &str, text: &str) {
-        self.send(
-            json!({"jsonrpc": "2.0", "method": "textDocument/didOpen", "params": {
-            "textDocument": {"uri": uri, "languageId": "rill", "version": 1, "text": text}}}),
-        );
-    }
-
-    /// The diagnostics of `uri` once they carry a `code`
-    /// (`want` returns true), and every URI diagnostics were published for
-    /// until then.
-    fn diagnostics_until(
-        &mut self,
-        uri: &str,
-        want: impl Fn(&[Value]) -> bool,
-    ) -> (Vec<Value>, Vec<String>) {
-        let mut targets = Vec::new();
-        loop {
-            let m = self.next();
-            if m["method"] != "textDocument/publishDiagnostics" {
-                continue;
-            }
-            let target = m["params"]["uri"].as_str().unwrap().to_string();
-            let list = m["params"]["diagnostics"].as_array().unwrap().clone();
-            if !targets.contains(&target) {
-                targets.push(target.clone());
-            }
-            if target == uri && want(&list) {
-                return (list, targets);
-            }
-        }
-    }
-
-    fn stop(mut self) {
-        self.send(json!({"jsonrpc": "2.0", "id": 9000, "method": "shutdown"}));
-        while self.next().get("id") != Some(&json!(9000)) {}
-        self.send(json!({"jsonrpc": "2.0", "method": "exit"}));
-        assert_eq!(self.child.wait().unwrap().code(), Some(0));
-    }
+/// A server initialised with `root` (a `file:` URI) or with no workspace at all.
+fn start(root: Option<&str>) -> Server {
+    let mut s = Server::start();
+    s.initialize(root);
+    s
 }
 
 fn has_code(list: &[Value], code: &str) -> bool {
@@ -165,7 +44,7 @@ fn an_unsaved_buffer_with_no_folder_reads_nothing_from_disk() {
     let dir = dir.path().canonicalize().unwrap();
     let secret = dir.join("secret.rill");
     std::fs::write(&secret, "rock {\n  porosity = 0.3\n}\n").unwrap();
-    let mut s = Server::start(None);
+    let mut s = start(None);
     let uri = "untitled:Untitled-1";
     let text = deck(
         "50 md",
@@ -206,7 +85,7 @@ fn a_saved_deck_with_no_folder_reads_its_own_folder_only() {
     std::fs::create_dir(dir.join("deck")).unwrap();
     std::fs::write(dir.join("deck/kx.txt"), "10 20 30 40").unwrap();
     std::fs::write(dir.join("outside.txt"), "10 20 30 40").unwrap();
-    let mut s = Server::start(None);
+    let mut s = start(None);
     let uri = format!("file://{}/deck/case.rill", dir.display());
     s.open(&uri, &deck("file \"kx.txt\" md", ""));
     let (list, _) = s.diagnostics_until(&uri, |_| true);
@@ -233,7 +112,7 @@ fn a_fifo_in_the_workspace_never_sticks_its_document() {
     assert!(status.success());
     let root = format!("file://{}", dir.display());
     let uri = format!("{root}/deck.rill");
-    let mut s = Server::start(Some(&root));
+    let mut s = start(Some(&root));
     s.open(&uri, &deck("file \"fifo\" md", "include \"fifo\"\n"));
     let (list, _) = s.diagnostics_until(&uri, |l| has_code(l, "deck.include"));
     let fifo_errors = list

@@ -232,7 +232,8 @@ pub fn write_results(
     results: &RunResults,
     meta: &RunMeta,
 ) -> Result<WrittenFiles, OutputError> {
-    validate(case, results)?;
+    // The series and arrays are validated once, in `finish`; the count of
+    // pressure arrays here, before anything is written.
     if !results.pressure.is_empty() && results.pressure.len() != results.times.len() {
         return Err(OutputError::Inconsistent(format!(
             "cell pressures are stored for {} of {} report times",
