@@ -114,11 +114,13 @@ fn three_hundred_documents_on_a_bounded_pool() {
     assert_eq!(status.code(), Some(0));
 
     // Main thread, two runtime workers, at most four analysis threads, the
-    // analyses' parallel loops (one per core), and the runtime's threads for
-    // stdin and stdout with some slack: a bound set by the machine, far
-    // from one per document.
+    // analyses' parallel loops (one per core), and tokio's blocking pool,
+    // which serves stdin, stdout and runs: during the burst of 300
+    // publications it grows by racing writes (up to 8 threads seen when
+    // sampled on every message) and idle threads linger 10 s. A bound set
+    // by the machine and the runtime, far from one per document.
     let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
-    let bound = 3 + cores.min(4) + cores + 8;
+    let bound = 3 + cores.min(4) + cores + 12;
     assert!(while_open > 0, "the sampler saw the server");
     assert!(
         while_open <= bound,
