@@ -87,7 +87,14 @@ fn check_json_has_the_fields_of_the_spec() {
         (d["line"].as_u64(), d["column"].as_u64()),
         (Some(33), Some(22))
     );
-    assert_eq!(d["fixes"][0]["edits"][0]["replacement"], "stb/day");
+    // The fix converts the reservoir rate with the fixture's fvf (1.02 rb/stb):
+    // 200 bbl/day / 1.02 = 196.078 stb/day, replacing number and unit.
+    let edit = &d["fixes"][0]["edits"][0];
+    assert_eq!(edit["replacement"], "196.078 stb/day");
+    assert_eq!(
+        (edit["column"].as_u64(), edit["end_column"].as_u64()),
+        (Some(18), Some(29))
+    );
 }
 
 #[test]

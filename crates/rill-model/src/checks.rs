@@ -436,24 +436,53 @@ fn well_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic
         let comp_at = ws
             .completions
             .unwrap_or(Location::new(well.origin.file, well.origin.span));
-        for c in &well.completions {
-            if !case.rock.is_active(c.cell) {
-                out.push(Diagnostic::error(
-                    Code::WellCompletion,
-                    comp_at,
-                    format!(
-                        "well \"{}\" is completed in cell {}, which is inactive (porosity 0)",
-                        well.name,
-                        cell_name(grid, c.cell)
-                    ),
-                ));
-            }
+        // One statement places every completion: one error names all the
+        // inactive cells it reaches, not one error per layer on one line.
+        let inactive: Vec<String> = well
+            .completions
+            .iter()
+            .filter(|c| !case.rock.is_active(c.cell))
+            .map(|c| cell_name(grid, c.cell))
+            .collect();
+        match inactive.as_slice() {
+            [] => {}
+            [one] => out.push(Diagnostic::error(
+                Code::WellCompletion,
+                comp_at,
+                format!(
+                    "well \"{}\" is completed in cell {one}, which is inactive (porosity 0)",
+                    well.name
+                ),
+            )),
+            many => out.push(Diagnostic::error(
+                Code::WellCompletion,
+                comp_at,
+                format!(
+                    "well \"{}\" is completed in {} inactive cells (porosity 0): {}",
+                    well.name,
+                    many.len(),
+                    list_cells(many)
+                ),
+            )),
         }
+        let all_inactive = inactive.len() == well.completions.len();
         let radius_at = ws.radius.unwrap_or(comp_at);
         wellbore::radius_checks(case, w_index, well, &ws, radius_at, sys, out);
-        productivity_check(case, well, comp_at, out);
+        // A well in inactive cells only cannot flow: that is the error above.
+        if !all_inactive {
+            productivity_check(case, well, comp_at, out);
+        }
         trajectory_check(case, well, comp_at, out);
         bhp_checks(case, w_index, well, &ws, comp_at, sys, out);
+    }
+}
+
+/// Cell names for a message: all of a few, the first and last of many.
+fn list_cells(names: &[String]) -> String {
+    if names.len() <= 6 {
+        names.join(", ")
+    } else {
+        format!("{}, ... {}", names[..4].join(", "), names[names.len() - 1])
     }
 }
 

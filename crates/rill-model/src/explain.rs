@@ -161,8 +161,8 @@ pub static EXPLANATIONS: &[Explanation] = &[
         summary: "Reservoir volume where surface volume is meant, or the reverse.",
         details: "Rates are at surface (stock-tank) conditions: stb/day or sm3/day. The formation volume factor is reservoir volume per surface volume (rb/stb); written as stb/rb it is upside down. rill keeps surface volume S apart from geometric volume L^3 to catch both.",
         wrong: "control = rate 500 bbl/day\nfvf = 0.98 stb/rb",
-        right: "control = rate 500 stb/day\nfvf = 1.0204 rb/stb",
-        fix: "Replace `bbl` by `stb` in rates; for an upside-down fvf write the reciprocal in rb/stb.",
+        right: "control = rate 490.196 stb/day   # 500 bbl/day / fvf 1.02\nfvf = 1.02041 rb/stb",
+        fix: "A reservoir rate becomes a surface rate by dividing it by the formation volume factor: the fix writes the converted number with the surface unit (500 bbl/day at fvf 1.02 rb/stb is 490.196 stb/day); for an upside-down fvf write the reciprocal in rb/stb.",
     },
     Explanation {
         code: Code::UnitGauge,

@@ -108,6 +108,7 @@ pub fn analyze_text_with(path: &Path, text: &str, source: &dyn Source, cache: &R
         reuse: cache,
         files: Vec::new(),
         diags: Vec::new(),
+        fvf: None,
     };
     let (case, spans) = lowerer.lower(source::normalize(path), text);
     let mut diagnostics = lowerer.diags;
@@ -126,13 +127,32 @@ pub fn analyze_text_with(path: &Path, text: &str, source: &dyn Source, cache: &R
             b.code,
         ))
     });
-    diagnostics.dedup();
+    merge_repeats(&mut diagnostics);
     Analysis {
         files: lowerer.files,
         diagnostics,
         case,
         spans,
     }
+}
+
+/// Identical diagnostics on one span (a file included twice, one value read
+/// for several uses) become one that says how many times it arose.
+fn merge_repeats(diagnostics: &mut Vec<Diagnostic>) {
+    let mut merged: Vec<(Diagnostic, usize)> = Vec::with_capacity(diagnostics.len());
+    for d in diagnostics.drain(..) {
+        match merged.last_mut() {
+            Some((last, count)) if *last == d => *count += 1,
+            _ => merged.push((d, 1)),
+        }
+    }
+    diagnostics.extend(merged.into_iter().map(|(d, count)| {
+        if count > 1 {
+            d.with_note(format!("reported {count} times at this place"))
+        } else {
+            d
+        }
+    }));
 }
 
 /// A statement with a syntax error inside has no reliable value: drop the
@@ -178,4 +198,21 @@ fn drop_cascades(files: &[FileInfo], diagnostics: &mut Vec<Diagnostic>) {
                 *f == d.location.file && s.start <= d.location.start && d.location.end <= s.end
             })
     });
+}
+
+#[cfg(test)]
+mod merge_tests {
+    use super::*;
+
+    #[test]
+    fn identical_diagnostics_on_one_span_merge_with_a_count() {
+        let at = Location::new(0, rill_syntax::Span::new(3, 9));
+        let d = Diagnostic::error(Code::DeckValue, at, "the same words");
+        let other = Diagnostic::error(Code::DeckValue, at, "other words");
+        let mut list = vec![d.clone(), d.clone(), d.clone(), other.clone()];
+        merge_repeats(&mut list);
+        assert_eq!(list.len(), 2);
+        assert_eq!(list[0].notes, vec!["reported 3 times at this place"]);
+        assert_eq!(list[1], other);
+    }
 }

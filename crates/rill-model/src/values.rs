@@ -13,6 +13,10 @@ pub struct Reporter<'a> {
     pub file: usize,
     /// Where the diagnostics go.
     pub diags: &'a mut Vec<Diagnostic>,
+    /// The fluid's formation volume factor (reservoir over surface volume),
+    /// once the fluid has lowered: fixes that move a volume between
+    /// reservoir and surface conditions convert the number with it.
+    pub fvf: Option<f64>,
 }
 
 impl Reporter<'_> {
@@ -435,7 +439,7 @@ fn volume_kind_diagnostic(
         // Upside down: offer the reciprocal with the right unit.
         if let Some(right) = rill_units::accepted_units(expected).into_iter().next() {
             if value != 0.0 {
-                let flipped = short_number(1.0 / value);
+                let flipped = significant(1.0 / value, 6);
                 d = d.with_replacement(
                     format!("write the reciprocal: `{flipped} {right}`"),
                     r.loc(number_span),
@@ -444,23 +448,79 @@ fn volume_kind_diagnostic(
             }
         }
     }
-    let to_surface = expected.s > found.s
+    // How many volume powers move from reservoir to surface conditions
+    // (negative: the other way). A unit whose names can be swapped has the
+    // same scale either way (1 bbl and 1 stb are both 0.158987 m^3), so the
+    // number must change by fvf^-moved to keep its meaning.
+    let moved = expected.s - found.s;
+    let to_surface = moved > 0
         || (expected.s != 0
             && expected.s.signum() == found.s.signum()
             && expected.s.abs() > found.s.abs());
-    if let Some(fixed) = swap_volume_names(&unit.text, to_surface) {
-        if rill_units::parse(&fixed)
-            .map(|u| u.dim == expected)
-            .unwrap_or(false)
-        {
+    let Some(fixed) = swap_volume_names(&unit.text, to_surface) else {
+        return d;
+    };
+    let Ok(fixed_unit) = rill_units::parse(&fixed) else {
+        return d;
+    };
+    if fixed_unit.dim != expected {
+        return d;
+    }
+    // A unit shared by a list of numbers stands outside the number's span:
+    // converting one number would change the others' meaning, so only the
+    // note is given there.
+    let own_unit = number_span.start <= unit.span.start && unit.span.end <= number_span.end;
+    let written = rill_units::parse(&unit.text).ok();
+    match (r.fvf, written) {
+        (Some(fvf), Some(written)) if own_unit && fvf > 0.0 && moved != 0 => {
+            let si = written.to_si(value) * fvf.powi(-i32::from(moved));
+            let number = significant(fixed_unit.from_si(si), 6);
+            let how = if moved > 0 { "divided by" } else { "times" };
             d = d.with_replacement(
-                format!("replace `{}` by `{fixed}`", unit.text),
-                r.loc(unit.span),
-                fixed,
+                format!(
+                    "convert to `{number} {fixed}`: {} {} {how} the fluid's fvf, {} rb/stb at its reference pressure",
+                    short_number(value),
+                    unit.text,
+                    short_number(fvf)
+                ),
+                r.loc(number_span),
+                format!("{number} {fixed}"),
             );
+        }
+        _ => {
+            let how = if moved > 0 { "divide" } else { "multiply" };
+            d = d.with_note(format!(
+                "write the value in `{fixed}`: {how} the number by the formation volume factor (rb/stb) to keep its meaning"
+            ));
         }
     }
     d
+}
+
+/// `v` with at most `digits` significant digits, without trailing zeros.
+fn significant(v: f64, digits: usize) -> String {
+    if v == 0.0 || !v.is_finite() {
+        return short_number(v);
+    }
+    let magnitude = v.abs().log10().floor() as i32;
+    if (-4..15).contains(&magnitude) {
+        let decimals = (digits as i32 - 1 - magnitude).max(0) as usize;
+        let t = format!("{v:.decimals$}");
+        if t.contains('.') {
+            t.trim_end_matches('0').trim_end_matches('.').to_string()
+        } else {
+            t
+        }
+    } else {
+        let t = format!("{v:.*e}", digits - 1);
+        let (mantissa, exp) = t.split_once('e').unwrap_or((&t, "0"));
+        let mantissa = if mantissa.contains('.') {
+            mantissa.trim_end_matches('0').trim_end_matches('.')
+        } else {
+            mantissa
+        };
+        format!("{mantissa}e{exp}")
+    }
 }
 
 fn volume_kind_message(key: &str, expected: Dim, found: Dim, text: &str) -> String {

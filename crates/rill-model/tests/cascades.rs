@@ -68,3 +68,39 @@ fn a_grid_far_too_large_is_refused_before_anything_is_allocated() {
         "{d:?}"
     );
 }
+
+#[test]
+fn a_patch_over_an_erroneous_base_line_does_not_call_the_base_missing() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../../tests/fixtures/flow.isolated/broken.rill");
+    let text = std::fs::read_to_string(&path)
+        .unwrap()
+        .replace("kx = layers [100 50] md", "kx = layers [100 50] psi");
+    let a = analyze_text(&path, &text, &MemorySource::new());
+    let codes: Vec<_> = a.diagnostics.iter().map(|d| d.code.as_str()).collect();
+    // The unit is the one mistake; the patch's `kx` has its base line.
+    assert_eq!(codes, vec!["unit.dimension"], "{:?}", a.diagnostics);
+}
+
+#[test]
+fn a_well_in_an_inactive_column_gets_one_error_naming_every_cell() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../../tests/fixtures/well.completion/broken.rill");
+    let text = std::fs::read_to_string(&path)
+        .unwrap()
+        .replace("location = (5, 2)", "location = (2, 2)")
+        .replace(
+            "  compressibility = 4e-6 1/psi\n}",
+            "  compressibility = 4e-6 1/psi\n  patch i = 2 j = 2 { porosity = 0 }\n}",
+        );
+    let a = analyze_text(&path, &text, &MemorySource::new());
+    let d: Vec<_> = a.diagnostics.iter().collect();
+    // Not one error per layer, and no "cannot flow" follow-on.
+    assert_eq!(d.len(), 1, "{d:?}");
+    assert_eq!(d[0].code, "well.completion");
+    assert!(
+        d[0].message.contains("2 inactive cells") && d[0].message.contains("(2, 2, 1), (2, 2, 2)"),
+        "{}",
+        d[0].message
+    );
+}

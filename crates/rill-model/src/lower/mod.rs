@@ -50,6 +50,9 @@ pub(crate) struct Lowerer<'s> {
     pub reuse: &'s Reuse,
     pub files: Vec<FileInfo>,
     pub diags: Vec<Diagnostic>,
+    /// The fluid's formation volume factor once the fluid has lowered, for
+    /// fixes that convert volumes between reservoir and surface conditions.
+    pub fvf: Option<f64>,
 }
 
 /// What lowering found beyond the case itself: spans of the definitions,
@@ -114,6 +117,7 @@ impl<'s> Lowerer<'s> {
         Reporter {
             file,
             diags: &mut self.diags,
+            fvf: self.fvf,
         }
     }
 
@@ -179,6 +183,7 @@ impl<'s> Lowerer<'s> {
             .and_then(|f| self.lower_rock(f.file, f.block, shape, datum_pressure, &mut spans));
         let fluid =
             fluid_found.and_then(|f| self.lower_fluid(f.file, f.block, datum_pressure, &mut spans));
+        self.fvf = fluid.as_ref().map(|f| f.fvf);
         let wells: Vec<Well> = blocks
             .get("well")
             .map(|v| {

@@ -254,6 +254,7 @@ impl<'s> Lowerer<'s> {
         let mut r = Reporter {
             file,
             diags: &mut self.diags,
+            fvf: self.fvf,
         };
         let expr = reader.read(&mut r, value, dim, gauge, forms, key);
         self.files = files;

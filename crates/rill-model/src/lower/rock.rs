@@ -174,8 +174,12 @@ impl<'s> Lowerer<'s> {
                         },
                     ),
                     None => {
-                        // Required, reported missing by the structure check.
-                        if defs.get(name).is_some_and(|d| !d.is_empty()) {
+                        // Required, reported missing by the structure check. A
+                        // base line that is there but did not read has its own
+                        // error: saying it is missing would send the engineer
+                        // looking for a line they can see.
+                        let base_written = find(block, name).is_some();
+                        if !base_written && defs.get(name).is_some_and(|d| !d.is_empty()) {
                             let at = defs[name][0].loc;
                             self.diags.push(Diagnostic::error(
                                 Code::DeckMissingKey,
