@@ -109,6 +109,7 @@ pub fn analyze_text_with(path: &Path, text: &str, source: &dyn Source, cache: &R
         files: Vec::new(),
         diags: Vec::new(),
         fvf: None,
+        written_wells: Vec::new(),
     };
     let (case, spans) = lowerer.lower(source::normalize(path), text);
     let mut diagnostics = lowerer.diags;

@@ -104,3 +104,48 @@ fn a_well_in_an_inactive_column_gets_one_error_naming_every_cell() {
         d[0].message
     );
 }
+
+#[test]
+fn an_event_naming_a_well_dropped_for_its_own_error_is_not_a_second_error() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../examples/larkspur-east.rill");
+    let text = std::fs::read_to_string(&path).unwrap();
+    let well_line = text
+        .lines()
+        .skip_while(|l| !l.starts_with("well \"LE-1\""))
+        .find(|l| l.trim_start().starts_with("radius"))
+        .expect("LE-1's radius");
+    let text = text.replacen(well_line, "  radius = 0.3 psi", 1);
+    let a = analyze_text(&path, &text, &MemorySource::new());
+    let codes: Vec<_> = a.diagnostics.iter().map(|d| d.code.as_str()).collect();
+    assert_eq!(codes, vec!["unit.dimension"], "{:?}", a.diagnostics);
+    // A name that no block carries is still a reference error.
+    let text = text.replace(
+        "well \"LE-1\" {\n      control",
+        "well \"LE-9\" {\n      control",
+    );
+    let a = analyze_text(&path, &text, &MemorySource::new());
+    assert!(
+        a.diagnostics
+            .iter()
+            .any(|d| d.code == "deck.reference" && d.message.contains("LE-9")),
+        "{:?}",
+        a.diagnostics
+    );
+}
+
+#[test]
+fn an_event_before_the_start_is_an_ordering_error() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../examples/larkspur-east.rill");
+    let text = std::fs::read_to_string(&path)
+        .unwrap()
+        .replace("at 180 day {", "at -1 day {");
+    let a = analyze_text(&path, &text, &MemorySource::new());
+    let d: Vec<_> = a.diagnostics.iter().collect();
+    assert_eq!(d.len(), 1, "{d:?}");
+    assert_eq!(d[0].code, "timeline.order");
+    assert!(
+        d[0].message.contains("before the start"),
+        "{}",
+        d[0].message
+    );
+}

@@ -53,6 +53,9 @@ pub(crate) struct Lowerer<'s> {
     /// The fluid's formation volume factor once the fluid has lowered, for
     /// fixes that convert volumes between reservoir and surface conditions.
     pub fvf: Option<f64>,
+    /// Names of every labelled `well` block, lowered or not: an event that
+    /// names a well dropped for its own error is not a second mistake.
+    pub written_wells: Vec<String>,
 }
 
 /// What lowering found beyond the case itself: spans of the definitions,
@@ -184,6 +187,10 @@ impl<'s> Lowerer<'s> {
         let fluid =
             fluid_found.and_then(|f| self.lower_fluid(f.file, f.block, datum_pressure, &mut spans));
         self.fvf = fluid.as_ref().map(|f| f.fvf);
+        self.written_wells = blocks
+            .get("well")
+            .map(|v| v.iter().filter_map(|f| label_of(f.block)).collect())
+            .unwrap_or_default();
         let wells: Vec<Well> = blocks
             .get("well")
             .map(|v| {

@@ -361,6 +361,14 @@ impl<'s> Lowerer<'s> {
                 ok = false;
                 continue;
             };
+            if t < 0.0 {
+                self.diags.push(Diagnostic::error(
+                    Code::TimelineOrder,
+                    loc,
+                    "an event cannot come before the start of the run (time 0); the initial state already holds at 0",
+                ));
+                ok = false;
+            }
             if let Some((prev, prev_loc)) = last {
                 if t <= prev {
                     self.diags.push(
@@ -425,6 +433,10 @@ impl<'s> Lowerer<'s> {
                 continue;
             };
             let Some(index) = wells.iter().position(|w| w.name == wname) else {
+                *ok = false;
+                if self.written_wells.contains(&wname) {
+                    continue; // the well block has its own error
+                }
                 let span = wb.args.first().map(|a| a.span).unwrap_or(wb.name.span);
                 let mut d = Diagnostic::error(
                     Code::DeckReference,
