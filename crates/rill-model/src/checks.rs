@@ -568,10 +568,9 @@ fn bhp_checks(
     out: &mut Vec<Diagnostic>,
 ) {
     let grid = &case.grid;
-    let Some(top) = well.completions.iter().min_by_key(|c| c.k) else {
+    let Some(depth) = derived::well_datum_depth(grid, &case.rock, well) else {
         return;
     };
-    let depth = derived::cell_center_depth(grid, top.cell);
     let mut pressures: Vec<GivenBhp> = Vec::new();
     if let Control::Bhp(p) = well.control {
         pressures.push(GivenBhp {

@@ -8,7 +8,7 @@
 //! by viscosity times formation volume factor gives surface m^3 per second per
 //! pascal.
 
-use crate::case::{Case, Completion, Direction, Grid, Rock, Side};
+use crate::case::{Case, Completion, Direction, Grid, Rock, Side, Well};
 
 /// Standard gravity, m/s^2 (NIST SP 811, exact).
 pub const GRAVITY: f64 = 9.80665;
@@ -63,6 +63,19 @@ pub fn cell_center_depths(grid: &Grid) -> Vec<f64> {
         }
     }
     depth
+}
+
+/// Depth of a well's datum, m: the centre of its shallowest completed
+/// active cell, where its bottom-hole pressure is reported and controlled.
+/// `None` when no completion is active. The checker and the simulator both
+/// use this, so a BHP checked against the initial pressure is the BHP the
+/// run applies.
+pub fn well_datum_depth(grid: &Grid, rock: &Rock, well: &Well) -> Option<f64> {
+    well.completions
+        .iter()
+        .filter(|c| rock.is_active(c.cell))
+        .map(|c| cell_center_depth(grid, c.cell))
+        .min_by(f64::total_cmp)
 }
 
 /// Depths of the shallowest and the deepest cell centre of the grid, m.

@@ -267,10 +267,7 @@ fn well_geometry(
             .iter()
             .filter(|cp| rock.is_active(cp.cell))
             .collect();
-        let datum = active
-            .iter()
-            .map(|cp| all_depth[cp.cell])
-            .fold(f64::INFINITY, f64::min);
+        let datum = derived::well_datum_depth(grid, rock, well).unwrap_or(f64::INFINITY);
         let mut comps = Vec::new();
         let mut wi_sum = 0.0;
         for cp in active {
