@@ -99,6 +99,9 @@ pub fn to_json(r: &CellReport) -> Value {
                 "perm_face_md": field(f.perm_face, Kind::Permeability),
                 "trans_stb_day_psi": field(f.trans, Kind::Transmissibility),
                 "trans_si": f.trans,
+                "multiplier": f.multiplier,
+                "trans_unmodified_stb_day_psi": field(f.unmodified_trans, Kind::Transmissibility),
+                "trans_unmodified_si": f.unmodified_trans,
             })
         })
         .collect();
@@ -182,8 +185,18 @@ fn print_text(r: &CellReport, system: System) {
             (None, Some(b)) => format!("boundary \"{b}\""),
             _ => "closed".to_string(),
         };
+        // A fault on the face: its multiplier and the value before it.
+        let fault = if f.multiplier == 1.0 {
+            String::new()
+        } else {
+            format!(
+                "  fault multiplier {}, {} before",
+                format_number(f.multiplier),
+                show(f.unmodified_trans, Kind::Transmissibility)
+            )
+        };
         println!(
-            "  {:<7} {:<22} {:>12} {:>17} {:>14}",
+            "  {:<7} {:<22} {:>12} {:>17} {:>14}{fault}",
             f.side.name(),
             neighbour,
             show(f.perm_face, Kind::Permeability),

@@ -429,3 +429,60 @@ fn inspect_text_follows_the_report_units_and_the_units_option() {
     let si = inspect(&["--units", "si"]);
     assert!(si.contains("30.48 x 30.48 x 9.144 m"), "{si}");
 }
+
+#[test]
+fn inspect_shows_a_faults_multiplier_and_the_value_before_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let deck = dir.path().join("faulted.rill");
+    let text = std::fs::read_to_string(example("teaching-block.rill"))
+        .unwrap()
+        .replace(
+            "timeline {",
+            "fault \"Seam\" {\n  side = east\n  i = 6\n  multiplier = 0.25\n}\n\ntimeline {",
+        );
+    std::fs::write(&deck, text).unwrap();
+    let inspect = |extra: &[&str]| {
+        let o = rill()
+            .arg("inspect")
+            .arg(&deck)
+            .args(["--cell", "6,6,1"])
+            .args(extra)
+            .output()
+            .unwrap();
+        assert_eq!(o.status.code(), Some(0), "{o:?}");
+        String::from_utf8(o.stdout).unwrap()
+    };
+    let json: Value = serde_json::from_str(&inspect(&["--format", "json"])).unwrap();
+    let face = |side: &str| {
+        json["faces"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|f| f["side"] == side)
+            .unwrap()
+            .clone()
+    };
+    let (east, west) = (face("east"), face("west"));
+    assert_eq!(east["multiplier"], 0.25);
+    assert_eq!(west["multiplier"], 1.0);
+    // Uniform cells: the faulted face is a quarter of its unfaulted twin.
+    let t = |f: &Value, key: &str| f[key].as_f64().unwrap();
+    assert_eq!(t(&east, "trans_unmodified_si"), t(&west, "trans_si"));
+    assert!(
+        (t(&east, "trans_si") - 0.25 * t(&west, "trans_si")).abs() <= 1e-12 * t(&west, "trans_si")
+    );
+    // The text names the multiplier and the value before it on the east row only.
+    let text = inspect(&[]);
+    let row = |side: &str| {
+        text.lines()
+            .find(|l| l.trim_start().starts_with(side))
+            .unwrap()
+            .to_string()
+    };
+    let before = rill_units::format_number(t(&east, "trans_unmodified_stb_day_psi"));
+    assert!(
+        row("east").contains(&format!("fault multiplier 0.25, {before} before")),
+        "{text}"
+    );
+    assert!(!row("west").contains("fault"), "{text}");
+}

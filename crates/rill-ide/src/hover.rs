@@ -156,6 +156,17 @@ fn header_hover(snap: &Snapshot, hit: &Hit, b: &Block, arg: Option<&Step>) -> Op
                 markdown: md,
             })
         }
+        "fault" if hit.blocks.len() == 1 => {
+            let label = b.args.first()?;
+            let AtomKind::Str { value, .. } = &label.kind else {
+                return None;
+            };
+            let md = crate::present::fault_markdown(case?, value)?;
+            Some(Hover {
+                range: arg.map_or(b.name.span, |s| s.atom.span),
+                markdown: md,
+            })
+        }
         "patch" => {
             let case = case?;
             let (lo, hi) = patch_box(&b.args, (case.grid.nx, case.grid.ny, case.grid.nz));

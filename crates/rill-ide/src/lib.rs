@@ -138,6 +138,8 @@ pub enum SymbolKind {
     Well,
     /// A `boundary` block (a constant-pressure side).
     Boundary,
+    /// A `fault` block (a transmissibility multiplier on interior faces).
+    Fault,
     /// The `timeline` block: the schedule of events.
     Timeline,
     /// An `at` event inside `timeline`.

@@ -74,6 +74,7 @@ fn block_symbol(text: &str, b: &Block, parents: &[&str]) -> Symbol {
         (None, "initial") => SymbolKind::Initial,
         (None, "well") => SymbolKind::Well,
         (None, "boundary") => SymbolKind::Boundary,
+        (None, "fault") => SymbolKind::Fault,
         (None, "timeline") => SymbolKind::Timeline,
         (None, "report") => SymbolKind::Report,
         (Some("rock"), "patch") => SymbolKind::Patch,
@@ -96,6 +97,13 @@ fn block_symbol(text: &str, b: &Block, parents: &[&str]) -> Symbol {
         SymbolKind::Boundary => (
             lab.map_or("boundary".to_string(), |l| l.0.to_string()),
             key_text(text, b, "side"),
+        ),
+        SymbolKind::Fault => (
+            lab.map_or("fault".to_string(), |l| l.0.to_string()),
+            match (key_text(text, b, "side"), key_text(text, b, "multiplier")) {
+                (Some(side), Some(m)) => Some(format!("{side}, multiplier {m}")),
+                (side, m) => side.or(m),
+            },
         ),
         SymbolKind::Patch => (format!("patch {}", header_text(text, b)), None),
         SymbolKind::Event => (format!("at {}", header_text(text, b)), None),

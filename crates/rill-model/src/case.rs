@@ -92,6 +92,9 @@ pub struct Case {
     pub wells: Vec<Well>,
     /// Constant-pressure boundaries in deck order.
     pub boundaries: Vec<Boundary>,
+    /// Transmissibility multipliers on interior faces, in deck order
+    /// (`derived::FaceMultipliers` combines them per face).
+    pub faults: Vec<Fault>,
     /// Run length, time steps and events.
     pub timeline: Timeline,
     /// How results are shown.
@@ -370,6 +373,30 @@ impl Boundary {
     }
 }
 
+/// A set of interior faces whose transmissibility is scaled: the faces on
+/// `side` of the selected cells.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Fault {
+    /// Its name, unique among faults.
+    pub name: String,
+    /// The side of each selected cell whose face it scales.
+    pub side: Side,
+    /// The cells whose face on `side` it scales (`i`, `j`, `k` selectors;
+    /// all by default).
+    pub select: Selection,
+    /// Transmissibility multiplier, `>= 0`; 0 seals the faces.
+    pub multiplier: f64,
+    /// Where the fault block is written.
+    pub origin: Origin,
+}
+
+impl Fault {
+    /// The selected cells, in grid order (each stands for its face on `side`).
+    pub fn cells(&self, grid: &Grid) -> Vec<usize> {
+        self.select.cells(grid)
+    }
+}
+
 /// Index ranges along i, j and k (0-based, inclusive); `None` on an axis
 /// means every index.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -388,6 +415,23 @@ impl Selection {
         let within =
             |r: Option<(usize, usize)>, v: usize| r.is_none_or(|(lo, hi)| lo <= v && v <= hi);
         within(self.i, i) && within(self.j, j) && within(self.k, k)
+    }
+
+    /// The cells of `grid` it selects, in grid order (ranges clamped to the grid).
+    pub fn cells(&self, grid: &Grid) -> Vec<usize> {
+        let span = |r: Option<(usize, usize)>, n: usize| match r {
+            Some((lo, hi)) => lo..(hi + 1).min(n),
+            None => 0..n,
+        };
+        let mut out = Vec::new();
+        for k in span(self.k, grid.nz) {
+            for j in span(self.j, grid.ny) {
+                for i in span(self.i, grid.nx) {
+                    out.push(grid.index(i, j, k));
+                }
+            }
+        }
+        out
     }
 }
 

@@ -14,6 +14,7 @@ use std::sync::Arc;
 
 use rill_units::factors::{CP, FT, MD, PSI};
 
+mod sealed;
 mod wellbore;
 
 /// How many values match `bad`, and the first that does, in one parallel
@@ -720,10 +721,20 @@ fn flow_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
         }
         None => lateral(),
     };
-    let shut_in = lateral
+    let mut shut_in: Vec<usize> = lateral
         .iter()
         .copied()
-        .filter(|&c| !derived::flows_across(grid, &flows[2], derived::Axis::Z, c));
+        .filter(|&c| !derived::flows_across(grid, &flows[2], derived::Axis::Z, c))
+        .collect();
+    // Faults that seal faces cut off the cells beside them whose every
+    // other face is closed too; only those few cells are looked at again.
+    let mults = derived::FaceMultipliers::of(case);
+    let plus = [&flows[0][..], &flows[1][..], &flows[2][..]];
+    if !mults.is_empty() {
+        shut_in.extend(sealed::sealed_off(case, &plus, &mults));
+        shut_in.sort_unstable();
+        shut_in.dedup();
+    }
     // A well or a boundary with a positive face lets them flow after all.
     let with_well: HashSet<usize> = case
         .wells
@@ -731,6 +742,7 @@ fn flow_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
         .flat_map(|w| w.completions.iter().map(|c| c.cell))
         .collect();
     let isolated: Vec<usize> = shut_in
+        .into_iter()
         .filter(|&c| {
             !with_well.contains(&c)
                 && !case.boundaries.iter().any(|b| {
@@ -739,24 +751,8 @@ fn flow_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
                 })
         })
         .collect();
-    if let Some(&c) = isolated.first() {
-        let at = spans
-            .rock
-            .get("kx")
-            .and_then(|v| v.first().copied())
-            .unwrap_or(spans.main);
-        out.push(
-            Diagnostic::warning(
-                Code::FlowIsolated,
-                at,
-                format!(
-                    "{} active cell(s) have zero transmissibility on every face and no well, the first {}: their fluid can never move",
-                    isolated.len(),
-                    cell_name(grid, c)
-                ),
-            )
-            .with_note("make them inactive with porosity 0, or check the zero permeabilities around them"),
-        );
+    if let Some(d) = sealed::isolated_warning(case, spans, &mults, &plus, &isolated) {
+        out.push(d);
     }
     if case.wells.is_empty() && case.boundaries.is_empty() {
         out.push(Diagnostic::info(

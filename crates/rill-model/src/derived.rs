@@ -10,6 +10,9 @@
 
 use crate::case::{Case, Completion, Direction, Grid, Rock, Side, Well};
 
+mod faults;
+pub use faults::{case_connections, face_key, faulted_connections, FaceMultipliers};
+
 /// Standard gravity, m/s^2 (NIST SP 811, exact).
 pub const GRAVITY: f64 = 9.80665;
 
@@ -329,8 +332,9 @@ pub struct Connection {
 }
 
 /// Every interior connection with a positive transmissibility, each once
-/// (east, north and bottom faces), in cell order. The simulator assembles
-/// from this list, so hover and the run use the same numbers. Layers are
+/// (east, north and bottom faces), in cell order, before fault
+/// multipliers: the simulator assembles [`case_connections`], this list
+/// scaled by the case's faults. Layers are
 /// done in parallel: a million-cell grid is checked on every keystroke.
 pub fn connections(grid: &Grid, rock: &Rock) -> Vec<Connection> {
     use rayon::prelude::*;
@@ -378,7 +382,7 @@ pub fn cells_with_flow(grid: &Grid, rock: &Rock) -> Vec<bool> {
 }
 
 /// A direction of the grid, with the two sides of a cell across it.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum Axis {
     /// West and east faces; these depend on `kx`.
     X,

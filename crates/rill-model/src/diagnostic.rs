@@ -269,6 +269,8 @@ codes! {
     WellInjectionPressure = "well.injection-pressure",
     /// Two boundaries hold the same outer face.
     BoundaryOverlap = "boundary.overlap",
+    /// A fault that selects faces on the grid's edge, with no cell across.
+    FaultFaces = "fault.faces",
     /// An active cell cut off from all flow.
     FlowIsolated = "flow.isolated",
     /// No well and no boundary: nothing moves.

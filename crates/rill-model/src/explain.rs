@@ -341,6 +341,14 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Restrict one of them with `i`, `j` or `k` so that they do not share a face.",
     },
     Explanation {
+        code: Code::FaultFaces,
+        summary: "A fault that selects faces on the grid's edge, with no cell across.",
+        details: "A `fault` scales the transmissibility of the faces on its `side` of every selected cell; each such face must lie between two cells. With `side = east` the selection must stop before the last column (i below NX), with `side = top` below the first layer, and so on. An omitted `i`, `j` or `k` means every index, so `side = east` without `i` reaches the east edge. An edge held at a pressure is a `boundary`; a closed edge needs nothing.",
+        wrong: "fault \"Crane\" {\n  side = east\n  j = 1..12\n  multiplier = 0.02\n}",
+        right: "fault \"Crane\" {\n  side = east\n  i = 20\n  j = 1..12\n  multiplier = 0.02\n}",
+        fix: "Restrict `i`, `j` or `k` to cells with a neighbour on that side.",
+    },
+    Explanation {
         code: Code::TimelineSteps,
         summary: "The run cannot finish within `max_steps`, or `min_step` is above `first_step` or `max_step`.",
         details: "A run takes at least `end` / `max_step` steps; when that is above `max_steps` (default 100000) it would stop before the end. `min_step` (default 1 s, or `first_step` when shorter) is the shortest step a cut may leave: a step that fails at that length stops the run rather than creep on for hours.",

@@ -1,5 +1,6 @@
 //! What is known about one cell: its properties, its six faces (neighbour,
-//! harmonic face permeability, transmissibility) and the wells completed in
+//! harmonic face permeability, transmissibility with the fault multiplier
+//! and without) and the wells completed in
 //! it (Peaceman radius, well index, productivity). `rill inspect` and the
 //! editor hover both render this, so they always show the same numbers,
 //! which are the numbers the simulator assembles (`derived`).
@@ -49,10 +50,14 @@ pub struct FaceReport {
     pub boundary: Option<String>,
     /// Harmonic face permeability (the cell's own on a boundary face), m^2.
     pub perm_face: f64,
-    /// k A / L, m^3.
+    /// k A / L times the fault multiplier, m^3: the number the simulator assembles.
     pub geometric_trans: f64,
     /// With viscosity and formation volume factor: surface m^3 / (s Pa).
     pub trans: f64,
+    /// The product of the multipliers of the faults on this face (1 without one).
+    pub multiplier: f64,
+    /// `trans` before the fault multiplier, surface m^3 / (s Pa).
+    pub unmodified_trans: f64,
 }
 
 /// A well completed in the cell of a [`CellReport`], SI.
@@ -81,6 +86,7 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
     }
     let c = g.index(i, j, k);
     let rock = &case.rock;
+    let mults = derived::FaceMultipliers::of(case);
     let faces = derived::cell_faces(case, c)
         .iter()
         .map(|(side, face)| {
@@ -93,9 +99,10 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
             } else {
                 None
             };
-            let (perm_face, geometric_trans) = face
+            let (perm_face, unmodified) = face
                 .map(|f| (f.perm, f.geometric_trans))
                 .unwrap_or((0.0, 0.0));
+            let multiplier = mults.at(g, c, *side);
             FaceReport {
                 side: *side,
                 neighbor: n.map(|n| {
@@ -104,8 +111,10 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
                 }),
                 boundary,
                 perm_face,
-                geometric_trans,
-                trans: derived::fluid_trans(case, geometric_trans),
+                geometric_trans: unmodified * multiplier,
+                trans: derived::fluid_trans(case, unmodified * multiplier),
+                multiplier,
+                unmodified_trans: derived::fluid_trans(case, unmodified),
             }
         })
         .collect();

@@ -326,6 +326,22 @@ pub static BOUNDARY: BlockDef = BlockDef {
     doc: "A constant-pressure boundary (an aquifer, a pressure-maintained edge) on one side of the grid.",
 };
 
+/// A `fault` block: a transmissibility multiplier on interior faces.
+pub static FAULT: BlockDef = BlockDef {
+    name: "fault",
+    label: LabelRule::Required,
+    repeatable: true,
+    keys: &[
+        key("side", ValueKind::Choice(SIDES), true, "The faces it scales: those on this side (west, east, south, north, top or bottom) of each selected cell; each must have a cell across."),
+        key("i", ValueKind::LayerRange, false, "Columns i of the selected cells, e.g. `20` or `3..8`; all by default."),
+        key("j", ValueKind::LayerRange, false, "Rows j of the selected cells, e.g. `1..12`; all by default."),
+        key("k", ValueKind::LayerRange, false, "Layers k of the selected cells, e.g. `1..3`; all by default."),
+        key("multiplier", ValueKind::Number, true, "Transmissibility multiplier of the faces, 0 or more: 0 seals them, 1 leaves them as the rock makes them. Several faults on one face multiply."),
+    ],
+    children: &[],
+    doc: "A fault: scales the transmissibility of the interior faces on one side of a box of cells (0 seals them).",
+};
+
 /// The `timeline` block: run length, time steps and events.
 pub static TIMELINE: BlockDef = BlockDef {
     name: "timeline",
@@ -455,7 +471,7 @@ pub static REPORT: BlockDef = BlockDef {
 
 /// Blocks allowed at the top level, plus the `include` directive.
 pub static TOP_LEVEL: &[&BlockDef] = &[
-    &CASE, &GRID, &ROCK, &FLUID, &INITIAL, &WELL, &BOUNDARY, &TIMELINE, &REPORT,
+    &CASE, &GRID, &ROCK, &FLUID, &INITIAL, &WELL, &BOUNDARY, &FAULT, &TIMELINE, &REPORT,
 ];
 
 /// The top-level block definition named `name`, if any.

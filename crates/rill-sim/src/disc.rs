@@ -111,8 +111,9 @@ impl Disc {
             .map(|&c| derived::pore_volume(grid, rock, c))
             .collect();
 
-        // Interior connections in active numbering (order preserved: a < b, by a).
-        let conns = derived::connections(grid, rock);
+        // Interior connections in active numbering (order preserved: a < b,
+        // by a), with the faults' multipliers.
+        let conns = derived::case_connections(case);
         let mut lower = vec![0usize; n];
         let mut upper = vec![0usize; n];
         let mut t_sum = vec![0.0; n_cells];
@@ -690,6 +691,7 @@ mod tests {
                 select: rill_model::Selection::default(),
                 origin: Origin::default(),
             }],
+            faults: Vec::new(),
             timeline: Timeline {
                 kind: RunKind::Transient,
                 end: 1e5,

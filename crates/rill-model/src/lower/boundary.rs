@@ -116,8 +116,13 @@ impl<'s> Lowerer<'s> {
             .collect()
     }
 
-    /// The `i`, `j`, `k` selectors of a boundary (1-based in the deck).
-    fn boundary_selection(&mut self, file: usize, block: &Block, grid: &Grid) -> Option<Selection> {
+    /// The `i`, `j`, `k` selectors of a boundary or a fault (1-based in the deck).
+    pub(super) fn boundary_selection(
+        &mut self,
+        file: usize,
+        block: &Block,
+        grid: &Grid,
+    ) -> Option<Selection> {
         let mut select = Selection::default();
         let mut ok = true;
         for (axis, n) in [("i", grid.nx), ("j", grid.ny), ("k", grid.nz)] {

@@ -3,6 +3,7 @@
 //! the schema. Physical sanity checks run afterwards in `checks`.
 
 mod boundary;
+mod fault;
 mod fluid;
 mod grid;
 mod initial;
@@ -14,6 +15,7 @@ mod timeline;
 mod wells;
 
 use crate::case::*;
+use crate::derived;
 use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::props::{
     check_result_dim, evaluate, evaluate_kept, infer_dim, Expr, Failed, Field, Forms, PropReader,
@@ -86,6 +88,9 @@ pub struct Spans {
     pub initial: Option<Location>,
     /// Value span of each boundary's `pressure`, in deck order.
     pub boundaries: Vec<Location>,
+    /// Value span of each fault's `multiplier` (its name where it has
+    /// none), in deck order of the fault blocks.
+    pub faults: Vec<Location>,
     /// Name span of the `timeline` block.
     pub timeline: Option<Location>,
     /// Value span of `first_step`.
@@ -208,6 +213,14 @@ impl<'s> Lowerer<'s> {
             })
             .unwrap_or_default();
         let boundaries = self.without_overlap(boundaries, &grid);
+        let faults: Vec<Fault> = blocks
+            .get("fault")
+            .map(|v| {
+                v.iter()
+                    .filter_map(|f| self.lower_fault(f.file, f.block, &grid, &mut spans))
+                    .collect()
+            })
+            .unwrap_or_default();
         let timeline =
             timeline_found.and_then(|f| self.lower_timeline(f.file, f.block, &wells, &mut spans));
         let report = blocks
@@ -223,7 +236,11 @@ impl<'s> Lowerer<'s> {
         };
         let expected_wells = blocks.get("well").map(|v| v.len()).unwrap_or(0);
         let expected_boundaries = blocks.get("boundary").map(|v| v.len()).unwrap_or(0);
-        if wells.len() != expected_wells || boundaries.len() != expected_boundaries {
+        let expected_faults = blocks.get("fault").map(|v| v.len()).unwrap_or(0);
+        if wells.len() != expected_wells
+            || boundaries.len() != expected_boundaries
+            || faults.len() != expected_faults
+        {
             return (None, spans);
         }
         let case = Case {
@@ -234,6 +251,7 @@ impl<'s> Lowerer<'s> {
             initial,
             wells,
             boundaries,
+            faults,
             timeline,
             report,
         };
