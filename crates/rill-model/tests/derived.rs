@@ -62,6 +62,7 @@ fn case() -> Case {
         },
         wells: vec![],
         boundaries: vec![],
+        aquifers: Vec::new(),
         timeline: Timeline {
             kind: RunKind::Steady,
             end: 0.0,

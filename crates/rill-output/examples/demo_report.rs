@@ -167,6 +167,7 @@ fn demo_case(nx: usize, ny: usize, nz: usize) -> Case {
             select: rill_model::Selection::default(),
             origin: Origin::default(),
         }],
+        aquifers: Vec::new(),
         timeline: Timeline {
             kind: RunKind::Transient,
             end: 360.0 * DAY,

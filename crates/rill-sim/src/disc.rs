@@ -693,6 +693,7 @@ mod tests {
                 select: rill_model::Selection::default(),
                 origin: Origin::default(),
             }],
+            aquifers: Vec::new(),
             timeline: Timeline {
                 kind: RunKind::Transient,
                 end: 1e5,

@@ -117,7 +117,12 @@ impl<'s> Lowerer<'s> {
     }
 
     /// The `i`, `j`, `k` selectors of a boundary (1-based in the deck).
-    fn boundary_selection(&mut self, file: usize, block: &Block, grid: &Grid) -> Option<Selection> {
+    pub(super) fn boundary_selection(
+        &mut self,
+        file: usize,
+        block: &Block,
+        grid: &Grid,
+    ) -> Option<Selection> {
         let mut select = Selection::default();
         let mut ok = true;
         for (axis, n) in [("i", grid.nx), ("j", grid.ny), ("k", grid.nz)] {

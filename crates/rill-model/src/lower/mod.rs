@@ -2,6 +2,7 @@
 //! checked [`Case`] in SI, with a diagnostic for everything that does not fit
 //! the schema. Physical sanity checks run afterwards in `checks`.
 
+mod aquifer;
 mod boundary;
 mod fluid;
 mod grid;
@@ -196,6 +197,15 @@ impl<'s> Lowerer<'s> {
             })
             .unwrap_or_default();
         let boundaries = self.without_overlap(boundaries, &grid);
+        let aquifers: Vec<Aquifer> = blocks
+            .get("aquifer")
+            .map(|v| {
+                v.iter()
+                    .filter_map(|f| self.lower_aquifer(f.file, f.block, &grid))
+                    .collect()
+            })
+            .unwrap_or_default();
+        let aquifers = self.aquifers_without_overlap(aquifers, &boundaries, &grid);
         let timeline =
             timeline_found.and_then(|f| self.lower_timeline(f.file, f.block, &wells, &mut spans));
         let report = blocks
@@ -211,7 +221,11 @@ impl<'s> Lowerer<'s> {
         };
         let expected_wells = blocks.get("well").map(|v| v.len()).unwrap_or(0);
         let expected_boundaries = blocks.get("boundary").map(|v| v.len()).unwrap_or(0);
-        if wells.len() != expected_wells || boundaries.len() != expected_boundaries {
+        let expected_aquifers = blocks.get("aquifer").map(|v| v.len()).unwrap_or(0);
+        if wells.len() != expected_wells
+            || boundaries.len() != expected_boundaries
+            || aquifers.len() != expected_aquifers
+        {
             return (None, spans);
         }
         let case = Case {
@@ -222,6 +236,7 @@ impl<'s> Lowerer<'s> {
             initial,
             wells,
             boundaries,
+            aquifers,
             timeline,
             report,
         };

@@ -100,6 +100,7 @@ pub fn case(nx: usize, ny: usize, nz: usize, units: UnitSystem) -> Case {
             select: rill_model::Selection::default(),
             origin: Origin::default(),
         }],
+        aquifers: Vec::new(),
         timeline: Timeline {
             kind: RunKind::Transient,
             end: 20.0 * DAY,
