@@ -291,6 +291,7 @@ fn demo_results(case: &Case, n: usize) -> RunResults {
             rate: (0..n).map(|t| -220.0 * f(t).sqrt() * STB / DAY).collect(),
             cumulative: cumulative(&|t| -220.0 * f(t).sqrt()),
         }],
+        aquifers: Vec::new(),
         balance_error: (0..n)
             .map(|t| {
                 if t == 0 {
