@@ -37,6 +37,7 @@
 #![warn(clippy::too_many_lines)]
 
 mod actions;
+mod aquifer;
 mod complete;
 mod hints;
 mod hover;
@@ -138,6 +139,8 @@ pub enum SymbolKind {
     Well,
     /// A `boundary` block (a constant-pressure side).
     Boundary,
+    /// An `aquifer` block (a finite aquifer on a side).
+    Aquifer,
     /// The `timeline` block: the schedule of events.
     Timeline,
     /// An `at` event inside `timeline`.

@@ -74,6 +74,7 @@ fn block_symbol(text: &str, b: &Block, parents: &[&str]) -> Symbol {
         (None, "initial") => SymbolKind::Initial,
         (None, "well") => SymbolKind::Well,
         (None, "boundary") => SymbolKind::Boundary,
+        (None, "aquifer") => SymbolKind::Aquifer,
         (None, "timeline") => SymbolKind::Timeline,
         (None, "report") => SymbolKind::Report,
         (Some("rock"), "patch") => SymbolKind::Patch,
@@ -95,6 +96,10 @@ fn block_symbol(text: &str, b: &Block, parents: &[&str]) -> Symbol {
         ),
         SymbolKind::Boundary => (
             lab.map_or("boundary".to_string(), |l| l.0.to_string()),
+            key_text(text, b, "side"),
+        ),
+        SymbolKind::Aquifer => (
+            lab.map_or("aquifer".to_string(), |l| l.0.to_string()),
             key_text(text, b, "side"),
         ),
         SymbolKind::Patch => (format!("patch {}", header_text(text, b)), None),
