@@ -42,7 +42,7 @@ and :json-false is false."
   :type 'integer)
 
 (defconst rill-block-names
-  '("case" "grid" "rock" "fluid" "initial" "well" "boundary" "timeline"
+  '("case" "grid" "rock" "fluid" "initial" "well" "boundary" "aquifer" "timeline"
     "report" "patch" "at" "include")
   "Block names of the case language.")
 
