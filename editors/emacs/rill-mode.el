@@ -42,7 +42,7 @@ and :json-false is false."
   :type 'integer)
 
 (defconst rill-block-names
-  '("case" "grid" "rock" "fluid" "initial" "well" "boundary" "fault" "timeline"
+  '("case" "grid" "rock" "fluid" "initial" "well" "boundary" "fault" "aquifer" "timeline"
     "report" "patch" "at" "include")
   "Block names of the case language.")
 

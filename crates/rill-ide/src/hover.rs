@@ -145,12 +145,16 @@ fn header_hover(snap: &Snapshot, hit: &Hit, b: &Block, arg: Option<&Step>) -> Op
                 markdown: md,
             })
         }
-        "boundary" if hit.blocks.len() == 1 => {
+        name @ ("boundary" | "aquifer") if hit.blocks.len() == 1 => {
             let label = b.args.first()?;
             let AtomKind::Str { value, .. } = &label.kind else {
                 return None;
             };
-            let md = crate::present::boundary_markdown(case?, value)?;
+            let md = if name == "aquifer" {
+                crate::aquifer::aquifer_markdown(case?, value)?
+            } else {
+                crate::present::boundary_markdown(case?, value)?
+            };
             Some(Hover {
                 range: arg.map_or(b.name.span, |s| s.atom.span),
                 markdown: md,

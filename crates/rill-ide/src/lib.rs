@@ -37,6 +37,7 @@
 #![warn(clippy::too_many_lines)]
 
 mod actions;
+mod aquifer;
 mod complete;
 mod hints;
 mod hover;
@@ -140,6 +141,8 @@ pub enum SymbolKind {
     Boundary,
     /// A `fault` block (a transmissibility multiplier on interior faces).
     Fault,
+    /// An `aquifer` block (a finite aquifer on a side).
+    Aquifer,
     /// The `timeline` block: the schedule of events.
     Timeline,
     /// An `at` event inside `timeline`.

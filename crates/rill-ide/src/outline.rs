@@ -75,6 +75,7 @@ fn block_symbol(text: &str, b: &Block, parents: &[&str]) -> Symbol {
         (None, "well") => SymbolKind::Well,
         (None, "boundary") => SymbolKind::Boundary,
         (None, "fault") => SymbolKind::Fault,
+        (None, "aquifer") => SymbolKind::Aquifer,
         (None, "timeline") => SymbolKind::Timeline,
         (None, "report") => SymbolKind::Report,
         (Some("rock"), "patch") => SymbolKind::Patch,
@@ -104,6 +105,10 @@ fn block_symbol(text: &str, b: &Block, parents: &[&str]) -> Symbol {
                 (Some(side), Some(m)) => Some(format!("{side}, multiplier {m}")),
                 (side, m) => side.or(m),
             },
+        ),
+        SymbolKind::Aquifer => (
+            lab.map_or("aquifer".to_string(), |l| l.0.to_string()),
+            key_text(text, b, "side"),
         ),
         SymbolKind::Patch => (format!("patch {}", header_text(text, b)), None),
         SymbolKind::Event => (format!("at {}", header_text(text, b)), None),

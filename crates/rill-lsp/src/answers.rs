@@ -133,7 +133,7 @@ fn symbol_kind(k: ide::SymbolKind) -> lsp::SymbolKind {
         K::Grid | K::Rock | K::Fluid | K::Initial | K::Report => lsp::SymbolKind::STRUCT,
         K::Patch => lsp::SymbolKind::OBJECT,
         K::Well => lsp::SymbolKind::VARIABLE,
-        K::Boundary | K::Fault => lsp::SymbolKind::INTERFACE,
+        K::Boundary | K::Fault | K::Aquifer => lsp::SymbolKind::INTERFACE,
         K::Timeline => lsp::SymbolKind::ARRAY,
         K::Event => lsp::SymbolKind::EVENT,
         K::WellChange => lsp::SymbolKind::PROPERTY,

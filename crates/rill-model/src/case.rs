@@ -95,6 +95,8 @@ pub struct Case {
     /// Transmissibility multipliers on interior faces, in deck order
     /// (`derived::FaceMultipliers` combines them per face).
     pub faults: Vec<Fault>,
+    /// Finite (Fetkovich) aquifers in deck order.
+    pub aquifers: Vec<Aquifer>,
     /// Run length, time steps and events.
     pub timeline: Timeline,
     /// How results are shown.
@@ -394,6 +396,42 @@ impl Fault {
     /// The selected cells, in grid order (each stands for its face on `side`).
     pub fn cells(&self, grid: &Grid) -> Vec<usize> {
         self.select.cells(grid)
+    }
+}
+
+/// A finite aquifer on a side of the grid, in the pseudo-steady form of
+/// Fetkovich: influx `J (p_a - p_face)`, aquifer pressure from its own
+/// material balance `p_a = p_ai - W_e / (c_t W_i)`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Aquifer {
+    /// Its name, unique among aquifers.
+    pub name: String,
+    /// The side of the grid it touches.
+    pub side: Side,
+    /// The cells of the side whose outer faces it holds.
+    pub select: Selection,
+    /// Initial water volume `W_i`, reservoir m^3.
+    pub water_volume: f64,
+    /// Total compressibility of the aquifer `c_t`, 1/Pa.
+    pub compressibility: f64,
+    /// Productivity index `J`, reservoir m^3/s per Pa.
+    pub productivity: f64,
+    /// Where the aquifer block is written.
+    pub origin: Origin,
+}
+
+impl Aquifer {
+    /// Whether it holds the outer face of cell `c` on its side.
+    pub fn covers(&self, grid: &Grid, c: usize) -> bool {
+        crate::derived::is_on_side(grid, c, self.side) && self.select.contains(grid.ijk(c))
+    }
+
+    /// The cells whose outer face on its side it holds, in grid order.
+    pub fn cells(&self, grid: &Grid) -> Vec<usize> {
+        crate::derived::cells_on_side(grid, self.side)
+            .into_iter()
+            .filter(|&c| self.select.contains(grid.ijk(c)))
+            .collect()
     }
 }
 

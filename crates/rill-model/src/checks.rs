@@ -735,7 +735,8 @@ fn flow_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
         shut_in.sort_unstable();
         shut_in.dedup();
     }
-    // A well or a boundary with a positive face lets them flow after all.
+    // A well, a boundary or an aquifer with a positive face lets them flow
+    // after all.
     let with_well: HashSet<usize> = case
         .wells
         .iter()
@@ -749,6 +750,7 @@ fn flow_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
                     b.covers(grid, c)
                         && derived::boundary_face(grid, rock, c, b.side).geometric_trans > 0.0
                 })
+                && !case.aquifers.iter().any(|a| a.covers(grid, c))
         })
         .collect();
     if let Some(d) = sealed::isolated_warning(case, spans, &mults, &plus, &isolated) {

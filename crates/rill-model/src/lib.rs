@@ -11,6 +11,7 @@
 #![warn(missing_docs)]
 #![warn(clippy::too_many_lines)]
 
+pub mod aquifer;
 pub mod arrays;
 pub mod case;
 pub mod checks;

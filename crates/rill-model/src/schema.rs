@@ -342,6 +342,24 @@ pub static FAULT: BlockDef = BlockDef {
     doc: "A fault: scales the transmissibility of the interior faces on one side of a box of cells (0 seals them).",
 };
 
+/// An `aquifer` block: a finite aquifer on a side of the grid (Fetkovich).
+pub static AQUIFER: BlockDef = BlockDef {
+    name: "aquifer",
+    label: LabelRule::Required,
+    repeatable: true,
+    keys: &[
+        key("side", ValueKind::Choice(SIDES), true, "Face of the grid the aquifer touches: west, east, south, north, top or bottom."),
+        key("water_volume", ValueKind::Quantity(Dim::RESERVOIR_VOLUME), true, "Initial water volume of the aquifer, W_i (reservoir volume, e.g. `2.5e9 rb`)."),
+        key("compressibility", ValueKind::Quantity(Dim::COMPRESSIBILITY), true, "Total compressibility of the aquifer, c_t (water plus rock)."),
+        key("productivity", ValueKind::Quantity(Dim::RESERVOIR_RATE_PER_PRESSURE), true, "Aquifer productivity index J (e.g. `35 rb/day/psi`): influx = J (aquifer pressure - face pressure), shared by the faces by area."),
+        key("i", ValueKind::LayerRange, false, "Columns i of the side it holds, e.g. `3..8`; all by default."),
+        key("j", ValueKind::LayerRange, false, "Rows j of the side it holds, e.g. `1..12`; all by default."),
+        key("k", ValueKind::LayerRange, false, "Layers k of the side it holds, e.g. `2..3`; all by default."),
+    ],
+    children: &[],
+    doc: "A finite aquifer in the pseudo-steady form of Fetkovich: its pressure falls with the water it gives (material balance), and the influx follows its productivity.",
+};
+
 /// The `timeline` block: run length, time steps and events.
 pub static TIMELINE: BlockDef = BlockDef {
     name: "timeline",
@@ -471,7 +489,7 @@ pub static REPORT: BlockDef = BlockDef {
 
 /// Blocks allowed at the top level, plus the `include` directive.
 pub static TOP_LEVEL: &[&BlockDef] = &[
-    &CASE, &GRID, &ROCK, &FLUID, &INITIAL, &WELL, &BOUNDARY, &FAULT, &TIMELINE, &REPORT,
+    &CASE, &GRID, &ROCK, &FLUID, &INITIAL, &WELL, &BOUNDARY, &FAULT, &AQUIFER, &TIMELINE, &REPORT,
 ];
 
 /// The top-level block definition named `name`, if any.

@@ -63,6 +63,7 @@ fn case() -> Case {
         wells: vec![],
         boundaries: vec![],
         faults: Vec::new(),
+        aquifers: Vec::new(),
         timeline: Timeline {
             kind: RunKind::Steady,
             end: 0.0,

@@ -168,6 +168,7 @@ fn demo_case(nx: usize, ny: usize, nz: usize) -> Case {
             origin: Origin::default(),
         }],
         faults: Vec::new(),
+        aquifers: Vec::new(),
         timeline: Timeline {
             kind: RunKind::Transient,
             end: 360.0 * DAY,
@@ -291,6 +292,7 @@ fn demo_results(case: &Case, n: usize) -> RunResults {
             rate: (0..n).map(|t| -220.0 * f(t).sqrt() * STB / DAY).collect(),
             cumulative: cumulative(&|t| -220.0 * f(t).sqrt()),
         }],
+        aquifers: Vec::new(),
         balance_error: (0..n)
             .map(|t| {
                 if t == 0 {

@@ -9,10 +9,12 @@
 //!     {"name": "time", "quantity": "time", "unit": "day", "values": [0, 30, ...]},
 //!     {"name": "LE-1 rate", "quantity": "rate", "well": "LE-1", "unit": "stb/day", "values": [...]},
 //!     {"name": "east aquifer rate", "quantity": "rate", "boundary": "east aquifer", ...},
+//!     {"name": "south flank pressure", "quantity": "pressure", "aquifer": "south flank", ...},
 //!     ...
 //!   ],
 //!   "wells": [{"name": "LE-1", "role": "producer", "control": ["rate", "bhp", ...]}],
 //!   "boundaries": [{"name": "east aquifer", "side": "east"}],
+//!   "aquifers": [{"name": "south flank", "side": "south"}],
 //!   "solver": {"steps": 40, "step_cuts": 1, "newton_iterations": 95, "linear_iterations": 95,
 //!              "linear_solver": "direct"},
 //!   "cautions": ["Results are engineering estimates ...", ...],
@@ -46,6 +48,9 @@ struct Doc<'a> {
     series: Vec<Series<'a>>,
     wells: Vec<Well<'a>>,
     boundaries: Vec<Boundary<'a>>,
+    /// Only when the case has aquifers, so older readers see no change.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    aquifers: Vec<Boundary<'a>>,
     solver: Solver<'a>,
     cautions: &'a [String],
     /// Wells the run shut (they would have flowed against their role) or
@@ -71,6 +76,8 @@ struct Series<'a> {
     well: Option<&'a str>,
     #[serde(skip_serializing_if = "Option::is_none")]
     boundary: Option<&'a str>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    aquifer: Option<&'a str>,
     unit: &'a str,
     values: &'a [f64],
 }
@@ -143,6 +150,10 @@ pub(crate) fn write_json(
                 Some(Owner::Boundary(b)) => Some(results.boundaries[b].name.as_str()),
                 _ => None,
             },
+            aquifer: match c.owner {
+                Some(Owner::Aquifer(a)) => Some(results.aquifers[a].name.as_str()),
+                _ => None,
+            },
             unit: &c.unit.name,
             values: &c.values,
         })
@@ -175,6 +186,18 @@ pub(crate) fn write_json(
                 .map(|cb| cb.side.name()),
         })
         .collect();
+    let aquifers = results
+        .aquifers
+        .iter()
+        .map(|a| Boundary {
+            name: &a.name,
+            side: case
+                .aquifers
+                .iter()
+                .find(|ca| ca.name == a.name)
+                .map(|ca| ca.side.name()),
+        })
+        .collect();
     let stats = &results.stats;
     let doc = Doc {
         format: "rill-series",
@@ -187,6 +210,7 @@ pub(crate) fn write_json(
         series,
         wells,
         boundaries,
+        aquifers,
         solver: Solver {
             steps: stats.steps,
             step_cuts: stats.step_cuts,

@@ -562,6 +562,17 @@ fn validate(case: &Case, results: &RunResults) -> Result<(), OutputError> {
             b.cumulative.len(),
         )?;
     }
+    for a in &results.aquifers {
+        check(&format!("aquifer \"{}\" rate", a.name), a.rate.len())?;
+        check(
+            &format!("aquifer \"{}\" cumulative", a.name),
+            a.cumulative.len(),
+        )?;
+        check(
+            &format!("aquifer \"{}\" pressure", a.name),
+            a.pressure.len(),
+        )?;
+    }
     if cells == 0 {
         return bad("the grid has no cells".into());
     }

@@ -23,6 +23,8 @@ use crate::text::{escape, human};
 use crate::units::{display_unit, system_name, Quantity, Unit};
 use crate::RunMeta;
 
+mod aquifers;
+
 /// Most layer maps shown.
 pub(crate) const MAX_LAYER_MAPS: usize = 12;
 /// Most cells (or blocks) drawn per layer map.
@@ -314,6 +316,7 @@ impl Report<'_> {
             }
             s.push_str("</table>\n");
         }
+        self.aquifer_table(s, t_end);
     }
 
     /// The wells drawn in the charts: all, or the largest by final
@@ -392,6 +395,10 @@ impl Report<'_> {
                 style: nw + b,
             });
         }
+        let aq_labels = self.aquifer_labels();
+        let nb = boundary_labels.len();
+        rate_lines.extend(self.aquifer_lines(&aq_labels, Measure::Rate, nw + nb));
+        cum_lines.extend(self.aquifer_lines(&aq_labels, Measure::Cumulative, nw + nb));
         let bhp_lines = well_lines(Measure::Bhp);
         let avg = self
             .table
@@ -450,6 +457,7 @@ impl Report<'_> {
             }],
             String::new(),
         );
+        self.aquifer_chart(s, &chart, &aq_labels);
         s.push_str("</div>\n</section>\n");
     }
 

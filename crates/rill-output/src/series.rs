@@ -15,6 +15,8 @@ pub(crate) enum Measure {
     Bhp,
     Rate,
     Cumulative,
+    /// An aquifer's pressure.
+    Pressure,
     BalanceError,
 }
 
@@ -27,16 +29,18 @@ impl Measure {
             Measure::Bhp => "bhp",
             Measure::Rate => "rate",
             Measure::Cumulative => "cumulative",
+            Measure::Pressure => "pressure",
             Measure::BalanceError => "balance_error",
         }
     }
 }
 
-/// A well or a boundary that a column belongs to.
+/// A well, a boundary or an aquifer that a column belongs to.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub(crate) enum Owner {
     Well(usize),
     Boundary(usize),
+    Aquifer(usize),
 }
 
 #[derive(Debug, Clone)]
@@ -64,8 +68,9 @@ pub(crate) struct SeriesTable {
 
 impl SeriesTable {
     /// Columns in the order of the spec: time, average pressure, for every
-    /// well its BHP, rate and cumulative, for every boundary its rate, and
-    /// the balance error.
+    /// well its BHP, rate and cumulative, for every boundary its rate, for
+    /// every aquifer its rate, cumulative and pressure, and the balance
+    /// error.
     pub fn new(results: &RunResults, system: System) -> SeriesTable {
         let unit = |q| display_unit(q, system);
         let column = |name: String, measure, owner, unit: Unit, si: &[f64]| Column {
@@ -122,6 +127,30 @@ impl SeriesTable {
                 Some(Owner::Boundary(b)),
                 unit(Quantity::SurfaceRate),
                 &boundary.rate,
+            ));
+        }
+        for (a, aquifer) in results.aquifers.iter().enumerate() {
+            let owner = Some(Owner::Aquifer(a));
+            columns.push(column(
+                format!("{} rate", aquifer.name),
+                Measure::Rate,
+                owner,
+                unit(Quantity::SurfaceRate),
+                &aquifer.rate,
+            ));
+            columns.push(column(
+                format!("{} cumulative", aquifer.name),
+                Measure::Cumulative,
+                owner,
+                unit(Quantity::SurfaceVolume),
+                &aquifer.cumulative,
+            ));
+            columns.push(column(
+                format!("{} pressure", aquifer.name),
+                Measure::Pressure,
+                owner,
+                unit(Quantity::Pressure),
+                &aquifer.pressure,
             ));
         }
         columns.push(column(

@@ -4,7 +4,7 @@
 //! Unknowns: the pressure of every active cell (in grid order), then one
 //! bottom-hole pressure per well. Row `i < n_cells` is the surface-volume
 //! balance of active cell `i` over the step; row `n_cells + w` is well `w`'s
-//! control equation.
+//! control equation. One pressure per aquifer follows (module `aquifer`).
 //!
 //! Every geometric number comes from `rill_model::derived`: interior
 //! transmissibilities from [`derived::connections`], boundary half-cells
@@ -86,6 +86,8 @@ pub(crate) struct Disc {
     pub t_sum: Vec<f64>,
     pub bfaces: Vec<BFace>,
     pub wells: Vec<WellGeom>,
+    /// Aquifers, whose unknowns follow the wells'.
+    pub aquifers: Vec<crate::aquifer::AqGeom>,
 }
 
 impl Disc {
@@ -103,7 +105,7 @@ impl Disc {
         }
         let n_cells = cell_of.len();
         let n_wells = case.wells.len();
-        let n = n_cells + n_wells;
+        let n = n_cells + n_wells + case.aquifers.len();
         let all_depth = derived::cell_center_depths(grid);
         let depth: Vec<f64> = cell_of.iter().map(|&c| all_depth[c]).collect();
         let pv_ref: Vec<f64> = cell_of
@@ -128,6 +130,9 @@ impl Disc {
 
         // Wells: geometry and the (cell, well) couplings, deduplicated.
         let (mut wells, mut couplings) = well_geometry(case, &active_of, &all_depth, &mut t_sum);
+        let (mut aquifers, aq_couplings) =
+            crate::aquifer::geometry(case, &active_of, &all_depth, &mut t_sum);
+        couplings.extend(aq_couplings);
         couplings.sort_unstable();
         couplings.dedup();
         let mut well_cols = vec![0usize; n];
@@ -188,6 +193,7 @@ impl Disc {
                 cp.pos_wc = find(n_cells + w, cp.cell);
             }
         }
+        crate::aquifer::locate(&mut aquifers, n_cells + n_wells, &diag, find);
 
         let bfaces = boundary_faces(case, &active_of, &all_depth, &mut t_sum);
 
@@ -204,11 +210,12 @@ impl Disc {
             t_sum,
             bfaces,
             wells,
+            aquifers,
         }
     }
 
     pub fn n(&self) -> usize {
-        self.n_cells + self.n_wells
+        self.n_cells + self.n_wells + self.aquifers.len()
     }
 
     /// A matrix with this pattern and zero values.
@@ -362,6 +369,8 @@ pub(crate) struct Ctx<'a> {
     pub pinned: &'a [bool],
     /// Diagonal used for pinned cells and dead wells.
     pub pin_scale: f64,
+    /// Aquifer pressures at the start of the step; `None`: aquifers held (steady).
+    pub aquifer_old: Option<&'a [f64]>,
 }
 
 /// Output of an assembly; buffers are reused between calls.
@@ -375,6 +384,10 @@ pub(crate) struct Assembly {
     pub well_rate: Vec<f64>,
     /// Surface rate out through each boundary.
     pub bnd_rate: Vec<f64>,
+    /// Surface rate out through each aquifer (negative: influx).
+    pub aq_rate: Vec<f64>,
+    /// Influx of each aquifer into the reservoir, reservoir m^3/s.
+    pub aq_influx: Vec<f64>,
     /// Scratch: 1/B of every cell.
     bcell: Vec<f64>,
 }
@@ -387,6 +400,8 @@ impl Assembly {
             mass: vec![0.0; d.n_cells],
             well_rate: vec![0.0; d.n_wells],
             bnd_rate: vec![0.0; n_boundaries],
+            aq_rate: vec![0.0; d.aquifers.len()],
+            aq_influx: vec![0.0; d.aquifers.len()],
             bcell: vec![0.0; d.n()],
         }
     }
@@ -552,6 +567,7 @@ pub(crate) fn assemble(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) {
     });
 
     add_boundaries_and_wells(d, ctx, x, out);
+    crate::aquifer::add(d, ctx, x, out);
 }
 
 /// Adds the boundary faces and the wells to an assembly whose cell rows
@@ -692,6 +708,7 @@ mod tests {
                 origin: Origin::default(),
             }],
             faults: Vec::new(),
+            aquifers: Vec::new(),
             timeline: Timeline {
                 kind: RunKind::Transient,
                 end: 1e5,
@@ -739,6 +756,7 @@ mod tests {
             bface_p: &bface_p,
             pinned: &[],
             pin_scale: 1.0,
+            aquifer_old: None,
         };
         let mut a = Assembly::new(&d, 1);
         assemble(&d, &ctx, &x, &mut a);

@@ -20,6 +20,9 @@
 //!   shut and reopened when it can flow again (module `run::controls`);
 //! * boundaries: half-cell transmissibility to a constant (or hydrostatic)
 //!   pressure at the face centre;
+//! * aquifers: Fetkovich's pseudo-steady finite aquifer, one pressure
+//!   unknown each, its material balance coupled implicitly in Newton;
+//!   steady runs hold them (module `aquifer`);
 //! * backward Euler, Newton with line search, step halving, report times
 //!   hit exactly; steady runs solve the incompressible pressure equation
 //!   (`B`, `rho` at their reference values, initial controls; events do not
@@ -32,6 +35,7 @@
 #![warn(missing_docs)]
 #![warn(clippy::too_many_lines)]
 
+mod aquifer;
 mod disc;
 /// The linear algebra, a crate of its own; kept under this name for the front ends.
 pub use rill_linear as linear;

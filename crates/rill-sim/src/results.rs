@@ -71,6 +71,20 @@ pub struct BoundarySeries {
     pub cumulative: Vec<f64>,
 }
 
+/// One aquifer's series, one value per report time.
+#[derive(Debug, Clone, PartialEq)]
+pub struct AquiferSeries {
+    /// The aquifer's name in the deck.
+    pub name: String,
+    /// Surface rate out of the reservoir into the aquifer, m^3/s (negative:
+    /// influx, the usual direction), as for boundaries.
+    pub rate: Vec<f64>,
+    /// Cumulative surface volume out into the aquifer, m^3 (negative: influx).
+    pub cumulative: Vec<f64>,
+    /// The aquifer's pressure at the mean depth of its faces, Pa.
+    pub pressure: Vec<f64>,
+}
+
 /// What the run cost the solvers.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct SolverStats {
@@ -101,6 +115,9 @@ pub struct RunResults {
     pub wells: Vec<WellSeries>,
     /// One series per boundary, in deck order.
     pub boundaries: Vec<BoundarySeries>,
+    /// One series per aquifer, in deck order (steady runs: no influx, the
+    /// initial pressure).
+    pub aquifers: Vec<AquiferSeries>,
     /// Relative mass balance error of the last step before each report time:
     /// |change of surface volume in place + net outflow over the step| over
     /// the largest of the volume in place, the step's gross throughput and

@@ -285,6 +285,8 @@ struct Runner<'a> {
     pvt: Pvt,
     /// Pressure at each boundary face, Pa.
     bface_p: Vec<f64>,
+    /// Aquifer pressures at the start of the current step.
+    aq_old: Vec<f64>,
     /// Cells held at their initial pressure (empty: none); see `floating`.
     pinned: Vec<bool>,
     /// Weight of the equation that holds a pinned cell, per second of step.
@@ -347,6 +349,7 @@ impl<'a> Runner<'a> {
             pin_scale: t_typ * lam_ref,
             lam_ref,
             bface_p,
+            aq_old: d.aquifers.iter().map(|g| g.p_init).collect(),
             pvt,
             solver: linear::Solver::new(options.linear.clone()),
             first_system_sent: false,
@@ -377,6 +380,10 @@ fn initial_state(case: &Case, d: &Disc) -> Vec<f64> {
                 x[i] = values[c];
             }
         }
+    }
+    let first = d.n_cells + d.n_wells;
+    for (a, g) in d.aquifers.iter().enumerate() {
+        x[first + a] = g.p_init;
     }
     x
 }
@@ -485,6 +492,7 @@ impl Runner<'_> {
             bface_p: &self.bface_p,
             pinned: &self.pinned,
             pin_scale: self.pin_scale * dt,
+            aquifer_old: mass_old.map(|_| self.aq_old.as_slice()),
         }
     }
 
@@ -520,6 +528,15 @@ impl Runner<'_> {
             };
             mw = mw.max(v);
             sw += v * v;
+        }
+        // Aquifer rows: volume mismatch over the water volume (with the
+        // cells' floor), checked with the cells' mass tolerance.
+        let (mut mx, mut ss) = (mx, ss);
+        for (k, g) in d.aquifers.iter().enumerate() {
+            let j: f64 = g.faces.iter().map(|f| f.j).sum();
+            let v = a.resid[nc + d.n_wells + k].abs() / (g.water_volume + dt * j);
+            mx = mx.max(v);
+            ss += v * v;
         }
         let merit = (ss + sw).sqrt();
         Residual {

@@ -12,7 +12,7 @@ syntax match rillIdentifier /\<\h\w*\>/
 syntax match rillEnum /\<\%(producer\|injector\|west\|east\|south\|north\|top\|bottom\|transient\|steady\|field\|metric\|si\|rate\|bhp\|layers\|cells\|columns\)\>\%(\s*=\)\@!/
 syntax match rillFile /\<file\>\%(\s*=\)\@!/ nextgroup=rillFileString skipwhite
 syntax match rillDatum /\<at\>/
-syntax match rillBlock /\%(^\|[{;]\)\s*\zs\<\%(case\|grid\|rock\|fluid\|initial\|well\|boundary\|fault\|timeline\|report\|patch\|at\|include\)\>\ze\%(\s*=\)\@!/
+syntax match rillBlock /\%(^\|[{;]\)\s*\zs\<\%(case\|grid\|rock\|fluid\|initial\|well\|boundary\|fault\|aquifer\|timeline\|report\|patch\|at\|include\)\>\ze\%(\s*=\)\@!/
 syntax match rillKey /\<\h\w*\ze\s*=\(=\)\@!/
 
 syntax match rillOperator /[=*/+-]/

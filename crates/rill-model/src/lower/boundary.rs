@@ -116,7 +116,8 @@ impl<'s> Lowerer<'s> {
             .collect()
     }
 
-    /// The `i`, `j`, `k` selectors of a boundary or a fault (1-based in the deck).
+    /// The `i`, `j`, `k` selectors of a boundary, an aquifer or a fault
+    /// (1-based in the deck).
     pub(super) fn boundary_selection(
         &mut self,
         file: usize,

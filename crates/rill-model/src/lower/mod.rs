@@ -2,6 +2,7 @@
 //! checked [`Case`] in SI, with a diagnostic for everything that does not fit
 //! the schema. Physical sanity checks run afterwards in `checks`.
 
+mod aquifer;
 mod boundary;
 mod fault;
 mod fluid;
@@ -221,6 +222,15 @@ impl<'s> Lowerer<'s> {
                     .collect()
             })
             .unwrap_or_default();
+        let aquifers: Vec<Aquifer> = blocks
+            .get("aquifer")
+            .map(|v| {
+                v.iter()
+                    .filter_map(|f| self.lower_aquifer(f.file, f.block, &grid))
+                    .collect()
+            })
+            .unwrap_or_default();
+        let aquifers = self.aquifers_without_overlap(aquifers, &boundaries, &grid);
         let timeline =
             timeline_found.and_then(|f| self.lower_timeline(f.file, f.block, &wells, &mut spans));
         let report = blocks
@@ -237,9 +247,11 @@ impl<'s> Lowerer<'s> {
         let expected_wells = blocks.get("well").map(|v| v.len()).unwrap_or(0);
         let expected_boundaries = blocks.get("boundary").map(|v| v.len()).unwrap_or(0);
         let expected_faults = blocks.get("fault").map(|v| v.len()).unwrap_or(0);
+        let expected_aquifers = blocks.get("aquifer").map(|v| v.len()).unwrap_or(0);
         if wells.len() != expected_wells
             || boundaries.len() != expected_boundaries
             || faults.len() != expected_faults
+            || aquifers.len() != expected_aquifers
         {
             return (None, spans);
         }
@@ -252,6 +264,7 @@ impl<'s> Lowerer<'s> {
             wells,
             boundaries,
             faults,
+            aquifers,
             timeline,
             report,
         };

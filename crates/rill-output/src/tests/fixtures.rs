@@ -101,6 +101,7 @@ pub fn case(nx: usize, ny: usize, nz: usize, units: UnitSystem) -> Case {
             origin: Origin::default(),
         }],
         faults: Vec::new(),
+        aquifers: Vec::new(),
         timeline: Timeline {
             kind: RunKind::Transient,
             end: 20.0 * DAY,
@@ -161,6 +162,7 @@ pub fn results(case: &Case) -> RunResults {
             rate: vec![0.0, -150.0 * STB / DAY, -175.0 * STB / DAY],
             cumulative: vec![0.0, -1500.0 * STB, -3250.0 * STB],
         }],
+        aquifers: Vec::new(),
         balance_error: vec![0.0, 1.5e-9, 2.25e-9],
         pressure,
         events: Vec::new(),

@@ -1,6 +1,8 @@
 //! Cells that no boundary and no BHP well hold at a pressure level: without
 //! accumulation (incompressible, or a steady run) their pressure is not
-//! determined, so they keep their initial one.
+//! determined, so they keep their initial one. In a transient run an
+//! aquifer holds its cells' region too (its own compressibility sets the
+//! level); in a steady run it supplies nothing and holds nothing.
 
 use rill_model::Control;
 
@@ -46,6 +48,12 @@ impl Runner<'_> {
         for f in &d.bfaces {
             let root = find(&mut parent, f.cell);
             anchored[root] = true;
+        }
+        if self.case.timeline.kind == rill_model::RunKind::Transient {
+            for f in d.aquifers.iter().flat_map(|g| &g.faces) {
+                let root = find(&mut parent, f.cell);
+                anchored[root] = true;
+            }
         }
         for (w, wg) in d.wells.iter().enumerate() {
             if wg.wi_sum > 0.0 && matches!(wells[w].control, Control::Bhp(_)) {

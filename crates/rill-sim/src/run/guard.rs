@@ -55,6 +55,20 @@ impl Runner<'_> {
                 });
             }
         }
+        let first = nc + self.d.n_wells;
+        for (a, aq) in self.case.aquifers.iter().enumerate() {
+            let p = x[first + a];
+            if !(p.is_finite() && p > 0.0) {
+                return Err(RunError::Unphysical {
+                    step,
+                    time: t,
+                    reason: format!(
+                        "the pressure of aquifer \"{}\" is {p:.6e} Pa: it gave more water than its compressibility holds (c_t W_i p_ai); check `water_volume` and `compressibility`, or the rates it supports",
+                        aq.name
+                    ),
+                });
+            }
+        }
         Ok(())
     }
 

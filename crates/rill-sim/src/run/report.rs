@@ -14,6 +14,8 @@ pub(super) struct ReportRow<'a> {
     pub(super) well_cum: &'a [f64],
     pub(super) bnd_rate: &'a [f64],
     pub(super) bnd_cum: &'a [f64],
+    pub(super) aq_rate: &'a [f64],
+    pub(super) aq_cum: &'a [f64],
     pub(super) balance: f64,
 }
 
@@ -40,6 +42,16 @@ pub(super) fn empty_results(case: &Case) -> RunResults {
                 name: b.name.clone(),
                 rate: Vec::new(),
                 cumulative: Vec::new(),
+            })
+            .collect(),
+        aquifers: case
+            .aquifers
+            .iter()
+            .map(|a| AquiferSeries {
+                name: a.name.clone(),
+                rate: Vec::new(),
+                cumulative: Vec::new(),
+                pressure: Vec::new(),
             })
             .collect(),
         balance_error: Vec::new(),
@@ -120,6 +132,11 @@ impl Runner<'_> {
         for (b, s) in res.boundaries.iter_mut().enumerate() {
             s.rate.push(row.bnd_rate[b]);
             s.cumulative.push(row.bnd_cum[b]);
+        }
+        for (a, s) in res.aquifers.iter_mut().enumerate() {
+            s.rate.push(row.aq_rate[a]);
+            s.cumulative.push(row.aq_cum[a]);
+            s.pressure.push(x[nc + d.n_wells + a]);
         }
         res.balance_error.push(row.balance);
         let mut p = vec![f64::NAN; self.case.grid.cell_count()];

@@ -64,6 +64,9 @@ impl Runner<'_> {
             for (i, _) in self.pinned.iter().enumerate().filter(|(_, p)| **p) {
                 sol[i] = x[i];
             }
+            // So do the aquifers, which supply nothing at steady state.
+            let first = nc + self.d.n_wells;
+            sol[first..].copy_from_slice(&x[first..]);
             *x = sol;
             rounds += 1;
             if self.update_controls(wells, x) && rounds <= 2 * self.opts.newton.max_switches + 1 {
@@ -91,6 +94,7 @@ impl Runner<'_> {
         self.stats.steps = 1;
         let zeros_w = vec![0.0; self.d.n_wells];
         let zeros_b = vec![0.0; self.case.boundaries.len()];
+        let zeros_a = vec![0.0; self.d.aquifers.len()];
         self.record(
             res,
             x,
@@ -101,6 +105,8 @@ impl Runner<'_> {
                 well_cum: &zeros_w,
                 bnd_rate: &asm.bnd_rate,
                 bnd_cum: &zeros_b,
+                aq_rate: &zeros_a,
+                aq_cum: &zeros_a,
                 balance,
             },
             observer,

@@ -136,6 +136,8 @@ struct Accumulation {
     mass_old: Vec<f64>,
     well_cum: Vec<f64>,
     bnd_cum: Vec<f64>,
+    /// Cumulative surface volume out through each aquifer.
+    aq_cum: Vec<f64>,
 }
 
 impl Runner<'_> {
@@ -194,6 +196,8 @@ impl Runner<'_> {
                         well_cum: &acc.well_cum,
                         bnd_rate: &acc.asm.bnd_rate,
                         bnd_cum: &acc.bnd_cum,
+                        aq_rate: &acc.asm.aq_rate,
+                        aq_cum: &acc.aq_cum,
                         balance,
                     },
                     observer,
@@ -219,9 +223,10 @@ impl Runner<'_> {
         self.mass_into(x, &mut mass_old);
         let shut: Vec<f64> = (0..nw).map(|w| self.shut_in_bhp(x, w)).collect();
         let mut x0 = x.to_vec();
-        x0[self.d.n_cells..].copy_from_slice(&shut);
+        x0[self.d.n_cells..self.d.n_cells + nw].copy_from_slice(&shut);
         let zw = vec![0.0; nw];
         let zb = vec![0.0; nb];
+        let za = vec![0.0; self.d.aquifers.len()];
         self.record(
             res,
             &x0,
@@ -232,6 +237,8 @@ impl Runner<'_> {
                 well_cum: &zw,
                 bnd_rate: &zb,
                 bnd_cum: &zb,
+                aq_rate: &za,
+                aq_cum: &za,
                 balance: 0.0,
             },
             observer,
@@ -242,6 +249,7 @@ impl Runner<'_> {
             mass_old,
             well_cum: vec![0.0; nw],
             bnd_cum: vec![0.0; nb],
+            aq_cum: za,
         }
     }
 
@@ -259,6 +267,8 @@ impl Runner<'_> {
         observer: &mut dyn Observer,
     ) -> Result<Taken, RunError> {
         let x_before = x.to_vec();
+        let first = self.d.n_cells + self.d.n_wells;
+        self.aq_old.copy_from_slice(&x[first..]);
         let wells_before = wells.to_vec();
         let mut taken = Taken {
             dt: proposal.dt,
@@ -337,11 +347,18 @@ impl Runner<'_> {
             .with_min_len(4096)
             .map(|i| (asm.mass[i] - mass_old[i], asm.mass[i]))
             .reduce(|| (0.0, 0.0), |p, q| (p.0 + q.0, p.1 + q.1));
-        let out: f64 = asm.well_rate.iter().chain(&asm.bnd_rate).sum::<f64>() * dt;
+        let out: f64 = asm
+            .well_rate
+            .iter()
+            .chain(&asm.bnd_rate)
+            .chain(&asm.aq_rate)
+            .sum::<f64>()
+            * dt;
         let gross: f64 = asm
             .well_rate
             .iter()
             .chain(&asm.bnd_rate)
+            .chain(&asm.aq_rate)
             .map(|q| q.abs())
             .sum::<f64>()
             * dt;
@@ -355,6 +372,9 @@ impl Runner<'_> {
             *c += q * dt;
         }
         for (c, q) in acc.bnd_cum.iter_mut().zip(&asm.bnd_rate) {
+            *c += q * dt;
+        }
+        for (c, q) in acc.aq_cum.iter_mut().zip(&asm.aq_rate) {
             *c += q * dt;
         }
         acc.mass_old.copy_from_slice(&acc.asm.mass);

@@ -61,6 +61,7 @@ pub fn block(dx: Vec<f64>, dy: Vec<f64>, dz_layers: Vec<f64>, top: f64) -> Case 
         wells: Vec::new(),
         boundaries: Vec::new(),
         faults: Vec::new(),
+        aquifers: Vec::new(),
         timeline: Timeline {
             kind: RunKind::Transient,
             end: 10.0 * DAY,
