@@ -18,7 +18,7 @@ use rill_sim::{ControlMode, RunResults};
 
 use crate::json::mode_name;
 use crate::series::{Measure, Owner, SeriesTable};
-use crate::svg::{colour_bar, HeatMap, Line, LineChart};
+use crate::svg::{colour_bar, widen, HeatMap, Line, LineChart};
 use crate::text::{escape, human};
 use crate::units::{display_unit, system_name, Quantity, Unit};
 use crate::RunMeta;
@@ -43,6 +43,8 @@ pub(crate) struct Report<'a> {
     pub meta: &'a RunMeta,
     pub table: &'a SeriesTable,
     pub title: &'a str,
+    /// The case's name (`case "..."`), when the deck gives one.
+    pub case_name: Option<&'a str>,
     /// Every caution, [`CAUTION`] first.
     pub cautions: &'a [String],
     /// Relative paths of the other files in the result set.
@@ -60,6 +62,7 @@ const STYLE: &str = r#"
 body { margin: 0; font: 14px/1.5 system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", Arial, "Noto Sans", "DejaVu Sans", sans-serif; color: var(--ink); background: #f6f7f8; }
 header { background: var(--band); color: #fff; padding: 22px 32px 18px; }
 header h1 { margin: 0 0 4px; font-size: 24px; font-weight: 600; letter-spacing: .01em; overflow-wrap: anywhere; }
+header .title { color: #e4e9ee; font-size: 15px; margin: 0 0 4px; overflow-wrap: anywhere; }
 header .sub { color: #c9d3dd; font-size: 13px; overflow-wrap: anywhere; }
 main { max-width: 1160px; margin: 0 auto; padding: 18px 24px 40px; }
 section { background: #fff; border: 1px solid var(--rule); border-radius: 6px; padding: 16px 20px 18px; margin: 16px 0; }
@@ -92,21 +95,39 @@ code { font-family: ui-monospace, "SFMono-Regular", Menlo, Consolas, "DejaVu San
 "#;
 
 impl Report<'_> {
+    /// The page's heading (the case's name, else the title) and the title
+    /// under it when it says something else.
+    fn heading(&self) -> (&str, Option<&str>) {
+        match self.case_name {
+            Some(name) if name != self.title => (name, Some(self.title)),
+            Some(name) => (name, None),
+            None => (self.title, None),
+        }
+    }
+
     fn page(&self) -> String {
         let mut s = String::with_capacity(1 << 16);
         let system = self.case.report.units;
+        let (heading, subtitle) = self.heading();
+        let full = match subtitle {
+            Some(t) => format!("{heading}: {t}"),
+            None => heading.to_string(),
+        };
         let _ = write!(
             s,
             "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n\
              <meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n\
              <meta name=\"generator\" content=\"rill {}\">\n<title>{} — rill report</title>\n<style>{STYLE}</style>\n</head>\n<body>\n",
             escape(&self.meta.rill_version),
-            escape(self.title)
+            escape(&full)
         );
         let _ = write!(
             s,
-            "<header>\n<h1>{}</h1>\n<div class=\"sub\">Deck <code>{}</code> · units: {} · rill {}{}</div>\n</header>\n<main>\n",
-            escape(self.title),
+            "<header>\n<h1>{}</h1>\n{}<div class=\"sub\">Deck <code>{}</code> · units: {} · rill {}{}</div>\n</header>\n<main>\n",
+            escape(heading),
+            subtitle
+                .map(|t| format!("<div class=\"title\">{}</div>\n", escape(t)))
+                .unwrap_or_default(),
             escape(&self.meta.deck.display().to_string()),
             system_name(system),
             escape(&self.meta.rill_version),
@@ -161,7 +182,11 @@ impl Report<'_> {
         let row = |s: &mut String, k: &str, v: String| {
             let _ = writeln!(s, "<tr><td>{k}</td><td>{v}</td></tr>");
         };
-        row(s, "Case", escape(self.title));
+        let (heading, subtitle) = self.heading();
+        row(s, "Case", escape(heading));
+        if let Some(t) = subtitle {
+            row(s, "Title", escape(t));
+        }
         row(
             s,
             "Deck",
@@ -298,7 +323,12 @@ impl Report<'_> {
                 escape(&q_unit.name),
                 escape(&v_unit.name)
             );
-            for b in &results.boundaries {
+            for (n, b) in results.boundaries.iter().enumerate() {
+                let last = |m| {
+                    self.table
+                        .find(Some(Owner::Boundary(n)), m)
+                        .and_then(|c| c.values.last().copied())
+                };
                 let side = case
                     .boundaries
                     .iter()
@@ -308,8 +338,8 @@ impl Report<'_> {
                     s,
                     "<tr><td>{}</td><td>{side}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>",
                     escape(&b.name),
-                    b.rate.last().map_or("–".into(), |&v| human(q_unit.show(v))),
-                    b.cumulative.last().map_or("–".into(), |&v| human(v_unit.show(v))),
+                    last(Measure::Rate).map_or("–".into(), human),
+                    last(Measure::Cumulative).map_or("–".into(), human),
                 );
             }
             s.push_str("</table>\n");
@@ -339,6 +369,9 @@ impl Report<'_> {
         (shown, cap_note)
     }
 
+    // The four charts are set up side by side so that their series, axes
+    // and captions read together; split, each part would need them all.
+    #[allow(clippy::too_many_lines)]
     fn charts(&self, s: &mut String) {
         let results = self.results;
         let system = self.case.report.units;
@@ -349,11 +382,6 @@ impl Report<'_> {
         let p_unit = display_unit(Quantity::Pressure, system);
 
         let (shown, cap_note) = self.shown_wells();
-        let boundary_cum: Vec<Vec<f64>> = results
-            .boundaries
-            .iter()
-            .map(|b| b.cumulative.iter().map(|&v| v_unit.show(v)).collect())
-            .collect();
         let boundary_labels: Vec<String> = results
             .boundaries
             .iter()
@@ -370,6 +398,7 @@ impl Report<'_> {
                         name: &results.wells[w].name,
                         ys: &c.values,
                         style: n,
+                        steps: m == Measure::Rate,
                     })
                 })
                 .collect()
@@ -381,16 +410,23 @@ impl Report<'_> {
                     name: label,
                     ys: &c.values,
                     style: nw + b,
+                    steps: true,
                 });
             }
         }
         let mut cum_lines = well_lines(Measure::Cumulative);
         for (b, label) in boundary_labels.iter().enumerate() {
-            cum_lines.push(Line {
-                name: label,
-                ys: &boundary_cum[b],
-                style: nw + b,
-            });
+            if let Some(c) = self
+                .table
+                .find(Some(Owner::Boundary(b)), Measure::Cumulative)
+            {
+                cum_lines.push(Line {
+                    name: label,
+                    ys: &c.values,
+                    style: nw + b,
+                    steps: false,
+                });
+            }
         }
         let bhp_lines = well_lines(Measure::Bhp);
         let avg = self
@@ -399,37 +435,46 @@ impl Report<'_> {
             .expect("always present");
 
         s.push_str("<section>\n<h2>Time series</h2>\n<div class=\"charts\">\n");
-        let chart =
-            |s: &mut String, title: &str, y_label: String, lines: Vec<Line>, caption: String| {
-                s.push_str("<figure>\n<h3>");
-                s.push_str(&escape(title));
-                s.push_str("</h3>\n");
-                if lines.is_empty() {
-                    s.push_str("<p class=\"empty\">Nothing to plot: no wells or boundaries.</p>\n");
-                } else {
-                    let chart = LineChart {
-                        title,
-                        x_label: &x_label,
-                        y_label: &y_label,
-                        xs: &time.values,
-                        lines,
-                    };
-                    s.push_str(&chart.render());
-                }
-                let _ = writeln!(s, "<figcaption>{caption}</figcaption>\n</figure>");
-            };
+        let p_span = min_pressure_span(&p_unit);
+        let chart = |s: &mut String,
+                     title: &str,
+                     y_label: String,
+                     lines: Vec<Line>,
+                     min_span: Option<f64>,
+                     caption: String| {
+            s.push_str("<figure>\n<h3>");
+            s.push_str(&escape(title));
+            s.push_str("</h3>\n");
+            if lines.is_empty() {
+                s.push_str("<p class=\"empty\">Nothing to plot: no wells or boundaries.</p>\n");
+            } else {
+                let chart = LineChart {
+                    title,
+                    x_label: &x_label,
+                    y_label: &y_label,
+                    xs: &time.values,
+                    lines,
+                    min_span,
+                };
+                s.push_str(&chart.render());
+            }
+            let _ = writeln!(s, "<figcaption>{caption}</figcaption>\n</figure>");
+        };
         chart(
             s,
             "Surface rates",
             format!("Rate [{}]", q_unit.name),
             rate_lines,
-            format!("Positive: production; negative: injection or inflow. Boundaries dashed after the wells.{cap_note}"),
+            None,
+            format!("Positive: production; negative: injection or inflow. Boundaries dashed after the wells. \
+                     Each rate is drawn as a step: the value at a report time held over the interval that ends there.{cap_note}"),
         );
         chart(
             s,
             "Cumulative volumes",
             format!("Cumulative [{}]", v_unit.name),
             cum_lines,
+            None,
             format!("At surface conditions.{cap_note}"),
         );
         chart(
@@ -437,6 +482,7 @@ impl Report<'_> {
             "Bottom-hole pressure",
             format!("BHP [{}]", p_unit.name),
             bhp_lines,
+            Some(p_span),
             format!("At each well's datum.{cap_note}"),
         );
         chart(
@@ -447,7 +493,9 @@ impl Report<'_> {
                 name: "pore-volume weighted average",
                 ys: &avg.values,
                 style: 0,
+                steps: false,
             }],
+            Some(p_span),
             String::new(),
         );
         s.push_str("</div>\n</section>\n");
@@ -486,7 +534,7 @@ impl Report<'_> {
         let y_edges = edges(&grid.dy, block);
 
         let maps = layer_maps(case, pressure, &layers, block, &p_unit, &length);
-        let range = colour_range(&maps);
+        let range = colour_range(&maps, min_pressure_span(&p_unit));
 
         let _ = writeln!(
             s,
@@ -587,12 +635,16 @@ impl Report<'_> {
             system_name(self.case.report.units)
         );
         if self.files.iter().any(|f| f.ends_with(".pvd")) {
-            let steps = self.files.iter().filter(|f| f.ends_with(".vtr")).count();
+            let steps = self
+                .files
+                .iter()
+                .filter(|f| f.ends_with(".vtr") || f.ends_with(".vts"))
+                .count();
             let _ = writeln!(
                 s,
                 "<li>3-D maps for ParaView: <code>maps/rill.pvd</code> ({steps} report times). z is elevation (−depth); \
-                 the layer interfaces use the mean depth over all columns, and the cell array <code>depth</code> \
-                 holds the true depth of each cell centre.</li>"
+                 a grid whose layers dip is written with its corner points (each at the mean depth of the columns \
+                 around it), and the cell array <code>depth</code> holds the depth of each cell centre.</li>"
             );
         }
         s.push_str(
@@ -757,8 +809,9 @@ fn layer_maps(
 }
 
 /// The one colour scale of all maps: the lowest and highest value drawn,
-/// widened to a unit span when they agree, (0, 1) when nothing is drawn.
-fn colour_range(maps: &[LayerMap]) -> (f64, f64) {
+/// widened to `min_span` (display units) about its middle, (0, 1) when
+/// nothing is drawn.
+fn colour_range(maps: &[LayerMap], min_span: f64) -> (f64, f64) {
     let (lo, hi) = maps
         .iter()
         .flat_map(|(_, v, _)| v.iter().flatten())
@@ -766,12 +819,21 @@ fn colour_range(maps: &[LayerMap]) -> (f64, f64) {
             (a.min(v), b.max(v))
         });
     if lo.is_finite() {
-        if hi > lo {
-            (lo, hi)
-        } else {
-            (lo - 0.5, hi + 0.5)
-        }
+        widen(lo, hi, min_span)
     } else {
         (0.0, 1.0)
     }
+}
+
+/// The smallest span of a pressure axis or colour scale, Pa: 50 kPa (about
+/// 7 psi, 0.5 bar). Pressure gauges in wells read to a few psi at best, and
+/// the solver settles pressures to 0.1 Pa, so a spread smaller than this is
+/// nothing an engineer would call a trend; drawn across a full axis it
+/// would look like one (round-off at 3000 psi is about 1e-12 psi). A real
+/// change of 1 psi still covers a seventh of the axis.
+pub(crate) const MIN_PRESSURE_SPAN: f64 = 50e3;
+
+/// [`MIN_PRESSURE_SPAN`] in the display unit `p_unit`.
+pub(crate) fn min_pressure_span(p_unit: &Unit) -> f64 {
+    p_unit.show(MIN_PRESSURE_SPAN)
 }
