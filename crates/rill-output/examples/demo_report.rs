@@ -311,5 +311,6 @@ fn demo_results(case: &Case, n: usize) -> RunResults {
             linear_solver: "direct".into(),
             wall_seconds: 1.62,
         },
+        flow_per_pascal: 0.0,
     }
 }

@@ -17,6 +17,8 @@
 //! - [`write_system`] / [`write_system_with`] write `matrix.mtx` and
 //!   `rhs.mtx` for `rill run --export-system DIR` (the MatrixMarket text
 //!   itself comes from `rill-sim`).
+//! - [`ZeroScale`] says which rates and cumulatives are written as 0
+//!   (round-off against the run's scale; the results keep their numbers).
 //! - [`RunMeta`] carries what the report shows beyond the results: deck path,
 //!   title, rill version, wall time, start time, cautions from the checker.
 //!
@@ -108,6 +110,7 @@ use rill_model::{Case, MapSelection};
 use rill_sim::RunResults;
 
 pub use report::CAUTION;
+pub use series::ZeroScale;
 
 /// What the report and `series.json` show beyond the case and the results.
 #[derive(Debug, Clone, PartialEq)]

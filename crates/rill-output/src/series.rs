@@ -6,14 +6,16 @@
 //! A rate or cumulative volume whose magnitude is at most
 //! [`ZERO_RELATIVE`] times the run's scale of that measure is written as 0:
 //! a shut-in well's `-1.15697e-12 stb/day` is round-off of a flow the
-//! solver never resolved, not a flow. The scale of rates is the largest
-//! |rate| of any well or boundary at any report time; the scale of
-//! cumulatives is the larger of the largest |cumulative| and the volume
-//! that largest rate moves over the run. Only what is written changes:
+//! solver never resolved, not a flow. The scale of rates is the larger of
+//! the largest |rate| of any well or boundary at any report time and the
+//! flow the reservoir's pressure could drive through its most conductive
+//! cell (`RunResults::flow_per_pascal` times the largest average
+//! pressure), so that a run in which nothing flows still has a scale; the
+//! scale of cumulatives is the larger of the largest |cumulative| and the
+//! volume the rate scale moves over the run. Only what is written changes:
 //! `RunResults` keep the simulator's numbers. Pressures, times and the
 //! balance error (already relative, and small on purpose) are never
-//! snapped. A run in which nothing flows has no scale to compare with and
-//! keeps its numbers as they are.
+//! snapped.
 
 use rill_sim::RunResults;
 use rill_units::System;
@@ -26,14 +28,17 @@ use crate::units::{display_unit, Quantity, Unit};
 /// a resolved number.
 pub(crate) const ZERO_RELATIVE: f64 = 1e-9;
 
-/// The run's scales of rates and cumulatives (SI) for [`ZERO_RELATIVE`].
+/// When a rate or cumulative is written as zero (see the module doc): the
+/// run's scales of rates and cumulatives, SI. The summary of a run uses it
+/// too, so that it prints what the files hold.
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub(crate) struct ZeroScale {
+pub struct ZeroScale {
     rate: f64,
     volume: f64,
 }
 
 impl ZeroScale {
+    /// The scales of `results`.
     pub fn new(results: &RunResults) -> ZeroScale {
         let largest = |series: &mut dyn Iterator<Item = &f64>| {
             series
@@ -47,6 +52,12 @@ impl ZeroScale {
                 .flat_map(|w| &w.rate)
                 .chain(results.boundaries.iter().flat_map(|b| &b.rate)),
         );
+        let drive = results.flow_per_pascal * largest(&mut results.pressure_avg.iter());
+        let rate = if drive.is_finite() {
+            rate.max(drive)
+        } else {
+            rate
+        };
         let cumulative = largest(
             &mut results
                 .wells

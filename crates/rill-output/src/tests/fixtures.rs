@@ -179,6 +179,7 @@ pub fn results(case: &Case) -> RunResults {
             linear_solver: "direct".into(),
             wall_seconds: 0.125,
         },
+        flow_per_pascal: 0.0,
     }
 }
 

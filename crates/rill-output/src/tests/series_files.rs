@@ -349,10 +349,11 @@ fn round_off_rates_and_volumes_are_written_as_zero() {
     assert!(close(num(&rows[3][6]), -1e-6), "{}", rows[3][6]);
 }
 
-/// With nothing flowing anywhere there is no scale to call a value
-/// round-off against: the numbers stay as they are.
+/// With nothing flowing anywhere, the scale is the flow the reservoir's
+/// pressure could drive (`flow_per_pascal` times the average pressure);
+/// without that either, there is no scale and the numbers stay.
 #[test]
-fn a_run_where_nothing_flows_keeps_its_numbers() {
+fn a_run_where_nothing_flows_snaps_against_the_flow_its_pressure_could_drive() {
     let (dir, deck) = deck_dir();
     let case = case(3, 2, 2, UnitSystem::Field);
     let mut results = results(&case);
@@ -364,8 +365,20 @@ fn a_run_where_nothing_flows_keeps_its_numbers() {
         b.rate = vec![0.0; 3];
         b.cumulative = vec![0.0; 3];
     }
-    let files =
-        write_results(&dir.path().join("o"), &case, &results, &RunMeta::new(&deck)).unwrap();
-    let rows = parse_csv(&std::fs::read_to_string(&files.series_csv).unwrap());
+    let written = |results: &rill_sim::RunResults, name: &str| {
+        let files =
+            write_results(&dir.path().join(name), &case, results, &RunMeta::new(&deck)).unwrap();
+        parse_csv(&std::fs::read_to_string(&files.series_csv).unwrap())
+    };
+    let rows = written(&results, "unknown");
     assert!(close(num(&rows[2][3]), 3e-12), "{}", rows[2][3]);
+    // 1e-8 m^3/s per Pa at about 3000 psi (2.07e7 Pa): a scale of 0.2 m^3/s,
+    // against which 3e-12 stb/day (5.5e-18 m^3/s) is round-off.
+    results.flow_per_pascal = 1e-8;
+    let rows = written(&results, "known");
+    assert_eq!(rows[2][3], "0");
+    // A real trickle of 1 stb/day (1.8e-6 m^3/s, above 2e-10) stays.
+    results.wells[0].rate[2] = 1.0 * STB / DAY;
+    let rows = written(&results, "trickle");
+    assert!(close(num(&rows[3][3]), 1.0), "{}", rows[3][3]);
 }
