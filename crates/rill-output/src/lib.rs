@@ -94,6 +94,7 @@
 mod atomic;
 mod csv;
 mod json;
+mod layers;
 mod report;
 mod series;
 mod svg;

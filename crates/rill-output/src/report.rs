@@ -7,20 +7,22 @@
 //! evenly from top to bottom (the page says which); a layer with more than
 //! [`MAP_CELL_LIMIT`] columns is drawn as area-weighted block averages of
 //! `b x b` columns so that each map has at most [`MAP_CELL_LIMIT`] blocks.
-//! The VTK maps keep every cell.
+//! The VTK maps keep every cell. The layer choice, block averages and
+//! colour scale are in `layers.rs`.
 
 use std::fmt::Write as _;
 use std::io::{self, Write};
 
-use rill_model::derived::cell_center_depths;
 use rill_model::{Case, Control, Role};
 use rill_sim::{ControlMode, RunResults};
 
 use crate::json::mode_name;
+pub(crate) use crate::layers::{block_size, chosen_layers};
+use crate::layers::{colour_range, layer_maps, min_pressure_span};
 use crate::series::{Measure, Owner, SeriesTable};
-use crate::svg::{colour_bar, widen, HeatMap, Line, LineChart};
+use crate::svg::{colour_bar, HeatMap, Line, LineChart};
 use crate::text::{escape, human};
-use crate::units::{display_unit, system_name, Quantity, Unit};
+use crate::units::{display_unit, system_name, Quantity};
 use crate::RunMeta;
 
 /// Most layer maps shown.
@@ -666,27 +668,6 @@ fn sci(x: f64) -> String {
     }
 }
 
-/// At most `max` layers (0-based), evenly spaced, always the top and the bottom.
-pub(crate) fn chosen_layers(nz: usize, max: usize) -> Vec<usize> {
-    if nz <= max {
-        return (0..nz).collect();
-    }
-    let mut out: Vec<usize> = (0..max)
-        .map(|m| ((m as f64) * (nz - 1) as f64 / (max - 1) as f64).round() as usize)
-        .collect();
-    out.dedup();
-    out
-}
-
-/// The smallest block edge `b` with `ceil(nx/b) * ceil(ny/b) <= limit`.
-pub(crate) fn block_size(nx: usize, ny: usize, limit: usize) -> usize {
-    let mut b = 1;
-    while nx.div_ceil(b) * ny.div_ceil(b) > limit {
-        b += 1;
-    }
-    b
-}
-
 /// Cautions that the results themselves call for, after [`CAUTION`] and the
 /// caller's own: a rate-controlled well that ran on its BHP limit, a large
 /// balance error, values that are not finite.
@@ -759,81 +740,3 @@ pub(crate) fn derived_cautions(
 
 /// Relative balance error above which the report warns.
 pub(crate) const BALANCE_CAUTION: f64 = 1e-4;
-
-/// One drawn layer: its index, the block-averaged display pressures
-/// (`None` for a block without active cells, row by row from `j = 0`) and
-/// its mean cell centre depth in the display length unit.
-type LayerMap = (usize, Vec<Option<f64>>, f64);
-
-/// The chosen layers' pressures averaged over blocks of `block` x `block`
-/// columns, weighted by column area over the active cells with a finite
-/// pressure, in the display pressure unit.
-fn layer_maps(
-    case: &Case,
-    pressure: &[f64],
-    layers: &[usize],
-    block: usize,
-    p_unit: &Unit,
-    length: &Unit,
-) -> Vec<LayerMap> {
-    let grid = &case.grid;
-    let (nx, ny) = (grid.nx, grid.ny);
-    let (bx, by) = (nx.div_ceil(block), ny.div_ceil(block));
-    let depth = cell_center_depths(grid);
-    let mut maps: Vec<LayerMap> = Vec::new();
-    for &k in layers {
-        let mut sum = vec![0.0; bx * by];
-        let mut weight = vec![0.0; bx * by];
-        let mut depth_sum = 0.0;
-        for j in 0..ny {
-            for i in 0..nx {
-                let c = grid.index(i, j, k);
-                depth_sum += depth[c];
-                let p = pressure[c];
-                if case.rock.is_active(c) && p.is_finite() {
-                    let a = grid.dx[i] * grid.dy[j];
-                    let b = i / block + bx * (j / block);
-                    sum[b] += a * p_unit.show(p);
-                    weight[b] += a;
-                }
-            }
-        }
-        let values = sum
-            .iter()
-            .zip(&weight)
-            .map(|(s, w)| (*w > 0.0).then(|| s / w))
-            .collect();
-        maps.push((k, values, length.show(depth_sum / (nx * ny) as f64)));
-    }
-    maps
-}
-
-/// The one colour scale of all maps: the lowest and highest value drawn,
-/// widened to `min_span` (display units) about its middle, (0, 1) when
-/// nothing is drawn.
-fn colour_range(maps: &[LayerMap], min_span: f64) -> (f64, f64) {
-    let (lo, hi) = maps
-        .iter()
-        .flat_map(|(_, v, _)| v.iter().flatten())
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
-            (a.min(v), b.max(v))
-        });
-    if lo.is_finite() {
-        widen(lo, hi, min_span)
-    } else {
-        (0.0, 1.0)
-    }
-}
-
-/// The smallest span of a pressure axis or colour scale, Pa: 50 kPa (about
-/// 7 psi, 0.5 bar). Pressure gauges in wells read to a few psi at best, and
-/// the solver settles pressures to 0.1 Pa, so a spread smaller than this is
-/// nothing an engineer would call a trend; drawn across a full axis it
-/// would look like one (round-off at 3000 psi is about 1e-12 psi). A real
-/// change of 1 psi still covers a seventh of the axis.
-pub(crate) const MIN_PRESSURE_SPAN: f64 = 50e3;
-
-/// [`MIN_PRESSURE_SPAN`] in the display unit `p_unit`.
-pub(crate) fn min_pressure_span(p_unit: &Unit) -> f64 {
-    p_unit.show(MIN_PRESSURE_SPAN)
-}

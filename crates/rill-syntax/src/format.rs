@@ -31,8 +31,9 @@
 //!   (`grid { cells = NX x NY x NZ }`) and the list holds more than one row
 //!   of plain numbers and no comment. A row too wide for 100 columns is
 //!   written [`ROW_CHUNK`] values per line (the i positions of every line
-//!   are then the same in every row), its continuation lines one level
-//!   deeper; every grid row still starts a line. Otherwise (an included
+//!   are then the same in every row; ten very long numbers may pass 100
+//!   columns), its continuation lines one level deeper; every grid row
+//!   still starts a line. Otherwise (an included
 //!   fragment without a `grid`, a list with comments) the list wraps as any
 //!   other. `layers [...]` (NZ values, usually a few) wraps as any other.
 //! - A block stays on one line (`well "A" { control = bhp 1500 psi }`, with
