@@ -80,6 +80,9 @@ pub struct Origin {
 pub struct Case {
     /// The `title` of the `case` block, or its name.
     pub title: Option<String>,
+    /// The name of the `case` block (`case "Larkspur east lobe" { ... }`),
+    /// if it has one; result files show it.
+    pub name: Option<String>,
     /// The grid.
     pub grid: Grid,
     /// Rock properties per cell.

@@ -46,6 +46,7 @@ fn case() -> Case {
     };
     Case {
         title: None,
+        name: None,
         grid,
         rock,
         fluid: Fluid {

@@ -94,7 +94,8 @@ fn demo_case(nx: usize, ny: usize, nz: usize) -> Case {
         origin: Origin::default(),
     };
     Case {
-        title: Some("Larkspur east lobe — demo data".into()),
+        title: Some("demo data".into()),
+        name: Some("Larkspur east lobe".into()),
         grid: Grid {
             nx,
             ny,
@@ -313,5 +314,6 @@ fn demo_results(case: &Case, n: usize) -> RunResults {
             linear_solver: "direct".into(),
             wall_seconds: 1.62,
         },
+        flow_per_pascal: 0.0,
     }
 }

@@ -4,11 +4,12 @@
 //! ```json
 //! {
 //!   "format": "rill-series", "format_version": 1, "rill_version": "0.1.0",
-//!   "title": "...", "deck": "lobe.rill", "units": "field", "report_times": 13,
+//!   "case": "Larkspur east lobe", "title": "...", "deck": "lobe.rill", "units": "field", "report_times": 13,
 //!   "series": [
 //!     {"name": "time", "quantity": "time", "unit": "day", "values": [0, 30, ...]},
 //!     {"name": "LE-1 rate", "quantity": "rate", "well": "LE-1", "unit": "stb/day", "values": [...]},
 //!     {"name": "east aquifer rate", "quantity": "rate", "boundary": "east aquifer", ...},
+//!     {"name": "east aquifer cumulative", "quantity": "cumulative", "boundary": "east aquifer", ...},
 //!     {"name": "south flank pressure", "quantity": "pressure", "aquifer": "south flank", ...},
 //!     ...
 //!   ],
@@ -41,6 +42,8 @@ struct Doc<'a> {
     format: &'static str,
     format_version: u32,
     rill_version: &'a str,
+    /// The case's name (`case "..."`), `null` when the deck gives none.
+    case: Option<&'a str>,
     title: &'a str,
     deck: String,
     units: &'static str,
@@ -203,6 +206,7 @@ pub(crate) fn write_json(
         format: "rill-series",
         format_version: 1,
         rill_version: &meta.rill_version,
+        case: crate::case_name(case),
         title,
         deck: meta.deck.display().to_string(),
         units: system_name(case.report.units),

@@ -17,6 +17,8 @@
 //! - [`write_system`] / [`write_system_with`] write `matrix.mtx` and
 //!   `rhs.mtx` for `rill run --export-system DIR` (the MatrixMarket text
 //!   itself comes from `rill-sim`).
+//! - [`ZeroScale`] says which rates and cumulatives are written as 0
+//!   (round-off against the run's scale; the results keep their numbers).
 //! - [`RunMeta`] carries what the report shows beyond the results: deck path,
 //!   title, rill version, wall time, start time, cautions from the checker.
 //!
@@ -26,7 +28,7 @@
 //!   .rill-results        marker: this directory is rill's and is replaced as a whole
 //!   series.csv           one row per report time, headers with units
 //!   series.json          the same series with units, solver statistics, cautions
-//!   maps/step_0000.vtr   VTK XML RectilinearGrid per report time
+//!   maps/step_0000.vtr   VTK XML RectilinearGrid per report time (.vts: StructuredGrid)
 //!   maps/rill.pvd        the collection, timesteps in report time units
 //!   report.html          self-contained page: caution, summary, plots, layer maps
 //! ```
@@ -45,11 +47,13 @@
 //!
 //! # The maps
 //! `maps/step_NNNN.vtr` are VTK XML RectilinearGrids (zlib-compressed inline
-//! base64 arrays; read back by VTK 9 in `scripts/check_vtk.py`): x east, y
-//! north, z elevation (−depth) in report length units, with VTK's `k`
-//! counting from the bottom layer up. With a per-column `top` the true
-//! geometry is not rectilinear: the interfaces use the mean depth over the
-//! columns, and the cell array `depth` holds the true cell-centre depth.
+//! base64 arrays): x east, y north, z elevation (−depth) in report length
+//! units, with VTK's `k` counting from the bottom layer up. Where the
+//! columns' layer interfaces differ (a dipping per-column `top`, per-cell
+//! `dz`) they are StructuredGrids, `maps/step_NNNN.vts`, with every corner
+//! point at the mean depth of the columns around it (see `vtk.rs`); the
+//! `.pvd` names whichever was written. The cell array `depth` holds the
+//! cell-centre depth the simulator uses.
 //! Cell data: `pressure` (report units, NaN in inactive cells), `active`,
 //! `porosity`, `kx`, `ky`, `kz`, `depth`, `layer`; the units are named in
 //! field data (`pressure_unit`, `permeability_unit`, `length_unit`,
@@ -90,6 +94,7 @@
 mod atomic;
 mod csv;
 mod json;
+mod layers;
 mod report;
 mod series;
 mod svg;
@@ -106,6 +111,7 @@ use rill_model::{Case, MapSelection};
 use rill_sim::RunResults;
 
 pub use report::CAUTION;
+pub use series::ZeroScale;
 
 /// What the report and `series.json` show beyond the case and the results.
 #[derive(Debug, Clone, PartialEq)]
@@ -156,7 +162,8 @@ pub struct WrittenFiles {
     pub report_html: PathBuf,
     /// `maps/rill.pvd`; `None` when the results hold no cell pressures.
     pub pvd: Option<PathBuf>,
-    /// `maps/step_NNNN.vtr`, one per report time.
+    /// `maps/step_NNNN.vtr` (`.vts` for a grid that is not rectilinear),
+    /// one per report time written.
     pub maps: Vec<PathBuf>,
     /// Every file written (the above and the `.rill-results` marker), in order.
     pub files: Vec<PathBuf>,
@@ -311,7 +318,7 @@ impl ResultWriter {
         if self.steps.is_empty() {
             self.staging.subdir("maps")?;
         }
-        let name = format!("step_{:04}.vtr", self.steps.len());
+        let name = format!("step_{:04}.{}", self.steps.len(), self.maps.extension());
         let shown = self.time_unit.show(time);
         let maps = &self.maps;
         self.staging.file(&format!("maps/{name}"), |w| {
@@ -380,6 +387,7 @@ impl ResultWriter {
             meta,
             table: &table,
             title: &title,
+            case_name: case_name(case),
             cautions: &cautions,
             files: &relative,
         };
@@ -395,7 +403,7 @@ impl ResultWriter {
             pvd: has_maps.then(|| at("maps/rill.pvd")),
             maps: files
                 .iter()
-                .filter(|p| p.extension().is_some_and(|e| e == "vtr"))
+                .filter(|p| p.extension().is_some_and(|e| e == "vtr" || e == "vts"))
                 .cloned()
                 .collect(),
             files,
@@ -403,6 +411,12 @@ impl ResultWriter {
             dir: target,
         })
     }
+}
+
+/// The case's name as the result files show it: `None` when the deck gives
+/// none (or only blanks).
+pub(crate) fn case_name(case: &Case) -> Option<&str> {
+    case.name.as_deref().filter(|n| !n.trim().is_empty())
 }
 
 /// Writes `matrix.mtx` and `rhs.mtx` (MatrixMarket text from

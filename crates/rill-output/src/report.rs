@@ -7,20 +7,22 @@
 //! evenly from top to bottom (the page says which); a layer with more than
 //! [`MAP_CELL_LIMIT`] columns is drawn as area-weighted block averages of
 //! `b x b` columns so that each map has at most [`MAP_CELL_LIMIT`] blocks.
-//! The VTK maps keep every cell.
+//! The VTK maps keep every cell. The layer choice, block averages and
+//! colour scale are in `layers.rs`.
 
 use std::fmt::Write as _;
 use std::io::{self, Write};
 
-use rill_model::derived::cell_center_depths;
 use rill_model::{Case, Control, Role};
 use rill_sim::{ControlMode, RunResults};
 
 use crate::json::mode_name;
+pub(crate) use crate::layers::{block_size, chosen_layers};
+use crate::layers::{colour_range, layer_maps, min_pressure_span};
 use crate::series::{Measure, Owner, SeriesTable};
 use crate::svg::{colour_bar, HeatMap, Line, LineChart};
 use crate::text::{escape, human};
-use crate::units::{display_unit, system_name, Quantity, Unit};
+use crate::units::{display_unit, system_name, Quantity};
 use crate::RunMeta;
 
 mod aquifers;
@@ -45,6 +47,8 @@ pub(crate) struct Report<'a> {
     pub meta: &'a RunMeta,
     pub table: &'a SeriesTable,
     pub title: &'a str,
+    /// The case's name (`case "..."`), when the deck gives one.
+    pub case_name: Option<&'a str>,
     /// Every caution, [`CAUTION`] first.
     pub cautions: &'a [String],
     /// Relative paths of the other files in the result set.
@@ -62,6 +66,7 @@ const STYLE: &str = r#"
 body { margin: 0; font: 14px/1.5 system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", Arial, "Noto Sans", "DejaVu Sans", sans-serif; color: var(--ink); background: #f6f7f8; }
 header { background: var(--band); color: #fff; padding: 22px 32px 18px; }
 header h1 { margin: 0 0 4px; font-size: 24px; font-weight: 600; letter-spacing: .01em; overflow-wrap: anywhere; }
+header .title { color: #e4e9ee; font-size: 15px; margin: 0 0 4px; overflow-wrap: anywhere; }
 header .sub { color: #c9d3dd; font-size: 13px; overflow-wrap: anywhere; }
 main { max-width: 1160px; margin: 0 auto; padding: 18px 24px 40px; }
 section { background: #fff; border: 1px solid var(--rule); border-radius: 6px; padding: 16px 20px 18px; margin: 16px 0; }
@@ -94,21 +99,39 @@ code { font-family: ui-monospace, "SFMono-Regular", Menlo, Consolas, "DejaVu San
 "#;
 
 impl Report<'_> {
+    /// The page's heading (the case's name, else the title) and the title
+    /// under it when it says something else.
+    fn heading(&self) -> (&str, Option<&str>) {
+        match self.case_name {
+            Some(name) if name != self.title => (name, Some(self.title)),
+            Some(name) => (name, None),
+            None => (self.title, None),
+        }
+    }
+
     fn page(&self) -> String {
         let mut s = String::with_capacity(1 << 16);
         let system = self.case.report.units;
+        let (heading, subtitle) = self.heading();
+        let full = match subtitle {
+            Some(t) => format!("{heading}: {t}"),
+            None => heading.to_string(),
+        };
         let _ = write!(
             s,
             "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n\
              <meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n\
              <meta name=\"generator\" content=\"rill {}\">\n<title>{} — rill report</title>\n<style>{STYLE}</style>\n</head>\n<body>\n",
             escape(&self.meta.rill_version),
-            escape(self.title)
+            escape(&full)
         );
         let _ = write!(
             s,
-            "<header>\n<h1>{}</h1>\n<div class=\"sub\">Deck <code>{}</code> · units: {} · rill {}{}</div>\n</header>\n<main>\n",
-            escape(self.title),
+            "<header>\n<h1>{}</h1>\n{}<div class=\"sub\">Deck <code>{}</code> · units: {} · rill {}{}</div>\n</header>\n<main>\n",
+            escape(heading),
+            subtitle
+                .map(|t| format!("<div class=\"title\">{}</div>\n", escape(t)))
+                .unwrap_or_default(),
             escape(&self.meta.deck.display().to_string()),
             system_name(system),
             escape(&self.meta.rill_version),
@@ -163,7 +186,11 @@ impl Report<'_> {
         let row = |s: &mut String, k: &str, v: String| {
             let _ = writeln!(s, "<tr><td>{k}</td><td>{v}</td></tr>");
         };
-        row(s, "Case", escape(self.title));
+        let (heading, subtitle) = self.heading();
+        row(s, "Case", escape(heading));
+        if let Some(t) = subtitle {
+            row(s, "Title", escape(t));
+        }
         row(
             s,
             "Deck",
@@ -300,7 +327,12 @@ impl Report<'_> {
                 escape(&q_unit.name),
                 escape(&v_unit.name)
             );
-            for b in &results.boundaries {
+            for (n, b) in results.boundaries.iter().enumerate() {
+                let last = |m| {
+                    self.table
+                        .find(Some(Owner::Boundary(n)), m)
+                        .and_then(|c| c.values.last().copied())
+                };
                 let side = case
                     .boundaries
                     .iter()
@@ -310,8 +342,8 @@ impl Report<'_> {
                     s,
                     "<tr><td>{}</td><td>{side}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>",
                     escape(&b.name),
-                    b.rate.last().map_or("–".into(), |&v| human(q_unit.show(v))),
-                    b.cumulative.last().map_or("–".into(), |&v| human(v_unit.show(v))),
+                    last(Measure::Rate).map_or("–".into(), human),
+                    last(Measure::Cumulative).map_or("–".into(), human),
                 );
             }
             s.push_str("</table>\n");
@@ -342,6 +374,9 @@ impl Report<'_> {
         (shown, cap_note)
     }
 
+    // The four charts are set up side by side so that their series, axes
+    // and captions read together; split, each part would need them all.
+    #[allow(clippy::too_many_lines)]
     fn charts(&self, s: &mut String) {
         let results = self.results;
         let system = self.case.report.units;
@@ -352,11 +387,6 @@ impl Report<'_> {
         let p_unit = display_unit(Quantity::Pressure, system);
 
         let (shown, cap_note) = self.shown_wells();
-        let boundary_cum: Vec<Vec<f64>> = results
-            .boundaries
-            .iter()
-            .map(|b| b.cumulative.iter().map(|&v| v_unit.show(v)).collect())
-            .collect();
         let boundary_labels: Vec<String> = results
             .boundaries
             .iter()
@@ -373,6 +403,7 @@ impl Report<'_> {
                         name: &results.wells[w].name,
                         ys: &c.values,
                         style: n,
+                        steps: m == Measure::Rate,
                     })
                 })
                 .collect()
@@ -384,16 +415,23 @@ impl Report<'_> {
                     name: label,
                     ys: &c.values,
                     style: nw + b,
+                    steps: true,
                 });
             }
         }
         let mut cum_lines = well_lines(Measure::Cumulative);
         for (b, label) in boundary_labels.iter().enumerate() {
-            cum_lines.push(Line {
-                name: label,
-                ys: &boundary_cum[b],
-                style: nw + b,
-            });
+            if let Some(c) = self
+                .table
+                .find(Some(Owner::Boundary(b)), Measure::Cumulative)
+            {
+                cum_lines.push(Line {
+                    name: label,
+                    ys: &c.values,
+                    style: nw + b,
+                    steps: false,
+                });
+            }
         }
         let aq_labels = self.aquifer_labels();
         let nb = boundary_labels.len();
@@ -406,37 +444,46 @@ impl Report<'_> {
             .expect("always present");
 
         s.push_str("<section>\n<h2>Time series</h2>\n<div class=\"charts\">\n");
-        let chart =
-            |s: &mut String, title: &str, y_label: String, lines: Vec<Line>, caption: String| {
-                s.push_str("<figure>\n<h3>");
-                s.push_str(&escape(title));
-                s.push_str("</h3>\n");
-                if lines.is_empty() {
-                    s.push_str("<p class=\"empty\">Nothing to plot: no wells or boundaries.</p>\n");
-                } else {
-                    let chart = LineChart {
-                        title,
-                        x_label: &x_label,
-                        y_label: &y_label,
-                        xs: &time.values,
-                        lines,
-                    };
-                    s.push_str(&chart.render());
-                }
-                let _ = writeln!(s, "<figcaption>{caption}</figcaption>\n</figure>");
-            };
+        let p_span = min_pressure_span(&p_unit);
+        let chart = |s: &mut String,
+                     title: &str,
+                     y_label: String,
+                     lines: Vec<Line>,
+                     min_span: Option<f64>,
+                     caption: String| {
+            s.push_str("<figure>\n<h3>");
+            s.push_str(&escape(title));
+            s.push_str("</h3>\n");
+            if lines.is_empty() {
+                s.push_str("<p class=\"empty\">Nothing to plot: no wells or boundaries.</p>\n");
+            } else {
+                let chart = LineChart {
+                    title,
+                    x_label: &x_label,
+                    y_label: &y_label,
+                    xs: &time.values,
+                    lines,
+                    min_span,
+                };
+                s.push_str(&chart.render());
+            }
+            let _ = writeln!(s, "<figcaption>{caption}</figcaption>\n</figure>");
+        };
         chart(
             s,
             "Surface rates",
             format!("Rate [{}]", q_unit.name),
             rate_lines,
-            format!("Positive: production; negative: injection or inflow. Boundaries dashed after the wells.{cap_note}"),
+            None,
+            format!("Positive: production; negative: injection or inflow. Boundaries dashed after the wells. \
+                     Each rate is drawn as a step: the value at a report time held over the interval that ends there.{cap_note}"),
         );
         chart(
             s,
             "Cumulative volumes",
             format!("Cumulative [{}]", v_unit.name),
             cum_lines,
+            None,
             format!("At surface conditions.{cap_note}"),
         );
         chart(
@@ -444,6 +491,7 @@ impl Report<'_> {
             "Bottom-hole pressure",
             format!("BHP [{}]", p_unit.name),
             bhp_lines,
+            Some(p_span),
             format!("At each well's datum.{cap_note}"),
         );
         chart(
@@ -454,7 +502,9 @@ impl Report<'_> {
                 name: "pore-volume weighted average",
                 ys: &avg.values,
                 style: 0,
+                steps: false,
             }],
+            Some(p_span),
             String::new(),
         );
         self.aquifer_chart(s, &chart, &aq_labels);
@@ -494,7 +544,7 @@ impl Report<'_> {
         let y_edges = edges(&grid.dy, block);
 
         let maps = layer_maps(case, pressure, &layers, block, &p_unit, &length);
-        let range = colour_range(&maps);
+        let range = colour_range(&maps, min_pressure_span(&p_unit));
 
         let _ = writeln!(
             s,
@@ -595,12 +645,16 @@ impl Report<'_> {
             system_name(self.case.report.units)
         );
         if self.files.iter().any(|f| f.ends_with(".pvd")) {
-            let steps = self.files.iter().filter(|f| f.ends_with(".vtr")).count();
+            let steps = self
+                .files
+                .iter()
+                .filter(|f| f.ends_with(".vtr") || f.ends_with(".vts"))
+                .count();
             let _ = writeln!(
                 s,
                 "<li>3-D maps for ParaView: <code>maps/rill.pvd</code> ({steps} report times). z is elevation (−depth); \
-                 the layer interfaces use the mean depth over all columns, and the cell array <code>depth</code> \
-                 holds the true depth of each cell centre.</li>"
+                 a grid whose layers dip is written with its corner points (each at the mean depth of the columns \
+                 around it), and the cell array <code>depth</code> holds the depth of each cell centre.</li>"
             );
         }
         s.push_str(
@@ -620,27 +674,6 @@ fn sci(x: f64) -> String {
             + "e"
             + s.split('e').nth(1).unwrap_or("0")
     }
-}
-
-/// At most `max` layers (0-based), evenly spaced, always the top and the bottom.
-pub(crate) fn chosen_layers(nz: usize, max: usize) -> Vec<usize> {
-    if nz <= max {
-        return (0..nz).collect();
-    }
-    let mut out: Vec<usize> = (0..max)
-        .map(|m| ((m as f64) * (nz - 1) as f64 / (max - 1) as f64).round() as usize)
-        .collect();
-    out.dedup();
-    out
-}
-
-/// The smallest block edge `b` with `ceil(nx/b) * ceil(ny/b) <= limit`.
-pub(crate) fn block_size(nx: usize, ny: usize, limit: usize) -> usize {
-    let mut b = 1;
-    while nx.div_ceil(b) * ny.div_ceil(b) > limit {
-        b += 1;
-    }
-    b
 }
 
 /// Cautions that the results themselves call for, after [`CAUTION`] and the
@@ -715,71 +748,3 @@ pub(crate) fn derived_cautions(
 
 /// Relative balance error above which the report warns.
 pub(crate) const BALANCE_CAUTION: f64 = 1e-4;
-
-/// One drawn layer: its index, the block-averaged display pressures
-/// (`None` for a block without active cells, row by row from `j = 0`) and
-/// its mean cell centre depth in the display length unit.
-type LayerMap = (usize, Vec<Option<f64>>, f64);
-
-/// The chosen layers' pressures averaged over blocks of `block` x `block`
-/// columns, weighted by column area over the active cells with a finite
-/// pressure, in the display pressure unit.
-fn layer_maps(
-    case: &Case,
-    pressure: &[f64],
-    layers: &[usize],
-    block: usize,
-    p_unit: &Unit,
-    length: &Unit,
-) -> Vec<LayerMap> {
-    let grid = &case.grid;
-    let (nx, ny) = (grid.nx, grid.ny);
-    let (bx, by) = (nx.div_ceil(block), ny.div_ceil(block));
-    let depth = cell_center_depths(grid);
-    let mut maps: Vec<LayerMap> = Vec::new();
-    for &k in layers {
-        let mut sum = vec![0.0; bx * by];
-        let mut weight = vec![0.0; bx * by];
-        let mut depth_sum = 0.0;
-        for j in 0..ny {
-            for i in 0..nx {
-                let c = grid.index(i, j, k);
-                depth_sum += depth[c];
-                let p = pressure[c];
-                if case.rock.is_active(c) && p.is_finite() {
-                    let a = grid.dx[i] * grid.dy[j];
-                    let b = i / block + bx * (j / block);
-                    sum[b] += a * p_unit.show(p);
-                    weight[b] += a;
-                }
-            }
-        }
-        let values = sum
-            .iter()
-            .zip(&weight)
-            .map(|(s, w)| (*w > 0.0).then(|| s / w))
-            .collect();
-        maps.push((k, values, length.show(depth_sum / (nx * ny) as f64)));
-    }
-    maps
-}
-
-/// The one colour scale of all maps: the lowest and highest value drawn,
-/// widened to a unit span when they agree, (0, 1) when nothing is drawn.
-fn colour_range(maps: &[LayerMap]) -> (f64, f64) {
-    let (lo, hi) = maps
-        .iter()
-        .flat_map(|(_, v, _)| v.iter().flatten())
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
-            (a.min(v), b.max(v))
-        });
-    if lo.is_finite() {
-        if hi > lo {
-            (lo, hi)
-        } else {
-            (lo - 0.5, hi + 0.5)
-        }
-    } else {
-        (0.0, 1.0)
-    }
-}

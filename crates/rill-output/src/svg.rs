@@ -204,6 +204,20 @@ pub(crate) struct Line<'a> {
     pub ys: &'a [f64],
     /// Index into the series styles.
     pub style: usize,
+    /// Drawn as steps: `ys[n]` held over `(xs[n-1], xs[n]]` (a rate over
+    /// the time step that ends at the report time); else straight lines
+    /// between the points.
+    pub steps: bool,
+}
+
+/// Widens `[lo, hi]` about its middle to at least `span` (finite bounds only).
+pub(crate) fn widen(lo: f64, hi: f64, span: f64) -> (f64, f64) {
+    if lo.is_finite() && hi.is_finite() && span.is_finite() && hi - lo < span {
+        let mid = 0.5 * (lo + hi);
+        (mid - 0.5 * span, mid + 0.5 * span)
+    } else {
+        (lo, hi)
+    }
 }
 
 pub(crate) struct LineChart<'a> {
@@ -212,6 +226,9 @@ pub(crate) struct LineChart<'a> {
     pub y_label: &'a str,
     pub xs: &'a [f64],
     pub lines: Vec<Line<'a>>,
+    /// The smallest span of the y axis, in its units (pressure axes: so
+    /// that round-off does not fill the plot like a trend).
+    pub min_span: Option<f64>,
 }
 
 const CHART_W: f64 = 540.0;
@@ -242,6 +259,10 @@ impl LineChart<'_> {
         let (ymin, ymax) = ys.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
             (a.min(v), b.max(v))
         });
+        let (ymin, ymax) = match self.min_span {
+            Some(span) => widen(ymin, ymax, span),
+            None => (ymin, ymax),
+        };
         let xt = Ticks::new(xmin, xmax, 6);
         let yt = Ticks::new(ymin, ymax, 5);
         // Time starts at the first report time, not at a rounded-down tick.
@@ -352,19 +373,30 @@ impl LineChart<'_> {
             let (colour, dash) = series_style(line.style);
             let mut d = String::new();
             let mut pen_down = false;
+            // The previous report time, for a step that starts there.
+            let mut prev_x: Option<f64> = None;
             for (x, y) in self.xs.iter().zip(line.ys) {
                 if x.is_finite() && y.is_finite() {
-                    let _ = write!(
-                        d,
-                        "{}{:.1} {:.1}",
-                        if pen_down { "L" } else { "M" },
-                        sx(*x),
-                        sy(*y)
-                    );
+                    let (px, py) = (sx(*x), sy(*y));
+                    match (line.steps, pen_down, prev_x) {
+                        (true, true, _) => {
+                            let _ = write!(d, "V{py:.1}H{px:.1}");
+                        }
+                        (true, false, Some(start)) => {
+                            let _ = write!(d, "M{:.1} {py:.1}H{px:.1}", sx(start));
+                        }
+                        (false, true, _) => {
+                            let _ = write!(d, "L{px:.1} {py:.1}");
+                        }
+                        _ => {
+                            let _ = write!(d, "M{px:.1} {py:.1}");
+                        }
+                    }
                     pen_down = true;
                 } else {
                     pen_down = false;
                 }
+                prev_x = x.is_finite().then_some(*x);
             }
             let dash_attr = if dash.is_empty() {
                 String::new()

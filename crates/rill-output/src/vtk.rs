@@ -1,5 +1,6 @@
-//! VTK XML maps: `maps/step_NNNN.vtr` (RectilinearGrid) per report time and
-//! the collection `maps/rill.pvd` that ParaView opens as one time series.
+//! VTK XML maps: `maps/step_NNNN.vtr` (RectilinearGrid) or
+//! `maps/step_NNNN.vts` (StructuredGrid) per report time and the collection
+//! `maps/rill.pvd` that ParaView opens as one time series.
 //!
 //! Geometry and layout:
 //! - x runs east along `i`, y north along `j`, z is **elevation**
@@ -7,10 +8,17 @@
 //!   Coordinates must increase, so the VTK `k` index counts from the bottom
 //!   layer up: VTK `k` = `nz − layer`. The cell array `layer` holds the deck's
 //!   1-based layer number.
-//! - A rectilinear grid has one z per layer interface. With a per-column
-//!   `top` (or per-cell `dz`) the true geometry is not rectilinear: the map
-//!   uses, at every interface, the mean depth over all columns. The cell
-//!   array `depth` holds the true depth of every cell centre.
+//! - When every column has the same layer interfaces (a flat `top`, `dz`
+//!   uniform in each layer) the grid is rectilinear: a `.vtr` with one z per
+//!   interface. Otherwise (a dipping per-column `top`, or per-cell `dz`) it
+//!   is a `.vts` with the coordinates of every corner point, so the map dips
+//!   as the reservoir does. A corner is shared by up to four columns, each
+//!   with its own flat-faced interface depth there; the corner takes their
+//!   mean. That keeps neighbouring cells sharing their corners (no gaps or
+//!   overlaps in the picture) and puts each column's cell centres at the
+//!   mean of its corners: exact for a planar dip, smoothed at a step. The
+//!   cell array `depth` holds each cell centre's depth as the simulator
+//!   uses it (column top plus the layers above).
 //! - Cell data: `pressure` (NaN in inactive cells), `active` (1/0),
 //!   `porosity`, `kx`, `ky`, `kz`, `depth`, `layer`. Units are the report
 //!   system's; they are named in field data (`pressure_unit`, ...), as string
@@ -45,7 +53,10 @@ pub(crate) struct MapWriter {
     active: Vec<bool>,
     /// `<DataArray>` elements of the static cell arrays, encoded.
     static_arrays: String,
-    coordinates: String,
+    /// `<Coordinates>` (rectilinear) or `<Points>` (structured), encoded.
+    geometry: String,
+    /// A StructuredGrid (`.vts`), else a RectilinearGrid (`.vtr`).
+    structured: bool,
     field_units: String,
     pressure_factor: f64,
 }
@@ -90,7 +101,7 @@ impl MapWriter {
             .collect();
         static_arrays.push_str(&data_array("Int32", "layer", &layers));
 
-        // Coordinates: cumulative widths; interface depths averaged over columns.
+        // Coordinates: cumulative widths; interface depths per column.
         let cumulative = |widths: &[f64]| -> Vec<f64> {
             let mut acc = 0.0;
             let mut out = vec![0.0];
@@ -102,28 +113,33 @@ impl MapWriter {
         };
         let xs = cumulative(&grid.dx);
         let ys = cumulative(&grid.dy);
-        let columns = (nx * ny).max(1) as f64;
-        let mut interface = vec![0.0; nz + 1];
-        for col in 0..nx * ny {
+        let plane = nx * ny;
+        // interfaces[col * (nz + 1) + k]: depth of the top of layer k (k = nz: the base), m.
+        let mut interfaces = vec![0.0; plane * (nz + 1)];
+        for col in 0..plane {
             let mut d = grid.top[col];
-            interface[0] += d;
+            interfaces[col * (nz + 1)] = d;
             for k in 0..nz {
-                d += grid.dz[col + nx * ny * k];
-                interface[k + 1] += d;
+                d += grid.dz[col + plane * k];
+                interfaces[col * (nz + 1) + k + 1] = d;
             }
         }
-        let zs: Vec<f64> = interface
-            .iter()
-            .rev()
-            .map(|d| -(d / columns) / length.factor)
-            .collect();
-        let mut coordinates = String::new();
-        for (name, values) in [("x", &xs), ("y", &ys), ("z", &zs)] {
-            coordinates.push_str(&format!(
-                "        <DataArray type=\"Float64\" Name=\"{name}\" format=\"ascii\">{}</DataArray>\n",
-                join(values)
-            ));
-        }
+        let first = &interfaces[..nz + 1];
+        let structured = interfaces.chunks(nz + 1).any(|col| col != first);
+        let geometry = if structured {
+            points(nx, ny, nz, &xs, &ys, &interfaces, length.factor)
+        } else {
+            let zs: Vec<f64> = first.iter().rev().map(|d| -d / length.factor).collect();
+            let mut coordinates = String::from("      <Coordinates>\n");
+            for (name, values) in [("x", &xs), ("y", &ys), ("z", &zs)] {
+                coordinates.push_str(&format!(
+                    "        <DataArray type=\"Float64\" Name=\"{name}\" format=\"ascii\">{}</DataArray>\n",
+                    join(values)
+                ));
+            }
+            coordinates.push_str("      </Coordinates>\n");
+            coordinates
+        };
 
         let mut field_units = String::new();
         for (name, value) in [
@@ -143,9 +159,19 @@ impl MapWriter {
             vtk_order,
             active,
             static_arrays,
-            coordinates,
+            geometry,
+            structured,
             field_units,
             pressure_factor: pressure.factor,
+        }
+    }
+
+    /// The step files' extension: `vts` for a structured grid, else `vtr`.
+    pub fn extension(&self) -> &'static str {
+        if self.structured {
+            "vts"
+        } else {
+            "vtr"
         }
     }
 
@@ -163,11 +189,16 @@ impl MapWriter {
             })
             .collect();
         let extent = format!("0 {} 0 {} 0 {}", self.nx, self.ny, self.nz);
+        let kind = if self.structured {
+            "StructuredGrid"
+        } else {
+            "RectilinearGrid"
+        };
         write!(
             w,
             "<?xml version=\"1.0\"?>\n\
-             <VTKFile type=\"RectilinearGrid\" version=\"1.0\" byte_order=\"LittleEndian\" header_type=\"UInt64\" compressor=\"vtkZLibDataCompressor\">\n\
-             \x20 <RectilinearGrid WholeExtent=\"{extent}\">\n\
+             <VTKFile type=\"{kind}\" version=\"1.0\" byte_order=\"LittleEndian\" header_type=\"UInt64\" compressor=\"vtkZLibDataCompressor\">\n\
+             \x20 <{kind} WholeExtent=\"{extent}\">\n\
              \x20   <FieldData>\n\
              \x20     <DataArray type=\"Float64\" Name=\"TimeValue\" NumberOfTuples=\"1\" format=\"ascii\">{}</DataArray>\n\
              {}\
@@ -182,13 +213,11 @@ impl MapWriter {
         write!(
             w,
             "      </CellData>\n\
-             \x20     <Coordinates>\n\
              {}\
-             \x20     </Coordinates>\n\
              \x20   </Piece>\n\
-             \x20 </RectilinearGrid>\n\
+             \x20 </{kind}>\n\
              </VTKFile>\n",
-            self.coordinates
+            self.geometry
         )
     }
 }
@@ -208,6 +237,44 @@ pub(crate) fn write_pvd(w: &mut dyn Write, steps: &[(f64, String)]) -> io::Resul
     }
     writeln!(w, "  </Collection>")?;
     writeln!(w, "</VTKFile>")
+}
+
+/// The `<Points>` of a structured grid: every corner, VTK order (i fastest,
+/// then j, then k from the base up), each at the mean of the interface
+/// depths of the columns around it (see the module doc), in `length_factor`
+/// units; `interfaces` as built in [`MapWriter::new`].
+fn points(
+    nx: usize,
+    ny: usize,
+    nz: usize,
+    xs: &[f64],
+    ys: &[f64],
+    interfaces: &[f64],
+    length_factor: f64,
+) -> String {
+    let mut bytes = Vec::with_capacity((nx + 1) * (ny + 1) * (nz + 1) * 24);
+    for kv in 0..=nz {
+        let k = nz - kv;
+        for (j, &y) in ys.iter().enumerate() {
+            for (i, &x) in xs.iter().enumerate() {
+                let (mut sum, mut n) = (0.0, 0.0);
+                for jj in j.saturating_sub(1)..(j + 1).min(ny) {
+                    for ii in i.saturating_sub(1)..(i + 1).min(nx) {
+                        sum += interfaces[(ii + nx * jj) * (nz + 1) + k];
+                        n += 1.0;
+                    }
+                }
+                let z = -(sum / n) / length_factor;
+                for v in [x, y, z] {
+                    bytes.extend_from_slice(&v.to_le_bytes());
+                }
+            }
+        }
+    }
+    format!(
+        "      <Points>\n        <DataArray type=\"Float64\" Name=\"Points\" NumberOfComponents=\"3\" format=\"binary\">{}</DataArray>\n      </Points>\n",
+        compressed_base64(&bytes)
+    )
 }
 
 fn join(values: &[f64]) -> String {

@@ -34,6 +34,8 @@ impl Summary {
             format!("{} {}", format_number(si / u.factor), u.name)
         };
         let last = r.times.len().saturating_sub(1);
+        // Rates and volumes as the result files write them (round-off as 0).
+        let zero = rill_output::ZeroScale::new(r);
         let s = &r.stats;
         let name = deck.file_name().map_or_else(
             || deck.display().to_string(),
@@ -73,10 +75,13 @@ impl Summary {
             lines.push(format!(
                 "  {} rate {}, BHP {}, cumulative {} ({mode})",
                 w.name,
-                show(w.rate.get(last).copied().unwrap_or(0.0), Kind::SurfaceRate),
+                show(
+                    zero.rate(w.rate.get(last).copied().unwrap_or(0.0)),
+                    Kind::SurfaceRate
+                ),
                 show(w.bhp.get(last).copied().unwrap_or(0.0), Kind::Pressure),
                 show(
-                    w.cumulative.get(last).copied().unwrap_or(0.0),
+                    zero.volume(w.cumulative.get(last).copied().unwrap_or(0.0)),
                     Kind::SurfaceVolume
                 )
             ));
@@ -85,7 +90,10 @@ impl Summary {
             lines.push(format!(
                 "  {} rate {} (boundary; negative: inflow)",
                 b.name,
-                show(b.rate.get(last).copied().unwrap_or(0.0), Kind::SurfaceRate)
+                show(
+                    zero.rate(b.rate.get(last).copied().unwrap_or(0.0)),
+                    Kind::SurfaceRate
+                )
             ));
         }
         let worst = r.balance_error.iter().copied().fold(0.0f64, f64::max);

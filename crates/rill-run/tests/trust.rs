@@ -456,3 +456,76 @@ timeline {
   kind = steady
 }
 "#;
+
+/// Two boundaries at one pressure and a shut well: nothing flows, and the
+/// round-off the solver leaves in the boundary rates is written as 0 in
+/// `series.csv` and in the summary, while the results keep their numbers.
+#[test]
+fn round_off_flows_are_written_and_summarised_as_zero() {
+    let text = r#"case "Fenwick saddle" {
+  title = "steady, nothing flows"
+}
+grid {
+  cells = 6 x 1 x 3
+  dx = 200 ft
+  dy = 200 ft
+  dz = 30 ft
+  top = 4000 ft
+}
+rock {
+  porosity = 0.2
+  kx = 80 md
+  kz = 8 md
+}
+fluid "brine" {
+  viscosity = 0.7 cP
+  fvf = 1.0 rb/stb
+  density = 62.4 lb/ft^3
+}
+initial {
+  pressure = 1800 psi at 4000 ft
+}
+boundary "west" {
+  side = west
+  pressure = 1800 psi
+}
+boundary "east" {
+  side = east
+  pressure = 1800 psi
+}
+well "FS-1" {
+  role = producer
+  location = (3, 1)
+  radius = 0.3 ft
+  control = shut
+}
+timeline {
+  kind = steady
+}
+"#;
+    let (dir, path, analysis) = deck(text);
+    assert!(!analysis.has_errors(), "{:#?}", analysis.diagnostics);
+    let out = dir.path().join("deck.out");
+    let done = run(&Request::new(&analysis, &path, &out), &mut NoObserver)
+        .result
+        .unwrap_or_else(|e| panic!("{e}"));
+    let r = &done.results;
+    assert!(r.flow_per_pascal > 0.0);
+    let rates: Vec<f64> = r.boundaries.iter().map(|b| b.rate[0]).collect();
+    assert!(rates.iter().all(|q| q.abs() < 1e-12), "{rates:?}");
+    let csv = read(&out, "series.csv");
+    let mut lines = csv.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let row: Vec<&str> = lines.next().unwrap().split(',').collect();
+    for name in ["west rate", "east rate", "FS-1 rate"] {
+        let col = header.iter().position(|h| h.starts_with(name)).unwrap();
+        assert_eq!(row[col], "0", "{name} in {csv}");
+    }
+    let json = read(&out, "series.json");
+    assert!(json.contains("\"case\": \"Fenwick saddle\""), "{json}");
+    let summary = done.summary.lines.join("\n");
+    assert!(
+        summary.contains("west rate 0 stb/day") && summary.contains("east rate 0 stb/day"),
+        "{summary}"
+    );
+}

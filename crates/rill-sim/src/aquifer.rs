@@ -179,6 +179,7 @@ mod tests {
         let (nx, ny, nz) = (3, 2, 2);
         let n = nx * ny * nz;
         Case {
+            name: None,
             title: None,
             grid: Grid {
                 nx,

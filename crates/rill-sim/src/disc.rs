@@ -638,6 +638,7 @@ mod tests {
         porosity[4] = 0.0;
         Case {
             title: None,
+            name: None,
             grid: Grid {
                 nx,
                 ny,

@@ -133,6 +133,13 @@ pub struct RunResults {
     pub events: Vec<WellEvent>,
     /// Steps, iterations and time spent.
     pub stats: SolverStats,
+    /// Surface rate, m^3/s, that a pressure difference of 1 Pa drives
+    /// through the largest transmissibility sum of any cell, at the
+    /// reference viscosity and formation volume factor (the resolution of
+    /// the steady balance). Times a pressure, it is the scale of the flows
+    /// the reservoir could carry; writers use it to tell round-off from a
+    /// flow (0 when unknown).
+    pub flow_per_pascal: f64,
 }
 
 /// Where the wall time of a run went, s. Given to `Observer::timings` at the

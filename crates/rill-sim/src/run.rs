@@ -441,6 +441,8 @@ pub fn run(
     r.guess_bhps(&mut x, &wells);
 
     let mut results = report::empty_results(case);
+    let t_max = r.d.t_sum.iter().copied().fold(0.0, f64::max);
+    results.flow_per_pascal = r.pvt.b(r.pvt.p_f).0 / r.pvt.mu * t_max;
     if steady {
         r.run_steady(&mut x, &mut wells, &mut results, observer)?;
     } else {

@@ -25,6 +25,17 @@
 //!   filling each line; continuation lines are indented one level deeper.
 //!   A comment inside a list stays where it was, at the end of its line,
 //!   and the list goes on on the next line.
+//! - Per-cell and per-column arrays (`cells [...]`, `columns [...]`) are
+//!   laid out one grid row (NX values) per line, between `[` and `]` on
+//!   lines of their own, when the file itself gives the grid size
+//!   (`grid { cells = NX x NY x NZ }`) and the list holds more than one row
+//!   of plain numbers and no comment. A row too wide for 100 columns is
+//!   written [`ROW_CHUNK`] values per line (the i positions of every line
+//!   are then the same in every row; ten very long numbers may pass 100
+//!   columns), its continuation lines one level deeper; every grid row
+//!   still starts a line. Otherwise (an included
+//!   fragment without a `grid`, a list with comments) the list wraps as any
+//!   other. `layers [...]` (NZ values, usually a few) wraps as any other.
 //! - A block stays on one line (`well "A" { control = bhp 1500 psi }`, with
 //!   `; ` between its items, `name {}` when empty) when it was on one line
 //!   and still fits in 100 columns; otherwise it is expanded, one item per
@@ -45,6 +56,11 @@ use crate::ast::*;
 /// Line width that wrapping and one-line blocks respect.
 pub const WIDTH: usize = 100;
 
+/// Values per line of a grid row too wide for [`WIDTH`]: a fixed count
+/// rather than a fill, so that a line holds the same i positions in every
+/// row (10: easy to count along).
+pub const ROW_CHUNK: usize = 10;
+
 /// Formats `file`, parsed from `text`, in the canonical layout; a file with
 /// syntax errors (or another text) is returned unchanged.
 pub fn format(file: &SourceFile, text: &str) -> String {
@@ -56,6 +72,9 @@ pub fn format(file: &SourceFile, text: &str) -> String {
         comments: &file.comments,
         next: 0,
         out: String::new(),
+        nx: grid_nx(&file.items),
+        rows_laid: false,
+        level: 0,
     };
     f.container(&file.items, 0, true, text.len());
     // Comments that no container claimed (not reached for a tree from `parse`).
@@ -73,6 +92,12 @@ struct Fmt<'a> {
     /// The first comment not yet printed.
     next: usize,
     out: String,
+    /// NX from the file's own `grid { cells = NX x NY x NZ }`, if any.
+    nx: Option<usize>,
+    /// Set when a list was laid out in grid rows (forced line breaks).
+    rows_laid: bool,
+    /// Indentation level of the item whose words are being built.
+    level: usize,
 }
 
 struct Word {
@@ -82,6 +107,9 @@ struct Word {
     /// A line break may replace that space (inside brackets).
     brk: bool,
     comment: bool,
+    /// A line break before this word, always, with this many indentation
+    /// levels beyond the item's (grid rows of `cells [...]`).
+    force: Option<usize>,
 }
 
 fn word(text: String, space: bool, brk: bool) -> Word {
@@ -90,7 +118,34 @@ fn word(text: String, space: bool, brk: bool) -> Word {
         space,
         brk,
         comment: false,
+        force: None,
     }
+}
+
+/// NX of a top-level `grid { cells = NX x NY x NZ }` in this file. The
+/// formatter sees one file: an included fragment has no grid and keeps the
+/// plain wrapping.
+fn grid_nx(items: &[Item]) -> Option<usize> {
+    items.iter().find_map(|item| match item {
+        Item::Block(b) if b.name.name == "grid" => b.items.iter().find_map(|i| match i {
+            Item::Statement(s) if s.key.name == "cells" => match s.value.atoms.as_slice() {
+                [Atom {
+                    kind: AtomKind::Size(v),
+                    ..
+                }] if v.len() == 3 => usize::try_from(v[0]).ok().filter(|&n| n > 0),
+                _ => None,
+            },
+            _ => None,
+        }),
+        _ => None,
+    })
+}
+
+/// Is `atom` the list of a `cells [...]` or `columns [...]` form (after
+/// `prev`)?
+fn is_grid_list(prev: Option<&Atom>, atom: &Atom) -> bool {
+    matches!(prev.map(|p| &p.kind), Some(AtomKind::Ident(w)) if w == "cells" || w == "columns")
+        && matches!(atom.kind, AtomKind::List { .. })
 }
 
 fn comment_text(c: &Comment) -> String {
@@ -251,6 +306,7 @@ impl<'a> Fmt<'a> {
 
     /// Prints one item and its trailing comment; returns its end in the source.
     fn item(&mut self, item: &Item, level: usize, limit: usize) -> usize {
+        self.level = level;
         let words = match item {
             Item::Block(b) => return self.block(b, level, limit),
             Item::Statement(s) => self.statement_words(s),
@@ -284,8 +340,11 @@ impl<'a> Fmt<'a> {
         let close_end = b.close.map_or(b.span.end, |c| c.end);
         if self.one_line_source(b) {
             let saved = self.next;
+            let rows_before = std::mem::take(&mut self.rows_laid);
             let s = self.inline_block(b);
-            if self.next == saved && level * 2 + s.chars().count() <= WIDTH {
+            // Grid rows need their own lines: such a block is expanded.
+            let rows = std::mem::replace(&mut self.rows_laid, rows_before);
+            if self.next == saved && !rows && level * 2 + s.chars().count() <= WIDTH {
                 self.out.push_str(&indent(level));
                 self.out.push_str(&s);
                 let end = self.trailing(close_end, limit);
@@ -294,6 +353,7 @@ impl<'a> Fmt<'a> {
             }
             self.next = saved;
         }
+        self.level = level;
         let mut words = vec![word(b.name.name.clone(), false, false)];
         self.seq_words(&b.args, &mut words);
         words.push(word("{".into(), true, false));
@@ -356,7 +416,11 @@ impl<'a> Fmt<'a> {
     /// Atoms in a row outside brackets: a value, header or directive arguments.
     fn seq_words(&mut self, atoms: &[Atom], words: &mut Vec<Word>) {
         for (i, a) in atoms.iter().enumerate() {
-            let guard = needs_tuple_comma(i.checked_sub(1).map(|p| &atoms[p]), a);
+            let prev = i.checked_sub(1).map(|p| &atoms[p]);
+            let guard = needs_tuple_comma(prev, a);
+            if is_grid_list(prev, a) && self.grid_rows(a, words) {
+                continue;
+            }
             self.atom_words(a, words, true, 0);
             if guard {
                 // The last word is the tuple's `)`.
@@ -367,6 +431,67 @@ impl<'a> Fmt<'a> {
         }
     }
 
+    /// Lays out the list of a `cells [...]` or `columns [...]` form one
+    /// grid row per line (see the module doc); false, with nothing pushed,
+    /// when the rule does not apply.
+    fn grid_rows(&mut self, list: &Atom, words: &mut Vec<Word>) -> bool {
+        let AtomKind::List { items, unit, close } = &list.kind else {
+            return false;
+        };
+        let Some(nx) = self.nx else {
+            return false;
+        };
+        let end = close.map_or(list.span.end, |c| c.end);
+        let commented = self.peek_comment().is_some_and(|c| c.span.start < end);
+        if items.len() <= nx || commented {
+            return false;
+        }
+        // Plain numbers only (a nested list or a range keeps the plain wrapping).
+        let texts: Option<Vec<String>> = items
+            .iter()
+            .enumerate()
+            .map(|(i, it)| match &it.kind {
+                AtomKind::Number { raw, unit, .. } => {
+                    let mut t = with_unit(raw.clone(), unit);
+                    if items.get(i + 1).is_some_and(|next| needs_comma(it, next)) {
+                        t.push(',');
+                    }
+                    Some(t)
+                }
+                _ => None,
+            })
+            .collect();
+        let Some(texts) = texts else {
+            return false;
+        };
+        // The widest row, with a space between values, at its indentation.
+        let widest = texts
+            .chunks(nx)
+            .map(|row| row.iter().map(|t| t.chars().count() + 1).sum::<usize>() - 1)
+            .max()
+            .unwrap_or(0);
+        let chunk = if 2 * (self.level + 1) + widest <= WIDTH {
+            nx
+        } else {
+            ROW_CHUNK
+        };
+        words.push(word("[".into(), true, false));
+        for (n, t) in texts.into_iter().enumerate() {
+            let mut w = word(t, n % nx != 0, false);
+            if n % nx == 0 {
+                w.force = Some(1);
+            } else if (n % nx) % chunk == 0 {
+                w.force = Some(2);
+            }
+            words.push(w);
+        }
+        let mut close = word(with_unit("]".into(), unit), false, false);
+        close.force = Some(0);
+        words.push(close);
+        self.rows_laid = true;
+        true
+    }
+
     /// Comments before `limit` inside brackets, as words.
     fn stream_comments(&mut self, limit: usize, words: &mut Vec<Word>) {
         while let Some(c) = self.peek_comment().filter(|c| c.span.start < limit) {
@@ -375,6 +500,7 @@ impl<'a> Fmt<'a> {
                 space: true,
                 brk: true,
                 comment: true,
+                force: None,
             });
             self.next += 1;
         }
@@ -458,7 +584,13 @@ fn layout(words: &[Word], level: usize) -> String {
     let mut after_comment = false;
     for w in words {
         let len = w.text.chars().count();
-        if after_comment {
+        if let Some(extra) = w.force {
+            let ind = indent(level + extra);
+            s.push('\n');
+            s.push_str(&ind);
+            col = ind.len();
+            on_line = 0;
+        } else if after_comment {
             s.push('\n');
             s.push_str(&cont);
             col = cont.len();

@@ -222,3 +222,72 @@ fn meaning_helper_sees_differences() {
         "raw spellings are meaning for the formatter"
     );
 }
+
+#[test]
+fn cell_arrays_are_laid_out_one_grid_row_per_line() {
+    let values: Vec<String> = (0..12).map(|n| format!("{}", 100 + n)).collect();
+    let text = format!(
+        "grid {{\n  cells = 3 x 2 x 2\n}}\n\nrock {{\n  kx = cells [{}] md * 2\n  top = columns [1 2 3 4 5 6] ft\n  ky = layers [1 2] md\n}}\n",
+        values.join(" ")
+    );
+    fmt(
+        &text,
+        "grid {\n  cells = 3 x 2 x 2\n}\n\nrock {\n  kx = cells [\n    100 101 102\n    103 104 105\n    106 107 108\n    109 110 111\n  ] md * 2\n  top = columns [\n    1 2 3\n    4 5 6\n  ] ft\n  ky = layers [1 2] md\n}\n",
+    );
+    // A one-line block holding a grid array is expanded: rows need lines.
+    fmt(
+        "grid { cells = 2 x 2 x 1 }\npatch { kx = cells [1 2 3 4] }\n",
+        "grid { cells = 2 x 2 x 1 }\n\npatch {\n  kx = cells [\n    1 2\n    3 4\n  ]\n}\n",
+    );
+}
+
+#[test]
+fn cell_arrays_without_a_grid_or_with_comments_keep_the_plain_wrapping() {
+    // An included fragment: no grid in the file, so no NX.
+    fmt(
+        "rock {\n  kx = cells [1 2 3 4] md\n}\n",
+        "rock {\n  kx = cells [1 2 3 4] md\n}\n",
+    );
+    // A comment inside the list stays where it was.
+    fmt(
+        "grid {\n  cells = 2 x 1 x 2\n}\n\nrock {\n  kx = cells [1 2 # top\n 3 4]\n}\n",
+        "grid {\n  cells = 2 x 1 x 2\n}\n\nrock {\n  kx = cells [1 2  # top\n    3 4]\n}\n",
+    );
+    // One row or less: nothing to split.
+    fmt(
+        "grid {\n  cells = 4 x 1 x 1\n}\n\nrock {\n  kx = cells [1 2 3 4]\n}\n",
+        "grid {\n  cells = 4 x 1 x 1\n}\n\nrock {\n  kx = cells [1 2 3 4]\n}\n",
+    );
+}
+
+#[test]
+fn wide_grid_rows_wrap_at_a_fixed_count_and_each_row_starts_a_line() {
+    let nx = 25;
+    let values: Vec<String> = (0..2 * nx)
+        .map(|n| format!("{:.4}", 0.1 + n as f64 * 1e-4))
+        .collect();
+    let text = format!(
+        "grid {{\n  cells = {nx} x 2 x 1\n}}\n\nrock {{\n  porosity = cells [{}]\n}}\n",
+        values.join(" ")
+    );
+    let out = check_format(&text, &parse(&text));
+    let lines: Vec<&str> = out.lines().collect();
+    let start = lines.iter().position(|l| l.ends_with("cells [")).unwrap();
+    let body = &lines[start + 1..start + 7];
+    // Two rows of 25 values: 10 + 10 + 5 each; rows at one level deeper
+    // than the key, their continuations one more.
+    let counts: Vec<usize> = body.iter().map(|l| l.split_whitespace().count()).collect();
+    assert_eq!(counts, [10, 10, 5, 10, 10, 5], "{out}");
+    assert!(
+        body[0].starts_with("    0.1000 ") && body[3].starts_with("    0.1025 "),
+        "{out}"
+    );
+    assert!(body[1].starts_with("      0.1010 "), "{out}");
+    assert_eq!(lines[start + 7], "  ]");
+    for line in &lines {
+        assert!(
+            line.chars().count() <= rill_syntax::format::WIDTH,
+            "{line:?}"
+        );
+    }
+}

@@ -13,6 +13,8 @@
 //!    block header. Never a panic; every soup that parses cleanly must
 //!    round-trip. This hunts lexing rules that depend on what is glued,
 //!    which the formatter (spacing every atom) would change.
+//! 5. Decks with a grid and `cells [...]` / `columns [...]` lists (laid
+//!    out one grid row per line) round-trip as in 3.
 
 mod common;
 
@@ -575,7 +577,57 @@ fn soup() -> impl Strategy<Value = String> {
         })
 }
 
+static GRID_ARRAYS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+
+/// A deck with a grid and `cells [...]` / `columns [...]` lists of numbers
+/// (some with units, some wide, with commas, line breaks and comments
+/// between items), nested at a random depth, sometimes in a one-line block.
+fn grid_array_deck() -> impl Strategy<Value = String> {
+    (
+        1u64..40,
+        1u64..4,
+        1u64..3,
+        select(vec!["cells", "columns"]),
+        prop::collection::vec(
+            (
+                prop_oneof![
+                    4 => number(),
+                    1 => (number(), unit()).prop_map(|(n, u)| format!("{n} {u}")),
+                ],
+                list_sep(),
+            ),
+            0..90,
+        ),
+        0usize..3,
+        any::<bool>(),
+        prop::option::of(unit()),
+    )
+        .prop_map(|(nx, ny, nz, form, items, depth, one_line, unit)| {
+            let list: String = items.iter().map(|(v, sep)| format!("{v}{sep}")).collect();
+            let unit = unit.map(|u| format!(" {u}")).unwrap_or_default();
+            let statement = format!("kx = {form} [{list}]{unit} * 2");
+            let mut body = statement;
+            for level in 0..depth {
+                body = if one_line && level == 0 && !body.contains('\n') && !body.contains('#') {
+                    format!("patch i = 1 {{ {body} }}")
+                } else {
+                    format!("patch i = 1 {{\n{body}\n}}")
+                };
+            }
+            format!("grid {{\n  cells = {nx} x {ny} x {nz}\n}}\n\nrock {{\n{body}\n}}\n")
+        })
+}
+
 proptest! {
+    #[test]
+    fn grid_arrays_round_trip(text in grid_array_deck()) {
+        count("grid_arrays_round_trip", &GRID_ARRAYS);
+        let file = parse(&text);
+        prop_assert!(file.errors.is_empty(), "generated deck has errors {:#?}\n{}", file.errors, text);
+        check_invariants(&text, &file);
+        check_format(&text, &file);
+    }
+
     #[test]
     fn token_soup_round_trips(text in soup()) {
         count("token_soup_round_trips", &SOUP);

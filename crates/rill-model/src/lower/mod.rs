@@ -161,7 +161,8 @@ impl<'s> Lowerer<'s> {
             let stmt = find(f.block, "title")?;
             self.text_value(f.file, stmt)
         });
-        let title = title.or_else(|| case_meta.and_then(|f| label_of(f.block)));
+        let name = case_meta.and_then(|f| label_of(f.block));
+        let title = title.or_else(|| name.clone());
 
         let grid = self
             .require(blocks, "grid", main_loc)
@@ -257,6 +258,7 @@ impl<'s> Lowerer<'s> {
         }
         let case = Case {
             title,
+            name,
             grid,
             rock,
             fluid,

@@ -11,7 +11,7 @@ use crate::text::{escape, human};
 use crate::units::{display_unit, Quantity};
 
 /// The chart-drawing closure of `Report::charts`: title, y label, lines, caption.
-pub(super) type Chart<'c> = dyn Fn(&mut String, &str, String, Vec<Line>, String) + 'c;
+pub(super) type Chart<'c> = dyn Fn(&mut String, &str, String, Vec<Line>, Option<f64>, String) + 'c;
 
 impl Report<'_> {
     /// The aquifers' names with their kind, as the charts' legends show them.
@@ -40,6 +40,8 @@ impl Report<'_> {
                     name: label,
                     ys: &c.values,
                     style: first + a,
+                    // A rate holds over the step that ends at its report time.
+                    steps: measure == Measure::Rate,
                 })
             })
             .collect()
@@ -56,6 +58,7 @@ impl Report<'_> {
             "Aquifer pressure",
             format!("Pressure [{}]", p_unit.name),
             self.aquifer_lines(labels, Measure::Pressure, 0),
+            Some(crate::layers::min_pressure_span(&p_unit)),
             "Each aquifer's pressure at the mean depth of its faces; it falls by the influx over c_t W_i.".into(),
         );
     }

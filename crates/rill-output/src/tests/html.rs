@@ -156,6 +156,7 @@ fn report_of_a_large_grid_stays_small() {
         meta: &meta,
         table: &table,
         title: "big",
+        case_name: None,
         cautions: &cautions,
         files: &[],
     };
@@ -179,6 +180,7 @@ fn report_of_a_large_grid_stays_small() {
         meta: &meta,
         table: &table,
         title: "wide",
+        case_name: None,
         cautions: &cautions,
         files: &[],
     };
@@ -190,4 +192,139 @@ fn report_of_a_large_grid_stays_small() {
         "block note"
     );
     assert!(html.len() < 2_000_000, "report is {} bytes", html.len());
+}
+
+#[test]
+fn the_case_name_heads_the_page_with_the_title_under_it() {
+    let (_dir, deck) = deck_dir();
+    let case = case(3, 2, 1, UnitSystem::Field);
+    let results = results(&case);
+    let html = report(&case, &results, &RunMeta::new(&deck));
+    assert!(html.contains("<title>Quarry north: Test lobe — rill report</title>"));
+    assert!(html.contains("<h1>Quarry north</h1>\n<div class=\"title\">Test lobe</div>"));
+    assert!(html.contains("<tr><td>Case</td><td>Quarry north</td></tr>"));
+    // Without a name, the title heads the page as before.
+    let mut unnamed = case.clone();
+    unnamed.name = None;
+    let html = report(&unnamed, &results, &RunMeta::new(&deck));
+    assert!(html.contains("<title>Test lobe — rill report</title>"));
+    assert!(html.contains("<h1>Test lobe</h1>\n<div class=\"sub\">"));
+}
+
+/// The `d` of the path of series `name` in the chart titled `chart`.
+fn path_of<'a>(html: &'a str, chart: &str, name: &str) -> &'a str {
+    let at = html.find(&format!("<h3>{chart}</h3>")).unwrap();
+    let svg = &html[at..at + html[at..].find("</svg>").unwrap()];
+    let start = svg
+        .find(&format!("<title>{name}</title><path d=\""))
+        .unwrap_or_else(|| panic!("no {name} in {chart}"));
+    let d = &svg[start + name.len() + 25..];
+    &d[..d.find('"').unwrap()]
+}
+
+/// The values of the y-axis tick labels of the chart titled `chart`.
+fn y_ticks(html: &str, chart: &str) -> Vec<f64> {
+    let at = html.find(&format!("<h3>{chart}</h3>")).unwrap();
+    let svg = &html[at..at + html[at..].find("</svg>").unwrap()];
+    svg.split("text-anchor=\"end\" class=\"tick\">")
+        .skip(1)
+        .map(|t| {
+            let label: String = t[..t.find('<').unwrap()]
+                .chars()
+                .filter(|c| *c != '\u{202F}')
+                .collect();
+            label.parse().unwrap()
+        })
+        .collect()
+}
+
+/// Rates are steps (the value at a report time held back to the one
+/// before): the path moves only vertically and horizontally, and a rate
+/// that starts at once jumps at the first report time instead of ramping.
+/// Cumulatives and pressures stay lines.
+#[test]
+fn rates_are_drawn_as_steps_and_the_rest_as_lines() {
+    let (_dir, deck) = deck_dir();
+    let case = case(3, 2, 1, UnitSystem::Field);
+    let results = results(&case);
+    let html = report(&case, &results, &RunMeta::new(&deck));
+    for name in ["P-1", "I-1", "east aquifer (boundary)"] {
+        let d = path_of(&html, "Surface rates", name);
+        assert!(!d.contains('L'), "{name}: {d}");
+        // M x0 y(0), then V y(600) at x0, H to x1, V, H to x2.
+        let parts: Vec<&str> = d.split(['V', 'H']).collect();
+        assert_eq!(parts.len(), 5, "{name}: {d}");
+        assert!(
+            d.matches('V').count() == 2 && d.matches('H').count() == 2,
+            "{d}"
+        );
+        let x0: f64 = parts[0][1..].split(' ').next().unwrap().parse().unwrap();
+        let (x1, x2): (f64, f64) = (parts[2].parse().unwrap(), parts[4].parse().unwrap());
+        assert!(x0 < x1 && x1 < x2, "{d}");
+    }
+    // P-1 holds 600 stb/day over both intervals: one level after the jump.
+    let d = path_of(&html, "Surface rates", "P-1");
+    let parts: Vec<&str> = d.split(['V', 'H']).collect();
+    assert_eq!(parts[1], parts[3], "{d}");
+    for (chart, name) in [
+        ("Cumulative volumes", "P-1"),
+        ("Bottom-hole pressure", "P-1"),
+        ("Average reservoir pressure", "pore-volume weighted average"),
+    ] {
+        let d = path_of(&html, chart, name);
+        assert_eq!(d.matches('L').count(), 2, "{chart}: {d}");
+        assert!(!d.contains('V') && !d.contains('H'), "{chart}: {d}");
+    }
+}
+
+/// Pressures that differ by round-off get an axis of at least 50 kPa
+/// (about 7.3 psi), not one that blows the round-off up to full height;
+/// the same for the BHP axis and the maps' colour scale.
+#[test]
+fn pressure_axes_have_a_minimum_span() {
+    let (_dir, deck) = deck_dir();
+    let case = case(3, 2, 1, UnitSystem::Field);
+    let mut results = results(&case);
+    let p = 3000.0 * PSI;
+    results.pressure_avg = vec![p, p * (1.0 + 1e-13), p * (1.0 - 1e-13)];
+    for w in &mut results.wells {
+        w.bhp = vec![p, p * (1.0 + 2e-14), p];
+    }
+    for map in &mut results.pressure {
+        for (c, v) in map.iter_mut().enumerate() {
+            if v.is_finite() {
+                *v = p * (1.0 + 1e-14 * c as f64);
+            }
+        }
+    }
+    let html = report(&case, &results, &RunMeta::new(&deck));
+    let span = 50e3 / PSI;
+    for chart in ["Average reservoir pressure", "Bottom-hole pressure"] {
+        let ticks = y_ticks(&html, chart);
+        let (lo, hi) = (ticks[0], *ticks.last().unwrap());
+        assert!(hi - lo >= span, "{chart}: {ticks:?}");
+        assert!(
+            lo <= 3000.0 - span / 2.0 && hi >= 3000.0 + span / 2.0,
+            "{chart}: {ticks:?}"
+        );
+        assert!(hi - lo <= 4.0 * span, "{chart}: a sensible axis, {ticks:?}");
+    }
+    // The colour scale's note gives its min and max.
+    assert!(
+        html.contains("(min 2996.4 and max 3003.6 psi over the layers shown)"),
+        "{}",
+        &html[html.find("on one colour scale").unwrap()..][..120]
+    );
+    // A real change larger than the minimum keeps its own range.
+    let html = report(
+        &case,
+        &super::fixtures::results(&case),
+        &RunMeta::new(&deck),
+    );
+    let ticks = y_ticks(&html, "Average reservoir pressure");
+    assert_eq!(
+        (ticks[0], *ticks.last().unwrap()),
+        (2980.0, 3000.0),
+        "{ticks:?}"
+    );
 }

@@ -38,6 +38,7 @@ fn csv_field_units_headers_and_values_nist_sp811() {
             "I-1 rate [stb/day]",
             "I-1 cumulative [stb]",
             "east aquifer rate [stb/day]",
+            "east aquifer cumulative [stb]",
             "balance_error [-]",
         ]
     );
@@ -51,7 +52,8 @@ fn csv_field_units_headers_and_values_nist_sp811() {
     assert!(close(num(&last[4]), 12000.0));
     assert!(close(num(&last[6]), -400.0), "injection is negative");
     assert!(close(num(&last[8]), -175.0), "inflow is negative");
-    assert_eq!(num(&last[9]), 2.25e-9);
+    assert!(close(num(&last[9]), -3250.0), "inflow is negative");
+    assert_eq!(num(&last[10]), 2.25e-9);
     assert_eq!(rows[1][0], "0");
 }
 
@@ -92,7 +94,7 @@ fn csv_numbers_round_trip_exactly() {
         write_results(&dir.path().join("o"), &case, &results, &RunMeta::new(&deck)).unwrap();
     let rows = parse_csv(&std::fs::read_to_string(files.series_csv).unwrap());
     assert_eq!(num(&rows[2][1]), 1.0 / 3.0);
-    assert_eq!(num(&rows[3][9]), 1.2345678901234567e-13);
+    assert_eq!(num(&rows[3][10]), 1.2345678901234567e-13);
 }
 
 #[test]
@@ -110,7 +112,7 @@ fn csv_quotes_names_that_need_it() {
     );
     let rows = parse_csv(&text);
     assert_eq!(rows[0][2], "A,\"B\" bhp [psi]");
-    assert!(rows.iter().all(|r| r.len() == 10));
+    assert!(rows.iter().all(|r| r.len() == 11));
 }
 
 #[test]
@@ -119,9 +121,10 @@ fn json_parses_back_with_series_units_solver_and_cautions() {
     assert_eq!(json["format"], "rill-series");
     assert_eq!(json["units"], "field");
     assert_eq!(json["title"], "Test lobe");
+    assert_eq!(json["case"], "Quarry north");
     assert_eq!(json["report_times"], 3);
     let series = json["series"].as_array().unwrap();
-    assert_eq!(series.len(), 10);
+    assert_eq!(series.len(), 11);
     assert_eq!(series[0]["name"], "time");
     assert_eq!(series[0]["unit"], "day");
     let rate = series.iter().find(|s| s["name"] == "P-1 rate").unwrap();
@@ -254,4 +257,128 @@ fn a_steady_run_with_one_report_time_writes_a_full_set() {
         html.contains("<circle"),
         "a single point is drawn as a marker"
     );
+}
+
+#[test]
+fn boundary_cumulatives_are_series_with_units() {
+    let (_dir, rows, json) = write(UnitSystem::Metric);
+    assert_eq!(rows[0][9], "east aquifer cumulative [sm3]");
+    assert!(close(num(&rows[3][9]), -3250.0 * 0.158987294928));
+    let series = json["series"].as_array().unwrap();
+    let cum = series
+        .iter()
+        .find(|s| s["name"] == "east aquifer cumulative")
+        .unwrap();
+    assert_eq!(cum["boundary"], "east aquifer");
+    assert_eq!(cum["quantity"], "cumulative");
+    assert_eq!(cum["unit"], "sm3");
+    assert!(close(
+        cum["values"][1].as_f64().unwrap(),
+        -1500.0 * 0.158987294928
+    ));
+}
+
+#[test]
+fn a_case_without_a_name_writes_null() {
+    let (dir, deck) = deck_dir();
+    let mut case = case(3, 2, 2, UnitSystem::Field);
+    case.name = None;
+    let results = results(&case);
+    let files =
+        write_results(&dir.path().join("o"), &case, &results, &RunMeta::new(&deck)).unwrap();
+    let json: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(files.series_json).unwrap()).unwrap();
+    assert!(json["case"].is_null());
+    assert_eq!(json["title"], "Test lobe");
+}
+
+/// Round-off in a rate or cumulative (a shut-in well's `-1.15697e-12`) is
+/// written as 0, in the CSV, the JSON and the report, while the results
+/// keep the simulator's numbers; the balance error is never snapped.
+#[test]
+fn round_off_rates_and_volumes_are_written_as_zero() {
+    let (dir, deck) = deck_dir();
+    let case = case(3, 2, 2, UnitSystem::Field);
+    let mut results = results(&case);
+    // I-1 shut in: round-off against P-1's 600 stb/day.
+    results.wells[1].rate = vec![0.0, -1.15697e-12 * STB / DAY, 2e-13 * STB / DAY];
+    results.wells[1].cumulative = vec![0.0, -1e-11 * STB, -3e-12 * STB];
+    results.balance_error[2] = 1e-15;
+    let kept = results.clone();
+    let files =
+        write_results(&dir.path().join("o"), &case, &results, &RunMeta::new(&deck)).unwrap();
+    assert_eq!(results.wells, kept.wells, "the results keep their numbers");
+    let rows = parse_csv(&std::fs::read_to_string(&files.series_csv).unwrap());
+    assert_eq!(rows[0][6], "I-1 rate [stb/day]");
+    for row in &rows[1..] {
+        assert_eq!((row[6].as_str(), row[7].as_str()), ("0", "0"), "{row:?}");
+    }
+    assert_eq!(
+        num(&rows[3][10]),
+        1e-15,
+        "the balance error keeps its value"
+    );
+    assert!(close(num(&rows[3][3]), 600.0), "real rates are kept");
+    let json: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&files.series_json).unwrap()).unwrap();
+    let rate = json["series"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["name"] == "I-1 rate")
+        .unwrap()
+        .clone();
+    for v in rate["values"].as_array().unwrap() {
+        assert_eq!(v.as_f64(), Some(0.0));
+        assert!(
+            !v.to_string().contains('e') && !v.to_string().starts_with('-'),
+            "{v}"
+        );
+    }
+    let html = std::fs::read_to_string(&files.report_html).unwrap();
+    assert!(
+        !html.contains("e-12") && !html.contains("e-13"),
+        "no round-off in the report"
+    );
+    // A value just above the threshold is a flow and is kept.
+    let mut results = kept.clone();
+    results.wells[1].rate[2] = -1e-6 * STB / DAY;
+    let files =
+        write_results(&dir.path().join("p"), &case, &results, &RunMeta::new(&deck)).unwrap();
+    let rows = parse_csv(&std::fs::read_to_string(&files.series_csv).unwrap());
+    assert!(close(num(&rows[3][6]), -1e-6), "{}", rows[3][6]);
+}
+
+/// With nothing flowing anywhere, the scale is the flow the reservoir's
+/// pressure could drive (`flow_per_pascal` times the average pressure);
+/// without that either, there is no scale and the numbers stay.
+#[test]
+fn a_run_where_nothing_flows_snaps_against_the_flow_its_pressure_could_drive() {
+    let (dir, deck) = deck_dir();
+    let case = case(3, 2, 2, UnitSystem::Field);
+    let mut results = results(&case);
+    for w in &mut results.wells {
+        w.rate = vec![0.0, 3e-12 * STB / DAY, 0.0];
+        w.cumulative = vec![0.0; 3];
+    }
+    for b in &mut results.boundaries {
+        b.rate = vec![0.0; 3];
+        b.cumulative = vec![0.0; 3];
+    }
+    let written = |results: &rill_sim::RunResults, name: &str| {
+        let files =
+            write_results(&dir.path().join(name), &case, results, &RunMeta::new(&deck)).unwrap();
+        parse_csv(&std::fs::read_to_string(&files.series_csv).unwrap())
+    };
+    let rows = written(&results, "unknown");
+    assert!(close(num(&rows[2][3]), 3e-12), "{}", rows[2][3]);
+    // 1e-8 m^3/s per Pa at about 3000 psi (2.07e7 Pa): a scale of 0.2 m^3/s,
+    // against which 3e-12 stb/day (5.5e-18 m^3/s) is round-off.
+    results.flow_per_pascal = 1e-8;
+    let rows = written(&results, "known");
+    assert_eq!(rows[2][3], "0");
+    // A real trickle of 1 stb/day (1.8e-6 m^3/s, above 2e-10) stays.
+    results.wells[0].rate[2] = 1.0 * STB / DAY;
+    let rows = written(&results, "trickle");
+    assert!(close(num(&rows[3][3]), 1.0), "{}", rows[3][3]);
 }

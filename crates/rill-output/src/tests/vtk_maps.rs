@@ -106,15 +106,15 @@ fn vtr_is_valid_xml_with_extents_coordinates_and_cell_arrays() {
         "{:?}",
         axis[0]
     );
-    // Mean top over the columns: 7000 + mean(0, 2, 4, 6) = 7003 ft.
-    assert!((axis[2][2] + 7003.0).abs() < 1e-9, "{:?}", axis[2]);
+    // The flat top at 7000 ft, layers of 20 and 25 ft below it.
+    assert!((axis[2][2] + 7000.0).abs() < 1e-9, "{:?}", axis[2]);
     assert!(
-        (axis[2][0] + 7003.0 + 20.0 + 25.0).abs() < 1e-9,
+        (axis[2][0] + 7000.0 + 20.0 + 25.0).abs() < 1e-9,
         "{:?}",
         axis[2]
     );
 
-    check_cell_arrays(piece, nx, ny, nz);
+    check_cell_arrays(piece, nx, ny, nz, 7032.5);
 
     // Field data: the time and the units.
     let field = grid
@@ -185,7 +185,8 @@ fn no_cell_pressures_means_no_maps() {
 
 /// The cell arrays of the map at report time 2 of the fixture case: their
 /// names and order, sizes, and sample values in field units.
-fn check_cell_arrays(piece: roxmltree::Node, nx: usize, ny: usize, nz: usize) {
+/// `depth_302` is the depth of the centre of cell (i=3, j=0, layer 2), ft.
+fn check_cell_arrays(piece: roxmltree::Node, nx: usize, ny: usize, nz: usize, depth_302: f64) {
     let cell_data = piece
         .children()
         .find(|n| n.has_tag_name("CellData"))
@@ -222,9 +223,9 @@ fn check_cell_arrays(piece: roxmltree::Node, nx: usize, ny: usize, nz: usize) {
             }
             "depth" => {
                 let d = f64s(&bytes);
-                // Column (3, 0): top 7006 ft; layer 2 centre = 7006 + 20 + 25/2.
+                // Column (3, 0): layer 2 centre = top + 20 + 25/2.
                 assert!(
-                    (d[vtk(3, 0, 2)] - 7038.5).abs() < 1e-9,
+                    (d[vtk(3, 0, 2)] - depth_302).abs() < 1e-9,
                     "{}",
                     d[vtk(3, 0, 2)]
                 );
@@ -305,4 +306,84 @@ fn maps_none_writes_no_map_but_the_report_keeps_its_layer_maps() {
     assert!(!files.dir.join("maps").exists());
     let html = std::fs::read_to_string(files.report_html).unwrap();
     assert!(!html.contains("no maps"), "the layer maps are drawn");
+}
+
+/// A dipping top (2 ft per column east, 1 ft per row north): the maps are
+/// StructuredGrids with every corner point, each at the mean depth of the
+/// columns around it, and the collection names the `.vts` files.
+#[test]
+fn a_dipping_top_is_written_as_a_structured_grid_with_its_corner_points() {
+    let (dir, deck) = deck_dir();
+    let (nx, ny, nz) = (4, 3, 2);
+    let mut case = case(nx, ny, nz, UnitSystem::Field);
+    dip(&mut case);
+    let results = results(&case);
+    let files = write_results(
+        &dir.path().join("lobe.out"),
+        &case,
+        &results,
+        &RunMeta::new(&deck),
+    )
+    .unwrap();
+    assert_eq!(files.maps.len(), 3);
+    assert!(files.maps[2].ends_with("maps/step_0002.vts"));
+    assert_eq!(
+        pvd_sets(files.pvd.as_ref().unwrap())[2],
+        ("20".into(), "step_0002.vts".into())
+    );
+    assert!(!files.dir.join("maps/step_0002.vtr").exists());
+
+    let text = std::fs::read_to_string(&files.maps[2]).unwrap();
+    let doc = roxmltree::Document::parse(&text).expect("valid XML");
+    let root = doc.root_element();
+    assert_eq!(root.attribute("type"), Some("StructuredGrid"));
+    let grid = root
+        .children()
+        .find(|n| n.has_tag_name("StructuredGrid"))
+        .unwrap();
+    assert_eq!(grid.attribute("WholeExtent"), Some("0 4 0 3 0 2"));
+    let piece = grid.children().find(|n| n.has_tag_name("Piece")).unwrap();
+    let array = piece
+        .children()
+        .find(|n| n.has_tag_name("Points"))
+        .and_then(|p| p.children().find(|n| n.has_tag_name("DataArray")))
+        .unwrap();
+    assert_eq!(array.attribute("NumberOfComponents"), Some("3"));
+    let xyz = f64s(&decode(array.text().unwrap()));
+    assert_eq!(xyz.len(), 3 * (nx + 1) * (ny + 1) * (nz + 1));
+    // Corner (i, j) of VTK level kv (0: the base of layer 2, 2: the top).
+    let point = |i: usize, j: usize, kv: usize| {
+        let p = 3 * (i + (nx + 1) * (j + (ny + 1) * kv));
+        (xyz[p], xyz[p + 1], xyz[p + 2])
+    };
+    let near = |a: f64, b: f64| (a - b).abs() < 1e-9;
+    // The south-west corner of the top belongs to column (0, 0) alone.
+    let (x, y, z) = point(0, 0, 2);
+    assert!(x == 0.0 && y == 0.0 && near(z, -7000.0), "{x} {y} {z}");
+    // An inner corner: columns (0,0), (1,0), (0,1), (1,1), tops 7000, 7002,
+    // 7001, 7003 ft: mean 7001.5 ft; x = 100 ft (dx of column 0), y = 80 ft.
+    let (x, y, z) = point(1, 1, 2);
+    assert!(
+        near(x, 100.0) && near(y, 80.0) && near(z, -7001.5),
+        "{x} {y} {z}"
+    );
+    // The north-east corner of the base: column (3, 2), top 7000 + 6 + 2,
+    // then 20 and 25 ft of layers.
+    let (x, y, z) = point(nx, ny, 0);
+    assert!(
+        near(x, 460.0) && near(y, 240.0) && near(z, -7053.0),
+        "{x} {y} {z}"
+    );
+    // The interface between the layers on the east edge, row 1 and 2:
+    // columns (3, 0) and (3, 1) at 7006 + 20 and 7007 + 20 ft.
+    assert!(near(point(nx, 1, 1).2, -7026.5));
+    // Elevation rises from the base to the top at every corner.
+    for j in 0..=ny {
+        for i in 0..=nx {
+            assert!(point(i, j, 0).2 < point(i, j, 1).2 && point(i, j, 1).2 < point(i, j, 2).2);
+        }
+    }
+    // The cell arrays are those of the rectilinear map; `depth` follows the
+    // dip: column (3, 0) tops at 7006 ft.
+    check_cell_arrays(piece, nx, ny, nz, 7038.5);
 }

@@ -58,6 +58,7 @@ pub(super) fn empty_results(case: &Case) -> RunResults {
         pressure: Vec::new(),
         events: Vec::new(),
         stats: SolverStats::default(),
+        flow_per_pascal: 0.0,
     }
 }
 

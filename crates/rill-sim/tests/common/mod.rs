@@ -29,6 +29,7 @@ pub fn block(dx: Vec<f64>, dy: Vec<f64>, dz_layers: Vec<f64>, top: f64) -> Case 
     }
     Case {
         title: None,
+        name: None,
         grid: Grid {
             nx,
             ny,
