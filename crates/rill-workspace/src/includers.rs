@@ -33,16 +33,22 @@ pub fn includes_of(deck: &Path, text: &str, source: &dyn Source) -> Vec<PathBuf>
     if memchr::memmem::find(text.as_bytes(), b"include").is_none() {
         return Vec::new();
     }
-    let tree = rill_syntax::parse(text);
-    let mut out: Vec<PathBuf> = tree
-        .items
+    includes_in(deck, &rill_syntax::parse(text).items, source)
+}
+
+/// [`includes_of`] on a deck already parsed (`items`: its top level).
+pub fn includes_in(deck: &Path, items: &[Item], source: &dyn Source) -> Vec<PathBuf> {
+    let mut out: Vec<PathBuf> = items
         .iter()
         .filter_map(|item| match item {
-            Item::Directive(d) if d.name.name == "include" => match d.args.first().map(|a| &a.kind)
-            {
-                Some(AtomKind::Str { value, .. }) => Some(normalize(&source.resolve(deck, value))),
-                _ => None,
-            },
+            Item::Directive(d) if d.name.name == "include" => {
+                match d.args.first().map(|a| &a.kind) {
+                    Some(AtomKind::Str { value, .. }) => {
+                        Some(normalize(&source.resolve(deck, value)))
+                    }
+                    _ => None,
+                }
+            }
             _ => None,
         })
         .collect();
@@ -109,7 +115,12 @@ impl Includers {
     /// Record the includes of `deck` from `text` (an open buffer). Returns
     /// whether they changed.
     pub fn set_text(&mut self, deck: &Path, text: &str, source: &dyn Source) -> bool {
-        let includes = includes_of(deck, text, source);
+        self.set_includes(deck, includes_of(deck, text, source))
+    }
+
+    /// Record that `deck` includes `includes` (from [`includes_in`] on a
+    /// tree an analysis already parsed). Returns whether that changed.
+    pub fn set_includes(&mut self, deck: &Path, includes: Vec<PathBuf>) -> bool {
         let key = normalize(deck);
         if self.decks.get(&key) == Some(&includes) {
             return false;
