@@ -40,21 +40,21 @@ pub fn rescan(shared: &Arc<Shared>) {
         }
         match walked {
             Ok((index, folders, took)) => {
-                let folders: Vec<String> =
-                    folders.iter().map(|f| f.display().to_string()).collect();
-                let mut message = format!(
-                    "includer index: {} deck(s) under {} in {} ms",
-                    index.len(),
-                    folders.join(", "),
-                    took.as_millis()
-                );
+                // Only a partial index is worth a line in the client's log.
                 if index.is_truncated() {
-                    message.push_str(&format!(
-                        "; stopped after {} entries, decks beyond are not indexed",
-                        rill_workspace::includers::MAX_ENTRIES
-                    ));
+                    let folders: Vec<String> =
+                        folders.iter().map(|f| f.display().to_string()).collect();
+                    shared.log(
+                        MessageType::WARNING,
+                        format!(
+                            "includer index: {} deck(s) under {} in {} ms; stopped after {} entries, decks beyond are not indexed",
+                            index.len(),
+                            folders.join(", "),
+                            took.as_millis(),
+                            rill_workspace::includers::MAX_ENTRIES
+                        ),
+                    );
                 }
-                shared.log(MessageType::INFO, message);
                 *shared.includers.write().unwrap_or_else(|e| e.into_inner()) = index;
             }
             Err(e) => shared.log(
