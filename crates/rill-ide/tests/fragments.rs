@@ -206,3 +206,34 @@ fn a_lone_fragment_has_one_error() {
     let mut deck = Snapshot::new(&path("tamsin-ridge.rill"), &main, &MemorySource::new());
     assert!(!deck.mark_unincluded(None));
 }
+
+#[test]
+fn every_offset_of_a_fragment_answers_inside_its_text() {
+    let wells = format!("{}  # Ω😀\n", example("wells.rill"));
+    let main = main_with_event();
+    let snap = in_deck(&main, &wells);
+    let inside = |span: rill_ide::Span| {
+        span.start <= span.end && span.end <= wells.len() && wells.is_char_boundary(span.start)
+    };
+    for off in 0..=wells.len() + 2 {
+        if let Some(h) = snap.hover(off) {
+            assert!(inside(h.range), "hover at {off}");
+        }
+        for c in snap.completion(off) {
+            assert!(inside(c.replace), "completion at {off}");
+        }
+        for t in snap.references_everywhere(off) {
+            if t.file == snap.path() {
+                assert!(inside(t.span), "reference at {off}");
+            }
+        }
+        if let Ok(edits) = snap.rename(off, "R") {
+            for e in edits.iter().filter(|e| e.file == snap.path()) {
+                assert!(inside(e.edit.span), "rename at {off}");
+            }
+        }
+        for a in snap.code_actions(rill_ide::Span::new(off, off + 2)) {
+            assert!(a.edits.iter().all(|e| inside(e.span)), "action at {off}");
+        }
+    }
+}
