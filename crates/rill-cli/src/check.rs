@@ -17,19 +17,66 @@ pub fn load(path: &Path, source: &DiskSource) -> Result<Analysis, String> {
     rill_model::analyze(path, source).map_err(|e| format!("cannot read {}: {e}", path.display()))
 }
 
+/// A fragment (none of the case's blocks) is checked through the deck
+/// that includes it, said in a line before its diagnostics (on standard
+/// error with `--format json`, to keep standard output JSON); with no
+/// such deck it gets one error saying so.
+fn through_deck(
+    path: &Path,
+    analysis: Analysis,
+    source: &DiskSource,
+    format: Format,
+) -> Result<Analysis, String> {
+    if !rill_model::fragment::is_fragment(&analysis) {
+        return Ok(analysis);
+    }
+    let mut analysis = analysis;
+    let Some(found) = crate::includers::find(path, source) else {
+        rill_model::fragment::mark_unincluded(&mut analysis, None);
+        return Ok(analysis);
+    };
+    let Some(deck) = found.decks.first() else {
+        let note = format!(
+            "searched the decks under {}",
+            crate::includers::shown(&found.searched)
+        );
+        rill_model::fragment::mark_unincluded(&mut analysis, Some(note));
+        return Ok(analysis);
+    };
+    let name = |p: &Path| crate::includers::shown(p);
+    let mut line = format!(
+        "{} is included by {}; checked that deck",
+        path.display(),
+        name(deck)
+    );
+    if found.decks.len() > 1 {
+        let others: Vec<String> = found.decks[1..].iter().map(|d| name(d)).collect();
+        line.push_str(&format!(
+            " (also included by {}: check them by name)",
+            others.join(", ")
+        ));
+    }
+    match format {
+        Format::Text => println!("{line}\n"),
+        Format::Json => eprintln!("{line}"),
+    }
+    load(deck, source)
+}
+
 pub fn run(files: &[std::path::PathBuf], format: Format) -> u8 {
     let source = DiskSource::unconfined();
     let mut worst = 0u8;
     let mut json_diags = Vec::new();
     for path in files {
-        let analysis = match load(path, &source) {
-            Ok(a) => a,
-            Err(e) => {
-                eprintln!("error: {e}");
-                worst = 2;
-                continue;
-            }
-        };
+        let analysis =
+            match load(path, &source).and_then(|a| through_deck(path, a, &source, format)) {
+                Ok(a) => a,
+                Err(e) => {
+                    eprintln!("error: {e}");
+                    worst = 2;
+                    continue;
+                }
+            };
         if analysis.has_errors() && worst < 1 {
             worst = 1;
         }

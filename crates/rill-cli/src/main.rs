@@ -6,6 +6,7 @@
 
 mod check;
 mod fmt;
+mod includers;
 mod inspect;
 mod positions;
 mod run;

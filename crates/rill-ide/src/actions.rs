@@ -20,12 +20,12 @@ pub(crate) fn code_actions(snap: &Snapshot, range: Span) -> Vec<CodeAction> {
     );
     let mut out = Vec::new();
     for (index, d) in snap.diagnostics().iter().enumerate() {
-        if d.location.file != 0 || !touches(d.location.span(), range) {
+        if d.location.file != snap.focus() || !touches(d.location.span(), range) {
             continue;
         }
         for fix in &d.fixes {
             // A fix that also edits another file cannot be applied here alone.
-            if fix.edits.iter().any(|e| e.location.file != 0) {
+            if fix.edits.iter().any(|e| e.location.file != snap.focus()) {
                 continue;
             }
             let mut edits: Vec<TextEdit> = fix

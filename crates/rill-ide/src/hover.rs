@@ -42,7 +42,11 @@ fn diagnostic_notes(snap: &Snapshot, off: usize, range: Option<Span>) -> Option<
     let mut out = String::new();
     let mut span: Option<Span> = None;
     let mut seen: Vec<rill_model::Code> = Vec::new();
-    for d in snap.diagnostics().iter().filter(|d| d.location.file == 0) {
+    for d in snap
+        .diagnostics()
+        .iter()
+        .filter(|d| d.location.file == snap.focus())
+    {
         let s = d.location.span();
         let hit = s.contains(off)
             || (s.is_empty() && s.start == off)
@@ -269,7 +273,7 @@ fn value_hover(
                 AtomKind::Str { unit: Some(u), .. } => u.text.as_str(),
                 _ => "",
             };
-            let md = match snap.arrays.get(&(0, innermost.span)) {
+            let md = match snap.arrays.get(&(snap.focus(), innermost.span)) {
                 Some(Ok(st)) => {
                     let mut s = format!(
                         "**file \"{}\"** — {} values\n\n| min | mean | max |\n|---:|---:|---:|\n| {} | {} | {} |\n",

@@ -5,8 +5,11 @@
 //! definition and references, formatting edits, folding ranges and code
 //! lenses.
 //!
-//! Positions are byte offsets into the text of the open document (file 0 of
-//! the analysis); every answer carries byte spans. The language server
+//! Positions are byte offsets into the text of the open document; every
+//! answer carries byte spans. The open document is file 0 of the analysis,
+//! or, for a fragment analysed through the deck that includes it
+//! ([`Snapshot::in_deck`]), the file of that deck's analysis that it is
+//! ([`Snapshot::focus`]). The language server
 //! (`rill-lsp`) converts positions and maps these types to the protocol.
 //!
 //! It must never depend on protocol types, never do I/O (included decks and
@@ -27,8 +30,8 @@
 //!   replaces its `replace` span (the word typed so far) with `insert_text`,
 //!   in snippet syntax when `snippet` is set; `sort_text` orders them.
 //! - Diagnostics keep their file index (`location.file` into
-//!   `analysis().files`); code actions only carry fixes whose edits are all
-//!   in the open document.
+//!   `analysis().files`; the open document's is [`Snapshot::focus`]); code
+//!   actions only carry fixes whose edits are all in the open document.
 //! - Cell numbers come from `rill_model::inspect::cell_report` and
 //!   `rill_model::derived`, shown with `rill_units::format_number` in the
 //!   deck's report units and in SI, as `rill inspect` prints them.
@@ -306,6 +309,19 @@ pub struct Snapshot {
     /// Array files named by `file "..."` in any deck of the analysis, by
     /// (file index, span of the string atom), in the values' own unit.
     arrays: HashMap<(usize, Span), Result<ArrayStats, String>>,
+    /// The index of the open document in `analysis.files`.
+    focus: usize,
+    /// The deck analysed when the open document is a fragment read through it.
+    context: Option<PathBuf>,
+}
+
+/// An edit of some file of the analysis (a rename across a deck and its includes).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct FileEdit {
+    /// The file: the open document's path, or a deck of the analysis.
+    pub file: PathBuf,
+    /// The replacement, in byte offsets of that file's analysed text.
+    pub edit: TextEdit,
 }
 
 impl Snapshot {
@@ -343,7 +359,67 @@ impl Snapshot {
             analysis,
             tree,
             arrays,
+            focus: 0,
+            context: None,
         }
+    }
+
+    /// The fragment at `path` (with the text `text`, an open buffer)
+    /// analysed as part of `deck` (with the text `deck_text`), which
+    /// includes it directly or through other includes: every answer is
+    /// about the fragment, with the whole case behind it (the well-index
+    /// table on hover, the deck's wells in completion). `None` when the
+    /// deck's analysis does not read the fragment as a deck, or read a
+    /// different text than `text` (the buffer moved on).
+    pub fn in_deck(
+        deck: &Path,
+        deck_text: &str,
+        path: &Path,
+        text: &str,
+        source: &dyn Source,
+        cache: &rill_model::Reuse,
+    ) -> Option<Snapshot> {
+        let mut snap = Self::with_cache(deck, deck_text, source, cache);
+        let want = rill_model::source::normalize(path);
+        let focus = snap
+            .analysis
+            .files
+            .iter()
+            .enumerate()
+            .skip(1)
+            .find(|(_, f)| f.path == want && f.tree.is_some())
+            .map(|(i, _)| i)?;
+        let file = &snap.analysis.files[focus];
+        if &*file.text != text {
+            return None;
+        }
+        snap.text = file.text.clone();
+        snap.tree = file.tree.clone()?;
+        snap.focus = focus;
+        snap.context = Some(snap.path.clone());
+        snap.path = path.to_path_buf();
+        Some(snap)
+    }
+
+    /// The index of the open document in `analysis().files`: 0, or the
+    /// fragment's index when analysed through its deck.
+    pub fn focus(&self) -> usize {
+        self.focus
+    }
+
+    /// The deck this fragment was analysed through ([`Snapshot::in_deck`]);
+    /// `None` for a document analysed on its own.
+    pub fn context(&self) -> Option<&Path> {
+        self.context.as_deref()
+    }
+
+    /// For a document analysed on its own that no deck includes: when it
+    /// is a fragment (none of the case's blocks), its missing-block errors
+    /// become one that says so (`rill_model::fragment::mark_unincluded`,
+    /// with `note` saying where includers were looked for). Returns
+    /// whether it did.
+    pub fn mark_unincluded(&mut self, note: Option<String>) -> bool {
+        self.context.is_none() && rill_model::fragment::mark_unincluded(&mut self.analysis, note)
     }
 
     /// The open document's path, as given to [`Snapshot::new`].
@@ -400,10 +476,31 @@ impl Snapshot {
         nav::definition(self, offset)
     }
 
-    /// For a well name (its block label or its name in an event): every
-    /// place in the open document that names the well.
+    /// For a well or boundary name (its block label or, for a well, its
+    /// name in an event): every place in the open document that names it.
     pub fn references(&self, offset: usize) -> Vec<Span> {
         nav::references(self, offset)
+    }
+
+    /// [`Snapshot::references`] in every deck of the analysis: the main
+    /// deck, its includes, and the open document, sorted by file, then
+    /// position.
+    pub fn references_everywhere(&self, offset: usize) -> Vec<Target> {
+        nav::references_everywhere(self, offset)
+    }
+
+    /// The well or boundary name under the cursor that can be renamed:
+    /// the span of its label (with the quotes) and the name.
+    pub fn prepare_rename(&self, offset: usize) -> Option<(Span, String)> {
+        nav::prepare_rename(self, offset)
+    }
+
+    /// Renaming the well or boundary under the cursor to `new_name`: one
+    /// edit per place that names it, in every deck of the analysis. An
+    /// error in words when nothing renamable is under the cursor, the name
+    /// cannot be written as a label, or another well (boundary) has it.
+    pub fn rename(&self, offset: usize, new_name: &str) -> Result<Vec<FileEdit>, String> {
+        nav::rename(self, offset, new_name)
     }
 
     /// Semantic tokens of the whole document, sorted and non-overlapping.

@@ -206,6 +206,10 @@ pub(crate) fn folding_ranges(snap: &Snapshot) -> Vec<Span> {
 }
 
 pub(crate) fn code_lenses(snap: &Snapshot) -> Vec<CodeLens> {
+    // A fragment is run through its deck, not on its own.
+    if snap.context().is_some() {
+        return Vec::new();
+    }
     let Some(first) = snap.tree().items.iter().find_map(|i| match i {
         Item::Block(b) => Some(b),
         _ => None,

@@ -19,6 +19,9 @@ use tower_lsp::lsp_types::Url;
 pub struct FileTexts<'a> {
     files: Vec<(&'a Path, &'a str)>,
     main: Rope,
+    /// The file `main` is the text of: 0, or a fragment's index when it was
+    /// analysed through its deck.
+    main_index: usize,
     lines: HashMap<usize, LineIndex>,
 }
 
@@ -28,8 +31,15 @@ impl<'a> FileTexts<'a> {
         FileTexts {
             files,
             main: main.clone(),
+            main_index: 0,
             lines: HashMap::new(),
         }
+    }
+
+    /// `main` is the rope of file `index` instead of file 0.
+    pub fn with_main_index(mut self, index: usize) -> Self {
+        self.main_index = index;
+        self
     }
 
     pub fn len(&self) -> usize {
@@ -51,7 +61,7 @@ impl<'a> FileTexts<'a> {
         end: usize,
         enc: Encoding,
     ) -> Option<lsp::Range> {
-        if file == 0 {
+        if file == self.main_index {
             return Some(position::range(&self.main, start, end, enc));
         }
         let text = self.files.get(file)?.1;

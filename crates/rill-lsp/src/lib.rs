@@ -38,7 +38,14 @@
 //!   or pulled with `workspace/configuration`), section `rill`:
 //!   `inlayHints.enabled`, `allowedIncludePaths`, `runOutputDir`;
 //! - `workspace/didChangeWatchedFiles` registered for decks and array files
-//!   (dynamic registration), invalidating the `DiskSource` cache;
+//!   (dynamic registration), invalidating the `DiskSource` cache and
+//!   updating the includer index;
+//! - a fragment (a file another deck includes) is analysed through that
+//!   deck (`includers`): its own diagnostics, and hover, completion,
+//!   definition, references and rename with the whole case behind them; a
+//!   fragment that nothing includes gets one error saying so;
+//! - rename (with prepare) of well and boundary names across the deck and
+//!   its includes;
 //! - exit code 0 after `shutdown` then `exit`, 1 for `exit` alone.
 
 #![warn(clippy::too_many_lines)]
@@ -48,6 +55,7 @@ mod answers;
 mod convert;
 pub mod document;
 mod framing;
+mod includers;
 mod pool;
 pub mod position;
 mod runner;

@@ -33,22 +33,30 @@ const REQUEST_WAIT: Duration = Duration::from_secs(5);
 /// A document changed (or opened): analyse the decks it belongs to.
 pub fn document_changed(shared: &Arc<Shared>, uri: &Url) {
     let path = uri_path(uri);
-    let roots = {
+    let (roots, readers) = {
         let mut a = lock(&shared.analyses);
         a.standalone.remove(uri);
         match &path {
-            Some(p) => a.roots_including(p, uri),
-            None => Vec::new(),
+            Some(p) => (a.roots_including(p, uri), a.context_roots_reading(p, uri)),
+            None => (Vec::new(), Vec::new()),
         }
     };
     if roots.is_empty() {
         wake(shared, uri);
     } else {
-        for r in roots {
-            wake(shared, &r);
+        for r in &roots {
+            wake(shared, r);
         }
     }
+    // Fragments analysed through a deck that reads this document (a
+    // sibling fragment, the deck itself) see the change too.
+    for r in readers.iter().filter(|r| !roots.contains(r)) {
+        wake(shared, r);
+    }
 }
+
+/// How long a first analysis waits for the includer index.
+const INDEX_WAIT: Duration = Duration::from_secs(5);
 
 /// Analyse every root again (a watched file or the settings changed).
 pub fn all_changed(shared: &Arc<Shared>) {
@@ -128,6 +136,9 @@ async fn worker(
         if stop.load(Ordering::SeqCst) {
             return;
         }
+        // A fragment's first diagnostics should already be its deck's.
+        let mut ready = shared.index_ready.subscribe();
+        let _ = tokio::time::timeout(INDEX_WAIT, ready.wait_for(|r| *r)).await;
         let Some(input) = shared.input(&uri) else {
             return;
         };
@@ -169,7 +180,11 @@ async fn worker(
         if stop.load(Ordering::SeqCst) {
             return;
         }
+        let includes_changed = crate::includers::learn(&shared, &analyzed.snap);
         publish(&shared, &uri, &analyzed).await;
+        if includes_changed {
+            all_changed(&shared);
+        }
     }
 }
 
@@ -202,7 +217,10 @@ async fn publish(shared: &Arc<Shared>, root: &Url, analyzed: &Analyzed) {
         .iter()
         .map(|f| (f.path.as_path(), &*f.text))
         .collect();
-    let mut texts = FileTexts::new(files, &analyzed.rope);
+    // A fragment analysed through its deck: the rope is the fragment's
+    // text, and only its own diagnostics are published (on its URI).
+    let focus = snap.focus();
+    let mut texts = FileTexts::new(files, &analyzed.rope).with_main_index(focus);
     let per_file = convert::diagnostics(
         snap.diagnostics(),
         &mut texts,
@@ -215,13 +233,23 @@ async fn publish(shared: &Arc<Shared>, root: &Url, analyzed: &Analyzed) {
         if !a.workers.contains_key(root) {
             return; // closed, or now included by another deck
         }
-        let included: HashSet<PathBuf> = snap
+        let read: HashSet<PathBuf> = snap
             .analysis()
             .files
             .iter()
-            .skip(1)
-            .map(|f| f.path.clone())
+            .enumerate()
+            .filter(|(i, _)| *i != focus)
+            .map(|(_, f)| f.path.clone())
             .collect();
+        // A fragment does not take over its deck or siblings: it only
+        // listens to their changes.
+        let included = if focus == 0 {
+            a.context_reads.remove(root);
+            read
+        } else {
+            a.context_reads.insert(root.clone(), read);
+            HashSet::new()
+        };
         // Open documents that this deck includes stop being roots: their
         // diagnostics come from this analysis from now on.
         let demoted: Vec<Url> = {
@@ -239,6 +267,7 @@ async fn publish(shared: &Arc<Shared>, root: &Url, analyzed: &Analyzed) {
                 w.notify.notify_one();
             }
             a.includes.remove(u);
+            a.context_reads.remove(u);
             for (target, by_root) in a.contributions.iter_mut() {
                 if by_root.remove(u).is_some() {
                     changed.insert(target.clone());
@@ -248,8 +277,11 @@ async fn publish(shared: &Arc<Shared>, root: &Url, analyzed: &Analyzed) {
         a.includes.insert(root.clone(), included);
         let mut now: HashSet<Url> = HashSet::new();
         for (i, (path, diags)) in per_file.into_iter().enumerate() {
-            // File 0 is the document itself, whatever its path says.
-            let uri = if i == 0 {
+            if focus != 0 && i != focus {
+                continue;
+            }
+            // The focus file is the document itself, whatever its path says.
+            let uri = if i == focus {
                 root.clone()
             } else {
                 match convert::path_uri(&path) {
@@ -296,6 +328,8 @@ pub fn document_closed(shared: &Arc<Shared>, uri: &Url) -> Vec<Url> {
     {
         let mut a = lock(&shared.analyses);
         a.standalone.remove(uri);
+        a.contexts.remove(uri);
+        a.context_reads.remove(uri);
         if let Some(w) = a.workers.remove(uri) {
             w.stop.store(true, Ordering::SeqCst);
             w.notify.notify_one();

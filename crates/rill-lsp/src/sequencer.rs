@@ -139,6 +139,7 @@ fn did_open(shared: &Arc<Shared>, p: DidOpenTextDocumentParams) {
     if let Some(path) = uri_path(&doc.uri) {
         if shared.add_fallback_root(&path) {
             shared.rebuild_source();
+            crate::includers::rescan(shared);
         } else {
             shared.source().set_overlay(&path, &doc.text);
         }
@@ -177,8 +178,15 @@ fn did_close(
 ) -> Vec<tower_lsp::lsp_types::Url> {
     let uri = &p.text_document.uri;
     let doc = lock(&shared.docs).close(uri);
+    let mut index_changed = false;
     if let Some(path) = doc.and_then(|d| d.path) {
         shared.source().clear_overlay(&path);
+        // The index knew the buffer's includes; the disk's count now.
+        index_changed = crate::includers::refresh(shared, &path, false);
     }
-    schedule::document_closed(shared, uri)
+    let out = schedule::document_closed(shared, uri);
+    if index_changed {
+        schedule::all_changed(shared);
+    }
+    out
 }

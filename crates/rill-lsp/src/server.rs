@@ -106,6 +106,7 @@ impl Backend {
         };
         if old.allowed_include_paths != settings.allowed_include_paths {
             self.shared.rebuild_source();
+            crate::includers::rescan(&self.shared);
             schedule::all_changed(&self.shared);
         }
         if old.inlay_hints != settings.inlay_hints && self.shared.config().caps.inlay_hint_refresh {
@@ -186,6 +187,7 @@ impl LanguageServer for Backend {
             }
         }
         self.shared.rebuild_source();
+        crate::includers::rescan(&self.shared);
         self.shared.initialized.store(true, Ordering::SeqCst);
         let legend = answers::legend();
         Ok(InitializeResult {
@@ -221,6 +223,10 @@ impl LanguageServer for Backend {
                 document_symbol_provider: Some(OneOf::Left(true)),
                 definition_provider: Some(OneOf::Left(true)),
                 references_provider: Some(OneOf::Left(true)),
+                rename_provider: Some(OneOf::Right(RenameOptions {
+                    prepare_provider: Some(true),
+                    work_done_progress_options: Default::default(),
+                })),
                 semantic_tokens_provider: Some(
                     SemanticTokensServerCapabilities::SemanticTokensOptions(
                         SemanticTokensOptions {
@@ -315,6 +321,7 @@ impl LanguageServer for Backend {
             }
         }
         self.shared.rebuild_source();
+        crate::includers::rescan(&self.shared);
         schedule::all_changed(&self.shared);
     }
 
@@ -326,6 +333,11 @@ impl LanguageServer for Backend {
                 // An open buffer is an overlay and wins over the disk anyway.
                 source.invalidate(&path);
                 self.shared.cache.forget_file(&path);
+                crate::includers::refresh(
+                    &self.shared,
+                    &path,
+                    change.typ == FileChangeType::DELETED,
+                );
                 any = true;
             }
         }
@@ -492,27 +504,8 @@ impl LanguageServer for Backend {
         let Some(target) = a.snap.definition(offset) else {
             return Ok(None);
         };
-        let analysis = a.snap.analysis();
-        let in_doc = target.file == a.snap.path()
-            || analysis
-                .files
-                .first()
-                .is_some_and(|f| f.path == target.file);
-        let (target_uri, range) = if in_doc {
-            (uri.clone(), answers::range(&a.rope, target.span, enc))
-        } else {
-            let Some(target_uri) = convert::path_uri(&target.file) else {
-                return Ok(None);
-            };
-            // The target's text as analysed; a file start needs none.
-            let range = match analysis.files.iter().find(|f| f.path == target.file) {
-                Some(f) if target.span.end > 0 => {
-                    let lines = rill_syntax::LineIndex::new(&f.text);
-                    position::text_range(&f.text, &lines, target.span.start, target.span.end, enc)
-                }
-                _ => Range::default(),
-            };
-            (target_uri, range)
+        let Some((target_uri, range)) = place(uri, &a, &target.file, target.span, enc) else {
+            return Ok(None);
         };
         Ok(Some(GotoDefinitionResponse::Scalar(Location {
             uri: target_uri,
@@ -530,14 +523,62 @@ impl LanguageServer for Backend {
         let offset = crate::position::offset(&a.rope, p.position, enc);
         Ok(Some(
             a.snap
-                .references(offset)
+                .references_everywhere(offset)
                 .into_iter()
-                .map(|s| Location {
-                    uri: uri.clone(),
-                    range: answers::range(&a.rope, s, enc),
+                .filter_map(|t| {
+                    let (uri, range) = place(uri, &a, &t.file, t.span, enc)?;
+                    Some(Location { uri, range })
                 })
                 .collect(),
         ))
+    }
+
+    async fn prepare_rename(
+        &self,
+        params: TextDocumentPositionParams,
+    ) -> Result<Option<PrepareRenameResponse>> {
+        let Some(a) = schedule::analyzed(&self.shared, &params.text_document.uri).await else {
+            return Ok(None);
+        };
+        let enc = self.shared.encoding();
+        let offset = crate::position::offset(&a.rope, params.position, enc);
+        Ok(a.snap.prepare_rename(offset).map(|(span, name)| {
+            PrepareRenameResponse::RangeWithPlaceholder {
+                range: answers::range(&a.rope, span, enc),
+                placeholder: name,
+            }
+        }))
+    }
+
+    /// Renames a well or boundary in every deck of the analysis: the
+    /// document's deck, its includes and, from a fragment, the deck that
+    /// includes it.
+    async fn rename(&self, params: RenameParams) -> Result<Option<WorkspaceEdit>> {
+        let p = params.text_document_position;
+        let uri = &p.text_document.uri;
+        let Some(a) = schedule::analyzed(&self.shared, uri).await else {
+            return Ok(None);
+        };
+        let enc = self.shared.encoding();
+        let offset = crate::position::offset(&a.rope, p.position, enc);
+        let edits = a
+            .snap
+            .rename(offset, &params.new_name)
+            .map_err(tower_lsp::jsonrpc::Error::invalid_params)?;
+        let mut changes: std::collections::HashMap<Url, Vec<TextEdit>> = Default::default();
+        for e in edits {
+            let Some((target, range)) = place(uri, &a, &e.file, e.edit.span, enc) else {
+                continue;
+            };
+            changes.entry(target).or_default().push(TextEdit {
+                range,
+                new_text: e.edit.new_text,
+            });
+        }
+        Ok(Some(WorkspaceEdit {
+            changes: Some(changes),
+            ..Default::default()
+        }))
     }
 
     async fn semantic_tokens_full(
@@ -641,4 +682,28 @@ impl LanguageServer for Backend {
             )))
         }
     }
+}
+
+/// The URI and range of `span` in `file`, a file of the analysis `a` of the
+/// document `uri`: the document's own rope, or the text the analysis read.
+fn place(
+    uri: &Url,
+    a: &crate::state::Analyzed,
+    file: &std::path::Path,
+    span: rill_ide::Span,
+    enc: Encoding,
+) -> Option<(Url, Range)> {
+    let focus = a.snap.analysis().files.get(a.snap.focus());
+    if file == a.snap.path() || focus.is_some_and(|f| f.path == file) {
+        return Some((uri.clone(), answers::range(&a.rope, span, enc)));
+    }
+    let target = convert::path_uri(file)?;
+    let range = match a.snap.analysis().files.iter().find(|f| f.path == file) {
+        Some(f) if span.end > 0 => {
+            let lines = rill_syntax::LineIndex::new(&f.text);
+            position::text_range(&f.text, &lines, span.start, span.end, enc)
+        }
+        _ => Range::default(),
+    };
+    Some((target, range))
 }

@@ -5,8 +5,8 @@
 use crate::document::{uri_path, Documents};
 use crate::position::Encoding;
 use crate::settings::Settings;
-use rill_model::Reuse;
-use rill_workspace::DiskSource;
+use rill_model::{Reuse, Source};
+use rill_workspace::{DiskSource, Includers};
 use ropey::Rope;
 use std::collections::{HashMap, HashSet};
 use std::path::{Path, PathBuf};
@@ -66,6 +66,19 @@ pub struct Analyzed {
     pub snap: rill_ide::Snapshot,
 }
 
+/// How a document is analysed: on its own, or through a deck that includes it.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Context {
+    /// On its own; the includer index is not complete yet, or the document
+    /// has no path.
+    Alone,
+    /// On its own, and no deck in the workspace includes it (a fragment
+    /// then gets one error saying so).
+    Unincluded,
+    /// Through this deck, which includes it.
+    Deck(PathBuf),
+}
+
 /// The input of one analysis.
 pub struct Input {
     pub version: i32,
@@ -75,12 +88,35 @@ pub struct Input {
     pub source: Arc<DiskSource>,
     /// The server's cache, kept between analyses.
     pub cache: Arc<Reuse>,
+    pub context: Context,
 }
 
 impl Input {
     pub fn analyze(self) -> Analyzed {
-        let snap =
-            rill_ide::Snapshot::with_cache(&self.path, &self.text, &*self.source, &self.cache);
+        let source = &*self.source;
+        let in_deck = match &self.context {
+            Context::Deck(deck) => source.read(deck).ok().and_then(|bytes| {
+                let (deck_text, _) = rill_syntax::parse_bytes(&bytes);
+                rill_ide::Snapshot::in_deck(
+                    deck,
+                    &deck_text,
+                    &self.path,
+                    &self.text,
+                    source,
+                    &self.cache,
+                )
+            }),
+            _ => None,
+        };
+        // A deck that no longer reads the document: analyse it alone.
+        let snap = in_deck.unwrap_or_else(|| {
+            let mut snap =
+                rill_ide::Snapshot::with_cache(&self.path, &self.text, source, &self.cache);
+            if self.context == Context::Unincluded {
+                snap.mark_unincluded(None);
+            }
+            snap
+        });
         Analyzed {
             version: self.version,
             rope: self.rope,
@@ -104,15 +140,30 @@ pub struct Analyses {
     pub includes: HashMap<Url, HashSet<PathBuf>>,
     /// Diagnostics per target URI, per root that produced them.
     pub contributions: HashMap<Url, HashMap<Url, Vec<lsp::Diagnostic>>>,
-    /// Analyses of open documents that are included by a root, on their
-    /// own, for requests on them (hover in an included deck).
+    /// Analyses of open documents that are included by a root, through
+    /// their deck, for requests on them (hover in an included deck).
     pub standalone: HashMap<Url, Arc<Analyzed>>,
+    /// Roots analysed through a deck that includes them: every file that
+    /// analysis read, so that a change to any of them (a sibling fragment
+    /// open beside it) analyses the root again.
+    pub context_reads: HashMap<Url, HashSet<PathBuf>>,
+    /// The deck each document was last analysed through, to log a change.
+    pub contexts: HashMap<Url, PathBuf>,
 }
 
 impl Analyses {
     /// Roots whose last analysis read `path`.
     pub fn roots_including(&self, path: &Path, except: &Url) -> Vec<Url> {
         self.includes
+            .iter()
+            .filter(|(r, set)| *r != except && set.contains(path))
+            .map(|(r, _)| r.clone())
+            .collect()
+    }
+
+    /// Roots analysed through a deck whose last analysis read `path`.
+    pub fn context_roots_reading(&self, path: &Path, except: &Url) -> Vec<Url> {
+        self.context_reads
             .iter()
             .filter(|(r, set)| *r != except && set.contains(path))
             .map(|(r, _)| r.clone())
@@ -141,6 +192,14 @@ pub struct Shared {
     pub analysis_slots: Arc<tokio::sync::Semaphore>,
     /// The threads analyses run on, as many as there are slots.
     pub pool: crate::pool::Pool,
+    /// Which decks of the workspace include which files (see `includers`).
+    pub includers: RwLock<Includers>,
+    /// True once the includer index has been built for the current
+    /// folders; analyses wait for it (briefly), so that a fragment's first
+    /// diagnostics are already those of its deck.
+    pub index_ready: watch::Sender<bool>,
+    /// Counts walks of the folders, so that an overtaken walk is dropped.
+    pub scan_generation: std::sync::atomic::AtomicU64,
 }
 
 /// How many analyses run at once: one per core, at most four (each may be
@@ -177,6 +236,9 @@ impl Shared {
             runs: Default::default(),
             analysis_slots: Arc::new(tokio::sync::Semaphore::new(analysis_slots())),
             pool: crate::pool::Pool::new(analysis_slots()),
+            includers: RwLock::new(Includers::new()),
+            index_ready: watch::channel(false).0,
+            scan_generation: std::sync::atomic::AtomicU64::new(0),
         }
     }
 
@@ -260,23 +322,69 @@ impl Shared {
         lock(&self.docs).get(uri).map(|d| d.version)
     }
 
-    /// The current text of an open document, ready to analyse.
+    /// The current text of an open document, ready to analyse, with the
+    /// deck it is analysed through (see `includers`).
     pub fn input(&self, uri: &Url) -> Option<Input> {
-        let mut docs = lock(&self.docs);
-        let doc = docs.get_mut(uri)?;
-        let source = self.source_for(doc.path.as_deref());
-        let path = doc
-            .path
-            .clone()
-            .unwrap_or_else(|| PathBuf::from(uri.path()));
-        Some(Input {
-            version: doc.version,
-            text: doc.text(),
-            rope: doc.rope.clone(),
-            path,
-            source,
-            cache: self.cache.clone(),
-        })
+        let mut note = None;
+        let input = {
+            let mut docs = lock(&self.docs);
+            let doc = docs.get_mut(uri)?;
+            let source = self.source_for(doc.path.as_deref());
+            let saved = doc.path.clone();
+            let path = saved.clone().unwrap_or_else(|| PathBuf::from(uri.path()));
+            let (version, text, rope) = (doc.version, doc.text(), doc.rope.clone());
+            let context = match &saved {
+                Some(p) if *self.index_ready.borrow() => {
+                    let index = self.includers.read().unwrap_or_else(|e| e.into_inner());
+                    let is_open = |deck: &Path| docs.by_path(deck).is_some();
+                    match index.choose(p, &is_open) {
+                        Some(deck) => {
+                            let all = index.top_decks(p);
+                            if all.len() > 1 {
+                                note = Some((deck.clone(), all));
+                            }
+                            Context::Deck(deck)
+                        }
+                        None => Context::Unincluded,
+                    }
+                }
+                _ => Context::Alone,
+            };
+            Input {
+                version,
+                text,
+                rope,
+                path,
+                source,
+                cache: self.cache.clone(),
+                context,
+            }
+        };
+        // Outside the documents' lock: `publish` takes the analyses first.
+        if let Some((deck, all)) = note {
+            self.note_context(uri, &deck, &all);
+        }
+        Some(input)
+    }
+
+    /// Log, once per change, which of several including decks a document
+    /// is analysed through.
+    fn note_context(&self, uri: &Url, deck: &Path, all: &[PathBuf]) {
+        let mut a = lock(&self.analyses);
+        if a.contexts.get(uri).is_some_and(|d| d == deck) {
+            return;
+        }
+        a.contexts.insert(uri.clone(), deck.to_path_buf());
+        let names: Vec<String> = all.iter().map(|p| p.display().to_string()).collect();
+        self.log(
+            MessageType::INFO,
+            format!(
+                "{} is included by {}; analysed through {} (an open deck first, then the shortest path)",
+                display(uri),
+                names.join(", "),
+                deck.display()
+            ),
+        );
     }
 
     pub fn is_shut_down(&self) -> bool {

@@ -18,6 +18,7 @@ pub mod checks;
 pub mod derived;
 pub mod diagnostic;
 pub mod explain;
+pub mod fragment;
 pub mod inspect;
 pub mod lower;
 pub mod props;

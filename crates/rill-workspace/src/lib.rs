@@ -13,11 +13,18 @@
 //! runaway file can hold or exhaust an analysis; and it resolves `..` the
 //! way the file system does.
 //!
-//! It must never interpret file contents, never block on a read, and never
-//! write any file.
+//! It also keeps the includer index ([`includers`]): which decks in the
+//! workspace include which files, so that a fragment opened or checked on
+//! its own is analysed through the deck that includes it.
+//!
+//! It must never interpret file contents beyond the `include` directives
+//! the index reads, never block on a read, and never write any file.
 
 #![warn(missing_docs)]
 #![warn(clippy::too_many_lines)]
+
+pub mod includers;
+pub use includers::Includers;
 
 use rill_model::source::{normalize, Source, SourceError, MAX_FILE_LEN};
 use std::collections::HashMap;
