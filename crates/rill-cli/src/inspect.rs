@@ -96,6 +96,7 @@ pub fn to_json(r: &CellReport) -> Value {
                 "side": f.side.name(),
                 "neighbor": f.neighbor.map(|(i, j, k)| json!([i, j, k])),
                 "boundary": f.boundary,
+                "aquifer": f.aquifer,
                 "perm_face_md": field(f.perm_face, Kind::Permeability),
                 "trans_stb_day_psi": field(f.trans, Kind::Transmissibility),
                 "trans_si": f.trans,
@@ -180,9 +181,10 @@ fn print_text(r: &CellReport, system: System) {
         "face", "neighbour", k_head, t_head, "T [sm3/s/Pa]"
     );
     for f in &r.faces {
-        let neighbour = match (&f.neighbor, &f.boundary) {
-            (Some((i, j, k)), _) => format!("({i}, {j}, {k})"),
-            (None, Some(b)) => format!("boundary \"{b}\""),
+        let neighbour = match (&f.neighbor, &f.boundary, &f.aquifer) {
+            (Some((i, j, k)), _, _) => format!("({i}, {j}, {k})"),
+            (None, Some(b), _) => format!("boundary \"{b}\""),
+            (None, None, Some(a)) => format!("aquifer \"{a}\""),
             _ => "closed".to_string(),
         };
         // A fault on the face: its multiplier and the value before it.

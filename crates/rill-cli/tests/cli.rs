@@ -486,3 +486,51 @@ fn inspect_shows_a_faults_multiplier_and_the_value_before_it() {
     );
     assert!(!row("west").contains("fault"), "{text}");
 }
+
+#[test]
+fn inspect_names_the_aquifer_on_the_faces_it_holds() {
+    let dir = tempfile::tempdir().unwrap();
+    let deck = dir.path().join("flank.rill");
+    let text = std::fs::read_to_string(example("teaching-block.rill"))
+        .unwrap()
+        .replace(
+            "timeline {",
+            "aquifer \"Sill\" {\n  side = south\n  i = 6\n  water_volume = 1e8 rb\n  \
+             compressibility = 6e-6 1/psi\n  productivity = 5 rb/day/psi\n}\n\ntimeline {",
+        );
+    std::fs::write(&deck, text).unwrap();
+    let inspect = |cell: &str, extra: &[&str]| {
+        let o = rill()
+            .arg("inspect")
+            .arg(&deck)
+            .args(["--cell", cell])
+            .args(extra)
+            .output()
+            .unwrap();
+        assert_eq!(o.status.code(), Some(0), "{o:?}");
+        String::from_utf8(o.stdout).unwrap()
+    };
+    let south = |cell: &str| {
+        let json: Value = serde_json::from_str(&inspect(cell, &["--format", "json"])).unwrap();
+        json["faces"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|f| f["side"] == "south")
+            .unwrap()
+            .clone()
+    };
+    let held = south("6,1,1");
+    assert_eq!(held["aquifer"], "Sill");
+    assert_eq!(held["boundary"], Value::Null);
+    assert_eq!(held["neighbor"], Value::Null);
+    // The influx follows the aquifer's productivity, not a face transmissibility.
+    assert_eq!(held["trans_si"], 0.0);
+    assert_eq!(south("7,1,1")["aquifer"], Value::Null);
+    let text = inspect("6,1,1", &[]);
+    let row = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("south"))
+        .unwrap();
+    assert!(row.contains("aquifer \"Sill\""), "{text}");
+}

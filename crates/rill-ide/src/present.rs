@@ -115,9 +115,10 @@ fn render_cell(case: &Case, r: &CellReport, heading: &str) -> String {
         )),
     }
     for f in &r.faces {
-        let neighbour = match (&f.neighbor, &f.boundary) {
-            (Some((i, j, k)), _) => format!("({i}, {j}, {k})"),
-            (None, Some(b)) => format!("boundary \"{}\"", escape_md(b)),
+        let neighbour = match (&f.neighbor, &f.boundary, &f.aquifer) {
+            (Some((i, j, k)), _, _) => format!("({i}, {j}, {k})"),
+            (None, Some(b), _) => format!("boundary \"{}\"", escape_md(b)),
+            (None, None, Some(a)) => format!("aquifer \"{}\"", escape_md(a)),
             _ => "closed".to_string(),
         };
         s.push_str(&format!(

@@ -48,6 +48,10 @@ pub struct FaceReport {
     pub neighbor: Option<(usize, usize, usize)>,
     /// The boundary on this face, if the face is on the grid's edge and a boundary lies there.
     pub boundary: Option<String>,
+    /// The aquifer on this face, if the face is on the grid's edge and an
+    /// aquifer holds it (its influx follows the aquifer's productivity, not
+    /// this face's transmissibility, which stays 0).
+    pub aquifer: Option<String>,
     /// Harmonic face permeability (the cell's own on a boundary face), m^2.
     pub perm_face: f64,
     /// k A / L times the fault multiplier, m^3: the number the simulator assembles.
@@ -99,6 +103,14 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
             } else {
                 None
             };
+            let aquifer = if n.is_none() {
+                case.aquifers
+                    .iter()
+                    .find(|a| a.side == *side && a.covers(g, c))
+                    .map(|a| a.name.clone())
+            } else {
+                None
+            };
             let (perm_face, unmodified) = face
                 .map(|f| (f.perm, f.geometric_trans))
                 .unwrap_or((0.0, 0.0));
@@ -110,6 +122,7 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
                     (a + 1, b + 1, d + 1)
                 }),
                 boundary,
+                aquifer,
                 perm_face,
                 geometric_trans: unmodified * multiplier,
                 trans: derived::fluid_trans(case, unmodified * multiplier),

@@ -1,7 +1,7 @@
 //! The summary of a finished run, in the case's report units: how far it
-//! got and at what cost, the final state of every well and boundary, the
-//! worst mass balance error, where the results are, the deck's cautions and
-//! the standing caution. The command line prints it; the server shows it as
+//! got and at what cost, the final state of every well, boundary and
+//! aquifer, the worst mass balance error, where the results are, the deck's
+//! cautions and the standing caution. The command line prints it; the server shows it as
 //! its message.
 
 use std::path::Path;
@@ -94,6 +94,16 @@ impl Summary {
                     zero.rate(b.rate.get(last).copied().unwrap_or(0.0)),
                     Kind::SurfaceRate
                 )
+            ));
+        }
+        for a in &r.aquifers {
+            let at = |v: &[f64]| v.get(last).copied().unwrap_or(0.0);
+            lines.push(format!(
+                "  {} rate {}, cumulative {}, pressure {} (aquifer; negative: influx)",
+                a.name,
+                show(zero.rate(at(&a.rate)), Kind::SurfaceRate),
+                show(zero.volume(at(&a.cumulative)), Kind::SurfaceVolume),
+                show(at(&a.pressure), Kind::Pressure)
             ));
         }
         let worst = r.balance_error.iter().copied().fold(0.0f64, f64::max);

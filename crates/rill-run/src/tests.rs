@@ -262,3 +262,42 @@ fn report_at_times_appear_exactly_in_the_series() {
     // With every 15 days from 0 to 180: 13 + 6 report times.
     assert_eq!(days.len(), 19);
 }
+
+#[test]
+fn the_summary_gives_each_aquifers_last_rate_cumulative_and_pressure() {
+    let text = BLOCK.replace(
+        "timeline {",
+        "aquifer \"Sill\" {\n  side = south\n  water_volume = 1e8 rb\n  \
+         compressibility = 6e-6 1/psi\n  productivity = 5 rb/day/psi\n}\n\ntimeline {",
+    );
+    let (dir, path, analysis) = deck(&text);
+    assert!(!analysis.has_errors(), "{:?}", analysis.diagnostics);
+    let out = dir.path().join("block.out");
+    let done = run(
+        &Request::new(&analysis, &path, &out),
+        &mut rill_sim::NoObserver,
+    )
+    .result
+    .unwrap();
+    let a = &done.results.aquifers[0];
+    let line = done
+        .summary
+        .lines
+        .iter()
+        .find(|l| l.starts_with("  Sill rate "))
+        .unwrap_or_else(|| panic!("{}", done.summary.text()));
+    // The producer draws the reservoir down, so water flows in: negative.
+    let (rate, cum) = (*a.rate.last().unwrap(), *a.cumulative.last().unwrap());
+    assert!(rate < 0.0 && cum < 0.0, "{rate} {cum}");
+    let field = |si: f64, kind: rill_units::Kind| {
+        let u = rill_units::display_unit(kind, rill_model::UnitSystem::Field);
+        format!("{} {}", rill_units::format_number(si / u.factor), u.name)
+    };
+    let expected = format!(
+        "  Sill rate {}, cumulative {}, pressure {} (aquifer; negative: influx)",
+        field(rate, rill_units::Kind::SurfaceRate),
+        field(cum, rill_units::Kind::SurfaceVolume),
+        field(*a.pressure.last().unwrap(), rill_units::Kind::Pressure)
+    );
+    assert_eq!(line, &expected);
+}
