@@ -311,7 +311,7 @@ pub static EXPLANATIONS: &[Explanation] = &[
     Explanation {
         code: Code::FlowIsolated,
         summary: "An active cell with zero transmissibility on every face and no well.",
-        details: "Its fluid can never move: usually zero permeabilities on all sides (a sealing streak above and below and zero kx, ky), or inactive neighbours all round.",
+        details: "Its fluid can never move: usually zero permeabilities on all sides (a sealing streak above and below and zero kx, ky), or inactive neighbours all round. The warning stands on what cut the cells off: the patch that set a permeability to 0 there, or the fault that seals them, with the base value as related information.",
         wrong: "kx = 0 md in a cell whose kz faces are also zero",
         right: "porosity = 0 for cells meant to be inactive",
         fix: "Make the cell inactive, or check the zero permeabilities around it.",

@@ -149,3 +149,31 @@ fn an_event_before_the_start_is_an_ordering_error() {
         d[0].message
     );
 }
+
+#[test]
+fn flow_isolated_stands_on_the_patch_that_cut_the_cells_off_with_the_base_as_context() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../../tests/fixtures/flow.isolated/broken.rill");
+    let text = std::fs::read_to_string(&path).unwrap();
+    let a = analyze_text(&path, &text, &MemorySource::new());
+    let d = a
+        .diagnostics
+        .iter()
+        .find(|d| d.code == "flow.isolated")
+        .expect("flow.isolated");
+    let at = |offset: usize| &text[offset..];
+    // On the patch's `kx = 0 md`, not on the base `kx = layers [...]`.
+    assert!(at(d.location.start).starts_with("0 md"), "{d:?}");
+    assert!(
+        d.message
+            .contains("this patch sets `kx` to 0 in cell (1, 1, 1)"),
+        "{}",
+        d.message
+    );
+    let base = &d.labels[0];
+    assert!(
+        at(base.location.start).starts_with("layers [100 50] md"),
+        "{d:?}"
+    );
+    assert_eq!(base.message, "the base value of `kx`");
+}

@@ -118,10 +118,63 @@ pub(super) fn isolated_warning(
             };
             d.with_note("raise the fault's multiplier above 0, restrict its `i`, `j`, `k`, or make the cells inactive with porosity 0")
         }
-        None => Diagnostic::warning(Code::FlowIsolated, base.unwrap_or(spans.main), message)
-            .with_note(
+        None => match zeroing_patch(case, spans, c) {
+            // A patch that set a permeability to 0 cut them off: the
+            // warning stands on that statement, the base as context.
+            Some((key, at, (i, j, k))) => {
+                let d = Diagnostic::warning(
+                    Code::FlowIsolated,
+                    at,
+                    format!("{message}; this patch sets `{key}` to 0 in cell ({i}, {j}, {k})"),
+                );
+                let d = match spans.rock.get(key).and_then(|v| v.first().copied()) {
+                    Some(b) if b != at => d.with_label(b, format!("the base value of `{key}`")),
+                    _ => d,
+                };
+                d.with_note(
+                    "make the cells inactive with porosity 0, or give the patch's cells a permeability above 0",
+                )
+            }
+            None => Diagnostic::warning(Code::FlowIsolated, base.unwrap_or(spans.main), message)
+                .with_note(
                 "make them inactive with porosity 0, or check the zero permeabilities around them",
             ),
+        },
     };
     Some(d)
+}
+
+/// The patch whose zero permeability closes a face of isolated cell `c`:
+/// for `c` and then each neighbour, for `kx`, `ky`, `kz` in turn, the last
+/// patch selecting that cell, when the cell's final value is 0 (the last
+/// patch over a cell sets its final value). Returns the key, the patch's
+/// value span and the cell (1-based).
+fn zeroing_patch(
+    case: &Case,
+    spans: &Spans,
+    c: usize,
+) -> Option<(&'static str, Location, (usize, usize, usize))> {
+    let grid = &case.grid;
+    let rock = &case.rock;
+    let cells = std::iter::once(c).chain(
+        Side::ALL
+            .iter()
+            .filter_map(|&side| derived::neighbor(grid, c, side)),
+    );
+    for cell in cells {
+        for (key, values) in [("kx", &rock.kx), ("ky", &rock.ky), ("kz", &rock.kz)] {
+            if values.get(cell).copied() != Some(0.0) {
+                continue;
+            }
+            let ijk = grid.ijk(cell);
+            let last = spans
+                .rock_patches
+                .get(key)
+                .and_then(|p| p.iter().rev().find(|(_, select)| select.contains(ijk)));
+            if let Some((at, _)) = last {
+                return Some((key, *at, (ijk.0 + 1, ijk.1 + 1, ijk.2 + 1)));
+            }
+        }
+    }
+    None
 }

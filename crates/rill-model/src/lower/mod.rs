@@ -67,6 +67,9 @@ pub(crate) struct Lowerer<'s> {
 pub struct Spans {
     /// Value span of each rock property definition (base and patches), by key.
     pub rock: HashMap<&'static str, Vec<Location>>,
+    /// Each patch's value span and the box of cells it selects, by key, in
+    /// deck order: checks name the patch that set a cell's value.
+    pub rock_patches: HashMap<&'static str, Vec<(Location, Selection)>>,
     /// Value span of `dx`.
     pub dx: Option<Location>,
     /// Value span of `dy`.

@@ -16,6 +16,8 @@ fn dim_of(name: &str) -> Option<Dim> {
 struct RockDef {
     expr: Expr,
     cells: Option<Vec<usize>>,
+    /// The patch's box of cells (`None` for the base value).
+    select: Option<Selection>,
     loc: Location,
 }
 
@@ -103,6 +105,7 @@ impl<'s> Lowerer<'s> {
                             RockDef {
                                 expr,
                                 cells: None,
+                                select: None,
                                 loc: Location::new(file, s.value.span),
                             },
                         ),
@@ -110,7 +113,7 @@ impl<'s> Lowerer<'s> {
                     }
                 }
                 Item::Block(p) if p.name.name == "patch" => {
-                    let Some(cells) = self.patch_cells(file, p, shape) else {
+                    let Some((cells, select)) = self.patch_cells(file, p, shape) else {
                         ok = false;
                         continue;
                     };
@@ -136,6 +139,7 @@ impl<'s> Lowerer<'s> {
                             Some(expr) => defs.entry(name).or_default().push(RockDef {
                                 expr,
                                 cells: Some(cells.clone()),
+                                select: Some(select),
                                 loc: Location::new(file, s.value.span),
                             }),
                             None => ok = false,
@@ -170,6 +174,7 @@ impl<'s> Lowerer<'s> {
                         RockDef {
                             expr,
                             cells: None,
+                            select: None,
                             loc: Location::new(file, block.name.span),
                         },
                     ),
@@ -341,6 +346,13 @@ impl<'s> Lowerer<'s> {
                 let value = evaluate_kept(&def.expr, shape, dim, &lookup, reuse);
                 let value = self.evaluated(def.loc.file, name, dim, value)?;
                 spans.rock.entry(name).or_default().push(def.loc);
+                if let Some(select) = def.select {
+                    spans
+                        .rock_patches
+                        .entry(name)
+                        .or_default()
+                        .push((def.loc, select));
+                }
                 match &def.cells {
                     None => base = Some(value),
                     Some(sel) => patches.push((sel, value)),
@@ -352,13 +364,14 @@ impl<'s> Lowerer<'s> {
         Some(finals)
     }
 
-    /// Cells selected by a patch header `i = 12..14 k = 3`; omitted axes mean all.
+    /// Cells selected by a patch header `i = 12..14 k = 3` (omitted axes
+    /// mean all), listed and as a box.
     pub(super) fn patch_cells(
         &mut self,
         file: usize,
         p: &Block,
         shape: Shape,
-    ) -> Option<Vec<usize>> {
+    ) -> Option<(Vec<usize>, Selection)> {
         let mut ranges = [(1usize, shape.nx), (1, shape.ny), (1, shape.nz)];
         let mut ok = true;
         for arg in &p.args {
@@ -407,7 +420,13 @@ impl<'s> Lowerer<'s> {
                 }
             }
         }
-        Some(cells)
+        let zero_based = |(lo, hi): (usize, usize)| Some((lo - 1, hi - 1));
+        let select = Selection {
+            i: zero_based(ranges[0]),
+            j: zero_based(ranges[1]),
+            k: zero_based(ranges[2]),
+        };
+        Some((cells, select))
     }
 }
 
