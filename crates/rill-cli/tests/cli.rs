@@ -234,6 +234,7 @@ fn run_writes_series_maps_and_report_for_every_example() {
         example("teaching-block.rill"),
         example("larkspur-east.rill"),
         example("tamsin-ridge/tamsin-ridge.rill"),
+        example("wrenfold-flank.rill"),
     ] {
         let out = dir
             .path()
@@ -533,4 +534,40 @@ fn inspect_names_the_aquifer_on_the_faces_it_holds() {
         .find(|l| l.trim_start().starts_with("south"))
         .unwrap();
     assert!(row.contains("aquifer \"Sill\""), "{text}");
+}
+
+#[test]
+fn the_faulted_flank_example_reports_its_build_up_times_and_one_map() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("wrenfold.out");
+    let o = run_into(&example("wrenfold-flank.rill"), &out);
+    assert_eq!(o.status.code(), Some(0), "{o:?}");
+    let csv = std::fs::read_to_string(out.join("series.csv")).unwrap();
+    let header: Vec<&str> = csv.lines().next().unwrap().split(',').collect();
+    for column in [
+        "deep flank rate [stb/day]",
+        "deep flank cumulative [stb]",
+        "deep flank pressure [psi]",
+    ] {
+        assert!(header.contains(&column), "{header:?}");
+    }
+    // `report_at` times are report times exactly, merged with every 60 days.
+    let times: Vec<&str> = csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').next().unwrap())
+        .collect();
+    for t in [
+        "480", "500", "500.04", "500.1", "500.25", "500.5", "501", "502", "505", "510", "520",
+        "540",
+    ] {
+        assert!(times.contains(&t), "{t} not in {times:?}");
+    }
+    // `maps = last`: one map, named by its report time's number.
+    let maps: Vec<String> = std::fs::read_dir(out.join("maps"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n != "rill.pvd")
+        .collect();
+    assert_eq!(maps, vec![format!("step_{:04}.vts", times.len() - 1)]);
 }

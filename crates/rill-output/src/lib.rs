@@ -311,14 +311,17 @@ impl ResultWriter {
         if self.selection != MapSelection::All {
             return Ok(());
         }
-        self.write_map(time, pressure)
+        self.write_map(self.seen - 1, time, pressure)
     }
 
-    fn write_map(&mut self, time: f64, pressure: &[f64]) -> Result<(), OutputError> {
+    /// Writes the map of report time number `index` (0-based), which names
+    /// the file: with `maps = last` the one file still says which report
+    /// time it holds.
+    fn write_map(&mut self, index: usize, time: f64, pressure: &[f64]) -> Result<(), OutputError> {
         if self.steps.is_empty() {
             self.staging.subdir("maps")?;
         }
-        let name = format!("step_{:04}.{}", self.steps.len(), self.maps.extension());
+        let name = format!("step_{index:04}.{}", self.maps.extension());
         let shown = self.time_unit.show(time);
         let maps = &self.maps;
         self.staging.file(&format!("maps/{name}"), |w| {
@@ -347,7 +350,7 @@ impl ResultWriter {
         }
         if self.selection == MapSelection::Last {
             if let (Some(&time), Some(pressure)) = (results.times.last(), results.pressure.last()) {
-                self.write_map(time, pressure)?;
+                self.write_map(n - 1, time, pressure)?;
             }
         }
         let system = case.report.units;

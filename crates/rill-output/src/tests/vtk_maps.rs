@@ -288,7 +288,7 @@ fn maps_last_writes_the_last_report_time_only() {
     assert_eq!(files.maps.len(), 1);
     assert_eq!(
         pvd_sets(files.pvd.as_ref().unwrap()),
-        [("20".into(), "step_0000.vtr".into())]
+        [("20".into(), "step_0002.vtr".into())]
     );
     // It holds the last report time's pressures: the same file as the
     // third map of a `maps = all` set.
