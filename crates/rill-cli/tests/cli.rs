@@ -571,3 +571,37 @@ fn the_faulted_flank_example_reports_its_build_up_times_and_one_map() {
         .collect();
     assert_eq!(maps, vec![format!("step_{:04}.vts", times.len() - 1)]);
 }
+
+#[test]
+fn inspect_shows_a_scaling_patch_on_each_layer_of_a_layered_kx() {
+    let dir = tempfile::tempdir().unwrap();
+    let deck = dir.path().join("scaled.rill");
+    let text = std::fs::read_to_string(example("larkspur-east.rill"))
+        .unwrap()
+        .replace(
+            "  patch i = 10..22 k = 2 {",
+            "  patch i = 3 {\n    kx = 0.01 * kx\n  }\n  patch i = 10..22 k = 2 {",
+        );
+    assert!(text.contains("kx = layers [150 40 300 90] md"));
+    std::fs::write(&deck, text).unwrap();
+    let kx_md = |cell: &str| {
+        let o = rill()
+            .arg("inspect")
+            .arg(&deck)
+            .args(["--cell", cell, "--format", "json"])
+            .output()
+            .unwrap();
+        assert_eq!(o.status.code(), Some(0), "{o:?}");
+        let json: Value = serde_json::from_slice(&o.stdout).unwrap();
+        json["cell"]["kx_md"].as_f64().unwrap()
+    };
+    for (k, layer) in [(1, 150.0), (2, 40.0), (3, 300.0), (4, 90.0)] {
+        let scaled = kx_md(&format!("3,7,{k}"));
+        assert!(
+            (scaled - 0.01 * layer).abs() <= 1e-12 * layer,
+            "k={k}: {scaled}"
+        );
+        let beside = kx_md(&format!("4,7,{k}"));
+        assert!((beside - layer).abs() <= 1e-12 * layer, "k={k}: {beside}");
+    }
+}
