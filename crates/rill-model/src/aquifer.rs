@@ -72,15 +72,7 @@ pub fn mean_depth(faces: &[AquiferFace]) -> Option<f64> {
 pub fn initial_pressure(case: &Case, faces: &[AquiferFace]) -> Option<f64> {
     let depth = mean_depth(faces)?;
     match &case.initial {
-        Initial::Datum {
-            pressure,
-            depth: datum,
-        } => Some(derived::hydrostatic_pressure(
-            &case.fluid,
-            *pressure,
-            *datum,
-            depth,
-        )),
+        Initial::Datum { .. } => crate::checks::initial_pressure_at(case, depth),
         Initial::Cells(p) => {
             let total: f64 = faces.iter().map(|f| f.area).sum();
             let sum: f64 = faces

@@ -366,15 +366,12 @@ pub struct Boundary {
 impl Boundary {
     /// Whether it holds the outer face of cell `c` on its side.
     pub fn covers(&self, grid: &Grid, c: usize) -> bool {
-        crate::derived::is_on_side(grid, c, self.side) && self.select.contains(grid.ijk(c))
+        self.select.covers_side(grid, self.side, c)
     }
 
     /// The cells whose outer face on its side it holds, in grid order.
     pub fn cells(&self, grid: &Grid) -> Vec<usize> {
-        crate::derived::cells_on_side(grid, self.side)
-            .into_iter()
-            .filter(|&c| self.select.contains(grid.ijk(c)))
-            .collect()
+        self.select.side_cells(grid, self.side)
     }
 }
 
@@ -426,15 +423,12 @@ pub struct Aquifer {
 impl Aquifer {
     /// Whether it holds the outer face of cell `c` on its side.
     pub fn covers(&self, grid: &Grid, c: usize) -> bool {
-        crate::derived::is_on_side(grid, c, self.side) && self.select.contains(grid.ijk(c))
+        self.select.covers_side(grid, self.side, c)
     }
 
     /// The cells whose outer face on its side it holds, in grid order.
     pub fn cells(&self, grid: &Grid) -> Vec<usize> {
-        crate::derived::cells_on_side(grid, self.side)
-            .into_iter()
-            .filter(|&c| self.select.contains(grid.ijk(c)))
-            .collect()
+        self.select.side_cells(grid, self.side)
     }
 }
 
@@ -456,6 +450,20 @@ impl Selection {
         let within =
             |r: Option<(usize, usize)>, v: usize| r.is_none_or(|(lo, hi)| lo <= v && v <= hi);
         within(self.i, i) && within(self.j, j) && within(self.k, k)
+    }
+
+    /// Whether cell `c` lies on the grid's `side` and in every range: a
+    /// boundary or an aquifer on that side holds its outer face.
+    pub fn covers_side(&self, grid: &Grid, side: Side, c: usize) -> bool {
+        crate::derived::is_on_side(grid, c, side) && self.contains(grid.ijk(c))
+    }
+
+    /// The cells on the grid's `side` that it selects, in grid order.
+    pub fn side_cells(&self, grid: &Grid, side: Side) -> Vec<usize> {
+        crate::derived::cells_on_side(grid, side)
+            .into_iter()
+            .filter(|&c| self.contains(grid.ijk(c)))
+            .collect()
     }
 
     /// The cells of `grid` it selects, in grid order (ranges clamped to the grid).

@@ -37,25 +37,9 @@ impl<'s> Lowerer<'s> {
                 span: block.name.span,
             },
         };
-        if aquifer.cells(grid).is_empty() {
-            let at = ["i", "j", "k"]
-                .iter()
-                .find_map(|k| find(block, k))
-                .map_or(Location::new(file, block.name.span), |s| {
-                    Location::new(file, s.value.span)
-                });
-            self.diags.push(Diagnostic::error(
-                Code::GridIndex,
-                at,
-                format!(
-                    "aquifer \"{}\" selects no face on the {} side: its `i`, `j`, `k` miss the side's cells",
-                    aquifer.name,
-                    aquifer.side.name()
-                ),
-            ));
-            return None;
-        }
-        Some(aquifer)
+        let holds = aquifer.cells(grid);
+        self.side_selection_holds(file, block, "aquifer", &aquifer.name, aquifer.side, &holds)
+            .then_some(aquifer)
     }
 
     /// A key's quantity, required to be above zero: `deck.out-of-range`

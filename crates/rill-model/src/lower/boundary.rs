@@ -41,25 +41,48 @@ impl<'s> Lowerer<'s> {
                 span: block.name.span,
             },
         };
-        if boundary.cells(grid).is_empty() {
-            let at = ["i", "j", "k"]
-                .iter()
-                .find_map(|k| find(block, k))
-                .map_or(Location::new(file, block.name.span), |s| {
-                    Location::new(file, s.value.span)
-                });
-            self.diags.push(Diagnostic::error(
-                Code::GridIndex,
-                at,
-                format!(
-                    "boundary \"{}\" selects no face on the {} side: its `i`, `j`, `k` miss the side's cells",
-                    boundary.name,
-                    boundary.side.name()
-                ),
-            ));
-            return None;
+        let holds = boundary.cells(grid);
+        self.side_selection_holds(
+            file,
+            block,
+            "boundary",
+            &boundary.name,
+            boundary.side,
+            &holds,
+        )
+        .then_some(boundary)
+    }
+
+    /// False, with a `grid.index` error on the first selector (or the
+    /// name), when a boundary's or an aquifer's `i`, `j`, `k` leave no
+    /// cell of its side (`holds` is empty).
+    pub(super) fn side_selection_holds(
+        &mut self,
+        file: usize,
+        block: &Block,
+        what: &str,
+        name: &str,
+        side: Side,
+        holds: &[usize],
+    ) -> bool {
+        if !holds.is_empty() {
+            return true;
         }
-        Some(boundary)
+        let at = ["i", "j", "k"]
+            .iter()
+            .find_map(|k| find(block, k))
+            .map_or(Location::new(file, block.name.span), |s| {
+                Location::new(file, s.value.span)
+            });
+        self.diags.push(Diagnostic::error(
+            Code::GridIndex,
+            at,
+            format!(
+                "{what} \"{name}\" selects no face on the {} side: its `i`, `j`, `k` miss the side's cells",
+                side.name()
+            ),
+        ));
+        false
     }
 
     /// The boundaries, or fewer when two hold one outer face
