@@ -18,6 +18,58 @@ fn example(name: &str) -> PathBuf {
     root().join("examples").join(name)
 }
 
+/// `example` with `from` replaced by `to`, written as `name` in a fresh
+/// directory (kept alive by the returned guard).
+fn edited_example(
+    example_name: &str,
+    from: &str,
+    to: &str,
+    name: &str,
+) -> (tempfile::TempDir, PathBuf) {
+    let dir = tempfile::tempdir().unwrap();
+    let deck = dir.path().join(name);
+    let text = std::fs::read_to_string(example(example_name)).unwrap();
+    assert!(text.contains(from), "`{from}` not in {example_name}");
+    std::fs::write(&deck, text.replace(from, to)).unwrap();
+    (dir, deck)
+}
+
+/// `rill inspect DECK --cell CELL EXTRA...`, which must succeed: its stdout.
+fn inspect(deck: &Path, cell: &str, extra: &[&str]) -> String {
+    let o = rill()
+        .arg("inspect")
+        .arg(deck)
+        .args(["--cell", cell])
+        .args(extra)
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0), "{o:?}");
+    String::from_utf8(o.stdout).unwrap()
+}
+
+/// The JSON of `rill inspect`.
+fn inspect_json(deck: &Path, cell: &str) -> Value {
+    serde_json::from_str(&inspect(deck, cell, &["--format", "json"])).unwrap()
+}
+
+/// The face on `side` in the JSON of `rill inspect`.
+fn face(json: &Value, side: &str) -> Value {
+    json["faces"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|f| f["side"] == side)
+        .unwrap()
+        .clone()
+}
+
+/// The text row of the face on `side` in `rill inspect`'s table.
+fn face_row<'t>(text: &'t str, side: &str) -> &'t str {
+    text.lines()
+        .find(|l| l.trim_start().starts_with(side))
+        .unwrap_or_else(|| panic!("no {side} row in {text}"))
+}
+
 #[test]
 fn check_exit_codes_follow_the_spec() {
     let clean = rill()
@@ -403,23 +455,13 @@ fn which(name: &str) -> Option<PathBuf> {
 
 #[test]
 fn inspect_text_follows_the_report_units_and_the_units_option() {
-    let dir = tempfile::tempdir().unwrap();
-    let deck = dir.path().join("metric.rill");
-    let text = std::fs::read_to_string(example("teaching-block.rill"))
-        .unwrap()
-        .replace("units = field", "units = metric");
-    std::fs::write(&deck, text).unwrap();
-    let inspect = |extra: &[&str]| {
-        let o = rill()
-            .arg("inspect")
-            .arg(&deck)
-            .args(["--cell", "6,6,1"])
-            .args(extra)
-            .output()
-            .unwrap();
-        assert_eq!(o.status.code(), Some(0));
-        String::from_utf8(o.stdout).unwrap()
-    };
+    let (_dir, deck) = edited_example(
+        "teaching-block.rill",
+        "units = field",
+        "units = metric",
+        "metric.rill",
+    );
+    let inspect = |extra: &[&str]| inspect(&deck, "6,6,1", extra);
     // 100 ft cells are 30.48 m; the deck's report units are metric.
     let metric = inspect(&[]);
     assert!(metric.contains("30.48 x 30.48 x 9.144 m"), "{metric}");
@@ -433,37 +475,14 @@ fn inspect_text_follows_the_report_units_and_the_units_option() {
 
 #[test]
 fn inspect_shows_a_faults_multiplier_and_the_value_before_it() {
-    let dir = tempfile::tempdir().unwrap();
-    let deck = dir.path().join("faulted.rill");
-    let text = std::fs::read_to_string(example("teaching-block.rill"))
-        .unwrap()
-        .replace(
-            "timeline {",
-            "fault \"Seam\" {\n  side = east\n  i = 6\n  multiplier = 0.25\n}\n\ntimeline {",
-        );
-    std::fs::write(&deck, text).unwrap();
-    let inspect = |extra: &[&str]| {
-        let o = rill()
-            .arg("inspect")
-            .arg(&deck)
-            .args(["--cell", "6,6,1"])
-            .args(extra)
-            .output()
-            .unwrap();
-        assert_eq!(o.status.code(), Some(0), "{o:?}");
-        String::from_utf8(o.stdout).unwrap()
-    };
-    let json: Value = serde_json::from_str(&inspect(&["--format", "json"])).unwrap();
-    let face = |side: &str| {
-        json["faces"]
-            .as_array()
-            .unwrap()
-            .iter()
-            .find(|f| f["side"] == side)
-            .unwrap()
-            .clone()
-    };
-    let (east, west) = (face("east"), face("west"));
+    let (_dir, deck) = edited_example(
+        "teaching-block.rill",
+        "timeline {",
+        "fault \"Seam\" {\n  side = east\n  i = 6\n  multiplier = 0.25\n}\n\ntimeline {",
+        "faulted.rill",
+    );
+    let json = inspect_json(&deck, "6,6,1");
+    let (east, west) = (face(&json, "east"), face(&json, "west"));
     assert_eq!(east["multiplier"], 0.25);
     assert_eq!(west["multiplier"], 1.0);
     // Uniform cells: the faulted face is a quarter of its unfaulted twin.
@@ -473,67 +492,39 @@ fn inspect_shows_a_faults_multiplier_and_the_value_before_it() {
         (t(&east, "trans_si") - 0.25 * t(&west, "trans_si")).abs() <= 1e-12 * t(&west, "trans_si")
     );
     // The text names the multiplier and the value before it on the east row only.
-    let text = inspect(&[]);
-    let row = |side: &str| {
-        text.lines()
-            .find(|l| l.trim_start().starts_with(side))
-            .unwrap()
-            .to_string()
-    };
+    let text = inspect(&deck, "6,6,1", &[]);
     let before = rill_units::format_number(t(&east, "trans_unmodified_stb_day_psi"));
     assert!(
-        row("east").contains(&format!("fault multiplier 0.25, {before} before")),
+        face_row(&text, "east").contains(&format!("fault multiplier 0.25, {before} before")),
         "{text}"
     );
-    assert!(!row("west").contains("fault"), "{text}");
+    assert!(!face_row(&text, "west").contains("fault"), "{text}");
 }
 
 #[test]
 fn inspect_names_the_aquifer_on_the_faces_it_holds() {
-    let dir = tempfile::tempdir().unwrap();
-    let deck = dir.path().join("flank.rill");
-    let text = std::fs::read_to_string(example("teaching-block.rill"))
-        .unwrap()
-        .replace(
-            "timeline {",
-            "aquifer \"Sill\" {\n  side = south\n  i = 6\n  water_volume = 1e8 rb\n  \
-             compressibility = 6e-6 1/psi\n  productivity = 5 rb/day/psi\n}\n\ntimeline {",
-        );
-    std::fs::write(&deck, text).unwrap();
-    let inspect = |cell: &str, extra: &[&str]| {
-        let o = rill()
-            .arg("inspect")
-            .arg(&deck)
-            .args(["--cell", cell])
-            .args(extra)
-            .output()
-            .unwrap();
-        assert_eq!(o.status.code(), Some(0), "{o:?}");
-        String::from_utf8(o.stdout).unwrap()
-    };
-    let south = |cell: &str| {
-        let json: Value = serde_json::from_str(&inspect(cell, &["--format", "json"])).unwrap();
-        json["faces"]
-            .as_array()
-            .unwrap()
-            .iter()
-            .find(|f| f["side"] == "south")
-            .unwrap()
-            .clone()
-    };
-    let held = south("6,1,1");
+    let (_dir, deck) = edited_example(
+        "teaching-block.rill",
+        "timeline {",
+        "aquifer \"Sill\" {\n  side = south\n  i = 6\n  water_volume = 1e8 rb\n  \
+         compressibility = 6e-6 1/psi\n  productivity = 5 rb/day/psi\n}\n\ntimeline {",
+        "flank.rill",
+    );
+    let held = face(&inspect_json(&deck, "6,1,1"), "south");
     assert_eq!(held["aquifer"], "Sill");
     assert_eq!(held["boundary"], Value::Null);
     assert_eq!(held["neighbor"], Value::Null);
     // The influx follows the aquifer's productivity, not a face transmissibility.
     assert_eq!(held["trans_si"], 0.0);
-    assert_eq!(south("7,1,1")["aquifer"], Value::Null);
-    let text = inspect("6,1,1", &[]);
-    let row = text
-        .lines()
-        .find(|l| l.trim_start().starts_with("south"))
-        .unwrap();
-    assert!(row.contains("aquifer \"Sill\""), "{text}");
+    assert_eq!(
+        face(&inspect_json(&deck, "7,1,1"), "south")["aquifer"],
+        Value::Null
+    );
+    let text = inspect(&deck, "6,1,1", &[]);
+    assert!(
+        face_row(&text, "south").contains("aquifer \"Sill\""),
+        "{text}"
+    );
 }
 
 #[test]
@@ -574,27 +565,15 @@ fn the_faulted_flank_example_reports_its_build_up_times_and_one_map() {
 
 #[test]
 fn inspect_shows_a_scaling_patch_on_each_layer_of_a_layered_kx() {
-    let dir = tempfile::tempdir().unwrap();
-    let deck = dir.path().join("scaled.rill");
-    let text = std::fs::read_to_string(example("larkspur-east.rill"))
-        .unwrap()
-        .replace(
-            "  patch i = 10..22 k = 2 {",
-            "  patch i = 3 {\n    kx = 0.01 * kx\n  }\n  patch i = 10..22 k = 2 {",
-        );
+    let (_dir, deck) = edited_example(
+        "larkspur-east.rill",
+        "  patch i = 10..22 k = 2 {",
+        "  patch i = 3 {\n    kx = 0.01 * kx\n  }\n  patch i = 10..22 k = 2 {",
+        "scaled.rill",
+    );
+    let text = std::fs::read_to_string(&deck).unwrap();
     assert!(text.contains("kx = layers [150 40 300 90] md"));
-    std::fs::write(&deck, text).unwrap();
-    let kx_md = |cell: &str| {
-        let o = rill()
-            .arg("inspect")
-            .arg(&deck)
-            .args(["--cell", cell, "--format", "json"])
-            .output()
-            .unwrap();
-        assert_eq!(o.status.code(), Some(0), "{o:?}");
-        let json: Value = serde_json::from_slice(&o.stdout).unwrap();
-        json["cell"]["kx_md"].as_f64().unwrap()
-    };
+    let kx_md = |cell: &str| inspect_json(&deck, cell)["cell"]["kx_md"].as_f64().unwrap();
     for (k, layer) in [(1, 150.0), (2, 40.0), (3, 300.0), (4, 90.0)] {
         let scaled = kx_md(&format!("3,7,{k}"));
         assert!(
