@@ -336,8 +336,8 @@ pub static EXPLANATIONS: &[Explanation] = &[
         code: Code::BoundaryOverlap,
         summary: "Two boundaries, or a boundary and an aquifer, or two aquifers, hold the same outer face of the grid.",
         details: "A face can be held by one boundary or one aquifer only. Boundaries and aquifers on one side must select disjoint cells with their `i`, `j`, `k` selectors; the error is on the aquifer when one is involved, else on the later boundary.",
-        wrong: "boundary \"A\" { side = east ... }\nboundary \"B\" { side = east  j = 1..5 ... }",
-        right: "boundary \"A\" { side = east  j = 6..12 ... }\nboundary \"B\" { side = east  j = 1..5 ... }",
+        wrong: "boundary \"A\" { side = east ... }\nboundary \"B\" { side = east; j = 1..5; ... }",
+        right: "boundary \"A\" { side = east; j = 6..12; ... }\nboundary \"B\" { side = east; j = 1..5; ... }",
         fix: "Restrict one of them with `i`, `j` or `k` so that they do not share a face.",
     },
     Explanation {

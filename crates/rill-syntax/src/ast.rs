@@ -264,6 +264,19 @@ pub struct SyntaxError {
     pub expected: String,
     /// What was found, in words: "end of line", "`)`".
     pub found: String,
+    /// A repair where the parser knows one.
+    pub fix: Option<SyntaxFix>,
+}
+
+/// A repair of a syntax error: replace `span` by `replacement`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SyntaxFix {
+    /// What it does, as offered to the user ("insert `;`").
+    pub title: String,
+    /// The text replaced (empty to insert).
+    pub span: Span,
+    /// What replaces it.
+    pub replacement: String,
 }
 
 /// The two syntax diagnostic codes.

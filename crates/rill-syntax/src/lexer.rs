@@ -28,7 +28,7 @@
 //! - Runs of characters that start no token are one `Unknown` token, so that
 //!   junk produces one error, not one per byte.
 
-use crate::ast::{Comment, Op, Span, SyntaxError, SyntaxErrorKind, UnitExpr};
+use crate::ast::{Comment, Op, Span, SyntaxError, SyntaxErrorKind, SyntaxFix, UnitExpr};
 use nom::{
     branch::alt,
     bytes::complete::{is_not, tag, take_till, take_while},
@@ -367,7 +367,22 @@ impl Sink {
             span,
             expected: expected.into(),
             found: found.into(),
+            fix: None,
         });
+    }
+
+    /// An error with a repair.
+    pub fn error_with_fix(
+        &mut self,
+        span: Span,
+        expected: impl Into<String>,
+        found: impl Into<String>,
+        fix: SyntaxFix,
+    ) {
+        self.error(SyntaxErrorKind::Unexpected, span, expected, found);
+        if let Some(e) = self.errors.last_mut() {
+            e.fix = Some(fix);
+        }
     }
 }
 

@@ -124,6 +124,7 @@ pub fn parse_bytes(bytes: &[u8]) -> (String, SourceFile) {
                 span: Span::new(start, text.len()),
                 expected: "UTF-8 text".to_string(),
                 found,
+                fix: None,
             });
         }
     }

@@ -247,6 +247,24 @@ impl<'a> Parser<'a> {
                     }
                     break;
                 }
+                // `side = east  i = 2`: a second statement on the line
+                // without `;`. Said once, and both statements parse.
+                Tok::Ident(next) if !atoms.is_empty() && self.peek() == Tok::Eq => {
+                    let at = self.tok.span;
+                    let value_end = atoms.last().map_or(at.start, |a: &Atom| a.span.end);
+                    let found = format!("`{next} =`, a new statement on the same line");
+                    self.sink.error_with_fix(
+                        at,
+                        "`;` or a line break before the next statement",
+                        found,
+                        SyntaxFix {
+                            title: "insert `;`".into(),
+                            span: Span::new(value_end, value_end),
+                            replacement: ";".into(),
+                        },
+                    );
+                    break;
+                }
                 t if starts_atom(t) => atoms.push(self.atom(depth)),
                 _ => {
                     if atoms.is_empty() {

@@ -995,3 +995,36 @@ fn odd_whitespace_and_controls() {
     let f = check_all("\0\0\0");
     assert_eq!(f.errors.len(), 1);
 }
+
+#[test]
+fn two_statements_on_a_line_without_a_semicolon_are_one_error_with_a_fix_and_both_parse() {
+    let text = "fault \"A\" { side = east  i = 2 }\n";
+    let f = parse(text);
+    assert_eq!(f.errors.len(), 1, "{:#?}", f.errors);
+    let e = &f.errors[0];
+    assert_eq!(&text[e.span.start..e.span.end], "i");
+    assert_eq!(e.expected, "`;` or a line break before the next statement");
+    assert_eq!(e.found, "`i =`, a new statement on the same line");
+    // Both statements are in the tree: nothing after the slip is lost.
+    let Item::Block(b) = &f.items[0] else {
+        panic!("{:?}", f.items)
+    };
+    let keys: Vec<&str> = b
+        .items
+        .iter()
+        .filter_map(|i| match i {
+            Item::Statement(s) => Some(s.key.name.as_str()),
+            _ => None,
+        })
+        .collect();
+    assert_eq!(keys, ["side", "i"]);
+    // The fix puts `;` right after the value, and the result is clean and
+    // means what the two statements on two lines mean.
+    let fix = e.fix.as_ref().expect("a fix");
+    assert_eq!(fix.title, "insert `;`");
+    let mut fixed = text.to_string();
+    fixed.replace_range(fix.span.start..fix.span.end, &fix.replacement);
+    assert_eq!(fixed, "fault \"A\" { side = east;  i = 2 }\n");
+    let two_lines = "fault \"A\" {\n  side = east\n  i = 2\n}\n";
+    assert!(same_meaning(&clean(&fixed), &clean(two_lines)));
+}

@@ -1,4 +1,5 @@
 use super::*;
+use crate::{Edit, Fix};
 
 /// A top-level item: its file and its index among the file's items.
 #[derive(Clone, Copy)]
@@ -43,8 +44,17 @@ impl<'s> Lowerer<'s> {
                         format!("unclosed: expected {}, found {}", e.expected, e.found)
                     }
                 };
-                self.diags
-                    .push(Diagnostic::error(code, Location::new(file, e.span), msg));
+                let mut d = Diagnostic::error(code, Location::new(file, e.span), msg);
+                if let Some(fix) = &e.fix {
+                    d = d.with_fix(Fix {
+                        title: fix.title.clone(),
+                        edits: vec![Edit {
+                            location: Location::new(file, fix.span),
+                            replacement: fix.replacement.clone(),
+                        }],
+                    });
+                }
+                self.diags.push(d);
             }
         }
         Loaded { trees, order }
