@@ -17,6 +17,7 @@ pub mod case;
 pub mod checks;
 pub mod derived;
 pub mod diagnostic;
+pub mod digest;
 pub mod explain;
 pub mod fragment;
 pub mod inspect;

@@ -28,6 +28,8 @@
 //!   .rill-results        marker: this directory is rill's and is replaced as a whole
 //!   series.csv           one row per report time, headers with units
 //!   series.json          the same series with units, solver statistics, cautions
+//!   last_state.json      the last report time in SI: case digest, wells, boundaries
+//!   last_state.f64       its cell pressures and face fluxes (see `last_state`)
 //!   maps/step_0000.vtr   VTK XML RectilinearGrid per report time (.vts: StructuredGrid)
 //!   maps/rill.pvd        the collection, timesteps in report time units
 //!   report.html          self-contained page: caution, summary, plots, layer maps
@@ -94,6 +96,7 @@
 mod atomic;
 mod csv;
 mod json;
+mod last_state;
 mod layers;
 mod report;
 mod series;
@@ -110,6 +113,7 @@ use std::path::{Path, PathBuf};
 use rill_model::{Case, MapSelection};
 use rill_sim::RunResults;
 
+pub use last_state::{LastState, ARRAYS as LAST_STATE_ARRAYS};
 pub use report::CAUTION;
 pub use series::ZeroScale;
 
@@ -132,6 +136,10 @@ pub struct RunMeta {
     /// Cautions from the checker or the caller (e.g. `well.injection-pressure`
     /// warnings), shown after the standard [`CAUTION`].
     pub cautions: Vec<String>,
+    /// The state at the last report time: with it (and the last cell
+    /// pressures in the results) the set holds `last_state.json` and
+    /// `last_state.f64`.
+    pub last_state: Option<LastState>,
 }
 
 impl RunMeta {
@@ -145,6 +153,7 @@ impl RunMeta {
             timings: None,
             started: None,
             cautions: Vec::new(),
+            last_state: None,
         }
     }
 }
@@ -375,6 +384,16 @@ impl ResultWriter {
             json::write_json(w, case, results, meta, &table, &title, &cautions)
         })?;
         let mut relative: Vec<String> = vec!["series.csv".into(), "series.json".into()];
+        if let (Some(state), Some(pressure)) = (&meta.last_state, results.pressure.last()) {
+            staging.file("last_state.json", |w| {
+                last_state::write_header(w, case, results, state)
+            })?;
+            staging.file("last_state.f64", |w| {
+                last_state::write_arrays(w, pressure, state)
+            })?;
+            relative.push("last_state.json".into());
+            relative.push("last_state.f64".into());
+        }
         let mut subdirs = Vec::new();
         let has_maps = !self.steps.is_empty();
         if has_maps {

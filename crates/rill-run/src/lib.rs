@@ -223,6 +223,16 @@ pub fn run(request: &Request, observer: &mut dyn Observer) -> Outcome {
     meta.cautions = cautions.clone();
     meta.timings = Some(timings.clone());
     meta.wall_seconds = Some(started.elapsed().as_secs_f64());
+    // The last report time's face fluxes, by the simulator's own formula,
+    // and the digest that ties the set to this case.
+    meta.last_state = results
+        .pressure
+        .last()
+        .and_then(|p| rill_sim::face_fluxes(case, p))
+        .map(|fluxes| rill_output::LastState {
+            digest: rill_model::digest::case_digest(case),
+            fluxes,
+        });
     let written = match writer.finish(case, &results, &meta) {
         Ok(w) => w,
         Err(e) => {

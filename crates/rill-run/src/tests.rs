@@ -301,3 +301,64 @@ fn the_summary_gives_each_aquifers_last_rate_cumulative_and_pressure() {
     );
     assert_eq!(line, &expected);
 }
+
+/// The last state's arrays, as `numpy.fromfile(..., "<f8")` reads them.
+fn last_state_arrays(dir: &Path) -> Vec<f64> {
+    std::fs::read(dir.join("last_state.f64"))
+        .unwrap()
+        .chunks_exact(8)
+        .map(|b| f64::from_le_bytes(b.try_into().unwrap()))
+        .collect()
+}
+
+#[test]
+fn the_last_state_holds_the_digest_the_pressures_and_fluxes_that_balance_the_well() {
+    // Steady flow from a west boundary to the producer: every face flux is
+    // what the run moved, so the flux into the well's cell is its rate.
+    let text = BLOCK
+        .replace(
+            "timeline {\n  end = 180 day",
+            "boundary \"rim\" {\n  side = west\n  pressure = 2500 psi at 5015 ft\n}\n\ntimeline {\n  kind = steady\n  end = 180 day",
+        )
+        .replace("  first_step = 0.05 day\n  max_step = 10 day\n  report_every = 15 day\n", "");
+    let (dir, path, analysis) = deck(&text);
+    assert!(!analysis.has_errors(), "{:?}", analysis.diagnostics);
+    let out = dir.path().join("block.out");
+    let done = run(
+        &Request::new(&analysis, &path, &out),
+        &mut rill_sim::NoObserver,
+    )
+    .result
+    .unwrap();
+    let head = json(&out.join("last_state.json"));
+    let case = analysis.case.as_ref().unwrap();
+    assert_eq!(head["case_digest"], rill_model::digest::case_digest(case));
+    assert_eq!(head["grid"], serde_json::json!([11, 11, 1]));
+    let well = &head["wells"][0];
+    let rate = done.results.wells[0].rate.last().copied().unwrap();
+    assert_eq!(well["rate_m3_s"].as_f64().unwrap(), rate);
+    let n = 121;
+    let a = last_state_arrays(&out);
+    assert_eq!(a.len(), 4 * n);
+    let (p, fx, fy) = (&a[..n], &a[n..2 * n], &a[2 * n..3 * n]);
+    assert_eq!(p, &done.results.pressure.last().unwrap()[..]);
+    let at = |i: usize, j: usize| i + 11 * j;
+    // Net inflow of a cell from its four faces (1-based i, j).
+    let inflow = |i: usize, j: usize| {
+        let c = at(i - 1, j - 1);
+        let west = if i > 1 { fx[at(i - 2, j - 1)] } else { 0.0 };
+        let south = if j > 1 { fy[at(i - 1, j - 2)] } else { 0.0 };
+        west - fx[c] + south - fy[c]
+    };
+    assert!(rate > 0.0);
+    let well_cell = inflow(6, 6);
+    assert!(
+        (well_cell - rate).abs() <= 1e-9 * rate,
+        "{well_cell} vs {rate}"
+    );
+    // An interior cell away from the well and the boundary passes its flow on.
+    assert!(inflow(9, 3).abs() <= 1e-9 * rate, "{}", inflow(9, 3));
+    // Through the column of faces between i = 3 and 4 passes the whole rate.
+    let through: f64 = (0..11).map(|j| fx[at(2, j)]).sum();
+    assert!((through - rate).abs() <= 1e-9 * rate, "{through} vs {rate}");
+}

@@ -37,10 +37,12 @@
 
 mod aquifer;
 mod disc;
+mod fluxes;
 /// The linear algebra, a crate of its own; kept under this name for the front ends.
 pub use rill_linear as linear;
 mod pvt;
 pub mod results;
+pub use fluxes::{face_fluxes, FaceFluxes};
 mod run;
 
 pub use results::*;
