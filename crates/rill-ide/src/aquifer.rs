@@ -24,7 +24,11 @@ fn productivity(si: f64, sys: System) -> String {
 /// Markdown for the aquifer named `name`: J, W_i, c_t, the initial
 /// pressure p_ai at the faces' mean depth, the time constant c_t W_i / J
 /// and the faces it holds.
-pub(crate) fn aquifer_markdown(case: &Case, name: &str) -> Option<String> {
+pub(crate) fn aquifer_markdown(
+    case: &Case,
+    name: &str,
+    run: Option<&crate::RunValues>,
+) -> Option<String> {
     let a = case.aquifers.iter().find(|a| a.name == name)?;
     let sys = case.report.units;
     let mut s = format!(
@@ -60,5 +64,10 @@ pub(crate) fn aquifer_markdown(case: &Case, name: &str) -> Option<String> {
         "\n{} faces of active cells; influx J (p_a - p_face), shared by face area.",
         faces.len()
     ));
+    if let Some(section) =
+        run.and_then(|run| crate::run_values::flow_section(case, run, &run.aquifers, name))
+    {
+        s.push_str(&section);
+    }
     Some(s)
 }

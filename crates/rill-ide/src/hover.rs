@@ -4,21 +4,22 @@
 //! blocks from the schema, and the `rill explain` summary of a diagnostic
 //! under the cursor.
 
-use crate::locate::{block_def, locate, Hit, Node, Step};
+use crate::locate::{block_def, locate, patch_box, Hit, Node, Step};
 use crate::present::{cell_markdown, escape_md, is_perm_unit, kind_of, show, well_markdown};
+use crate::run_values::RunValues;
 use crate::{Hover, Snapshot};
 use rill_model::schema::{self, KeyDef, ValueKind};
 use rill_model::Case;
 use rill_syntax::{Atom, AtomKind, Block, Item, Span, Statement};
 use rill_units::{format_number, Dim, System};
 
-pub(crate) fn hover(snap: &Snapshot, offset: usize) -> Option<Hover> {
+pub(crate) fn hover(snap: &Snapshot, offset: usize, run: Option<&RunValues>) -> Option<Hover> {
     let off = snap.clamp(offset);
-    let mut found = hover_at(snap, off);
+    let mut found = hover_at(snap, off, run);
     if found.is_none() && off > 0 {
         // The cursor right after a word (`250 md|`) still means that word.
         let prev = crate::floor_boundary(snap.text(), off - 1);
-        found = hover_at(snap, prev);
+        found = hover_at(snap, prev, run);
     }
     let range = found.as_ref().map(|h| h.range);
     let diags = diagnostic_notes(snap, off, range);
@@ -73,21 +74,21 @@ fn diagnostic_notes(snap: &Snapshot, off: usize, range: Option<Span>) -> Option<
     span.map(|s| (s, out))
 }
 
-fn hover_at(snap: &Snapshot, off: usize) -> Option<Hover> {
+fn hover_at(snap: &Snapshot, off: usize, run: Option<&RunValues>) -> Option<Hover> {
     let hit = locate(&snap.tree().items, off);
     let case = snap.analysis().case.as_ref();
     match &hit.node {
         Node::Gap => None,
         Node::BlockName => {
             let b = hit.block()?;
-            header_hover(snap, &hit, b, None).or_else(|| {
+            header_hover(snap, &hit, b, None, run).or_else(|| {
                 let def = block_def(&hit.blocks)?;
                 Some(Hover { range: b.name.span, markdown: block_doc(def) })
             })
         }
         Node::BlockArg(steps) => {
             let b = hit.block()?;
-            if let Some(h) = header_hover(snap, &hit, b, steps.first()) {
+            if let Some(h) = header_hover(snap, &hit, b, steps.first(), run) {
                 return Some(h);
             }
             let atom = steps.last()?.atom;
@@ -101,7 +102,7 @@ fn hover_at(snap: &Snapshot, off: usize) -> Option<Hover> {
             let key = def.key(&stmt.key.name)?;
             Some(Hover { range: stmt.key.span, markdown: key_doc(def.name, key) })
         }
-        Node::Value(stmt, steps) => value_hover(snap, case, &hit, stmt, steps, off),
+        Node::Value(stmt, steps) => value_hover(snap, case, &hit, stmt, steps, off, run),
         Node::DirectiveName(d) => (d.name.name == "include").then(|| Hover {
             range: d.name.span,
             markdown: "**include** — reads the blocks of another deck, relative to this file; top level only.".into(),
@@ -127,7 +128,13 @@ fn hover_at(snap: &Snapshot, off: usize) -> Option<Hover> {
 }
 
 /// Hover on the name or an argument of a well or patch block header.
-fn header_hover(snap: &Snapshot, hit: &Hit, b: &Block, arg: Option<&Step>) -> Option<Hover> {
+fn header_hover(
+    snap: &Snapshot,
+    hit: &Hit,
+    b: &Block,
+    arg: Option<&Step>,
+    run: Option<&RunValues>,
+) -> Option<Hover> {
     let case = snap.analysis().case.as_ref();
     match b.name.name.as_str() {
         "well" => {
@@ -137,7 +144,7 @@ fn header_hover(snap: &Snapshot, hit: &Hit, b: &Block, arg: Option<&Step>) -> Op
             };
             let range = arg.map_or(b.name.span, |s| s.atom.span);
             let event = hit.blocks.len() > 1;
-            let mut md = match case.and_then(|c| well_markdown(c, value)) {
+            let mut md = match case.and_then(|c| well_markdown(c, value, run)) {
                 Some(m) => m,
                 None => format!("**well \"{}\"**\n\n{}", escape_md(value), schema::WELL.doc),
             };
@@ -155,9 +162,9 @@ fn header_hover(snap: &Snapshot, hit: &Hit, b: &Block, arg: Option<&Step>) -> Op
                 return None;
             };
             let md = if name == "aquifer" {
-                crate::aquifer::aquifer_markdown(case?, value)?
+                crate::aquifer::aquifer_markdown(case?, value, run)?
             } else {
-                crate::present::boundary_markdown(case?, value)?
+                crate::present::boundary_markdown(case?, value, run)?
             };
             Some(Hover {
                 range: arg.map_or(b.name.span, |s| s.atom.span),
@@ -184,7 +191,7 @@ fn header_hover(snap: &Snapshot, hit: &Hit, b: &Block, arg: Option<&Step>) -> Op
                 nx * ny * nz
             );
             let range = arg.map_or(b.name.span, |s| s.atom.span);
-            let md = cell_markdown(case, lo.0 - 1, lo.1 - 1, lo.2 - 1, &heading)?;
+            let md = cell_markdown(case, lo.0 - 1, lo.1 - 1, lo.2 - 1, &heading, run)?;
             Some(Hover {
                 range,
                 markdown: md,
@@ -194,37 +201,6 @@ fn header_hover(snap: &Snapshot, hit: &Hit, b: &Block, arg: Option<&Step>) -> Op
     }
 }
 
-/// The 1-based inclusive box `(lo, hi)` of patch selectors, clamped to the grid.
-pub(crate) fn patch_box(
-    args: &[Atom],
-    n: (usize, usize, usize),
-) -> ((usize, usize, usize), (usize, usize, usize)) {
-    let mut r = [(1usize, n.0.max(1)), (1, n.1.max(1)), (1, n.2.max(1))];
-    for a in args {
-        let AtomKind::Selector { key, value } = &a.kind else {
-            continue;
-        };
-        let axis = match key.name.as_str() {
-            "i" => 0,
-            "j" => 1,
-            "k" => 2,
-            _ => continue,
-        };
-        let max = r[axis].1 as i64;
-        let (lo, hi) = match &value.kind {
-            AtomKind::Range { start, end } => (*start, *end),
-            AtomKind::Number { value, .. } if value.fract() == 0.0 => {
-                (*value as i64, *value as i64)
-            }
-            _ => continue,
-        };
-        let lo = lo.clamp(1, max);
-        let hi = hi.clamp(lo, max);
-        r[axis] = (lo as usize, hi as usize);
-    }
-    ((r[0].0, r[1].0, r[2].0), (r[0].1, r[1].1, r[2].1))
-}
-
 fn value_hover(
     snap: &Snapshot,
     case: Option<&Case>,
@@ -232,6 +208,7 @@ fn value_hover(
     stmt: &Statement,
     steps: &[Step],
     off: usize,
+    run: Option<&RunValues>,
 ) -> Option<Hover> {
     let def = block_def(&hit.blocks);
     let key = def.and_then(|d| d.key(&stmt.key.name));
@@ -245,14 +222,14 @@ fn value_hover(
     let perm =
         key.is_some_and(|k| matches!(k.kind, ValueKind::Property(d) if d == Dim::PERMEABILITY));
     // A value that stands for a cell: list items, cell tuples.
-    if let Some(h) = cell_hover(snap, case, stmt, steps, perm) {
+    if let Some(h) = cell_hover(snap, case, stmt, steps, perm, run) {
         return Some(h);
     }
     // `layers = 1..4` of a well: the completions it makes.
     if let (Some(c), [well]) = (case, hit.blocks.as_slice()) {
         if well.name.name == "well" && stmt.key.name == "layers" {
             if let Some(AtomKind::Str { value, .. }) = well.args.first().map(|a| &a.kind) {
-                if let Some(md) = well_markdown(c, value) {
+                if let Some(md) = well_markdown(c, value, run) {
                     return Some(Hover {
                         range: innermost.span,
                         markdown: md,
@@ -356,6 +333,7 @@ fn cell_hover(
     stmt: &Statement,
     steps: &[Step],
     perm: bool,
+    run: Option<&RunValues>,
 ) -> Option<Hover> {
     let atoms = &stmt.value.atoms;
     let grid = case
@@ -381,7 +359,7 @@ fn cell_hover(
                 None => what,
             };
             let md = match case {
-                Some(c) => cell_markdown(c, cell.0, cell.1, cell.2, &heading)?,
+                Some(c) => cell_markdown(c, cell.0, cell.1, cell.2, &heading, run)?,
                 None => format!(
                     "**cell ({}, {}, {})** — {heading}",
                     cell.0 + 1,
@@ -430,7 +408,7 @@ fn cell_hover(
         });
     }
     let md = match case {
-        Some(c) => cell_markdown(c, cell.0, cell.1, cell.2, &heading)?,
+        Some(c) => cell_markdown(c, cell.0, cell.1, cell.2, &heading, run)?,
         None => format!(
             "**cell ({}, {}, {})** {heading}",
             cell.0 + 1,

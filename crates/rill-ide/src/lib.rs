@@ -48,6 +48,7 @@ mod locate;
 mod nav;
 mod outline;
 mod present;
+mod run_values;
 mod tokens;
 
 use rill_model::{Analysis, Diagnostic, Source};
@@ -57,6 +58,7 @@ use std::path::{Path, PathBuf};
 use std::sync::Arc;
 
 pub use rill_syntax::Span;
+pub use run_values::{RunFlow, RunValues, RunWell};
 
 /// Editor settings that change answers.
 #[derive(Debug, Clone, PartialEq, Eq, Default)]
@@ -450,7 +452,15 @@ impl Snapshot {
 
     /// What is under the cursor: a cell, a well, a quantity, a unit, a key or a block.
     pub fn hover(&self, offset: usize) -> Option<Hover> {
-        hover::hover(self, offset)
+        hover::hover(self, offset, None)
+    }
+
+    /// [`Snapshot::hover`] with what the last run gave beside the computed
+    /// values (a cell's pressure and face fluxes, a well's rate, BHP and
+    /// cumulative, a boundary's or an aquifer's rate). `run` must come from
+    /// a result set of this very case (the front end checks the digest).
+    pub fn hover_with_run(&self, offset: usize, run: Option<&RunValues>) -> Option<Hover> {
+        hover::hover(self, offset, run)
     }
 
     /// Completion items at the cursor; works on incomplete text.

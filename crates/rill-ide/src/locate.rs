@@ -191,3 +191,34 @@ pub(crate) fn number_span(atom: &Atom) -> Span {
         _ => atom.span,
     }
 }
+
+/// The 1-based inclusive box `(lo, hi)` of patch selectors, clamped to the grid.
+pub(crate) fn patch_box(
+    args: &[Atom],
+    n: (usize, usize, usize),
+) -> ((usize, usize, usize), (usize, usize, usize)) {
+    let mut r = [(1usize, n.0.max(1)), (1, n.1.max(1)), (1, n.2.max(1))];
+    for a in args {
+        let AtomKind::Selector { key, value } = &a.kind else {
+            continue;
+        };
+        let axis = match key.name.as_str() {
+            "i" => 0,
+            "j" => 1,
+            "k" => 2,
+            _ => continue,
+        };
+        let max = r[axis].1 as i64;
+        let (lo, hi) = match &value.kind {
+            AtomKind::Range { start, end } => (*start, *end),
+            AtomKind::Number { value, .. } if value.fract() == 0.0 => {
+                (*value as i64, *value as i64)
+            }
+            _ => continue,
+        };
+        let lo = lo.clamp(1, max);
+        let hi = hi.clamp(lo, max);
+        r[axis] = (lo as usize, hi as usize);
+    }
+    ((r[0].0, r[1].0, r[2].0), (r[0].1, r[1].1, r[2].1))
+}

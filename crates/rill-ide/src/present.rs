@@ -7,6 +7,8 @@ use rill_model::inspect::{cell_report, CellReport};
 use rill_model::{derived, Case, Control, Role};
 use rill_units::{display_unit, format_number, Dim, Kind, System};
 
+use crate::run_values::{self, RunValues};
+
 /// The display kind of a dimension; `perm` picks permeability over area.
 pub(crate) fn kind_of(dim: Dim, perm: bool) -> Option<Kind> {
     if dim == Dim::AREA {
@@ -58,9 +60,15 @@ pub(crate) fn cell_markdown(
     j: usize,
     k: usize,
     heading: &str,
+    run: Option<&RunValues>,
 ) -> Option<String> {
     let r = cell_report(case, i, j, k)?;
-    Some(render_cell(case, &r, heading))
+    let mut s = render_cell(case, &r, heading);
+    let c = case.grid.index(i, j, k);
+    if let Some(section) = run.and_then(|run| run_values::cell_section(case, run, c)) {
+        s.push_str(&section);
+    }
+    Some(s)
 }
 
 fn render_cell(case: &Case, r: &CellReport, heading: &str) -> String {
@@ -162,7 +170,7 @@ fn render_cell(case: &Case, r: &CellReport, heading: &str) -> String {
 
 /// Markdown for the well named `name`: control, Peaceman radius, well index
 /// and productivity per completion.
-pub(crate) fn well_markdown(case: &Case, name: &str) -> Option<String> {
+pub(crate) fn well_markdown(case: &Case, name: &str, run: Option<&RunValues>) -> Option<String> {
     let w = case.wells.iter().find(|w| w.name == name)?;
     let (sys, _) = systems(case);
     let mut s = format!(
@@ -216,12 +224,19 @@ pub(crate) fn well_markdown(case: &Case, name: &str) -> Option<String> {
             show(total, Kind::Productivity, sys)
         ));
     }
+    if let Some(section) = run.and_then(|run| run_values::well_section(case, run, name)) {
+        s.push_str(&section);
+    }
     Some(s)
 }
 
 /// Markdown for the boundary named `name`: its side, pressure, and the
 /// half-cell transmissibility summed over the faces it covers.
-pub(crate) fn boundary_markdown(case: &Case, name: &str) -> Option<String> {
+pub(crate) fn boundary_markdown(
+    case: &Case,
+    name: &str,
+    run: Option<&RunValues>,
+) -> Option<String> {
     let b = case.boundaries.iter().find(|b| b.name == name)?;
     let (sys, _) = systems(case);
     let g = &case.grid;
@@ -259,6 +274,11 @@ pub(crate) fn boundary_markdown(case: &Case, name: &str) -> Option<String> {
         show(total, Kind::Transmissibility, sys),
         show(total, Kind::Transmissibility, System::Si)
     ));
+    if let Some(section) =
+        run.and_then(|run| run_values::flow_section(case, run, &run.boundaries, name))
+    {
+        s.push_str(&section);
+    }
     Some(s)
 }
 
