@@ -31,7 +31,8 @@
 //!   formatting (whole document, and ranges whose edits fall inside),
 //!   symbols, definition, references, semantic tokens (full and range),
 //!   inlay hints, folding ranges, the "Run case" code lens;
-//! - `workspace/executeCommand rill.run [uri]`, see `runner`;
+//! - `workspace/executeCommand rill.run [uri]`, see `runner`; hover adds
+//!   the last run's values from its result set, see `last_run`;
 //! - `rill/documentText {uri}` -> `{version, text}`: the server's copy of a
 //!   buffer, to check synchronisation;
 //! - settings (`initializationOptions`, `workspace/didChangeConfiguration`,
@@ -56,6 +57,7 @@ mod convert;
 pub mod document;
 mod framing;
 mod includers;
+mod last_run;
 mod pool;
 pub mod position;
 mod runner;

@@ -353,8 +353,15 @@ impl LanguageServer for Backend {
         };
         let enc = self.shared.encoding();
         let offset = crate::position::offset(&a.rope, p.position, enc);
+        // Reading a result set and hashing the case stay off the runtime.
+        let (shared, analyzed) = (self.shared.clone(), a.clone());
+        let run =
+            tokio::task::spawn_blocking(move || crate::last_run::for_hover(&shared, &analyzed))
+                .await
+                .ok()
+                .flatten();
         Ok(a.snap
-            .hover(offset)
+            .hover_with_run(offset, run.as_deref())
             .map(|h| answers::hover(&a.rope, h, enc)))
     }
 

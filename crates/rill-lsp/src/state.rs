@@ -200,6 +200,8 @@ pub struct Shared {
     pub index_ready: watch::Sender<bool>,
     /// Counts walks of the folders, so that an overtaken walk is dropped.
     pub scan_generation: std::sync::atomic::AtomicU64,
+    /// The last runs' values shown on hover (see `last_run`).
+    pub last_runs: crate::last_run::LastRuns,
 }
 
 /// How many analyses run at once: one per core, at most four (each may be
@@ -239,6 +241,7 @@ impl Shared {
             includers: RwLock::new(Includers::new()),
             index_ready: watch::channel(false).0,
             scan_generation: std::sync::atomic::AtomicU64::new(0),
+            last_runs: Default::default(),
         }
     }
 
