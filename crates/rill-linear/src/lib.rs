@@ -5,7 +5,8 @@
 //! Owns: [`CsrMatrix`] (compressed sparse rows, rectangular or square,
 //! scalar or of dense b x b blocks for several unknowns a cell), its
 //! kernels, [`amg`], [`pcg`], [`pbicgstab`], [`pgmres`], the [`Solver`]
-//! that picks among them and keeps set-ups, and [`write_matrix_market`].
+//! that picks among them and keeps set-ups, the CPR preconditioner of
+//! block systems ([`cpr`], [`CoupledSolver`]) and [`write_matrix_market`].
 //!
 //! Must never: know about reservoirs, cells, wells or units (a matrix is
 //! numbers and indices here), or do I/O beyond writing MatrixMarket to a
@@ -36,6 +37,11 @@
 //!   - `Method::JacobiCg`, `Method::JacobiBicgstab`, `Method::JacobiGmres`:
 //!     diagonal preconditioning, for tests and comparisons only.
 //!   - A block matrix is solved through its scalar expansion.
+//! * [`solve_coupled`] / [`CoupledSolver`]: block systems of coupled
+//!   unknowns (pressure first in each block) by GMRES with the two-stage
+//!   constrained-pressure-residual preconditioner [`Cpr`] ([`cpr`]):
+//!   decoupling weights, one multigrid V-cycle on the pressure matrix, then
+//!   block ILU(0) or block Jacobi on the whole system.
 //! * [`Solver`] keeps the set-up (the AMG hierarchy, or the symbolic analysis
 //!   of the direct solver) between calls while the sparsity pattern does not
 //!   change; see its doc for the rebuild rule.
@@ -53,7 +59,10 @@
 #![warn(clippy::too_many_lines)]
 
 pub mod amg;
+mod bilu;
 mod block;
+mod coupled;
+pub mod cpr;
 mod csr;
 mod direct;
 mod gmres;
@@ -67,6 +76,8 @@ use std::fmt;
 use std::time::Instant;
 
 pub use amg::{AmgHierarchy, AmgOptions, Smoother};
+pub use coupled::{solve_coupled, CoupledOptions, CoupledSolver};
+pub use cpr::{AmgRefresh, Cpr, CprOptions, CprPreconditioner, Decoupling, SecondStage};
 pub use csr::CsrMatrix;
 pub use market::{write_matrix_market, write_vector_market};
 

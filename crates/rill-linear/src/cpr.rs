@@ -1,0 +1,388 @@
+//! Constrained-pressure-residual (CPR) preconditioning of block systems
+//! (Wallis, 1983): the two-stage preconditioner of fully implicit systems
+//! with several unknowns a cell, the first of which is a pressure.
+//!
+//! Owns: the decoupling weights, the scalar pressure matrix taken from a
+//! block matrix, the two-stage operator [`Cpr`] (a [`Preconditioner`] for
+//! [`crate::pgmres`] through [`Cpr::preconditioner`]) and its set-up
+//! reuse. [`crate::CoupledSolver`] and [`crate::solve_coupled`] wrap it in
+//! GMRES.
+//!
+//! Must never: assume what the equations or the unknowns other than the
+//! first mean (no saturations, phases, wells or units here), or change the
+//! system it is given (the weights act inside the preconditioner only;
+//! GMRES minimises the residual of A x = b as given).
+//!
+//! The unknowns of block row i are `[pressure, others...]` (scalar rows
+//! `i b .. i b + b`). With weights w_i (b numbers per block row):
+//! * pressure matrix: `Ap[i][j] = w_i^T A_ij e_0`, on the block pattern;
+//! * stage 1: `x1 = P Ap^{-1} R r` with `(R r)_i = w_i^T r_i` and P putting
+//!   the pressure values in the first unknown of each block (zeros in the
+//!   others); `Ap^{-1}` is one V-cycle of the smoothed-aggregation multigrid
+//!   ([`crate::amg`]), built once per pattern;
+//! * stage 2: `z = x1 + M2^{-1} (r - A x1)`, M2 block ILU(0) or block Jacobi
+//!   of the whole A.
+//!
+//! Weights ([`Decoupling`]):
+//! * `QuasiImpes`: w_i^T D_ii e_s = 0 for s > 0, D_ii the diagonal block of
+//!   A: the pressure row of the combination does not see the cell's own
+//!   other unknowns. w_i^T is row 0 of D_ii^{-1}, scaled so that w_i[0] = 1
+//!   (the first equation enters with weight one; for b = 2 and
+//!   D = [[a, b], [c, d]], w = (1, -b / d)).
+//! * `TrueImpes`: the same with D_ii replaced by the cell's accumulation
+//!   block, which the caller passes (a linear crate cannot tell the
+//!   accumulation from the fluxes in A); for an accumulation whose
+//!   non-pressure derivatives are column sums of ones (equal formation
+//!   volume factors), this sums the equations.
+//! * `PressureRow`: w_i = e_0, the first equation alone (for comparison).
+//!
+//! A block whose weight is undefined (a singular D_ii, or row 0 of D_ii^{-1}
+//! with a zero first entry) takes w_i = e_0.
+
+use std::sync::Mutex;
+
+use rayon::prelude::*;
+
+use super::amg::{AmgHierarchy, AmgOptions};
+use super::bilu::{invert_block, BlockIlu0, BlockJacobi};
+use super::csr::{split_rows_mut, CsrMatrix, ROW_CHUNK};
+use super::krylov::Preconditioner;
+use super::LinearError;
+
+/// Decoupling weights of the pressure equation (see the module doc).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Decoupling {
+    /// From the diagonal block of A (the default).
+    #[default]
+    QuasiImpes,
+    /// From the accumulation blocks the caller passes.
+    TrueImpes,
+    /// The first equation of each block row alone.
+    PressureRow,
+}
+
+/// The second stage, on the whole system.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum SecondStage {
+    /// Block ILU(0) (the default).
+    #[default]
+    BlockIlu0,
+    /// Inverse of the diagonal blocks.
+    BlockJacobi,
+}
+
+/// Options of the CPR preconditioner.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CprOptions {
+    /// Decoupling weights (default quasi-IMPES).
+    pub decoupling: Decoupling,
+    /// Second stage (default block ILU(0)).
+    pub second_stage: SecondStage,
+    /// False drops stage 1: the second stage alone, for comparisons.
+    pub pressure_stage: bool,
+    /// Multigrid of the pressure stage.
+    pub amg: AmgOptions,
+}
+
+impl Default for CprOptions {
+    fn default() -> Self {
+        CprOptions {
+            decoupling: Decoupling::QuasiImpes,
+            second_stage: SecondStage::BlockIlu0,
+            pressure_stage: true,
+            amg: AmgOptions::default(),
+        }
+    }
+}
+
+enum Stage2 {
+    Ilu0(BlockIlu0),
+    Jacobi(BlockJacobi),
+}
+
+impl Stage2 {
+    fn new(a: &CsrMatrix, kind: SecondStage) -> Result<Self, LinearError> {
+        Ok(match kind {
+            SecondStage::BlockIlu0 => Stage2::Ilu0(BlockIlu0::factor(a)?),
+            SecondStage::BlockJacobi => Stage2::Jacobi(BlockJacobi::new(a)?),
+        })
+    }
+    fn apply(&self, r: &[f64], z: &mut [f64]) {
+        match self {
+            Stage2::Ilu0(f) => f.apply(r, z),
+            Stage2::Jacobi(f) => f.apply(r, z),
+        }
+    }
+}
+
+/// Scratch vectors of one application.
+struct Work {
+    rp: Vec<f64>,
+    xp: Vec<f64>,
+    x1: Vec<f64>,
+    r2: Vec<f64>,
+}
+
+/// How much of the multigrid to redo in [`Cpr::update`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum AmgRefresh {
+    /// Keep the hierarchy; the fine level's smoother from the new matrix.
+    Fine,
+    /// Keep aggregates and prolongators; recompute the coarse operators.
+    Galerkin,
+    /// Build the hierarchy anew.
+    Rebuild,
+}
+
+/// The CPR set-up for one block matrix: weights, pressure matrix, its
+/// multigrid and the second-stage factors. Keeps the multigrid across
+/// [`Cpr::update`]s of a matrix with the same pattern.
+pub struct Cpr {
+    opts: CprOptions,
+    block: usize,
+    weights: Vec<f64>,
+    pressure: CsrMatrix,
+    hierarchy: Option<AmgHierarchy>,
+    stage2: Stage2,
+    work: Mutex<Work>,
+}
+
+impl Cpr {
+    /// Builds the set-up for the square block matrix `a` (any block size;
+    /// unknown 0 of each block is the pressure). `accumulation` holds one
+    /// b x b row-major block per block row, needed by (and only used for)
+    /// [`Decoupling::TrueImpes`].
+    pub fn build(
+        a: &CsrMatrix,
+        accumulation: Option<&[f64]>,
+        opts: &CprOptions,
+    ) -> Result<Self, LinearError> {
+        let weights = weights(a, accumulation, opts.decoupling)?;
+        let pressure = pressure_matrix(a, &weights);
+        let hierarchy = if opts.pressure_stage {
+            Some(AmgHierarchy::build_with_symmetry(
+                &pressure, &opts.amg, false,
+            )?)
+        } else {
+            None
+        };
+        let stage2 = Stage2::new(a, opts.second_stage)?;
+        let (n, rows) = (a.n, a.rows());
+        Ok(Cpr {
+            opts: opts.clone(),
+            block: a.block,
+            weights,
+            pressure,
+            hierarchy,
+            stage2,
+            work: Mutex::new(Work {
+                rp: vec![0.0; n],
+                xp: vec![0.0; n],
+                x1: vec![0.0; rows],
+                r2: vec![0.0; rows],
+            }),
+        })
+    }
+
+    /// Adopts new values of a matrix with the pattern of the one built for
+    /// (checked): weights, pressure matrix and second stage are recomputed,
+    /// the multigrid refreshed as `refresh` says.
+    pub fn update(
+        &mut self,
+        a: &CsrMatrix,
+        accumulation: Option<&[f64]>,
+        refresh: AmgRefresh,
+    ) -> Result<(), LinearError> {
+        if !self.same_pattern(a) {
+            return Err(LinearError::Dimension {
+                detail: "CPR update: the matrix has another pattern than the one set up".into(),
+            });
+        }
+        self.weights = weights(a, accumulation, self.opts.decoupling)?;
+        self.pressure = pressure_matrix(a, &self.weights);
+        self.refresh_amg(refresh)?;
+        self.stage2 = Stage2::new(a, self.opts.second_stage)?;
+        Ok(())
+    }
+
+    /// True when `a` has the block size and block pattern set up for.
+    pub fn same_pattern(&self, a: &CsrMatrix) -> bool {
+        let p = &self.pressure;
+        a.block == self.block
+            && a.n == p.n
+            && a.ncols == p.ncols
+            && a.row_ptr == p.row_ptr
+            && a.col_idx == p.col_idx
+    }
+
+    /// Redoes only the multigrid part of the set-up, for the matrix last
+    /// given to [`Cpr::build`] or [`Cpr::update`].
+    pub fn refresh_amg(&mut self, refresh: AmgRefresh) -> Result<(), LinearError> {
+        if let Some(h) = self.hierarchy.as_mut() {
+            match refresh {
+                AmgRefresh::Fine => h.refresh_fine(&self.pressure)?,
+                AmgRefresh::Galerkin => h.refresh_galerkin(&self.pressure)?,
+                AmgRefresh::Rebuild => {
+                    *h = AmgHierarchy::build_with_symmetry(&self.pressure, &self.opts.amg, false)?
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// The options it was built with.
+    pub fn options(&self) -> &CprOptions {
+        &self.opts
+    }
+
+    /// Decoupling weights, b per block row.
+    pub fn weights(&self) -> &[f64] {
+        &self.weights
+    }
+
+    /// The scalar pressure matrix of stage 1.
+    pub fn pressure_matrix(&self) -> &CsrMatrix {
+        &self.pressure
+    }
+
+    /// The multigrid of stage 1 (none without a pressure stage).
+    pub fn hierarchy(&self) -> Option<&AmgHierarchy> {
+        self.hierarchy.as_ref()
+    }
+
+    /// The two-stage operator for `a`, the matrix last given to
+    /// [`Cpr::build`] or [`Cpr::update`].
+    pub fn preconditioner<'s>(&'s self, a: &'s CsrMatrix) -> CprPreconditioner<'s> {
+        CprPreconditioner { cpr: self, a }
+    }
+}
+
+/// A [`Cpr`] with its matrix: the [`Preconditioner`] given to GMRES.
+pub struct CprPreconditioner<'s> {
+    cpr: &'s Cpr,
+    a: &'s CsrMatrix,
+}
+
+impl Preconditioner for CprPreconditioner<'_> {
+    fn apply(&self, r: &[f64], z: &mut [f64]) {
+        let c = self.cpr;
+        let Some(h) = c.hierarchy.as_ref() else {
+            c.stage2.apply(r, z);
+            return;
+        };
+        let b = c.block;
+        let mut guard = c.work.lock().unwrap_or_else(|e| e.into_inner());
+        let Work { rp, xp, x1, r2 } = &mut *guard;
+        // Stage 1: restrict with the weights, one V-cycle, prolong.
+        rp.par_iter_mut()
+            .zip(r.par_chunks(b))
+            .zip(c.weights.par_chunks(b))
+            .with_min_len(ROW_CHUNK)
+            .for_each(|((p, ri), wi)| *p = ri.iter().zip(wi).map(|(x, y)| x * y).sum());
+        h.vcycle(&c.pressure, rp, xp);
+        x1.par_chunks_mut(b)
+            .zip(xp.par_iter())
+            .with_min_len(ROW_CHUNK)
+            .for_each(|(xi, p)| {
+                xi.iter_mut().for_each(|v| *v = 0.0);
+                xi[0] = *p;
+            });
+        // Stage 2 on the residual left by stage 1.
+        self.a.residual_into(r, x1, r2);
+        c.stage2.apply(r2, z);
+        z.par_iter_mut()
+            .zip(x1.par_iter())
+            .with_min_len(ROW_CHUNK)
+            .for_each(|(zi, xi)| *zi += xi);
+    }
+}
+
+/// The decoupling weights, b per block row, in parallel over block rows.
+fn weights(
+    a: &CsrMatrix,
+    accumulation: Option<&[f64]>,
+    kind: Decoupling,
+) -> Result<Vec<f64>, LinearError> {
+    let (n, b, bb) = (a.n, a.block, a.block * a.block);
+    let mut w = vec![0.0; n * b];
+    if kind == Decoupling::PressureRow {
+        w.par_chunks_mut(b).for_each(|wi| wi[0] = 1.0);
+        return Ok(w);
+    }
+    let acc = match kind {
+        Decoupling::TrueImpes => {
+            let acc = accumulation.ok_or_else(|| LinearError::Dimension {
+                detail: "true-IMPES weights need the accumulation blocks".into(),
+            })?;
+            if acc.len() != n * bb {
+                return Err(LinearError::Dimension {
+                    detail: format!(
+                        "accumulation blocks: {} values for {n} blocks of {b} x {b}",
+                        acc.len()
+                    ),
+                });
+            }
+            Some(acc)
+        }
+        _ => None,
+    };
+    let zero = vec![0.0; bb];
+    w.par_chunks_mut(b)
+        .enumerate()
+        .with_min_len(ROW_CHUNK)
+        .for_each_init(
+            || (vec![0.0; bb], Vec::new()),
+            |(inv, work), (i, wi)| {
+                let d = match acc {
+                    Some(acc) => &acc[i * bb..i * bb + bb],
+                    None => {
+                        let (c, v) = a.row(i);
+                        c.binary_search(&i)
+                            .map(|k| &v[k * bb..k * bb + bb])
+                            .unwrap_or(&zero)
+                    }
+                };
+                wi.iter_mut().for_each(|x| *x = 0.0);
+                wi[0] = 1.0;
+                if invert_block(d, b, inv, work) {
+                    let w0 = inv[0];
+                    let big = inv[..b].iter().fold(0.0f64, |m, x| m.max(x.abs()));
+                    // A negligible first entry would blow the weights up.
+                    if w0.abs() > 1e-12 * big {
+                        for (s, x) in wi.iter_mut().enumerate() {
+                            *x = inv[s] / w0;
+                        }
+                    }
+                }
+            },
+        );
+    Ok(w)
+}
+
+/// Ap[i][j] = w_i^T A_ij e_0 on the block pattern of `a`.
+fn pressure_matrix(a: &CsrMatrix, w: &[f64]) -> CsrMatrix {
+    let (b, bb) = (a.block, a.block * a.block);
+    let mut values = vec![0.0; a.col_idx.len()];
+    {
+        let mut rows = split_rows_mut(&mut values, &a.row_ptr);
+        rows.par_iter_mut()
+            .enumerate()
+            .with_min_len(ROW_CHUNK)
+            .for_each(|(i, out)| {
+                let (_, v) = a.row(i);
+                let wi = &w[i * b..i * b + b];
+                for (k, o) in out.iter_mut().enumerate() {
+                    let blk = &v[k * bb..k * bb + bb];
+                    *o = (0..b).map(|s| wi[s] * blk[s * b]).sum();
+                }
+            });
+    }
+    CsrMatrix {
+        n: a.n,
+        ncols: a.ncols,
+        block: 1,
+        row_ptr: a.row_ptr.clone(),
+        col_idx: a.col_idx.clone(),
+        values,
+    }
+}

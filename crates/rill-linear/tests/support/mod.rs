@@ -1,0 +1,3 @@
+//! Helpers shared by the integration tests and examples.
+
+pub mod two_phase;
