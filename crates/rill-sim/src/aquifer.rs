@@ -48,6 +48,8 @@ pub(crate) struct AqGeom {
     pub capacity: f64,
     /// Initial water volume, m^3 (the scale of its residual).
     pub water_volume: f64,
+    /// The sum of its faces' productivities over all parts, reservoir m^3/s per Pa.
+    pub j_total: f64,
     /// Initial pressure at the mean face depth, Pa.
     pub p_init: f64,
     /// Position of the diagonal of its row.
@@ -64,6 +66,7 @@ pub(crate) fn geometry(
     active_of: &[usize],
     all_depth: &[f64],
     t_sum: &mut [f64],
+    ours: &dyn Fn(usize) -> bool,
 ) -> (Vec<AqGeom>, Vec<(usize, usize)>) {
     let n_wells = case.wells.len();
     let mut out = Vec::with_capacity(case.aquifers.len());
@@ -72,8 +75,10 @@ pub(crate) fn geometry(
         let faces = aquifer::faces(case, aq);
         let d_a = aquifer::mean_depth(&faces).unwrap_or(0.0);
         let p_init = aquifer::initial_pressure(case, &faces).unwrap_or(0.0);
+        let j_total = aq.productivity * faces.iter().map(|f| f.share).sum::<f64>();
         let faces: Vec<AqFace> = faces
             .iter()
+            .filter(|f| active_of[f.cell] != usize::MAX && ours(active_of[f.cell]))
             .map(|f| {
                 let cell = active_of[f.cell];
                 let j = aq.productivity * f.share;
@@ -93,6 +98,7 @@ pub(crate) fn geometry(
             faces,
             capacity: aq.compressibility * aq.water_volume,
             water_volume: aq.water_volume,
+            j_total,
             p_init,
             diag: 0,
         });
@@ -140,14 +146,16 @@ pub(crate) fn add(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) {
         out.jac.values[rp[row]..rp[row + 1]].fill(0.0);
         out.aq_rate[a] = 0.0;
         out.aq_influx[a] = 0.0;
+        // The storage term once over all parts.
+        let lead = if d.lead { 1.0 } else { 0.0 };
         let Some(old) = ctx.aquifer_old else {
-            out.jac.values[g.diag] = ctx.pin_scale;
+            out.jac.values[g.diag] = lead * ctx.pin_scale;
             out.resid[row] = 0.0;
             continue;
         };
         let p_a = x[row];
-        let mut r = g.capacity * (p_a - old[a]);
-        let mut diag = g.capacity;
+        let mut r = lead * g.capacity * (p_a - old[a]);
+        let mut diag = lead * g.capacity;
         for f in &g.faces {
             let (q, dqc, dqa) = face_influx(ctx, f, x[f.cell], p_a);
             let (b, db) = ctx.pvt.b(x[f.cell]);

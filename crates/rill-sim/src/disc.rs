@@ -6,6 +6,14 @@
 //! balance of active cell `i` over the step; row `n_cells + w` is well `w`'s
 //! control equation. One pressure per aquifer follows (module `aquifer`).
 //!
+//! A distributed run gives each process a contiguous slab of the active
+//! cells ([`Part`]): its `Disc` holds those cells plus the ghost cells its
+//! faces reach (so local numbering is a window of the global one), only the
+//! completions, boundary faces and aquifer faces of owned cells, and every
+//! well's and aquifer's unknown. Rows of ghost cells are assembled but never
+//! used; the well and aquifer rows hold this process's share of their sums
+//! (see [`Disc::lead`]). A serial run is the one-part case.
+//!
 //! Every geometric number comes from `rill_model::derived`: interior
 //! transmissibilities from [`derived::connections`], boundary half-cells
 //! from [`derived::boundary_face`], well indices from
@@ -46,10 +54,50 @@ pub(crate) struct Comp {
 
 #[derive(Debug, Clone)]
 pub(crate) struct WellGeom {
+    /// The completions in owned active cells.
     pub comps: Vec<Comp>,
-    /// Sum of the geometric well indices.
+    /// Sum of the geometric well indices of every active completion (all
+    /// parts).
     pub wi_sum: f64,
+    /// Active completions in all parts.
+    pub n_comps: usize,
+    /// `comps[0]` is the well's first active completion of all parts.
+    pub first_here: bool,
+    /// For each active completion of all parts: whether it is in `comps`.
+    pub owned_mask: Vec<bool>,
     pub diag: usize,
+}
+
+/// Which slab of the active cells a process owns: `rank` of `size` equal
+/// slabs in the natural (grid) order. A serial run is rank 0 of 1.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Part {
+    /// This process, from 0.
+    pub rank: usize,
+    /// The number of processes.
+    pub size: usize,
+}
+
+impl Part {
+    /// The whole grid in one process.
+    pub const SERIAL: Part = Part { rank: 0, size: 1 };
+
+    /// The global active indices this part owns, out of `n`.
+    pub fn owned(&self, n: usize) -> std::ops::Range<usize> {
+        (self.rank * n / self.size)..((self.rank + 1) * n / self.size)
+    }
+}
+
+/// What holds the connected regions of the grid at a pressure level
+/// (regions named by their root, a global active index; see `floating`).
+#[derive(Debug, Clone, Default)]
+pub(crate) struct Anchors {
+    /// Regions touched by a constant-pressure boundary face.
+    pub boundaries: Vec<usize>,
+    /// Regions touched by an aquifer face.
+    pub aquifers: Vec<usize>,
+    /// The region of each well's completions (`None`: none active).
+    pub wells: Vec<Option<usize>>,
 }
 
 /// A cell face on a constant-pressure boundary.
@@ -88,37 +136,56 @@ pub(crate) struct Disc {
     pub wells: Vec<WellGeom>,
     /// Aquifers, whose unknowns follow the wells'.
     pub aquifers: Vec<crate::aquifer::AqGeom>,
+    /// Global active index of local cell 0 (0 in a serial run).
+    pub first_global: usize,
+    /// Local indices of the cells this part owns (all in a serial run); the
+    /// others are ghosts, read but never assembled for.
+    pub owned: std::ops::Range<usize>,
+    /// Active cells of the whole grid.
+    pub n_global_cells: usize,
+    /// This part adds the terms of the well and aquifer rows that are not
+    /// per completion or per face (rank 0; always in a serial run): the
+    /// rows' sums over all parts are then the serial rows.
+    pub lead: bool,
+    /// The connected region of each local cell (see `floating`).
+    pub region: Vec<usize>,
+    pub anchors: Anchors,
 }
 
 impl Disc {
+    /// The whole grid (a serial run).
+    #[cfg(test)]
     pub fn new(case: &Case) -> Disc {
+        Disc::new_part(case, Part::SERIAL)
+    }
+
+    /// The slab `part` of the grid with its ghost cells.
+    pub fn new_part(case: &Case, part: Part) -> Disc {
         let grid = &case.grid;
-        let rock = &case.rock;
-        let nt = grid.cell_count();
-        let mut active_of = vec![usize::MAX; nt];
-        let mut cell_of = Vec::new();
-        for (c, a) in active_of.iter_mut().enumerate() {
-            if rock.is_active(c) {
-                *a = cell_of.len();
-                cell_of.push(c);
-            }
-        }
+        let conns = derived::case_connections(case);
+        let Numbering {
+            active_of,
+            cell_of,
+            first: lo,
+            owned_global,
+            n_global_cells,
+            region,
+            anchors,
+        } = Numbering::new(case, part, &conns);
+        let owned = (owned_global.start - lo)..(owned_global.end - lo);
         let n_cells = cell_of.len();
         let n_wells = case.wells.len();
         let n = n_cells + n_wells + case.aquifers.len();
         let all_depth = derived::cell_center_depths(grid);
-        let depth: Vec<f64> = cell_of.iter().map(|&c| all_depth[c]).collect();
-        let pv_ref: Vec<f64> = cell_of
-            .iter()
-            .map(|&c| derived::pore_volume(grid, rock, c))
-            .collect();
+        let (depth, pv_ref) = cell_arrays(case, &cell_of, &all_depth);
 
-        // Interior connections in active numbering (order preserved: a < b,
-        // by a), with the faults' multipliers.
-        let conns = derived::case_connections(case);
         let mut lower = vec![0usize; n];
         let mut upper = vec![0usize; n];
         let mut t_sum = vec![0.0; n_cells];
+        let conns: Vec<_> = conns
+            .into_iter()
+            .filter(|cn| active_of[cn.a] != usize::MAX && active_of[cn.b] != usize::MAX)
+            .collect();
         for cn in &conns {
             let (a, b) = (active_of[cn.a], active_of[cn.b]);
             debug_assert!(a < b && b < n_cells);
@@ -129,9 +196,11 @@ impl Disc {
         }
 
         // Wells: geometry and the (cell, well) couplings, deduplicated.
-        let (mut wells, mut couplings) = well_geometry(case, &active_of, &all_depth, &mut t_sum);
+        let ours = |cell: usize| owned.contains(&cell);
+        let (mut wells, mut couplings) =
+            well_geometry(case, &active_of, &all_depth, &mut t_sum, &ours);
         let (mut aquifers, aq_couplings) =
-            crate::aquifer::geometry(case, &active_of, &all_depth, &mut t_sum);
+            crate::aquifer::geometry(case, &active_of, &all_depth, &mut t_sum, &ours);
         couplings.extend(aq_couplings);
         couplings.sort_unstable();
         couplings.dedup();
@@ -195,7 +264,7 @@ impl Disc {
         }
         crate::aquifer::locate(&mut aquifers, n_cells + n_wells, &diag, find);
 
-        let bfaces = boundary_faces(case, &active_of, &all_depth, &mut t_sum);
+        let bfaces = boundary_faces(case, &active_of, &all_depth, &mut t_sum, &ours);
 
         Disc {
             n_cells,
@@ -211,6 +280,12 @@ impl Disc {
             bfaces,
             wells,
             aquifers,
+            first_global: lo,
+            owned,
+            n_global_cells,
+            lead: part.rank == 0,
+            region,
+            anchors,
         }
     }
 
@@ -234,36 +309,194 @@ impl Disc {
 impl Disc {
     /// Gives well `w` the skin `skin` from now on: each completion's well
     /// index is computed again by [`derived::well_index`] (the completions in
-    /// active cells, in the order [`well_geometry`] keeps them), and the
-    /// cells' transmissibility sums follow the change.
+    /// owned active cells, in the order [`well_geometry`] keeps them; the sum
+    /// over all of them), and the cells' transmissibility sums follow the
+    /// change.
     pub fn set_skin(&mut self, case: &Case, w: usize, skin: f64) {
         let (Some(well), Some(geom)) = (case.wells.get(w), self.wells.get_mut(w)) else {
             return;
         };
+        let mut comps = geom.comps.iter_mut();
+        let mut wi_sum = 0.0;
         let active = well
             .completions
             .iter()
             .filter(|cp| case.rock.is_active(cp.cell));
-        let mut wi_sum = 0.0;
-        for (comp, cp) in geom.comps.iter_mut().zip(active) {
+        for (cp, &ours) in active.zip(&geom.owned_mask) {
             let wi = derived::well_index(&case.grid, &case.rock, cp, well.radius, skin).geometric;
-            self.t_sum[comp.cell] += wi - comp.wi;
-            comp.wi = wi;
             wi_sum += wi;
+            // The owned completions, in the order `well_geometry` kept them.
+            if ours {
+                if let Some(comp) = comps.next() {
+                    self.t_sum[comp.cell] += wi - comp.wi;
+                    comp.wi = wi;
+                }
+            }
         }
         geom.wi_sum = wi_sum;
     }
 }
 
-/// Each well's completions in active cells (well index, depth below the
-/// well's datum, the shallowest completed cell centre) and the (cell, well)
-/// couplings of the pattern, unsorted. Adds each well index to its cell's
-/// `t_sum`.
+/// The centre depth and the reference pore volume of each local cell.
+fn cell_arrays(case: &Case, cell_of: &[usize], all_depth: &[f64]) -> (Vec<f64>, Vec<f64>) {
+    let depth = cell_of.iter().map(|&c| all_depth[c]).collect();
+    let pv_ref = cell_of
+        .iter()
+        .map(|&c| derived::pore_volume(&case.grid, &case.rock, c))
+        .collect();
+    (depth, pv_ref)
+}
+
+/// A part's local numbering of the cells.
+struct Numbering {
+    /// Grid cell -> local index (`usize::MAX` outside the window or inactive).
+    active_of: Vec<usize>,
+    /// Local index -> grid cell.
+    cell_of: Vec<usize>,
+    /// Global active index of local cell 0.
+    first: usize,
+    owned_global: std::ops::Range<usize>,
+    n_global_cells: usize,
+    region: Vec<usize>,
+    anchors: Anchors,
+}
+
+impl Numbering {
+    /// The owned slab of `part` and every cell a face of it reaches (the
+    /// window), from the case's connections.
+    fn new(case: &Case, part: Part, conns: &[derived::Connection]) -> Numbering {
+        let rock = &case.rock;
+        let mut global_of = vec![usize::MAX; case.grid.cell_count()];
+        let mut n_global_cells = 0;
+        for (c, a) in global_of.iter_mut().enumerate() {
+            if rock.is_active(c) {
+                *a = n_global_cells;
+                n_global_cells += 1;
+            }
+        }
+        let owned_global = part.owned(n_global_cells);
+        let (mut lo, mut hi) = (owned_global.start, owned_global.end);
+        if part.size > 1 {
+            for cn in conns {
+                let (a, b) = (global_of[cn.a], global_of[cn.b]);
+                if owned_global.contains(&a) {
+                    hi = hi.max(b + 1);
+                }
+                if owned_global.contains(&b) {
+                    lo = lo.min(a);
+                }
+            }
+        }
+        let (region, anchors) = regions(case, conns, &global_of, n_global_cells, lo..hi);
+        let mut active_of = global_of;
+        let mut cell_of = Vec::with_capacity(hi - lo);
+        for (c, a) in active_of.iter_mut().enumerate() {
+            if *a != usize::MAX {
+                if (lo..hi).contains(a) {
+                    *a -= lo;
+                    cell_of.push(c);
+                } else {
+                    *a = usize::MAX;
+                }
+            }
+        }
+        Numbering {
+            active_of,
+            cell_of,
+            first: lo,
+            owned_global,
+            n_global_cells,
+            region,
+            anchors,
+        }
+    }
+}
+
+/// The connected regions of the active cells of the whole grid (a region
+/// is named by its smallest global active index; a well's completions join
+/// their cells into one) for the cells of `window`, and the regions that
+/// boundaries, aquifers and wells touch. Every part computes this from the
+/// connections it builds anyway, so that held cells (module
+/// `run::floating`) are the same whatever the partition.
+fn regions(
+    case: &Case,
+    conns: &[derived::Connection],
+    global_of: &[usize],
+    n: usize,
+    window: std::ops::Range<usize>,
+) -> (Vec<usize>, Anchors) {
+    fn find(p: &mut [usize], mut i: usize) -> usize {
+        while p[i] != i {
+            p[i] = p[p[i]];
+            i = p[i];
+        }
+        i
+    }
+    fn union(p: &mut [usize], a: usize, b: usize) {
+        let (ra, rb) = (find(p, a), find(p, b));
+        if ra != rb {
+            p[ra.max(rb)] = ra.min(rb);
+        }
+    }
+    let mut parent: Vec<usize> = (0..n).collect();
+    for cn in conns {
+        union(&mut parent, global_of[cn.a], global_of[cn.b]);
+    }
+    let grid = &case.grid;
+    let rock = &case.rock;
+    let well_cells: Vec<Vec<usize>> = case
+        .wells
+        .iter()
+        .map(|w| {
+            w.completions
+                .iter()
+                .filter(|cp| rock.is_active(cp.cell))
+                .map(|cp| global_of[cp.cell])
+                .collect()
+        })
+        .collect();
+    for cells in &well_cells {
+        for &c in cells.iter().skip(1) {
+            union(&mut parent, cells[0], c);
+        }
+    }
+    let mut anchors = Anchors::default();
+    for bnd in &case.boundaries {
+        for c in bnd.cells(grid) {
+            if rock.is_active(c)
+                && derived::boundary_face(grid, rock, c, bnd.side).geometric_trans > 0.0
+            {
+                anchors.boundaries.push(find(&mut parent, global_of[c]));
+            }
+        }
+    }
+    for aq in &case.aquifers {
+        for f in rill_model::aquifer::faces(case, aq) {
+            anchors.aquifers.push(find(&mut parent, global_of[f.cell]));
+        }
+    }
+    anchors.wells = well_cells
+        .iter()
+        .map(|cells| cells.first().map(|&c| find(&mut parent, c)))
+        .collect();
+    for list in [&mut anchors.boundaries, &mut anchors.aquifers] {
+        list.sort_unstable();
+        list.dedup();
+    }
+    let region = window.map(|a| find(&mut parent, a)).collect();
+    (region, anchors)
+}
+
+/// Each well's completions in owned active cells (well index, depth below
+/// the well's datum, the shallowest completed cell centre), its index sum
+/// over all active completions, and the (cell, well) couplings of the
+/// pattern, unsorted. Adds each well index to its cell's `t_sum`.
 fn well_geometry(
     case: &Case,
     active_of: &[usize],
     all_depth: &[f64],
     t_sum: &mut [f64],
+    ours: &dyn Fn(usize) -> bool,
 ) -> (Vec<WellGeom>, Vec<(usize, usize)>) {
     let grid = &case.grid;
     let rock = &case.rock;
@@ -278,10 +511,18 @@ fn well_geometry(
         let datum = derived::well_datum_depth(grid, rock, well).unwrap_or(f64::INFINITY);
         let mut comps = Vec::new();
         let mut wi_sum = 0.0;
-        for cp in active {
+        let n_comps = active.len();
+        let mut first_here = false;
+        let mut owned_mask = Vec::with_capacity(n_comps);
+        for (k, cp) in active.into_iter().enumerate() {
             let wi = derived::well_index(grid, rock, cp, well.radius, well.skin).geometric;
-            let cell = active_of[cp.cell];
             wi_sum += wi;
+            let cell = active_of[cp.cell];
+            owned_mask.push(cell != usize::MAX && ours(cell));
+            if cell == usize::MAX || !ours(cell) {
+                continue;
+            }
+            first_here |= k == 0;
             t_sum[cell] += wi;
             comps.push(Comp {
                 cell,
@@ -295,13 +536,16 @@ fn well_geometry(
         wells.push(WellGeom {
             comps,
             wi_sum,
+            n_comps,
+            first_here,
+            owned_mask,
             diag: 0,
         });
     }
     (wells, couplings)
 }
 
-/// The faces of active cells on constant-pressure boundaries with a
+/// The faces of owned active cells on constant-pressure boundaries with a
 /// positive half-cell transmissibility, sorted by cell. Adds each face's
 /// transmissibility to its cell's `t_sum`.
 fn boundary_faces(
@@ -309,6 +553,7 @@ fn boundary_faces(
     active_of: &[usize],
     all_depth: &[f64],
     t_sum: &mut [f64],
+    ours: &dyn Fn(usize) -> bool,
 ) -> Vec<BFace> {
     let grid = &case.grid;
     let rock = &case.rock;
@@ -316,7 +561,7 @@ fn boundary_faces(
     for (bi, bnd) in case.boundaries.iter().enumerate() {
         for c in bnd.cells(grid) {
             let a = active_of[c];
-            if a == usize::MAX {
+            if a == usize::MAX || !ours(a) {
                 continue;
             }
             let t = derived::boundary_face(grid, rock, c, bnd.side).geometric_trans;
@@ -595,7 +840,7 @@ fn add_boundaries_and_wells(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) 
         vals[rp[row]..rp[row + 1]].fill(0.0);
         let drive = ctx.drive[w];
         if wg.wi_sum <= 0.0 || drive.shut {
-            vals[wg.diag] = ctx.pin_scale;
+            vals[wg.diag] = if d.lead { ctx.pin_scale } else { 0.0 };
             out.resid[row] = 0.0;
             out.well_rate[w] = 0.0;
             continue;
@@ -617,11 +862,17 @@ fn add_boundaries_and_wells(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) 
         out.well_rate[w] = qsum;
         if drive.bhp {
             // BHP fixed at x[row]: no update, no coupling (keeps J symmetric when the rest is).
-            vals[wg.diag] = dt * wg.wi_sum / (mu * pvt.b_ref);
+            vals[wg.diag] = if d.lead {
+                dt * wg.wi_sum / (mu * pvt.b_ref)
+            } else {
+                0.0
+            };
             out.resid[row] = 0.0;
         } else {
+            // The target once over all parts.
+            let target = if d.lead { drive.rate } else { 0.0 };
             vals[wg.diag] = dw;
-            out.resid[row] = dt * (drive.rate - qsum);
+            out.resid[row] = dt * (target - qsum);
         }
     }
 }

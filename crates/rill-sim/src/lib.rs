@@ -45,7 +45,9 @@ pub mod results;
 pub use fluxes::{face_fluxes, FaceFluxes};
 mod run;
 
+pub use disc::Part;
 pub use results::*;
 pub use run::{
-    run, KeepPressures, NewtonOptions, NoObserver, Observer, Progress, RunError, RunOptions,
+    run, run_distributed, KeepPressures, NewtonOptions, NoObserver, Observer, Parallel, PartSolve,
+    PartSystem, Progress, RunError, RunOptions,
 };

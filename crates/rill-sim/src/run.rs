@@ -4,6 +4,12 @@
 //! nothing holds at a pressure level), `report` (the rows at report times),
 //! `steady`, `transient` (report times, step sizes, cuts, balance) and
 //! `newton` (one backward-Euler step with line search).
+//!
+//! A distributed run ([`run_distributed`]) is the same code on every
+//! process: each holds its slab of the cells ([`crate::Part`]); every sum
+//! or maximum over cells, wells, boundaries and aquifers goes through
+//! [`Parallel`], so every process sees the same global numbers and takes
+//! the same decisions (steps, cuts, switches, errors) in lockstep.
 
 mod controls;
 mod floating;
@@ -153,6 +159,83 @@ pub trait Observer {
     fn report_time(&mut self, _time: f64, _pressure: &[f64]) {}
 }
 
+/// The processes of a distributed run, as the simulator needs them:
+/// reductions, a gather to rank 0 and the distributed linear solve.
+/// `rill-run` implements it on PETSc over MPI. A failure inside (MPI,
+/// PETSc) must end the run on every process (the simulator cannot go on
+/// without the numbers); a solve that does not converge is an `Err`, the
+/// same on every process.
+pub trait Parallel {
+    /// This process, from 0.
+    fn rank(&self) -> usize;
+    /// The number of processes.
+    fn size(&self) -> usize;
+    /// Sums `values` over all processes, in place.
+    fn sum(&self, values: &mut [f64]);
+    /// Takes the largest of `values` over all processes, in place.
+    fn max(&self, values: &mut [f64]);
+    /// Every process's `values` one after the other in rank order, on rank
+    /// 0; empty elsewhere.
+    fn gather(&self, values: &[f64]) -> Vec<f64>;
+    /// Solves the global system this process holds a part of.
+    fn solve(&self, system: &PartSystem, solution: &mut [f64]) -> Result<PartSolve, String>;
+}
+
+/// One process's part of a linear system, in its local numbering: its
+/// window of cells (owned and ghost), then every well's and aquifer's
+/// unknown. The global system's rows are the owned cell rows of every
+/// process in rank order, then the well and aquifer rows, whose matrix
+/// entries are the sums of every process's (each holds its completions'
+/// and faces' shares) and whose right-hand side is the same on every
+/// process (add it once, from rank 0).
+pub struct PartSystem<'a> {
+    /// The local matrix (ghost rows are not part of the system).
+    pub matrix: &'a CsrMatrix,
+    /// The local right-hand side.
+    pub rhs: &'a [f64],
+    /// Cells in the local window; local unknowns from here on are wells and aquifers.
+    pub n_cells: usize,
+    /// Global index of local cell 0.
+    pub first_global: usize,
+    /// Local indices of the owned cells.
+    pub owned: std::ops::Range<usize>,
+    /// Active cells of the whole grid.
+    pub n_global_cells: usize,
+    /// Relative residual to reach.
+    pub rel_tol: f64,
+    /// Iteration limit.
+    pub max_iter: usize,
+}
+
+impl PartSystem<'_> {
+    /// The global index of local unknown `i`.
+    pub fn global(&self, i: usize) -> usize {
+        if i < self.n_cells {
+            self.first_global + i
+        } else {
+            self.n_global_cells + (i - self.n_cells)
+        }
+    }
+
+    /// The number of global unknowns.
+    pub fn n_global(&self) -> usize {
+        self.n_global_cells + (self.matrix.n - self.n_cells)
+    }
+}
+
+/// What a distributed solve reports.
+#[derive(Debug, Clone, Copy)]
+pub struct PartSolve {
+    /// Krylov iterations.
+    pub iterations: usize,
+    /// The method's name, for the run's statistics.
+    pub method: &'static str,
+    /// Seconds in set-up and assembly of the distributed system.
+    pub setup_seconds: f64,
+    /// Seconds in the solve.
+    pub solve_seconds: f64,
+}
+
 /// An observer that watches nothing.
 pub struct NoObserver;
 impl Observer for NoObserver {}
@@ -294,6 +377,8 @@ struct Runner<'a> {
     /// Reference mobility `1 / (mu B_ref)`.
     lam_ref: f64,
     solver: linear::Solver,
+    /// The other processes of a distributed run (`None`: serial).
+    par: Option<&'a dyn Parallel>,
     first_system_sent: bool,
     stats: SolverStats,
     last_method: &'static str,
@@ -305,7 +390,12 @@ struct Runner<'a> {
 impl<'a> Runner<'a> {
     /// The fluid for the run (incompressible in a steady run), the boundary
     /// pressures and the scales of the held cells.
-    fn new(case: &'a Case, options: &'a RunOptions, d: Disc) -> Runner<'a> {
+    fn new(
+        case: &'a Case,
+        options: &'a RunOptions,
+        d: Disc,
+        par: Option<&'a dyn Parallel>,
+    ) -> Runner<'a> {
         let steady = case.timeline.kind == RunKind::Steady;
         let full = Pvt::new(&case.fluid, &case.rock);
         let pvt = if steady { full.incompressible() } else { full };
@@ -335,9 +425,12 @@ impl<'a> Runner<'a> {
             })
             .collect();
         let t_typ = {
-            let s: f64 = d.t_sum.par_iter().sum();
-            if s > 0.0 {
-                s / d.n_cells as f64
+            let mut s = [d.t_sum[d.owned.clone()].par_iter().sum::<f64>()];
+            if let Some(p) = par {
+                p.sum(&mut s);
+            }
+            if s[0] > 0.0 {
+                s[0] / d.n_global_cells as f64
             } else {
                 1e-12
             }
@@ -352,6 +445,7 @@ impl<'a> Runner<'a> {
             aq_old: d.aquifers.iter().map(|g| g.p_init).collect(),
             pvt,
             solver: linear::Solver::new(options.linear.clone()),
+            par,
             first_system_sent: false,
             stats: SolverStats::default(),
             last_method: "none",
@@ -400,10 +494,37 @@ pub fn run(
     options: &RunOptions,
     observer: &mut dyn Observer,
 ) -> Result<RunResults, RunError> {
+    run_on(case, options, observer, None)
+}
+
+/// Runs a checked case as one process of a distributed run: call it on
+/// every process with the same case and options. Each process holds its
+/// slab of the cells; rank 0's results are the run's (the others' hold the
+/// same series and no cell pressures), and only rank 0's observer hears of
+/// report times. Errors are the same on every process.
+pub fn run_distributed(
+    case: &Case,
+    options: &RunOptions,
+    observer: &mut dyn Observer,
+    par: &dyn Parallel,
+) -> Result<RunResults, RunError> {
+    run_on(case, options, observer, Some(par))
+}
+
+fn run_on(
+    case: &Case,
+    options: &RunOptions,
+    observer: &mut dyn Observer,
+    par: Option<&dyn Parallel>,
+) -> Result<RunResults, RunError> {
     let start = Instant::now();
-    let d = Disc::new(case);
+    let part = par.map_or(crate::disc::Part::SERIAL, |p| crate::disc::Part {
+        rank: p.rank(),
+        size: p.size(),
+    });
+    let d = Disc::new_part(case, part);
     let setup_seconds = start.elapsed().as_secs_f64();
-    if d.n_cells == 0 {
+    if d.n_global_cells == 0 {
         return Err(RunError::Setup(
             "the grid has no active cell (porosity 0 everywhere)".into(),
         ));
@@ -423,7 +544,7 @@ pub fn run(
     let steady = case.timeline.kind == RunKind::Steady;
     let mut x = initial_state(case, &d);
     let mut wells = controls::initial_wells(case);
-    let mut r = Runner::new(case, options, d);
+    let mut r = Runner::new(case, options, d, par);
     let compressible = r.pvt.c_f + r.pvt.c_r > 0.0;
     if !compressible {
         r.pinned = r.floating_cells(&wells)?;
@@ -441,7 +562,7 @@ pub fn run(
     r.guess_bhps(&mut x, &wells);
 
     let mut results = report::empty_results(case);
-    let t_max = r.d.t_sum.iter().copied().fold(0.0, f64::max);
+    let t_max = r.max_over_owned(&r.d.t_sum);
     results.flow_per_pascal = r.pvt.b(r.pvt.p_f).0 / r.pvt.mu * t_max;
     if steady {
         r.run_steady(&mut x, &mut wells, &mut results, observer)?;
@@ -481,6 +602,7 @@ impl Runner<'_> {
     ) {
         let t0 = Instant::now();
         assemble(&self.d, &self.ctx(dt, mass_old, drive), x, out);
+        self.reduce_assembly(out);
         self.assembly_nanos
             .fetch_add(t0.elapsed().as_nanos() as u64, Ordering::Relaxed);
     }
@@ -503,7 +625,9 @@ impl Runner<'_> {
         let d = &self.d;
         let nc = d.n_cells;
         let floor = dt * self.lam_ref; // per m^3 of transmissibility, 1 Pa
-        let (mx, ss) = (0..nc)
+        let (mx, ss) = d
+            .owned
+            .clone()
             .into_par_iter()
             .with_min_len(4096)
             .map(|i| {
@@ -516,6 +640,7 @@ impl Runner<'_> {
                 (v, v * v)
             })
             .reduce(|| (0.0, 0.0), |p, q| (p.0.max(q.0), p.1 + q.1));
+        let (mx, ss) = (self.max1(mx), self.sum1(ss));
         let mut mw = 0.0f64;
         let mut sw = 0.0;
         for (w, dr) in drive.iter().enumerate() {
@@ -535,8 +660,7 @@ impl Runner<'_> {
         // cells' floor), checked with the cells' mass tolerance.
         let (mut mx, mut ss) = (mx, ss);
         for (k, g) in d.aquifers.iter().enumerate() {
-            let j: f64 = g.faces.iter().map(|f| f.j).sum();
-            let v = a.resid[nc + d.n_wells + k].abs() / (g.water_volume + dt * j);
+            let v = a.resid[nc + d.n_wells + k].abs() / (g.water_volume + dt * g.j_total);
             mx = mx.max(v);
             ss += v * v;
         }
@@ -559,6 +683,25 @@ impl Runner<'_> {
         sol: &mut [f64],
         observer: &mut dyn Observer,
     ) -> Result<usize, String> {
+        if let Some(par) = self.par {
+            let d = &self.d;
+            let system = PartSystem {
+                matrix: a,
+                rhs,
+                n_cells: d.n_cells,
+                first_global: d.first_global,
+                owned: d.owned.clone(),
+                n_global_cells: d.n_global_cells,
+                rel_tol: self.opts.linear.rel_tol,
+                max_iter: self.opts.linear.max_iter,
+            };
+            let st = par.solve(&system, sol)?;
+            self.last_method = st.method;
+            self.stats.linear_iterations += st.iterations;
+            self.timings.linear_setup += st.setup_seconds;
+            self.timings.linear_solve += st.solve_seconds;
+            return Ok(st.iterations);
+        }
         if !self.first_system_sent {
             self.first_system_sent = true;
             observer.first_system(a, rhs);
@@ -577,7 +720,7 @@ impl Runner<'_> {
 
     /// Surface volume in place per cell at `x` (0 in held cells).
     fn mass_into(&self, x: &[f64], mass: &mut [f64]) {
-        let pinned = &self.pinned;
+        let (pinned, pvt, pv_ref) = (&self.pinned, &self.pvt, &self.d.pv_ref);
         mass.par_iter_mut()
             .enumerate()
             .with_min_len(4096)
@@ -585,8 +728,82 @@ impl Runner<'_> {
                 *m = if !pinned.is_empty() && pinned[i] {
                     0.0
                 } else {
-                    self.pvt.mass_factor(x[i]).0 * self.d.pv_ref[i]
+                    pvt.mass_factor(x[i]).0 * pv_ref[i]
                 };
             });
+    }
+}
+
+/// Reductions over the processes of a distributed run (no-ops in a serial
+/// one, so a serial run computes exactly what it did before).
+impl Runner<'_> {
+    /// Sums `v` over all processes, in place.
+    fn sum(&self, v: &mut [f64]) {
+        if let Some(p) = self.par {
+            p.sum(v);
+        }
+    }
+
+    /// The largest of `v` over all processes, in place.
+    fn max(&self, v: &mut [f64]) {
+        if let Some(p) = self.par {
+            p.max(v);
+        }
+    }
+
+    fn sum1(&self, v: f64) -> f64 {
+        let mut b = [v];
+        self.sum(&mut b);
+        b[0]
+    }
+
+    fn max1(&self, v: f64) -> f64 {
+        let mut b = [v];
+        self.max(&mut b);
+        b[0]
+    }
+
+    /// The largest of a per-cell quantity over the owned cells of all processes.
+    fn max_over_owned(&self, per_cell: &[f64]) -> f64 {
+        let local = per_cell[self.d.owned.clone()]
+            .par_iter()
+            .copied()
+            .reduce(|| 0.0, f64::max);
+        self.max1(local)
+    }
+
+    /// Makes an assembly's global numbers global: each process assembled
+    /// its completions', boundary faces' and aquifer faces' shares of the
+    /// well and aquifer residuals and of the rates.
+    fn reduce_assembly(&self, out: &mut Assembly) {
+        let Some(p) = self.par else {
+            return;
+        };
+        let nc = self.d.n_cells;
+        let mut buf: Vec<f64> = out.resid[nc..]
+            .iter()
+            .chain(&out.well_rate)
+            .chain(&out.bnd_rate)
+            .chain(&out.aq_rate)
+            .chain(&out.aq_influx)
+            .copied()
+            .collect();
+        p.sum(&mut buf);
+        let mut it = buf.into_iter();
+        for v in out.resid[nc..]
+            .iter_mut()
+            .chain(out.well_rate.iter_mut())
+            .chain(out.bnd_rate.iter_mut())
+            .chain(out.aq_rate.iter_mut())
+            .chain(out.aq_influx.iter_mut())
+        {
+            *v = it.next().unwrap_or(0.0);
+        }
+    }
+
+    /// Whether any process's observer asks to stop (every process then stops).
+    fn cancelled(&self, observer: &dyn Observer) -> bool {
+        let c = if observer.cancelled() { 1.0 } else { 0.0 };
+        self.max1(c) > 0.0
     }
 }

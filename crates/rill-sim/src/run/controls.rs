@@ -140,11 +140,26 @@ impl Runner<'_> {
     /// The BHP at which well `w` would not flow, given the cell pressures.
     pub(super) fn shut_in_bhp(&self, x: &[f64], w: usize) -> f64 {
         let wg = &self.d.wells[w];
-        if wg.comps.is_empty() || wg.wi_sum <= 0.0 {
-            return wg.comps.first().map_or(0.0, |c| x[c.cell]);
+        // The first completion's cell pressure and its hydrostat to the
+        // datum, from the process that holds it.
+        let first = if wg.first_here {
+            let c = &wg.comps[0];
+            let p = x[c.cell];
+            [p, p - self.pvt.rho(p).0 * derived::GRAVITY * c.dd]
+        } else {
+            [f64::NEG_INFINITY; 2]
+        };
+        let [p_first, guess] = if self.par.is_some() {
+            let mut b = first;
+            self.max(&mut b);
+            b
+        } else {
+            first
+        };
+        if wg.n_comps == 0 || wg.wi_sum <= 0.0 {
+            return if wg.n_comps == 0 { 0.0 } else { p_first };
         }
-        let mut pw = x[wg.comps[0].cell]
-            - self.pvt.rho(x[wg.comps[0].cell]).0 * derived::GRAVITY * wg.comps[0].dd;
+        let mut pw = guess;
         for _ in 0..20 {
             let (mut q, mut dq) = (0.0, 0.0);
             for cp in &wg.comps {
@@ -152,6 +167,9 @@ impl Runner<'_> {
                 q += qc;
                 dq += dqw;
             }
+            let mut sums = [q, dq];
+            self.sum(&mut sums);
+            let [q, dq] = sums;
             if dq == 0.0 {
                 break;
             }
@@ -166,11 +184,13 @@ impl Runner<'_> {
 
     /// The well's surface rate if its BHP were `pw`, at the cell pressures of `x`.
     fn rate_at(&self, w: usize, x: &[f64], pw: f64) -> f64 {
-        self.d.wells[w]
-            .comps
-            .iter()
-            .map(|cp| completion_rate(&self.pvt, cp, x[cp.cell], pw).0)
-            .sum()
+        self.sum1(
+            self.d.wells[w]
+                .comps
+                .iter()
+                .map(|cp| completion_rate(&self.pvt, cp, x[cp.cell], pw).0)
+                .sum(),
+        )
     }
 
     /// The rate below which well `w` at BHP `pw` is at rest rather than

@@ -16,72 +16,39 @@ impl Runner<'_> {
     /// rate-controlled well has no solution.
     pub(super) fn floating_cells(&self, wells: &[WellState]) -> Result<Vec<bool>, RunError> {
         let d = &self.d;
-        let nc = d.n_cells;
-        let mut parent: Vec<usize> = (0..nc).collect();
-        fn find(p: &mut [usize], mut i: usize) -> usize {
-            while p[i] != i {
-                p[i] = p[p[i]];
-                i = p[i];
-            }
-            i
-        }
-        let union = |p: &mut Vec<usize>, a: usize, b: usize| {
-            let (ra, rb) = (find(p, a), find(p, b));
-            if ra != rb {
-                p[ra.max(rb)] = ra.min(rb);
-            }
-        };
-        for i in 0..nc {
-            for k in d.row_ptr[i]..d.row_ptr[i + 1] {
-                let j = d.col_idx[k];
-                if j < nc && j > i {
-                    union(&mut parent, i, j);
-                }
-            }
-        }
-        for wg in &d.wells {
-            for cp in wg.comps.iter().skip(1) {
-                union(&mut parent, wg.comps[0].cell, cp.cell);
-            }
-        }
-        let mut anchored = vec![false; nc];
-        for f in &d.bfaces {
-            let root = find(&mut parent, f.cell);
-            anchored[root] = true;
-        }
+        let a = &d.anchors;
+        // The regions (whole grid, every process alike: see `disc::regions`)
+        // that something holds at a pressure level.
+        let mut anchored: Vec<usize> = a.boundaries.clone();
         if self.case.timeline.kind == rill_model::RunKind::Transient {
-            for f in d.aquifers.iter().flat_map(|g| &g.faces) {
-                let root = find(&mut parent, f.cell);
-                anchored[root] = true;
-            }
+            anchored.extend(&a.aquifers);
         }
         for (w, wg) in d.wells.iter().enumerate() {
             if wg.wi_sum > 0.0 && matches!(wells[w].control, Control::Bhp(_)) {
-                let root = find(&mut parent, wg.comps[0].cell);
-                anchored[root] = true;
+                anchored.extend(a.wells[w]);
             }
         }
+        anchored.sort_unstable();
+        anchored.dedup();
+        let held = |root: usize| anchored.binary_search(&root).is_ok();
         for (w, wg) in d.wells.iter().enumerate() {
             if wg.wi_sum > 0.0 && matches!(wells[w].control, Control::Rate(_)) {
-                let root = find(&mut parent, wg.comps[0].cell);
-                if !anchored[root] {
-                    return Err(RunError::Setup(format!(
-                        "well \"{}\" is on rate control in a region with no boundary and no BHP-controlled well; \
-                         without compressibility (or in a steady run) no pressure level exists there",
-                        self.case.wells[w].name
-                    )));
+                if let Some(root) = a.wells[w] {
+                    if !held(root) {
+                        return Err(RunError::Setup(format!(
+                            "well \"{}\" is on rate control in a region with no boundary and no BHP-controlled well; \
+                             without compressibility (or in a steady run) no pressure level exists there",
+                            self.case.wells[w].name
+                        )));
+                    }
                 }
             }
         }
-        let mut pinned = vec![false; nc];
-        let mut any = false;
-        for (i, p) in pinned.iter_mut().enumerate() {
-            let root = find(&mut parent, i);
-            if !anchored[root] {
-                *p = true;
-                any = true;
-            }
-        }
-        Ok(if any { pinned } else { Vec::new() })
+        let pinned: Vec<bool> = d.region.iter().map(|&r| !held(r)).collect();
+        Ok(if pinned.iter().any(|&p| p) {
+            pinned
+        } else {
+            Vec::new()
+        })
     }
 }

@@ -12,11 +12,14 @@ impl Runner<'_> {
     /// has a pressure that is not positive or not finite.
     pub(super) fn guard(&self, x: &[f64], t: f64, step: usize) -> Result<(), RunError> {
         let nc = self.d.n_cells;
-        let bad_cell = x[..nc].iter().position(|p| !(p.is_finite() && *p > 0.0));
-        if let Some(i) = bad_cell {
-            let c = self.d.cell_of[i];
+        let owned = self.d.owned.clone();
+        let bad_cell = x[owned.clone()]
+            .iter()
+            .position(|p| !(p.is_finite() && *p > 0.0))
+            .map(|k| (self.d.cell_of[owned.start + k], x[owned.start + k]));
+        if let Some((c, p)) = self.first_bad_cell(bad_cell) {
             let (ci, cj, ck) = self.case.grid.ijk(c);
-            let cause = if x[i].is_finite() {
+            let cause = if p.is_finite() {
                 format!(
                     "more fluid left the cell than the compressibility of rock and fluid can supply{}; give producers a `bhp_limit`, or check the rates, the pore volumes and the compressibilities",
                     self.rate_wells_without_limit()
@@ -32,7 +35,7 @@ impl Runner<'_> {
                     ci + 1,
                     cj + 1,
                     ck + 1,
-                    x[i]
+                    p
                 ),
             });
         }
@@ -70,6 +73,29 @@ impl Runner<'_> {
             }
         }
         Ok(())
+    }
+
+    /// The bad cell of the lowest grid index over all processes, with its
+    /// pressure, from each process's own first one: every process then
+    /// reports the same cell.
+    fn first_bad_cell(&self, local: Option<(usize, f64)>) -> Option<(usize, f64)> {
+        if self.par.is_none() {
+            return local;
+        }
+        // Largest of minus the grid index picks the lowest one.
+        let key = local.map_or(f64::NEG_INFINITY, |(c, _)| -(c as f64));
+        let lowest = self.max1(key);
+        if lowest == f64::NEG_INFINITY {
+            return None;
+        }
+        let c = (-lowest) as usize;
+        // Only its holder adds its pressure (a NaN or an infinity passes as
+        // such through the sum).
+        let p = self.sum1(match local {
+            Some((lc, p)) if lc == c => p,
+            _ => 0.0,
+        });
+        Some((c, p))
     }
 
     /// " (producers on a rate without a BHP limit: A, B)", or nothing.

@@ -71,7 +71,7 @@ impl Runner<'_> {
             iterations: Iterations { newton, linear },
         };
         for it in 0..=no.max_iterations {
-            if observer.cancelled() {
+            if self.cancelled(observer) {
                 return Err(StepFail::Cancelled);
             }
             let res_ok = res.cells <= no.mass_tolerance && res.wells <= no.well_tolerance;
@@ -115,9 +115,13 @@ impl Runner<'_> {
             }
             let accepted = self.line_search(x, wells, &delta, &mut xt, dt, mass_old, trial, res);
             let alpha = accepted.alpha;
-            last_dp = (0..nc)
-                .map(|k| (alpha * delta[k]).abs())
-                .fold(0.0, f64::max);
+            last_dp = self.max1(
+                self.d
+                    .owned
+                    .clone()
+                    .map(|k| (alpha * delta[k]).abs())
+                    .fold(0.0, f64::max),
+            );
             for w in 0..self.d.n_wells {
                 if !drive[w].bhp && !accepted.drive[w].bhp {
                     last_dp = last_dp.max((alpha * delta[nc + w]).abs());

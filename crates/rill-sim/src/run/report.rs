@@ -97,19 +97,25 @@ impl Runner<'_> {
     ) {
         let d = &self.d;
         let nc = d.n_cells;
-        let (spv, spvp) = (0..nc)
+        let owned = d.owned.clone();
+        let pvt = &self.pvt;
+        let (spv, spvp) = owned
+            .clone()
             .into_par_iter()
             .with_min_len(4096)
             .map(|i| {
-                let pv = d.pv_ref[i] * self.pvt.pore_factor(x[i]);
+                let pv = d.pv_ref[i] * pvt.pore_factor(x[i]);
                 (pv, pv * x[i])
             })
             .reduce(|| (0.0, 0.0), |p, q| (p.0 + q.0, p.1 + q.1));
+        let mut sums = [spv, spvp, x[owned.clone()].iter().sum::<f64>()];
+        self.sum(&mut sums);
+        let [spv, spvp, sp] = sums;
         res.times.push(row.time);
         res.pressure_avg.push(if spv > 0.0 {
             spvp / spv
         } else {
-            x[..nc].iter().sum::<f64>() / nc as f64
+            sp / d.n_global_cells as f64
         });
         for (w, s) in res.wells.iter_mut().enumerate() {
             // A shut well's BHP is the one at which it would not flow.
@@ -140,14 +146,45 @@ impl Runner<'_> {
             s.pressure.push(x[nc + d.n_wells + a]);
         }
         res.balance_error.push(row.balance);
-        let mut p = vec![f64::NAN; self.case.grid.cell_count()];
-        for (i, &c) in d.cell_of.iter().enumerate() {
-            p[c] = x[i];
-        }
+        let Some(p) = self.grid_pressures(x) else {
+            // Not rank 0 of a distributed run: its series are kept, its
+            // cells are on rank 0's map.
+            return;
+        };
         observer.report_time(row.time, &p);
         if self.opts.keep_pressures == KeepPressures::Last {
             res.pressure.clear();
         }
         res.pressure.push(p);
+    }
+}
+
+impl Runner<'_> {
+    /// The cell pressures of the whole grid in grid order (NaN in inactive
+    /// cells): this process's own in a serial run; gathered from every
+    /// process's owned slab on rank 0 of a distributed one (`None` on the
+    /// other ranks).
+    fn grid_pressures(&self, x: &[f64]) -> Option<Vec<f64>> {
+        let d = &self.d;
+        let mut p = vec![f64::NAN; self.case.grid.cell_count()];
+        match self.par {
+            None => {
+                for (i, &c) in d.cell_of.iter().enumerate() {
+                    p[c] = x[i];
+                }
+            }
+            Some(par) => {
+                let all = par.gather(&x[d.owned.clone()]);
+                if par.rank() != 0 {
+                    return None;
+                }
+                let rock = &self.case.rock;
+                let active = (0..p.len()).filter(|&c| rock.is_active(c));
+                for (c, v) in active.zip(all) {
+                    p[c] = v;
+                }
+            }
+        }
+        Some(p)
     }
 }

@@ -45,7 +45,7 @@ impl Runner<'_> {
         let nc = self.d.n_cells;
         let base: Vec<f64> = x[..nc].to_vec();
         loop {
-            if observer.cancelled() {
+            if self.cancelled(observer) {
                 return Err(RunError::Cancelled { time: 0.0 });
             }
             x[..nc].copy_from_slice(&base);
@@ -53,6 +53,8 @@ impl Runner<'_> {
             self.assemble_at(1.0, None, &drive, x, &mut asm);
             // The problem is linear: A x - R(x) is the right-hand side of A p = b.
             asm.jac.mul_vec_into(x, &mut rhs);
+            // The well and aquifer rows' products are shares, their residuals sums.
+            self.sum(&mut rhs[nc..]);
             rhs.par_iter_mut()
                 .zip(&asm.resid)
                 .for_each(|(b, r)| *b -= r);
@@ -90,6 +92,8 @@ impl Runner<'_> {
             &mut asm.well_rate,
             &mut asm.bnd_rate,
         );
+        self.sum(&mut asm.well_rate);
+        self.sum(&mut asm.bnd_rate);
         let balance = self.steady_balance(x, &drive, &asm.well_rate, &asm.bnd_rate);
         self.stats.steps = 1;
         let zeros_w = vec![0.0; self.d.n_wells];
@@ -151,7 +155,9 @@ impl Runner<'_> {
         let pvt = &self.pvt;
         let lam = pvt.b(pvt.p_f).0 / pvt.mu;
         let rho_g = pvt.rho_ref * GRAVITY;
-        let largest_interior = (0..nc)
+        let largest_interior = d
+            .owned
+            .clone()
             .into_par_iter()
             .with_min_len(4096)
             .map(|i| {
@@ -182,7 +188,9 @@ impl Runner<'_> {
                 inflow += (-q).max(0.0);
             }
         }
-        let t_max = d.t_sum.par_iter().copied().reduce(|| 0.0, f64::max);
+        let largest = self.max1(largest);
+        let inflow = self.sum1(inflow);
+        let t_max = self.max_over_owned(&d.t_sum);
         let resolution = lam * t_max * 1.0;
         let scale = inflow.max(largest).max(resolution);
         let net: f64 = well_rate.iter().chain(bnd_rate).sum();

@@ -342,11 +342,17 @@ impl Runner<'_> {
     fn close_step(&self, x: &[f64], acc: &mut Accumulation, dt: f64) -> f64 {
         let asm = &acc.asm;
         let mass_old = &acc.mass_old;
-        let (dm, fip) = (0..self.d.n_cells)
+        let (dm, fip) = self
+            .d
+            .owned
+            .clone()
             .into_par_iter()
             .with_min_len(4096)
             .map(|i| (asm.mass[i] - mass_old[i], asm.mass[i]))
             .reduce(|| (0.0, 0.0), |p, q| (p.0 + q.0, p.1 + q.1));
+        let mut sums = [dm, fip];
+        self.sum(&mut sums);
+        let [dm, fip] = sums;
         let out: f64 = asm
             .well_rate
             .iter()
