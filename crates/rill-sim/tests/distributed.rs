@@ -313,11 +313,7 @@ fn two_and_three_parts_give_the_serial_transient_run() {
     let serial = run(&case, &RunOptions::default(), &mut NoObserver).unwrap();
     // The case does what it is meant to: the producer reaches its limit.
     assert!(
-        serial.events.is_empty()
-            && serial.wells[0]
-                .mode
-                .iter()
-                .any(|m| *m == rill_sim::ControlMode::Bhp),
+        serial.events.is_empty() && serial.wells[0].mode.contains(&rill_sim::ControlMode::Bhp),
         "the producer switches to its BHP limit"
     );
     assert_balanced(&serial);
