@@ -89,7 +89,7 @@ enum Command {
         #[arg(long)]
         check: bool,
     },
-    /// Run the embedded simulator; results go to `<deck>.out/` (or --out).
+    /// Run the case; results go to `<deck>.out/` (or --out).
     Run {
         file: PathBuf,
         /// Output directory; never the deck's own directory.
@@ -101,6 +101,15 @@ enum Command {
         /// No progress bar.
         #[arg(long, short)]
         quiet: bool,
+        /// The engine: `embedded` (this process), or `petsc` (this process as
+        /// one rank of an MPI run: `mpirun -n 4 rill run DECK --engine petsc`;
+        /// needs a rill built with the `petsc` feature).
+        #[arg(long, value_enum, default_value_t = run::EngineChoice::Embedded)]
+        engine: run::EngineChoice,
+        /// PETSc options over rill's defaults, e.g. "-pc_type gamg" (with
+        /// `--engine petsc`; PETSC_OPTIONS in the environment is read too).
+        #[arg(long, value_name = "OPTIONS", allow_hyphen_values = true)]
+        petsc_options: Option<String>,
     },
     /// Explain a diagnostic code: what it means and how to fix it.
     Explain { code: String },
@@ -139,11 +148,15 @@ fn main() -> ExitCode {
             out,
             export_system,
             quiet,
+            engine,
+            petsc_options,
         } => run::run(run::Args {
             file,
             out,
             export_system,
             quiet,
+            engine,
+            petsc_options,
         }),
         Command::Explain { code } => explain(&code),
         Command::Lsp => rill_lsp::run_stdio(),

@@ -19,6 +19,58 @@ pub struct Args {
     pub out: Option<PathBuf>,
     pub export_system: Option<PathBuf>,
     pub quiet: bool,
+    pub engine: EngineChoice,
+    pub petsc_options: Option<String>,
+}
+
+/// `--engine`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum EngineChoice {
+    /// The embedded simulator.
+    Embedded,
+    /// PETSc over MPI.
+    Petsc,
+}
+
+/// PETSc started for `--engine petsc` (nothing in a build without it).
+#[cfg(feature = "petsc")]
+type Started = Option<rill_run::PetscEngine>;
+#[cfg(not(feature = "petsc"))]
+type Started = Option<std::convert::Infallible>;
+
+/// Starts the engine `--engine` asks for: `Err(exit code)` after a message.
+fn start_engine(args: &Args) -> Result<Started, u8> {
+    if args.engine == EngineChoice::Embedded {
+        if args.petsc_options.is_some() {
+            eprintln!("error: --petsc-options needs --engine petsc");
+            return Err(2);
+        }
+        return Ok(None);
+    }
+    if args.export_system.is_some() {
+        eprintln!("error: --export-system works with the embedded engine only (the distributed system lives on every rank)");
+        return Err(2);
+    }
+    #[cfg(feature = "petsc")]
+    {
+        match rill_run::PetscEngine::start(args.petsc_options.as_deref().unwrap_or("")) {
+            Ok(e) => Ok(Some(e)),
+            Err(e) => {
+                eprintln!("error: --engine petsc: {e}");
+                Err(1)
+            }
+        }
+    }
+    #[cfg(not(feature = "petsc"))]
+    {
+        eprintln!(
+            "error: this rill was built without the PETSc engine\n  \
+             = help: build it with `cargo build --release -p rill-cli --features petsc` \
+             (needs PETSc and MPI: on Debian or Ubuntu `apt-get install libpetsc-real-dev pkg-config`), \
+             or leave out `--engine petsc` to run the embedded engine"
+        );
+        Err(2)
+    }
 }
 
 /// Progress bar (or progress lines) and Ctrl-C.
@@ -134,15 +186,27 @@ impl Observer for CliObserver {
 
 pub fn run(args: Args) -> u8 {
     let started = Instant::now();
+    let engine = match start_engine(&args) {
+        Ok(e) => e,
+        Err(code) => return code,
+    };
+    // Ranks other than 0 of a distributed run show nothing: rank 0 speaks
+    // for the run (they all read and check the same deck).
+    #[cfg(feature = "petsc")]
+    let speaks = engine.as_ref().is_none_or(|e| e.rank() == 0);
+    #[cfg(not(feature = "petsc"))]
+    let speaks = engine.is_none();
     let source = DiskSource::unconfined();
     let analysis = match crate::check::load(&args.file, &source) {
         Ok(a) => a,
         Err(e) => {
-            eprintln!("error: {e}");
+            if speaks {
+                eprintln!("error: {e}");
+            }
             return 2;
         }
     };
-    if !analysis.diagnostics.is_empty() {
+    if !analysis.diagnostics.is_empty() && speaks {
         crate::check::render_text(&analysis);
     }
     let cancel = Arc::new(AtomicBool::new(false));
@@ -159,7 +223,7 @@ pub fn run(args: Args) -> u8 {
         bar: None,
         started,
         cancel,
-        quiet: args.quiet,
+        quiet: args.quiet || !speaks,
         terminal: std::io::stderr().is_terminal(),
         last_line: None,
         line_timing: line_timing(),
@@ -170,9 +234,35 @@ pub fn run(args: Args) -> u8 {
         .unwrap_or_else(|| rill_output::default_out_dir(&args.file));
     let mut request = Request::new(&analysis, &args.file, &out_dir);
     request.export_system = args.export_system.clone();
+    #[cfg(feature = "petsc")]
+    if let Some(e) = &engine {
+        request.engine = rill_run::Engine::Petsc(e);
+    }
     let outcome = rill_run::run(&request, &mut observer);
     if let Some(bar) = observer.bar.take() {
         bar.finish_and_clear();
+    }
+    #[cfg(feature = "petsc")]
+    if let Some(e) = &engine {
+        // Collective: every rank takes part, rank 0 prints.
+        let memory = e.peak_memory_per_rank();
+        if !speaks {
+            return match outcome.result {
+                Err(Failure::Run(_)) => 1,
+                _ => 0,
+            };
+        }
+        if outcome.result.is_ok() {
+            let per_rank: Vec<String> = memory
+                .iter()
+                .map(|b| format!("{} MB", format_number((b / 1e6).round())))
+                .collect();
+            eprintln!(
+                "engine: PETSc on {} rank(s); peak memory per rank: {}",
+                e.size(),
+                per_rank.join(", ")
+            );
+        }
     }
     match outcome.export {
         SystemExport::Written(files) => {

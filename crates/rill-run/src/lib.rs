@@ -22,7 +22,12 @@
 #![warn(missing_docs)]
 #![warn(clippy::too_many_lines)]
 
+#[cfg(feature = "petsc")]
+mod distributed;
 mod summary;
+
+#[cfg(feature = "petsc")]
+pub use distributed::PetscEngine;
 
 use std::fmt;
 use std::path::{Path, PathBuf};
@@ -48,8 +53,36 @@ pub struct Request<'a> {
     /// [`Finished::results`] keeps.
     pub options: RunOptions,
     /// Also write the first linear system as MatrixMarket `matrix.mtx` and
-    /// `rhs.mtx` into this directory.
+    /// `rhs.mtx` into this directory (embedded engine only).
     pub export_system: Option<PathBuf>,
+    /// Which engine runs the case.
+    pub engine: Engine<'a>,
+}
+
+/// Which engine runs a case.
+#[derive(Clone, Copy)]
+pub enum Engine<'a> {
+    /// The embedded simulator, in this process.
+    Embedded,
+    /// This process as one rank of a run distributed over MPI with PETSc;
+    /// rank 0 writes the result set and has the summary.
+    #[cfg(feature = "petsc")]
+    Petsc(&'a PetscEngine),
+    #[doc(hidden)]
+    #[cfg(not(feature = "petsc"))]
+    _Lifetime(std::marker::PhantomData<&'a ()>),
+}
+
+impl fmt::Debug for Engine<'_> {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Engine::Embedded => write!(f, "Embedded"),
+            #[cfg(feature = "petsc")]
+            Engine::Petsc(e) => write!(f, "Petsc(rank {} of {})", e.rank(), e.size()),
+            #[cfg(not(feature = "petsc"))]
+            Engine::_Lifetime(_) => write!(f, "Embedded"),
+        }
+    }
 }
 
 impl<'a> Request<'a> {
@@ -66,6 +99,7 @@ impl<'a> Request<'a> {
                 ..RunOptions::default()
             },
             export_system: None,
+            engine: Engine::Embedded,
         }
     }
 }
@@ -113,6 +147,9 @@ pub enum Failure {
     Run(RunError),
     /// The result set could not be written.
     Output(OutputError),
+    /// This process is a rank other than 0 of a distributed run: it took
+    /// part, rank 0 wrote the result set and has the summary.
+    NotRankZero,
 }
 
 impl Failure {
@@ -128,6 +165,7 @@ impl fmt::Display for Failure {
             Failure::NotRunnable { .. } => write!(f, "the deck has errors; nothing was run"),
             Failure::Run(e) => write!(f, "the run failed: {e}"),
             Failure::Output(e) => write!(f, "{e}"),
+            Failure::NotRankZero => write!(f, "rank 0 reports the run"),
         }
     }
 }
@@ -177,11 +215,23 @@ pub fn run(request: &Request, observer: &mut dyn Observer) -> Outcome {
             result: Err(Failure::NotRunnable { errors }),
         };
     };
+    #[cfg(feature = "petsc")]
+    if let Engine::Petsc(engine) = request.engine {
+        if engine.rank() != 0 {
+            return run_secondary(case, request, engine, observer);
+        }
+    }
     // The same deck is recorded the same way whoever runs it.
     let deck = std::fs::canonicalize(request.deck).unwrap_or_else(|_| request.deck.to_path_buf());
     // Opened before the run: a refused result folder fails at once, and the
     // maps go to disk as each report time comes.
-    let writer = match ResultWriter::begin(request.out_dir, case, &deck) {
+    let writer = ResultWriter::begin(request.out_dir, case, &deck);
+    #[cfg(feature = "petsc")]
+    if let Engine::Petsc(engine) = request.engine {
+        // The other ranks wait for rank 0's word before they start.
+        engine.all(writer.is_ok());
+    }
+    let writer = match writer {
         Ok(w) => w,
         Err(e) => {
             return Outcome {
@@ -201,7 +251,14 @@ pub fn run(request: &Request, observer: &mut dyn Observer) -> Outcome {
         exported: not_asked(),
         timings: Timings::default(),
     };
-    let results = rill_sim::run(case, &request.options, &mut watch);
+    let results = match request.engine {
+        #[cfg(feature = "petsc")]
+        Engine::Petsc(engine) => {
+            let par = engine.parallel();
+            rill_sim::run_distributed(case, &request.options, &mut watch, &par)
+        }
+        _ => rill_sim::run(case, &request.options, &mut watch),
+    };
     let (export, timings, writer) = (watch.exported, watch.timings, watch.maps);
     let results = match (results, watch.map_error) {
         (_, Some(e)) => {
@@ -253,6 +310,41 @@ pub fn run(request: &Request, observer: &mut dyn Observer) -> Outcome {
             timings,
             wall_seconds,
             summary,
+        }),
+    }
+}
+
+/// A rank other than 0: runs its part after rank 0 has opened the result
+/// set, shows nothing (only cancellation reaches the simulator) and writes
+/// nothing.
+#[cfg(feature = "petsc")]
+fn run_secondary(
+    case: &rill_model::Case,
+    request: &Request,
+    engine: &PetscEngine,
+    observer: &mut dyn Observer,
+) -> Outcome {
+    struct Silent<'a>(&'a dyn Observer);
+    impl Observer for Silent<'_> {
+        fn cancelled(&self) -> bool {
+            self.0.cancelled()
+        }
+    }
+    let export = SystemExport::NotAsked;
+    if !engine.all(true) {
+        // Rank 0 could not open the result set; it says why.
+        return Outcome {
+            export,
+            result: Err(Failure::NotRankZero),
+        };
+    }
+    let par = engine.parallel();
+    let result = rill_sim::run_distributed(case, &request.options, &mut Silent(observer), &par);
+    Outcome {
+        export,
+        result: Err(match result {
+            Ok(_) => Failure::NotRankZero,
+            Err(e) => Failure::Run(e),
         }),
     }
 }
