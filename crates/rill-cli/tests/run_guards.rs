@@ -139,3 +139,37 @@ fn progress_lines_go_to_stderr_when_it_is_not_a_terminal() {
     let (o, _, _dir) = run_deck(&teaching_block(), &[]);
     assert!(!stderr(&o).contains("progress: "));
 }
+
+/// `--engine petsc` in a build without the `petsc` feature says how to get
+/// one and runs nothing; `--petsc-options` needs the PETSc engine; the
+/// distributed engine does not export the first system.
+#[test]
+fn the_engine_flags_are_refused_where_they_cannot_work() {
+    let dir = tempfile::tempdir().unwrap();
+    let deck = dir.path().join("deck.rill");
+    std::fs::write(&deck, teaching_block()).unwrap();
+    let out = dir.path().join("deck.out");
+    let run = |extra: &[&str]| {
+        let mut cmd = rill();
+        cmd.arg("run").arg(&deck).arg("--out").arg(&out).args(extra);
+        cmd.output().unwrap()
+    };
+    let options_alone = run(&["--petsc-options", "-pc_type gamg"]);
+    assert_eq!(options_alone.status.code(), Some(2));
+    assert!(stderr(&options_alone).contains("--petsc-options needs --engine petsc"));
+    let export = run(&["--engine", "petsc", "--export-system", "sys"]);
+    assert_eq!(export.status.code(), Some(2));
+    assert!(stderr(&export).contains("embedded engine only"));
+    if !cfg!(feature = "petsc") {
+        let petsc = run(&["--engine", "petsc"]);
+        assert_eq!(petsc.status.code(), Some(2), "{}", stderr(&petsc));
+        let text = stderr(&petsc);
+        assert!(
+            text.contains("built without the PETSc engine")
+                && text.contains("--features petsc")
+                && text.contains("libpetsc-real-dev"),
+            "{text}"
+        );
+    }
+    assert!(!out.exists(), "nothing was run or written");
+}
