@@ -16,6 +16,8 @@ mod floating;
 mod guard;
 mod newton;
 mod pace;
+mod parallel;
+mod reduce;
 mod report;
 mod steady;
 mod transient;
@@ -32,6 +34,7 @@ use crate::disc::{assemble, Assembly, Ctx, Disc, WellDrive};
 use crate::linear::{self, CsrMatrix, SolverOptions};
 use crate::pvt::Pvt;
 use crate::results::*;
+pub use parallel::{Parallel, PartSolve, PartSystem};
 
 /// Newton's stopping test and safeguards.
 #[derive(Debug, Clone, PartialEq)]
@@ -157,83 +160,6 @@ pub trait Observer {
     /// recorded: the time, s, and the cell pressures, Pa, one per grid cell
     /// in grid order (NaN in inactive cells).
     fn report_time(&mut self, _time: f64, _pressure: &[f64]) {}
-}
-
-/// The processes of a distributed run, as the simulator needs them:
-/// reductions, a gather to rank 0 and the distributed linear solve.
-/// `rill-run` implements it on PETSc over MPI. A failure inside (MPI,
-/// PETSc) must end the run on every process (the simulator cannot go on
-/// without the numbers); a solve that does not converge is an `Err`, the
-/// same on every process.
-pub trait Parallel {
-    /// This process, from 0.
-    fn rank(&self) -> usize;
-    /// The number of processes.
-    fn size(&self) -> usize;
-    /// Sums `values` over all processes, in place.
-    fn sum(&self, values: &mut [f64]);
-    /// Takes the largest of `values` over all processes, in place.
-    fn max(&self, values: &mut [f64]);
-    /// Every process's `values` one after the other in rank order, on rank
-    /// 0; empty elsewhere.
-    fn gather(&self, values: &[f64]) -> Vec<f64>;
-    /// Solves the global system this process holds a part of.
-    fn solve(&self, system: &PartSystem, solution: &mut [f64]) -> Result<PartSolve, String>;
-}
-
-/// One process's part of a linear system, in its local numbering: its
-/// window of cells (owned and ghost), then every well's and aquifer's
-/// unknown. The global system's rows are the owned cell rows of every
-/// process in rank order, then the well and aquifer rows, whose matrix
-/// entries are the sums of every process's (each holds its completions'
-/// and faces' shares) and whose right-hand side is the same on every
-/// process (add it once, from rank 0).
-pub struct PartSystem<'a> {
-    /// The local matrix (ghost rows are not part of the system).
-    pub matrix: &'a CsrMatrix,
-    /// The local right-hand side.
-    pub rhs: &'a [f64],
-    /// Cells in the local window; local unknowns from here on are wells and aquifers.
-    pub n_cells: usize,
-    /// Global index of local cell 0.
-    pub first_global: usize,
-    /// Local indices of the owned cells.
-    pub owned: std::ops::Range<usize>,
-    /// Active cells of the whole grid.
-    pub n_global_cells: usize,
-    /// Relative residual to reach.
-    pub rel_tol: f64,
-    /// Iteration limit.
-    pub max_iter: usize,
-}
-
-impl PartSystem<'_> {
-    /// The global index of local unknown `i`.
-    pub fn global(&self, i: usize) -> usize {
-        if i < self.n_cells {
-            self.first_global + i
-        } else {
-            self.n_global_cells + (i - self.n_cells)
-        }
-    }
-
-    /// The number of global unknowns.
-    pub fn n_global(&self) -> usize {
-        self.n_global_cells + (self.matrix.n - self.n_cells)
-    }
-}
-
-/// What a distributed solve reports.
-#[derive(Debug, Clone, Copy)]
-pub struct PartSolve {
-    /// Krylov iterations.
-    pub iterations: usize,
-    /// The method's name, for the run's statistics.
-    pub method: &'static str,
-    /// Seconds in set-up and assembly of the distributed system.
-    pub setup_seconds: f64,
-    /// Seconds in the solve.
-    pub solve_seconds: f64,
 }
 
 /// An observer that watches nothing.
@@ -731,79 +657,5 @@ impl Runner<'_> {
                     pvt.mass_factor(x[i]).0 * pv_ref[i]
                 };
             });
-    }
-}
-
-/// Reductions over the processes of a distributed run (no-ops in a serial
-/// one, so a serial run computes exactly what it did before).
-impl Runner<'_> {
-    /// Sums `v` over all processes, in place.
-    fn sum(&self, v: &mut [f64]) {
-        if let Some(p) = self.par {
-            p.sum(v);
-        }
-    }
-
-    /// The largest of `v` over all processes, in place.
-    fn max(&self, v: &mut [f64]) {
-        if let Some(p) = self.par {
-            p.max(v);
-        }
-    }
-
-    fn sum1(&self, v: f64) -> f64 {
-        let mut b = [v];
-        self.sum(&mut b);
-        b[0]
-    }
-
-    fn max1(&self, v: f64) -> f64 {
-        let mut b = [v];
-        self.max(&mut b);
-        b[0]
-    }
-
-    /// The largest of a per-cell quantity over the owned cells of all processes.
-    fn max_over_owned(&self, per_cell: &[f64]) -> f64 {
-        let local = per_cell[self.d.owned.clone()]
-            .par_iter()
-            .copied()
-            .reduce(|| 0.0, f64::max);
-        self.max1(local)
-    }
-
-    /// Makes an assembly's global numbers global: each process assembled
-    /// its completions', boundary faces' and aquifer faces' shares of the
-    /// well and aquifer residuals and of the rates.
-    fn reduce_assembly(&self, out: &mut Assembly) {
-        let Some(p) = self.par else {
-            return;
-        };
-        let nc = self.d.n_cells;
-        let mut buf: Vec<f64> = out.resid[nc..]
-            .iter()
-            .chain(&out.well_rate)
-            .chain(&out.bnd_rate)
-            .chain(&out.aq_rate)
-            .chain(&out.aq_influx)
-            .copied()
-            .collect();
-        p.sum(&mut buf);
-        let mut it = buf.into_iter();
-        for v in out.resid[nc..]
-            .iter_mut()
-            .chain(out.well_rate.iter_mut())
-            .chain(out.bnd_rate.iter_mut())
-            .chain(out.aq_rate.iter_mut())
-            .chain(out.aq_influx.iter_mut())
-        {
-            *v = it.next().unwrap_or(0.0);
-        }
-    }
-
-    /// Whether any process's observer asks to stop (every process then stops).
-    fn cancelled(&self, observer: &dyn Observer) -> bool {
-        let c = if observer.cancelled() { 1.0 } else { 0.0 };
-        self.max1(c) > 0.0
     }
 }
