@@ -130,3 +130,26 @@ async def test_hover_after_a_run_shows_the_runs_flux_and_well_rate_from_the_resu
     await wait_for(client, lambda: clean(client, uri), "the edited deck")
     md = await hover(client, uri, text3, 'well "MB-1"', 7)
     assert "**last run**" not in md, md
+
+
+async def test_hover_still_answers_after_the_run_files_are_announced_as_created(
+    client: LanguageClient, workspace: Path
+):
+    """An editor announces every file a run writes into the workspace (the
+    result set, its maps) as a watched-file change; hover must go on
+    answering, with the run's values."""
+    deck = workspace / "block.rill"
+    text = deck.read_text()
+    uri = open_deck(client, deck, text)
+    await wait_for(client, lambda: clean(client, uri), "a clean deck")
+    await run_deck(client, uri)
+    out = workspace / "block.out"
+    # Folders too: an editor announces the result folder and its maps folder.
+    changes = [
+        types.FileEvent(uri=p.as_uri(), type=types.FileChangeType.Created)
+        for p in [out, *sorted(out.rglob("*"))]
+    ]
+    assert len(changes) > 5
+    client.workspace_did_change_watched_files(types.DidChangeWatchedFilesParams(changes=changes))
+    md = await asyncio.wait_for(hover(client, uri, text, "location = (6, 6)", len("location = ") + 1), 20)
+    assert "last run" in md, md
