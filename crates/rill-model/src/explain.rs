@@ -133,6 +133,14 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Write the value itself, or complete the expression.",
     },
     Explanation {
+        code: Code::DeckPhases,
+        summary: "A deck that mixes single-phase and oil-water parts: `fluid` with `oil` or `water`, only one of `oil` and `water`, or an oil-water block, key or control in a single-phase deck.",
+        details: "A single-phase deck has one `fluid` block and well controls `rate`, `bhp` or `shut`. An oil-water deck has an `oil` and a `water` block instead, `relperm` blocks, a water contact or saturation in `initial`, and controls that name their phase (`oil_rate`, `liquid_rate`, `water_rate`). Which kind a deck is follows from its blocks: `oil` or `water` make it oil-water.",
+        wrong: "fluid {\n  viscosity = 0.8 cP\n  fvf = 1.02 rb/stb\n  density = 62.4 lb/ft^3\n}\ninitial {\n  pressure = 3000 psi at 6000 ft\n  water_contact = 6040 ft\n}",
+        right: "oil {\n  viscosity = 2 cP\n  fvf = 1.2 rb/stb\n  density = 52 lb/ft^3\n}\nwater {\n  viscosity = 0.5 cP\n  fvf = 1.01 rb/stb\n  density = 63.5 lb/ft^3\n}\ninitial {\n  pressure = 3000 psi at 6000 ft\n  water_contact = 6040 ft\n}",
+        fix: "Decide which kind the deck is: for one liquid, keep `fluid` and remove the oil-water parts (the fix turns a phase rate into `rate`); for oil and water, replace `fluid` by `oil` and `water` (the fix removes a `fluid` that stands beside both, or adds the missing one).",
+    },
+    Explanation {
         code: Code::UnitUnknown,
         summary: "A unit name that is not in the registry.",
         details: "Units are case-sensitive (`cP`, `md`, `psi`). The registry holds lengths, areas, permeabilities, pressures, times, volumes (reservoir and surface), viscosities, masses and `%`.",
@@ -269,6 +277,22 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Check the sign and the unit of the pressure.",
     },
     Explanation {
+        code: Code::RelpermEndpoints,
+        summary: "Saturation-function endpoints that cannot hold: a saturation outside [0, 1], `swc + sor` of 1 or more, an end-point relative permeability outside (0, 1]; a table whose first `krw` or last `kro` is not 0 (a warning).",
+        details: "Corey curves need `0 <= swc`, `0 <= sor` and `swc + sor < 1`, so that some saturation range is left to flow in, and `krw_end` and `kro_end` above 0 and at most 1. A table's saturations and relative permeabilities lie between 0 and 1, some `krw` must be positive and the first `kro` too. A table is held constant beyond its ends, so a first `krw` above 0 lets water flow at the lowest saturation and a last `kro` above 0 leaves no residual oil: both are allowed, with a warning.",
+        wrong: "relperm \"sand\" {\n  model = corey\n  swc = 0.2\n  sor = 0.85\n  ...\n}",
+        right: "relperm \"sand\" {\n  model = corey\n  swc = 0.2\n  sor = 0.25\n  ...\n}",
+        fix: "Check the saturation for a percentage written as a fraction (or the reverse) and for `swc` and `sor` swapped with `1 - swc` or `1 - sor`; end-point relative permeabilities are fractions of the absolute permeability.",
+    },
+    Explanation {
+        code: Code::RelpermShape,
+        summary: "A saturation table of the wrong shape: `sw` not increasing, `krw` falling, `kro` or `pc` rising, or lists of different lengths.",
+        details: "A `model = table` relperm gives one row per saturation: `sw` increases strictly from row to row; as water saturation rises `krw` never falls, `kro` never rises and the capillary pressure `pc = p_oil - p_water` never rises; `sw`, `krw`, `kro` and `pc` have one value per row each, and there are at least two rows.",
+        wrong: "relperm \"shaly\" {\n  model = table\n  sw = [0.2 0.4 0.6 0.75]\n  krw = [0 0.05 0.15 0.3]\n  kro = [0.8 0.35 0.4 0]\n}",
+        right: "relperm \"shaly\" {\n  model = table\n  sw = [0.2 0.4 0.6 0.75]\n  krw = [0 0.05 0.15 0.3]\n  kro = [0.8 0.35 0.1 0]\n}",
+        fix: "Look for a transposed digit or a row out of place at the value the diagnostic points at; a list shorter or longer than `sw` has lost or gained a value.",
+    },
+    Explanation {
         code: Code::InitialPressure,
         summary: "The initial pressure is zero, negative or below 1 atm somewhere in the grid.",
         details: "With `pressure = P at DEPTH` the initial state is the hydrostatic column through the datum; a datum far below the grid (metres written for feet, or a depth with the wrong sign) makes the pressure at the top of the grid fall below zero. The message gives the lowest pressure, the grid's depth range and the datum. A liquid below 1 atm would boil. (An extension of the specification's minimum set.)",
@@ -299,6 +323,14 @@ pub static EXPLANATIONS: &[Explanation] = &[
         wrong: "kx = 0 md   # the only completed layer",
         right: "kx = 120 md",
         fix: "Complete the well in permeable, active cells, or correct the permeabilities.",
+    },
+    Explanation {
+        code: Code::WellControlPhase,
+        summary: "A control whose phase does not fit the well's role: `oil_rate` or `liquid_rate` on an injector, `water_rate` on a producer, `max_water_cut` on an injector.",
+        details: "In an oil-water deck injectors inject water, so their rate control is `water_rate`; producers hold their surface oil rate (`oil_rate`) or oil plus water rate (`liquid_rate`). `max_water_cut` shuts a producer whose water cut exceeds it and means nothing for an injector. `bhp` and `shut` fit both roles.",
+        wrong: "well \"I-1\" {\n  role = injector\n  control = oil_rate 300 stb/day\n}",
+        right: "well \"I-1\" {\n  role = injector\n  control = water_rate 300 stb/day\n}",
+        fix: "Use the control of the well's role (the fix offers it), or correct the `role`.",
     },
     Explanation {
         code: Code::WellInjectionPressure,
