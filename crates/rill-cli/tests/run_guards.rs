@@ -184,12 +184,18 @@ fn an_oil_water_deck_is_refused_with_one_clear_error() {
     let (o, out, _dir) = run_deck(&text, &[]);
     let said = stderr(&o);
     assert_eq!(o.status.code(), Some(1), "{said}");
-    assert!(!out.exists(), "no result folder for a run that never started");
+    assert!(
+        !out.exists(),
+        "no result folder for a run that never started"
+    );
     assert_eq!(
         said.matches("no oil-water engine yet").count(),
         1,
         "one error saying why: {said}"
     );
-    assert!(said.contains("`rill check`, `rill inspect` and the editor handle the deck in full"), "{said}");
+    assert!(
+        said.contains("`rill check`, `rill inspect` and the editor handle the deck in full"),
+        "{said}"
+    );
     assert!(!said.contains("panicked"), "{said}");
 }

@@ -256,6 +256,8 @@ codes! {
     SanityFvf = "sanity.fvf",
     /// A liquid density outside the usual range.
     SanityDensity = "sanity.density",
+    /// An endpoint mobility ratio above 10: an unstable displacement.
+    SanityMobility = "sanity.mobility",
     /// A wellbore radius too large for its cell, or very small.
     SanityRadius = "sanity.radius",
     /// An absolute pressure (BHP control or limit, boundary) that is zero or negative.
@@ -269,6 +271,8 @@ codes! {
     RelpermShape = "relperm.shape",
     /// An initial pressure that is zero, negative or below 1 atm somewhere in the grid.
     InitialPressure = "initial.pressure",
+    /// A water contact above the top of the grid or below its base.
+    InitialContact = "initial.contact",
     /// A completion outside the grid or in an inactive cell.
     WellCompletion = "well.completion",
     /// A BHP on the wrong side of the initial pressure for the well's role.

@@ -261,6 +261,14 @@ pub static EXPLANATIONS: &[Explanation] = &[
         fix: "Check the unit.",
     },
     Explanation {
+        code: Code::SanityMobility,
+        summary: "An endpoint mobility ratio `(krw_end / mu_w) / (kro_end / mu_o)` above 10: an unstable displacement.",
+        details: "The ratio compares the mobility of the water behind a flood front with that of the oil ahead of it. Above 1 the water is the more mobile and the front can finger; well above it (10 is a rule of thumb, common practice, no published source) viscous fingers carry water far ahead of the mean front. A grid coarser than the fingers cannot show them: it smears the front, so water breaks through later and the water cut climbs faster than in the field. Nothing is wrong with the deck; the note says how far to trust a coarse model of the flood.",
+        wrong: "oil {\n  viscosity = 40 cP\n  ...\n}\nrelperm \"sand\" {\n  krw_end = 0.3\n  kro_end = 0.8\n  ...\n}",
+        right: "oil {\n  viscosity = 2 cP\n  ...\n}\nrelperm \"sand\" {\n  krw_end = 0.3\n  kro_end = 0.8\n  ...\n}",
+        fix: "None needed when the viscosities and end points are right: refine the grid where the flood runs, or read the results as an optimistic bound. Check the viscosities' units (cP) and that `krw_end` and `kro_end` are not swapped.",
+    },
+    Explanation {
         code: Code::SanityRadius,
         summary: "A wellbore radius not below half the cell width (error) or below 1 inch (warning).",
         details: "Peaceman's well model needs the wellbore well inside its cell; a radius of 0.3 in where 0.3 ft was meant gives a wrong well index.",
@@ -299,6 +307,14 @@ pub static EXPLANATIONS: &[Explanation] = &[
         wrong: "pressure = 3850 psi at 8450 m   # grid top at 8000 ft",
         right: "pressure = 3850 psi at 8450 ft",
         fix: "Put the datum in the grid's depth range with the right unit, or correct the pressure.",
+    },
+    Explanation {
+        code: Code::InitialContact,
+        summary: "A water contact above the top of the grid (every cell full of water) or below its base (no cell in the water).",
+        details: "`water_contact` is the depth of the free water level, where the oil and water pressures are equal. Above the top of the grid every cell lies below it and starts with `sw = 1`, so there is no oil to produce. Below the base no cell starts in the water: only the capillary transition zone, if it is tall enough, reaches into the grid, and otherwise every cell starts at connate water. Both happen when a depth is in metres where feet were meant, or measured upward.",
+        wrong: "grid {\n  top = 6000 ft\n  ...\n}\ninitial {\n  pressure = 3000 psi at 6000 ft\n  water_contact = 5900 ft\n}",
+        right: "grid {\n  top = 6000 ft\n  ...\n}\ninitial {\n  pressure = 3000 psi at 6000 ft\n  water_contact = 6040 ft\n}",
+        fix: "Check the contact's depth and unit against the grid's depths (the message gives both); a deck without a water leg may mean a contact below the base, which is then fine.",
     },
     Explanation {
         code: Code::WellCompletion,

@@ -420,3 +420,91 @@ fn the_digest_follows_the_second_phase() {
         digest(edited("viscosity = 0.5 cP", "viscosity = 0.6 cP"))
     );
 }
+
+#[test]
+fn an_adverse_endpoint_mobility_ratio_is_a_note_on_its_relperm_block() {
+    // (0.32 / 0.5) / (0.85 / 2.4) = 1.807: no note.
+    assert!(!check(DECK)
+        .diagnostics
+        .iter()
+        .any(|d| d.code == Code::SanityMobility));
+    // With 24 cP oil: (0.32 / 0.5) / (0.85 / 24) = 18.071 for "sand" and
+    // (0.35 / 0.5) / (0.7 / 24) = 24 for "silt" (its table's end points).
+    let text = DECK.replace("viscosity = 2.4 cP", "viscosity = 24 cP");
+    let a = check(&text);
+    let m = found(&a, &text, Code::SanityMobility);
+    assert_eq!(m.len(), 2, "{m:?}");
+    assert!(m.iter().all(|d| d.0 == Severity::Info));
+    assert_eq!(m[0].3, "relperm \"sand\"");
+    assert!(
+        m[0].1
+            .contains("of \"sand\" is 18.071 = (0.32 / 0.5 cP) / (0.85 / 24 cP)"),
+        "{m:?}"
+    );
+    assert!(
+        m[1].1
+            .contains("of \"silt\" is 24 = (0.35 / 0.5 cP) / (0.7 / 24 cP)"),
+        "{m:?}"
+    );
+}
+
+#[test]
+fn a_contact_outside_the_grid_is_a_warning_that_says_where_the_grid_is() {
+    // The grid reaches from 6000 ft to 6100 ft.
+    let text = DECK.replace("water_contact = 6080 ft", "water_contact = 5950 ft");
+    let a = check(&text);
+    let w = found(&a, &text, Code::InitialContact);
+    assert_eq!(w.len(), 1, "{w:?}");
+    assert_eq!((w[0].0, w[0].3.as_str()), (Severity::Warning, "5950 ft"));
+    assert!(
+        w[0].1
+            .contains("above the top of the grid (the grid reaches from 6000 ft to 6100 ft deep)"),
+        "{w:?}"
+    );
+    let below = |depth: &str| {
+        let text = DECK.replace(
+            "water_contact = 6080 ft",
+            &format!("water_contact = {depth}"),
+        );
+        let a = check(&text);
+        let d = a
+            .diagnostics
+            .iter()
+            .find(|d| d.code == Code::InitialContact)
+            .cloned()
+            .expect("a warning");
+        assert!(d.message.contains("below the base of the grid"), "{d:?}");
+        d.notes[0].clone()
+    };
+    // 9 psi of table pc over (63.8 - 51) lb/ft^3 of density difference
+    // stands 9 * 144 / 12.8 = 101 ft high: from 6110 ft it reaches the grid.
+    assert!(below("6110 ft").starts_with("only the capillary transition zone"));
+    assert!(below("6300 ft").starts_with("no cell reaches the capillary transition zone"));
+    assert!(!check(DECK)
+        .diagnostics
+        .iter()
+        .any(|d| d.code == Code::InitialContact));
+}
+
+#[test]
+fn given_saturations_outside_zero_to_one_and_each_phase_are_checked() {
+    let text = DECK.replace(
+        "water_contact = 6080 ft",
+        "water_saturation = layers [0.2 0.3 1.2 1]",
+    );
+    let a = check(&text);
+    let e = found(&a, &text, Code::DeckOutOfRange);
+    assert_eq!(e.len(), 1, "{e:?}");
+    assert!(
+        e[0].1
+            .contains("6 cell(s) are outside, the first (1, 1, 3) with 1.2"),
+        "{e:?}"
+    );
+    // The water's checks name the water.
+    let text = DECK.replace("viscosity = 0.5 cP", "viscosity = 0 cP");
+    let a = check(&text);
+    let v = found(&a, &text, Code::SanityViscosity);
+    assert_eq!(v.len(), 1, "{v:?}");
+    assert_eq!(v[0].1, "water viscosity must be positive");
+    assert_eq!(v[0].3, "0 cP");
+}
