@@ -42,13 +42,14 @@ and :json-false is false."
   :type 'integer)
 
 (defconst rill-block-names
-  '("case" "grid" "rock" "fluid" "initial" "well" "boundary" "fault" "aquifer" "timeline"
-    "report" "patch" "at" "include")
+  '("case" "grid" "rock" "fluid" "oil" "water" "relperm" "initial" "well" "boundary" "fault"
+    "aquifer" "timeline" "report" "patch" "at" "include")
   "Block names of the case language.")
 
 (defconst rill-enum-values
   '("producer" "injector" "west" "east" "south" "north" "top" "bottom"
-    "transient" "steady" "field" "metric" "si" "rate" "bhp" "layers"
+    "transient" "steady" "field" "metric" "si" "rate" "bhp"
+    "oil_rate" "liquid_rate" "water_rate" "corey" "table" "layers"
     "cells" "columns" "file")
   "Enumerated values and value forms.")
 

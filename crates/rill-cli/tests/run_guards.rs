@@ -173,3 +173,29 @@ fn the_engine_flags_are_refused_where_they_cannot_work() {
     }
     assert!(!out.exists(), "nothing was run or written");
 }
+
+/// An oil-water deck checks clean, but this build has no oil-water engine:
+/// `rill run` says so once, exits 1 and writes no result folder.
+#[test]
+fn an_oil_water_deck_is_refused_with_one_clear_error() {
+    let deck = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../../tests/fixtures/well.control-phase/clean.rill");
+    let text = std::fs::read_to_string(deck).unwrap();
+    let (o, out, _dir) = run_deck(&text, &[]);
+    let said = stderr(&o);
+    assert_eq!(o.status.code(), Some(1), "{said}");
+    assert!(
+        !out.exists(),
+        "no result folder for a run that never started"
+    );
+    assert_eq!(
+        said.matches("no oil-water engine yet").count(),
+        1,
+        "one error saying why: {said}"
+    );
+    assert!(
+        said.contains("`rill check`, `rill inspect` and the editor handle the deck in full"),
+        "{said}"
+    );
+    assert!(!said.contains("panicked"), "{said}");
+}

@@ -58,14 +58,19 @@ pub(crate) fn completion(
     if in_str {
         // `well "LE|` in an event: well names.
         let before_quote = line[seg_start..str_start].trim();
+        // The string's content, from after the quote to the closing quote.
+        let content_start = line_start + str_start + 1;
+        let end = text[off..line_end].find('"').map_or(off, |p| off + p);
         if before_quote == "well" && innermost == Some("at") {
-            let content_start = line_start + str_start + 1;
-            let rest = &text[off..line_end];
-            let end = rest.find('"').map_or(off, |p| off + p);
             return well_names(snap)
                 .into_iter()
                 .map(|name| well_item(&name, escape_str(&name), Span::new(content_start, end)))
                 .collect();
+        }
+        // `relperm = "sa|` in the rock or a patch: the relperm labels.
+        let key_before = before_quote.strip_suffix('=').map(str::trim_end);
+        if key_before == Some("relperm") && matches!(innermost, Some("rock" | "patch")) {
+            return relperm_label_items(snap, Span::new(content_start, end));
         }
         // `include "more/|` and `kx = file "arrays/|`: names in that folder.
         let is_include = before_quote == "include";
@@ -74,9 +79,6 @@ pub(crate) fn completion(
             key.ends_with(|c: char| c == '=' || c.is_whitespace()) && key.trim_end().ends_with('=')
         });
         if let (true, Some(files)) = (is_include || is_array, files) {
-            let content_start = line_start + str_start + 1;
-            let rest = &text[off..line_end];
-            let end = rest.find('"').map_or(off, |p| off + p);
             return path_items(snap, files, Span::new(content_start, off), end, is_include);
         }
         return Vec::new();
@@ -140,7 +142,7 @@ pub(crate) fn completion(
     let Some(kd) = def.key(key) else {
         return Vec::new();
     };
-    value_completion(snap, def, kd, rest, rest_off, off)
+    value_completion(snap, &blocks, def, kd, rest, rest_off, off)
 }
 
 fn escape_str(s: &str) -> String {
@@ -385,6 +387,9 @@ fn example(k: &KeyDef) -> String {
         ValueKind::Cells => "[(1, 1, 1)]".into(),
         ValueKind::Control => "rate 500 stb/day".into(),
         ValueKind::Times => "[1 2 6 12] hr".into(),
+        ValueKind::TableColumn(d) if d == Dim::PRESSURE => "[6 2 0] psi".into(),
+        ValueKind::TableColumn(_) => "[0.2 0.5 0.8]".into(),
+        ValueKind::RelpermName => "\"rock\"".into(),
         ValueKind::Number => "0".into(),
         ValueKind::Quantity(d) | ValueKind::Property(d) => match d {
             Dim::NONE => "0.2".into(),
@@ -415,13 +420,13 @@ const MAX_SCAN: usize = 4096;
 /// After `key =`: enum values, value forms, units after a number, `at`.
 fn value_completion(
     snap: &Snapshot,
+    blocks: &[&Block],
     def: &BlockDef,
     kd: &KeyDef,
     rest: &str,
     rest_off: usize,
     off: usize,
 ) -> Vec<CompletionItem> {
-    let _ = snap;
     // Deep inside a long list only the last few tokens matter; the value's
     // first token (`rate`, `bhp`, a form) is then far away and irrelevant.
     let (rest, rest_off) = if rest.len() > MAX_SCAN {
@@ -453,7 +458,7 @@ fn value_completion(
         if !is_ident_prefix {
             return Vec::new();
         }
-        return first_word_items(def, kd, replace);
+        return first_word_items(snap, blocks, def, kd, replace);
     }
     let prev = tokens.last().copied().unwrap_or("");
     let first = tokens.first().copied().unwrap_or("");
@@ -494,11 +499,35 @@ fn value_completion(
 /// The value's first word: the key's choices or control modes, its value
 /// forms (`layers`, `cells`, `file`, `columns`) and, for rock properties,
 /// the other properties to compute from.
-fn first_word_items(def: &BlockDef, kd: &KeyDef, replace: Span) -> Vec<CompletionItem> {
+fn first_word_items(
+    snap: &Snapshot,
+    blocks: &[&Block],
+    def: &BlockDef,
+    kd: &KeyDef,
+    replace: Span,
+) -> Vec<CompletionItem> {
     let mut out = Vec::new();
     let names: &[&str] = match kd.kind {
         ValueKind::Choice(names) => names,
-        ValueKind::Control => schema::CONTROL_WORDS,
+        ValueKind::Control => control_words(snap, blocks),
+        ValueKind::RelpermName => {
+            return relperm_names(snap)
+                .into_iter()
+                .enumerate()
+                .map(|(n, name)| {
+                    let mut it = item(
+                        &format!("\"{name}\""),
+                        CompletionKind::Reference,
+                        Some("relperm block".into()),
+                        kd.doc,
+                        replace,
+                        n,
+                    );
+                    it.insert_text = format!("\"{}\"", escape_str(&name));
+                    it
+                })
+                .collect();
+        }
         _ => &[],
     };
     for (n, name) in names.iter().enumerate() {
@@ -548,6 +577,104 @@ fn first_word_items(def: &BlockDef, kd: &KeyDef, replace: Span) -> Vec<Completio
     out
 }
 
+/// The labels of the `relperm` blocks, to replace the string content at `replace`.
+fn relperm_label_items(snap: &Snapshot, replace: Span) -> Vec<CompletionItem> {
+    relperm_names(snap)
+        .into_iter()
+        .enumerate()
+        .map(|(n, name)| CompletionItem {
+            label: name.clone(),
+            kind: CompletionKind::Reference,
+            detail: Some("relperm block".into()),
+            documentation: None,
+            insert_text: escape_str(&name),
+            snippet: false,
+            replace,
+            sort_text: format!("{n:02}"),
+        })
+        .collect()
+}
+
+/// Whether the deck (with its includes) is an oil-water deck: it has an
+/// `oil` or a `water` block.
+pub(crate) fn is_oil_water(snap: &Snapshot) -> bool {
+    snap.analysis()
+        .files
+        .iter()
+        .filter_map(|f| f.tree.as_ref())
+        .any(|tree| {
+            tree.items.iter().any(
+                |i| matches!(i, Item::Block(b) if b.name.name == "oil" || b.name.name == "water"),
+            )
+        })
+}
+
+/// The labels of the deck's `relperm` blocks, in deck order.
+pub(crate) fn relperm_names(snap: &Snapshot) -> Vec<String> {
+    let mut out = Vec::new();
+    for f in &snap.analysis().files {
+        let Some(tree) = &f.tree else { continue };
+        for item in &tree.items {
+            let Item::Block(b) = item else { continue };
+            if b.name.name != "relperm" {
+                continue;
+            }
+            if let Some(AtomKind::Str { value, .. }) = b.args.first().map(|a| &a.kind) {
+                if !out.contains(value) {
+                    out.push(value.clone());
+                }
+            }
+        }
+    }
+    out
+}
+
+/// The `role` of the well whose block (or event change) encloses the
+/// cursor: from the block itself, or from the well block of that name.
+fn enclosing_role(snap: &Snapshot, blocks: &[&Block]) -> Option<String> {
+    let well = blocks.iter().rev().find(|b| b.name.name == "well")?;
+    let role_of = |b: &Block| {
+        let s = rill_model::lower::find(b, "role")?;
+        match s.value.atoms.first().map(|a| &a.kind) {
+            Some(AtomKind::Ident(r)) => Some(r.clone()),
+            _ => None,
+        }
+    };
+    if let Some(r) = role_of(well) {
+        return Some(r);
+    }
+    let AtomKind::Str { value: name, .. } = &well.args.first()?.kind else {
+        return None;
+    };
+    snap.analysis()
+        .files
+        .iter()
+        .filter_map(|f| f.tree.as_ref())
+        .flat_map(|t| t.items.iter())
+        .find_map(|i| match i {
+            Item::Block(b)
+                if b.name.name == "well"
+                    && rill_model::lower::label_of(b).as_ref() == Some(name) =>
+            {
+                role_of(b)
+            }
+            _ => None,
+        })
+}
+
+/// The control words that fit the deck and the well's role: `rate` in a
+/// single-phase deck, the phase rates of the role in an oil-water deck.
+fn control_words(snap: &Snapshot, blocks: &[&Block]) -> &'static [&'static str] {
+    if !is_oil_water(snap) {
+        return schema::SINGLE_PHASE_CONTROLS;
+    }
+    match enclosing_role(snap, blocks).as_deref() {
+        Some("producer") => schema::OIL_WATER_PRODUCER_CONTROLS,
+        Some("injector") => schema::OIL_WATER_INJECTOR_CONTROLS,
+        _ => &["oil_rate", "liquid_rate", "water_rate", "bhp", "shut"],
+    }
+}
+
 /// Units after a number: those of the key's dimension (of the control's
 /// mode, or a length after `at`), none inside arithmetic.
 fn unit_items(
@@ -560,7 +687,7 @@ fn unit_items(
     let mut out = Vec::new();
     let dim = match kd.kind {
         ValueKind::Control => match first {
-            "rate" => Some(Dim::SURFACE_RATE),
+            "rate" | "oil_rate" | "liquid_rate" | "water_rate" => Some(Dim::SURFACE_RATE),
             "bhp" => Some(Dim::PRESSURE),
             _ => None,
         },

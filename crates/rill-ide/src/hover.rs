@@ -689,6 +689,7 @@ pub(crate) fn key_dim(kind: ValueKind) -> Option<Dim> {
         ValueKind::Spacing(_) | ValueKind::Top => Some(Dim::LENGTH),
         ValueKind::PressureAtDepth => Some(Dim::PRESSURE),
         ValueKind::Times => Some(Dim::TIME),
+        ValueKind::TableColumn(d) => Some(d),
         _ => None,
     }
 }
@@ -711,8 +712,16 @@ pub(crate) fn value_words(kind: ValueKind) -> String {
         ValueKind::Column => "a column (i, j)".into(),
         ValueKind::LayerRange => "a layer range like 1..4".into(),
         ValueKind::Cells => "a list of cells [(i, j, k) ...]".into(),
-        ValueKind::Control => "`rate <surface rate>` or `bhp <pressure>`".into(),
+        ValueKind::Control => "`rate <surface rate>` or `bhp <pressure>` (oil-water: `oil_rate`, `liquid_rate`, `water_rate`)".into(),
         ValueKind::Times => "a list of times, e.g. `[1 2 6 12] hr`".into(),
+        ValueKind::TableColumn(d) if d == Dim::NONE => {
+            "a list with one number per row of the table, e.g. `[0.2 0.5 0.8]`".into()
+        }
+        ValueKind::TableColumn(d) => format!(
+            "a list with one value per row of the table, {} (a unit after `]`)",
+            rill_model::values::describe_expected(d)
+        ),
+        ValueKind::RelpermName => "the label of a `relperm` block in quotes".into(),
     }
 }
 

@@ -179,7 +179,9 @@ pub(crate) fn well_markdown(case: &Case, name: &str, run: Option<&RunValues>) ->
         role_name(w.role)
     );
     let control = match w.control {
-        Control::Rate(q) => format!("rate {}", show(q, Kind::SurfaceRate, sys)),
+        Control::Rate(q) | Control::OilRate(q) | Control::LiquidRate(q) | Control::WaterRate(q) => {
+            format!("{} {}", w.control.word(), show(q, Kind::SurfaceRate, sys))
+        }
         Control::Bhp(p) => format!("bhp {}", show(p, Kind::Pressure, sys)),
         Control::Shut => "shut".to_string(),
     };

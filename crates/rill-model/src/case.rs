@@ -87,8 +87,16 @@ pub struct Case {
     pub grid: Grid,
     /// Rock properties per cell.
     pub rock: Rock,
-    /// The one fluid.
+    /// The one liquid of a single-phase deck. In an oil-water deck
+    /// (`oil_water` is `Some`) this is the oil, lowered from the `oil`
+    /// block: the phase whose pressure the initial datum, the BHPs and the
+    /// boundaries give, so every pressure rule of a single-phase deck reads
+    /// the same for it.
     pub fluid: Fluid,
+    /// What an oil-water deck adds (`None` for a single-phase deck): the
+    /// water, the saturation functions, which cells use which, and the
+    /// initial saturation.
+    pub oil_water: Option<OilWater>,
     /// The initial pressure.
     pub initial: Initial,
     /// Wells in deck order.
@@ -189,6 +197,108 @@ pub struct Fluid {
     pub ref_pressure: f64,
 }
 
+/// The second phase and the saturation functions of an oil-water deck.
+/// The oil is [`Case::fluid`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct OilWater {
+    /// The water (the `water` block).
+    pub water: Fluid,
+    /// The `relperm` blocks in deck order.
+    pub relperms: Vec<Relperm>,
+    /// For every cell, the index into `relperms` of the curves it uses
+    /// (`rock.relperm` with its patches), `cell_count` values.
+    pub cell_relperm: CellRelperm,
+    /// How the initial water saturation is given.
+    pub saturation: InitialSaturation,
+}
+
+/// Per-cell indices into [`OilWater::relperms`], shared like [`CellValues`].
+#[derive(Clone, Default, PartialEq)]
+pub struct CellRelperm(pub Arc<Vec<u32>>);
+
+impl CellRelperm {
+    /// The index of the curves of cell `c` (0 outside the grid).
+    pub fn of(&self, c: usize) -> usize {
+        self.0.get(c).map_or(0, |&r| r as usize)
+    }
+}
+
+impl std::fmt::Debug for CellRelperm {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        self.0.as_slice().fmt(f)
+    }
+}
+
+/// One `relperm "label"` block: water and oil relative permeability and the
+/// oil-water capillary pressure `pc = p_oil - p_water` as functions of the
+/// water saturation `sw` (`derived::relperm` evaluates them).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Relperm {
+    /// Its label, unique among relperm blocks.
+    pub name: String,
+    /// The curves.
+    pub curves: Curves,
+    /// Where the block's name and label are written.
+    pub origin: Origin,
+}
+
+/// The two forms of saturation functions.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Curves {
+    /// Corey power laws in the normalised saturation.
+    Corey(Corey),
+    /// A table interpolated linearly, held constant beyond its ends.
+    Table(SatTable),
+}
+
+/// Corey curves: with `S = (sw - swc) / (1 - swc - sor)` clipped to
+/// [0, 1], `krw = krw_end S^nw`, `kro = kro_end (1 - S)^no`,
+/// `pc = pc_entry (1 - S)`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Corey {
+    /// Connate water saturation, fraction.
+    pub swc: f64,
+    /// Residual oil saturation to water, fraction.
+    pub sor: f64,
+    /// krw at `sw = 1 - sor`.
+    pub krw_end: f64,
+    /// kro at `sw = swc`.
+    pub kro_end: f64,
+    /// Exponent of krw.
+    pub nw: f64,
+    /// Exponent of kro.
+    pub no: f64,
+    /// Capillary pressure at `sw = swc`, Pa (0 when not given).
+    pub pc_entry: f64,
+}
+
+/// A saturation table: `sw` increasing, one `krw`, `kro` (and `pc`) per row.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SatTable {
+    /// Water saturations, strictly increasing, fractions.
+    pub sw: Vec<f64>,
+    /// Water relative permeability at each `sw`.
+    pub krw: Vec<f64>,
+    /// Oil relative permeability at each `sw`.
+    pub kro: Vec<f64>,
+    /// Capillary pressure at each `sw`, Pa; all zero when the table gives none.
+    pub pc: Vec<f64>,
+}
+
+/// How the initial water saturation of an oil-water deck is given.
+#[derive(Debug, Clone, PartialEq)]
+pub enum InitialSaturation {
+    /// Capillary-gravity equilibrium from the oil-water contact (free water
+    /// level, where `pc = 0`) at this depth, m
+    /// (`derived::saturation::equilibrium`).
+    Contact {
+        /// The depth of the contact, m.
+        depth: f64,
+    },
+    /// Water saturation per cell, given directly (not necessarily in equilibrium).
+    Cells(CellValues),
+}
+
 /// How the initial pressure is given.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Initial {
@@ -216,11 +326,43 @@ pub enum Role {
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Control {
     /// Surface rate, surface m^3/s, always positive; the role gives the sign.
+    /// Single-phase decks only.
     Rate(f64),
     /// Bottom-hole pressure at the well's datum (its top completion centre), Pa.
     Bhp(f64),
     /// Shut by the deck: the well flows nothing until an event opens it.
     Shut,
+    /// Oil-water producers: the surface oil rate, surface m^3/s, positive.
+    OilRate(f64),
+    /// Oil-water producers: the surface oil plus water rate, surface m^3/s, positive.
+    LiquidRate(f64),
+    /// Oil-water injectors: the surface water rate, surface m^3/s, positive.
+    WaterRate(f64),
+}
+
+impl Control {
+    /// The word that starts the control in a deck (`rate`, `oil_rate`, ...).
+    pub fn word(&self) -> &'static str {
+        match self {
+            Control::Rate(_) => "rate",
+            Control::Bhp(_) => "bhp",
+            Control::Shut => "shut",
+            Control::OilRate(_) => "oil_rate",
+            Control::LiquidRate(_) => "liquid_rate",
+            Control::WaterRate(_) => "water_rate",
+        }
+    }
+
+    /// The surface rate of a rate control of any phase, surface m^3/s.
+    pub fn surface_rate(&self) -> Option<f64> {
+        match *self {
+            Control::Rate(q)
+            | Control::OilRate(q)
+            | Control::LiquidRate(q)
+            | Control::WaterRate(q) => Some(q),
+            Control::Bhp(_) | Control::Shut => None,
+        }
+    }
 }
 
 /// The axis a completed stretch of wellbore runs along.
@@ -297,6 +439,9 @@ pub struct Well {
     pub control: Control,
     /// Producer: lowest BHP; injector: highest (Pa).
     pub bhp_limit: Option<f64>,
+    /// Oil-water producers: the surface water cut (fraction) above which
+    /// the well is shut for the rest of the run; `None`: no limit.
+    pub max_water_cut: Option<f64>,
     /// Where the well block is written.
     pub origin: Origin,
 }

@@ -6,7 +6,7 @@
 use crate::case::*;
 use crate::derived;
 use crate::diagnostic::{Code, Diagnostic, Location};
-use crate::lower::{Spans, WellSpans};
+use crate::lower::{FluidSpans, Spans, WellSpans};
 use crate::reuse::{kept, Held, Reuse};
 use rill_units::{display_unit, Kind, System, STANDARD_ATMOSPHERE_PA as ATM};
 use std::collections::HashSet;
@@ -14,6 +14,7 @@ use std::sync::Arc;
 
 use rill_units::factors::{CP, FT, MD, PSI};
 
+mod phases;
 mod sealed;
 mod wellbore;
 
@@ -64,6 +65,7 @@ pub fn run(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<Diag
     let sys = case.report.units;
     rock_checks(case, spans, reuse, out);
     fluid_checks(case, spans, sys, out);
+    phases::oil_water_checks(case, spans, reuse, sys, out);
     initial_checks(case, spans, reuse, sys, out);
     pressure_checks(case, spans, sys, out);
     well_checks(case, spans, sys, out);
@@ -164,20 +166,47 @@ fn rock_checks(case: &Case, spans: &Spans, reuse: Option<&Reuse>, out: &mut Vec<
 }
 
 fn fluid_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnostic>) {
-    let f = &case.fluid;
-    let at = |l: Option<Location>| l.unwrap_or(spans.main);
+    let oil = FluidSpans {
+        viscosity: spans.viscosity,
+        fvf: spans.fvf,
+        density: spans.density,
+        compressibility: spans.fluid_compressibility,
+    };
+    // In an oil-water deck each phase is checked, and named.
+    let (oil_name, water) = match &case.oil_water {
+        Some(ow) => ("oil ", Some(&ow.water)),
+        None => ("", None),
+    };
+    liquid_checks(&case.fluid, &oil, oil_name, spans.main, sys, out);
+    if let Some(water) = water {
+        liquid_checks(water, &spans.water, "water ", spans.main, sys, out);
+    }
+}
+
+/// The checks of one liquid (`fluid`, `oil` or `water`); `phase` ("",
+/// "oil " or "water ") starts the messages that name it.
+fn liquid_checks(
+    f: &Fluid,
+    spans: &FluidSpans,
+    phase: &str,
+    main: Location,
+    sys: System,
+    out: &mut Vec<Diagnostic>,
+) {
+    let at = |l: Option<Location>| l.unwrap_or(main);
+    let fluid_word = if phase.is_empty() { "fluid " } else { phase };
     if f.viscosity <= 0.0 {
         out.push(Diagnostic::error(
             Code::SanityViscosity,
             at(spans.viscosity),
-            "viscosity must be positive",
+            format!("{phase}viscosity must be positive"),
         ));
     } else if !(0.01 * CP..=10_000.0 * CP).contains(&f.viscosity) {
         out.push(Diagnostic::warning(
             Code::SanityViscosity,
             at(spans.viscosity),
             format!(
-                "viscosity of {} cP is outside 0.01 to 10000 cP; check the unit (cP, not Pa*s?)",
+                "{phase}viscosity of {} cP is outside 0.01 to 10000 cP; check the unit (cP, not Pa*s?)",
                 crate::values::short_number(f.viscosity / CP)
             ),
         ));
@@ -186,7 +215,7 @@ fn fluid_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnosti
         out.push(Diagnostic::error(
             Code::SanityFvf,
             at(spans.fvf),
-            "the formation volume factor must be positive",
+            format!("the {phase}formation volume factor must be positive"),
         ));
     } else if !(0.5..=3.0).contains(&f.fvf) {
         out.push(
@@ -194,7 +223,7 @@ fn fluid_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnosti
                 Code::SanityFvf,
                 at(spans.fvf),
                 format!(
-                    "a formation volume factor of {} rb/stb is outside 0.5 to 3 rb/stb",
+                    "a {phase}formation volume factor of {} rb/stb is outside 0.5 to 3 rb/stb",
                     crate::values::short_number(f.fvf)
                 ),
             )
@@ -206,15 +235,15 @@ fn fluid_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnosti
     if f.compressibility < 0.0 {
         out.push(Diagnostic::error(
             Code::SanityCompressibility,
-            at(spans.fluid_compressibility),
-            "fluid compressibility cannot be negative",
+            at(spans.compressibility),
+            format!("{fluid_word}compressibility cannot be negative"),
         ));
     } else if f.compressibility > 1e-3 / PSI {
         out.push(Diagnostic::warning(
             Code::SanityCompressibility,
-            at(spans.fluid_compressibility),
+            at(spans.compressibility),
             format!(
-                "fluid compressibility of {} 1/psi is above 1e-3 1/psi; water is about 3e-6 1/psi (common practice, no published source)",
+                "{fluid_word}compressibility of {} 1/psi is above 1e-3 1/psi; water is about 3e-6 1/psi (common practice, no published source)",
                 crate::values::short_number(f.compressibility * PSI)
             ),
         ));
@@ -224,7 +253,12 @@ fn fluid_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagnosti
             Code::SanityDensity,
             at(spans.density),
             format!(
-                "a liquid density of {} is outside 500 to 1300 kg/m^3",
+                "a {} density of {} is outside 500 to 1300 kg/m^3",
+                if phase.is_empty() {
+                    "liquid"
+                } else {
+                    phase.trim_end()
+                },
                 show(f.density, Kind::Density, sys)
             ),
         ));

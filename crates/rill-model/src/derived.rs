@@ -11,6 +11,8 @@
 use crate::case::{Case, Completion, Direction, Grid, Rock, Side, Well};
 
 mod faults;
+pub mod relperm;
+pub mod saturation;
 pub use faults::{case_connections, face_key, faulted_connections, FaceMultipliers};
 
 /// Standard gravity, m/s^2 (NIST SP 811, exact).
@@ -95,6 +97,24 @@ pub fn depth_range(grid: &Grid) -> (f64, f64) {
         }
     }
     range
+}
+
+/// Depths of the shallowest top face and the deepest bottom face of the
+/// grid, m: the grid's top and its base.
+pub fn grid_extent(grid: &Grid) -> (f64, f64) {
+    let mut range = (f64::INFINITY, f64::NEG_INFINITY);
+    let plane = grid.nx * grid.ny;
+    for col in 0..plane {
+        let top = grid.top[col];
+        let bottom = top + (0..grid.nz).map(|k| grid.dz[col + plane * k]).sum::<f64>();
+        range = (range.0.min(top), range.1.max(bottom));
+    }
+    range
+}
+
+/// Depth of the deepest bottom face of the grid, m.
+pub fn grid_base(grid: &Grid) -> f64 {
+    grid_extent(grid).1
 }
 
 /// Pore volume at the rock reference pressure, reservoir m^3.

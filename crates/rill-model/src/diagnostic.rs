@@ -223,6 +223,9 @@ codes! {
     DeckOutOfRange = "deck.out-of-range",
     /// Arithmetic where the key takes none, or an operator without an operand.
     DeckExpression = "deck.expression",
+    /// `fluid` together with `oil` or `water`, only one of `oil` and
+    /// `water`, or an oil-water block or key in a single-phase deck.
+    DeckPhases = "deck.phases",
     /// A unit name not in the registry.
     UnitUnknown = "unit.unknown",
     /// A dimensional value without a unit.
@@ -253,18 +256,33 @@ codes! {
     SanityFvf = "sanity.fvf",
     /// A liquid density outside the usual range.
     SanityDensity = "sanity.density",
+    /// An endpoint mobility ratio above 10: an unstable displacement.
+    SanityMobility = "sanity.mobility",
     /// A wellbore radius too large for its cell, or very small.
     SanityRadius = "sanity.radius",
     /// An absolute pressure (BHP control or limit, boundary) that is zero or negative.
     SanityPressure = "sanity.pressure",
+    /// Saturation-function endpoints that cannot hold: a saturation outside
+    /// [0, 1], `swc + sor >= 1`, an end-point relative permeability outside
+    /// (0, 1], or a table that does not start (krw) or end (kro) at zero.
+    RelpermEndpoints = "relperm.endpoints",
+    /// A saturation table of the wrong shape: `sw` not increasing, `krw`
+    /// decreasing, `kro` or `pc` increasing, lists of different lengths.
+    RelpermShape = "relperm.shape",
     /// An initial pressure that is zero, negative or below 1 atm somewhere in the grid.
     InitialPressure = "initial.pressure",
+    /// A water contact above the top of the grid or below its base.
+    InitialContact = "initial.contact",
     /// A completion outside the grid or in an inactive cell.
     WellCompletion = "well.completion",
     /// A BHP on the wrong side of the initial pressure for the well's role.
     WellBhp = "well.bhp",
     /// A well whose every completion has a zero well index.
     WellProductivity = "well.productivity",
+    /// A control whose phase does not fit the well's role or the deck
+    /// (`oil_rate` on an injector, `water_rate` on a producer,
+    /// `max_water_cut` on an injector).
+    WellControlPhase = "well.control-phase",
     /// An injector BHP that may exceed fracture pressure.
     WellInjectionPressure = "well.injection-pressure",
     /// Two boundaries hold the same outer face.

@@ -6,7 +6,9 @@ use crate::{Analysis, Code, Diagnostic, Location};
 use rill_syntax::{Item, Span};
 
 /// The top-level blocks that make a file a case rather than a fragment.
-pub const CASE_BLOCKS: &[&str] = &["case", "grid", "rock", "fluid", "initial", "timeline"];
+pub const CASE_BLOCKS: &[&str] = &[
+    "case", "grid", "rock", "fluid", "oil", "water", "initial", "timeline",
+];
 
 /// Whether the analysed file, with everything it includes, has none of
 /// [`CASE_BLOCKS`]: it can only be part of another deck.

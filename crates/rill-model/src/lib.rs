@@ -113,6 +113,7 @@ pub fn analyze_text_with(path: &Path, text: &str, source: &dyn Source, cache: &R
         diags: Vec::new(),
         fvf: None,
         written_wells: Vec::new(),
+        two_phase: false,
     };
     let (case, spans) = lowerer.lower(source::normalize(path), text);
     let mut diagnostics = lowerer.diags;

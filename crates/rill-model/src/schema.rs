@@ -46,6 +46,12 @@ pub enum ValueKind {
     Control,
     /// A list of times, `[1 2 6 12] hr` (a unit after `]` or on each item).
     Times,
+    /// One column of a saturation table: a list of values of this
+    /// dimension, `[0.25 0.35 0.45]` or `[9 3.2 0] psi` (a unit after `]`
+    /// or on each item).
+    TableColumn(Dim),
+    /// The label of a `relperm` block, in quotes: `"channel sand"`.
+    RelpermName,
 }
 
 /// One key of a block: its name, value kind, whether required, and its meaning.
@@ -118,10 +124,31 @@ pub const MAP_SELECTIONS: &[&str] = &["all", "last", "none"];
 /// Values of the report's `units`.
 pub const SYSTEMS: &[&str] = &["field", "metric", "si"];
 /// Modes of a well's `control` that take a value; `shut`, which takes none,
-/// is read apart in the lowering of wells.
-pub const CONTROL_MODES: &[&str] = &["rate", "bhp"];
+/// is read apart in the lowering of wells. `rate` is the single-phase
+/// surface rate; `oil_rate`, `liquid_rate` and `water_rate` belong to
+/// oil-water decks.
+pub const CONTROL_MODES: &[&str] = &["rate", "bhp", "oil_rate", "liquid_rate", "water_rate"];
 /// Every word that may start a `control`: the modes with a value, and `shut`.
-pub const CONTROL_WORDS: &[&str] = &["rate", "bhp", "shut"];
+pub const CONTROL_WORDS: &[&str] = &[
+    "rate",
+    "bhp",
+    "shut",
+    "oil_rate",
+    "liquid_rate",
+    "water_rate",
+];
+/// The control words of a single-phase deck.
+pub const SINGLE_PHASE_CONTROLS: &[&str] = &["rate", "bhp", "shut"];
+/// The control words of a producer in an oil-water deck.
+pub const OIL_WATER_PRODUCER_CONTROLS: &[&str] = &["oil_rate", "liquid_rate", "bhp", "shut"];
+/// The control words of an injector in an oil-water deck (injectors inject water).
+pub const OIL_WATER_INJECTOR_CONTROLS: &[&str] = &["water_rate", "bhp", "shut"];
+/// Forms of a `relperm` block.
+pub const RELPERM_MODELS: &[&str] = &["corey", "table"];
+/// The keys of the Corey form of `relperm`.
+pub const COREY_KEYS: &[&str] = &["swc", "sor", "krw_end", "kro_end", "nw", "no", "pc_entry"];
+/// The keys of the table form of `relperm`.
+pub const TABLE_KEYS: &[&str] = &["sw", "krw", "kro", "pc"];
 
 /// The `case` block: the title of the case.
 pub static CASE: BlockDef = BlockDef {
@@ -202,6 +229,12 @@ pub static ROCK_KEYS: &[KeyDef] = &[
         false,
         "Pressure at which porosity is given; defaults to the initial datum pressure.",
     ),
+    key(
+        "relperm",
+        ValueKind::RelpermName,
+        false,
+        "Oil-water decks: the `relperm` block whose curves the cells use, by its label; may be omitted when the deck has one.",
+    ),
 ];
 
 /// The `rock` block: porosity, permeability, compressibility.
@@ -224,50 +257,98 @@ pub static PATCH: BlockDef = BlockDef {
         key("kx", ValueKind::Property(Dim::PERMEABILITY), false, "kx inside the patch."),
         key("ky", ValueKind::Property(Dim::PERMEABILITY), false, "ky inside the patch."),
         key("kz", ValueKind::Property(Dim::PERMEABILITY), false, "kz inside the patch."),
+        key("relperm", ValueKind::RelpermName, false, "Oil-water decks: the `relperm` curves inside the patch, by label."),
     ],
     children: &[],
     doc: "Overrides rock properties in a box of cells: `patch i = 12..14 k = 3 { kz = 0 md }`. Omitted axes mean all; patches apply in order.",
 };
+
+/// The keys of `fluid`, also those of `oil` and `water`.
+pub static FLUID_KEYS: &[KeyDef] = &[
+    key(
+        "viscosity",
+        ValueKind::Quantity(Dim::VISCOSITY),
+        true,
+        "Viscosity at reservoir conditions.",
+    ),
+    key(
+        "fvf",
+        ValueKind::Quantity(Dim::FVF),
+        true,
+        "Formation volume factor: reservoir volume per surface volume (rb/stb, rm3/sm3).",
+    ),
+    key(
+        "compressibility",
+        ValueKind::Quantity(Dim::COMPRESSIBILITY),
+        false,
+        "Fluid compressibility; defaults to 0.",
+    ),
+    key(
+        "density",
+        ValueKind::Quantity(Dim::DENSITY),
+        true,
+        "Density at reservoir conditions, used for gravity.",
+    ),
+    key(
+        "ref_pressure",
+        ValueKind::Quantity(Dim::PRESSURE),
+        false,
+        "Pressure at which fvf and density hold; defaults to the initial datum pressure.",
+    ),
+];
 
 /// The `fluid` block: one slightly compressible liquid.
 pub static FLUID: BlockDef = BlockDef {
     name: "fluid",
     label: LabelRule::Optional,
     repeatable: false,
-    keys: &[
-        key(
-            "viscosity",
-            ValueKind::Quantity(Dim::VISCOSITY),
-            true,
-            "Viscosity at reservoir conditions.",
-        ),
-        key(
-            "fvf",
-            ValueKind::Quantity(Dim::FVF),
-            true,
-            "Formation volume factor: reservoir volume per surface volume (rb/stb, rm3/sm3).",
-        ),
-        key(
-            "compressibility",
-            ValueKind::Quantity(Dim::COMPRESSIBILITY),
-            false,
-            "Fluid compressibility; defaults to 0.",
-        ),
-        key(
-            "density",
-            ValueKind::Quantity(Dim::DENSITY),
-            true,
-            "Density at reservoir conditions, used for gravity.",
-        ),
-        key(
-            "ref_pressure",
-            ValueKind::Quantity(Dim::PRESSURE),
-            false,
-            "Pressure at which fvf and density hold; defaults to the initial datum pressure.",
-        ),
-    ],
+    keys: FLUID_KEYS,
     children: &[],
     doc: "The one slightly compressible liquid of the case.",
+};
+
+/// The `oil` block of an oil-water deck.
+pub static OIL: BlockDef = BlockDef {
+    name: "oil",
+    label: LabelRule::None,
+    repeatable: false,
+    keys: FLUID_KEYS,
+    children: &[],
+    doc: "The oil of an oil-water deck (with `water`, instead of `fluid`): a slightly compressible liquid; the initial datum pressure and BHPs are oil pressures.",
+};
+
+/// The `water` block of an oil-water deck.
+pub static WATER: BlockDef = BlockDef {
+    name: "water",
+    label: LabelRule::None,
+    repeatable: false,
+    keys: FLUID_KEYS,
+    children: &[],
+    doc: "The water of an oil-water deck (with `oil`, instead of `fluid`): a slightly compressible liquid.",
+};
+
+/// A `relperm "label"` block: water and oil relative permeability and the
+/// capillary pressure as functions of water saturation.
+pub static RELPERM: BlockDef = BlockDef {
+    name: "relperm",
+    label: LabelRule::Required,
+    repeatable: true,
+    keys: &[
+        key("model", ValueKind::Choice(RELPERM_MODELS), true, "`corey` (endpoints and exponents) or `table` (lists of sw, krw, kro and optionally pc)."),
+        key("swc", ValueKind::Number, false, "Corey: connate water saturation; krw = 0 at and below it."),
+        key("sor", ValueKind::Number, false, "Corey: residual oil saturation to water; kro = 0 at and above sw = 1 - sor."),
+        key("krw_end", ValueKind::Number, false, "Corey: water relative permeability at sw = 1 - sor, in (0, 1]."),
+        key("kro_end", ValueKind::Number, false, "Corey: oil relative permeability at sw = swc, in (0, 1]."),
+        key("nw", ValueKind::Number, false, "Corey: exponent of krw on the normalised saturation S = (sw - swc) / (1 - swc - sor)."),
+        key("no", ValueKind::Number, false, "Corey: exponent of kro on 1 - S."),
+        key("pc_entry", ValueKind::Quantity(Dim::PRESSURE), false, "Corey: capillary pressure p_oil - p_water at sw = swc, falling linearly in S to 0 at 1 - sor; defaults to 0."),
+        key("sw", ValueKind::TableColumn(Dim::NONE), false, "Table: water saturations, increasing."),
+        key("krw", ValueKind::TableColumn(Dim::NONE), false, "Table: water relative permeability at each sw, not decreasing, starting at 0."),
+        key("kro", ValueKind::TableColumn(Dim::NONE), false, "Table: oil relative permeability at each sw, not increasing, ending at 0."),
+        key("pc", ValueKind::TableColumn(Dim::PRESSURE), false, "Table: capillary pressure p_oil - p_water at each sw, not increasing, with a pressure unit (`[9 3.2 0] psi`); optional, 0 without it."),
+    ],
+    children: &[],
+    doc: "Saturation functions of an oil-water deck: krw, kro and the capillary pressure as functions of water saturation, in Corey form or as a table. Interpolated linearly and held constant beyond the table's ends.",
 };
 
 /// The `initial` block: the initial pressure.
@@ -275,12 +356,26 @@ pub static INITIAL: BlockDef = BlockDef {
     name: "initial",
     label: LabelRule::None,
     repeatable: false,
-    keys: &[key(
-        "pressure",
-        ValueKind::PressureAtDepth,
-        true,
-        "Initial pressure: `3200 psi at 7150 ft` sets a datum and fills the grid in hydrostatic equilibrium; a value without `at`, `layers`, `cells` or `file` sets cell pressures directly.",
-    )],
+    keys: &[
+        key(
+            "pressure",
+            ValueKind::PressureAtDepth,
+            true,
+            "Initial pressure: `3200 psi at 7150 ft` sets a datum and fills the grid in hydrostatic equilibrium; a value without `at`, `layers`, `cells` or `file` sets cell pressures directly. In an oil-water deck the datum pressure is the oil pressure.",
+        ),
+        key(
+            "water_contact",
+            ValueKind::Quantity(Dim::LENGTH),
+            false,
+            "Oil-water decks: depth of the oil-water contact (free water level, pc = 0); saturations follow in capillary-gravity equilibrium.",
+        ),
+        key(
+            "water_saturation",
+            ValueKind::Property(Dim::NONE),
+            false,
+            "Oil-water decks: the initial water saturation given directly (a value, `layers`, `cells` or `file`), instead of `water_contact`.",
+        ),
+    ],
     children: &[],
     doc: "The initial state.",
 };
@@ -298,8 +393,9 @@ pub static WELL: BlockDef = BlockDef {
         key("direction", ValueKind::Choice(DIRECTIONS), false, "Axis the wellbore runs along in the listed `completions` (x, y or z); defaults to z. A range in a cell sets it for that cell; `location` wells are vertical."),
         key("radius", ValueKind::Quantity(Dim::LENGTH), true, "Wellbore radius."),
         key("skin", ValueKind::Number, false, "Skin factor; defaults to 0."),
-        key("control", ValueKind::Control, true, "`rate <surface rate>`, `bhp <pressure>` or `shut`."),
+        key("control", ValueKind::Control, true, "`rate <surface rate>`, `bhp <pressure>` or `shut`; in an oil-water deck `oil_rate` or `liquid_rate` (producer) and `water_rate` (injector) instead of `rate`."),
         key("bhp_limit", ValueKind::Quantity(Dim::PRESSURE), false, "Producer: lowest bottom-hole pressure; injector: highest. Rate control switches to it."),
+        key("max_water_cut", ValueKind::Number, false, "Oil-water decks, producers: the surface water cut above which the well is shut for the rest of the run (0 to 1)."),
     ],
     children: &[],
     doc: "A well with its completions, radius, skin and control.",
@@ -489,7 +585,8 @@ pub static REPORT: BlockDef = BlockDef {
 
 /// Blocks allowed at the top level, plus the `include` directive.
 pub static TOP_LEVEL: &[&BlockDef] = &[
-    &CASE, &GRID, &ROCK, &FLUID, &INITIAL, &WELL, &BOUNDARY, &FAULT, &AQUIFER, &TIMELINE, &REPORT,
+    &CASE, &GRID, &ROCK, &FLUID, &OIL, &WATER, &RELPERM, &INITIAL, &WELL, &BOUNDARY, &FAULT,
+    &AQUIFER, &TIMELINE, &REPORT,
 ];
 
 /// The top-level block definition named `name`, if any.

@@ -57,6 +57,7 @@ fn case() -> Case {
             density: 1000.0,
             ref_pressure: 3000.0 * PSI,
         },
+        oil_water: None,
         initial: Initial::Datum {
             pressure: 3000.0 * PSI,
             depth: 5000.0 * FT,

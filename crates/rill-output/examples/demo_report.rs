@@ -91,6 +91,7 @@ fn demo_case(nx: usize, ny: usize, nz: usize) -> Case {
         skin: 1.5,
         control,
         bhp_limit: Some(1200.0 * PSI),
+        max_water_cut: None,
         origin: Origin::default(),
     };
     Case {
@@ -133,6 +134,7 @@ fn demo_case(nx: usize, ny: usize, nz: usize) -> Case {
             density: 999.5,
             ref_pressure: 3000.0 * PSI,
         },
+        oil_water: None,
         initial: Initial::Datum {
             pressure: 3200.0 * PSI,
             depth: 7150.0 * FT,

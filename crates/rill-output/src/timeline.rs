@@ -26,9 +26,9 @@ struct Row {
 fn control_words(c: Control, case: &Case) -> String {
     let sys = case.report.units;
     match c {
-        Control::Rate(q) => {
+        Control::Rate(q) | Control::OilRate(q) | Control::LiquidRate(q) | Control::WaterRate(q) => {
             let u = display_unit(Quantity::SurfaceRate, sys);
-            format!("control = rate {} {}", human(u.show(q)), u.name)
+            format!("control = {} {} {}", c.word(), human(u.show(q)), u.name)
         }
         Control::Bhp(p) => {
             let u = display_unit(Quantity::Pressure, sys);

@@ -215,6 +215,15 @@ pub fn run(request: &Request, observer: &mut dyn Observer) -> Outcome {
             result: Err(Failure::NotRunnable { errors }),
         };
     };
+    if case.oil_water.is_some() {
+        // Before the result folder is opened: nothing on disk changes.
+        return Outcome {
+            export: not_asked(),
+            result: Err(Failure::Run(RunError::Setup(
+                rill_sim::NO_TWO_PHASE_ENGINE.into(),
+            ))),
+        };
+    }
     #[cfg(feature = "petsc")]
     if let Engine::Petsc(engine) = request.engine {
         if engine.rank() != 0 {

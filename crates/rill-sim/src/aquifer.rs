@@ -214,6 +214,7 @@ mod tests {
                 density: 1000.0,
                 ref_pressure: 2e7,
             },
+            oil_water: None,
             initial: Initial::Datum {
                 pressure: 2e7,
                 depth: 1000.0,
@@ -232,6 +233,7 @@ mod tests {
                 skin: 0.0,
                 control: Control::Rate(1e-3),
                 bhp_limit: None,
+                max_water_cut: None,
                 origin: Origin::default(),
             }],
             boundaries: Vec::new(),

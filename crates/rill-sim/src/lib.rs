@@ -49,5 +49,5 @@ pub use disc::Part;
 pub use results::*;
 pub use run::{
     run, run_distributed, KeepPressures, NewtonOptions, NoObserver, Observer, Parallel, PartSolve,
-    PartSystem, Progress, RunError, RunOptions,
+    PartSystem, Progress, RunError, RunOptions, NO_TWO_PHASE_ENGINE,
 };

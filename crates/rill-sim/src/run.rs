@@ -408,6 +408,9 @@ fn initial_state(case: &Case, d: &Disc) -> Vec<f64> {
     x
 }
 
+/// Why an oil-water case does not run: this engine is single-phase.
+pub const NO_TWO_PHASE_ENGINE: &str = "this build has no oil-water engine yet (the deck has `oil` and `water` blocks; the simulator runs single-phase decks, with one `fluid`). `rill check`, `rill inspect` and the editor handle the deck in full; to run it as one liquid, replace `oil` and `water` by one `fluid` block and the phase controls by `rate`";
+
 /// Runs a checked case.
 ///
 /// Transient runs: fully implicit backward Euler in surface volume, Newton
@@ -448,6 +451,9 @@ fn run_on(
         rank: p.rank(),
         size: p.size(),
     });
+    if case.oil_water.is_some() {
+        return Err(RunError::Setup(NO_TWO_PHASE_ENGINE.into()));
+    }
     let d = Disc::new_part(case, part);
     let setup_seconds = start.elapsed().as_secs_f64();
     if d.n_global_cells == 0 {

@@ -9,10 +9,10 @@ syntax case match
 " Identifiers first; the more specific groups below win where they match.
 syntax match rillIdentifier /\<\h\w*\>/
 " Enum values are matches, not keywords: keywords would beat `top =` keys.
-syntax match rillEnum /\<\%(producer\|injector\|west\|east\|south\|north\|top\|bottom\|transient\|steady\|field\|metric\|si\|rate\|bhp\|layers\|cells\|columns\)\>\%(\s*=\)\@!/
+syntax match rillEnum /\<\%(producer\|injector\|west\|east\|south\|north\|top\|bottom\|transient\|steady\|field\|metric\|si\|rate\|bhp\|oil_rate\|liquid_rate\|water_rate\|corey\|table\|layers\|cells\|columns\)\>\%(\s*=\)\@!/
 syntax match rillFile /\<file\>\%(\s*=\)\@!/ nextgroup=rillFileString skipwhite
 syntax match rillDatum /\<at\>/
-syntax match rillBlock /\%(^\|[{;]\)\s*\zs\<\%(case\|grid\|rock\|fluid\|initial\|well\|boundary\|fault\|aquifer\|timeline\|report\|patch\|at\|include\)\>\ze\%(\s*=\)\@!/
+syntax match rillBlock /\%(^\|[{;]\)\s*\zs\<\%(case\|grid\|rock\|fluid\|oil\|water\|relperm\|initial\|well\|boundary\|fault\|aquifer\|timeline\|report\|patch\|at\|include\)\>\ze\%(\s*=\)\@!/
 syntax match rillKey /\<\h\w*\ze\s*=\(=\)\@!/
 
 syntax match rillOperator /[=*/+-]/

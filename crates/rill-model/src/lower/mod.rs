@@ -8,7 +8,9 @@ mod fault;
 mod fluid;
 mod grid;
 mod initial;
+mod phases;
 mod read;
+mod relperm;
 mod report;
 mod rock;
 mod structure;
@@ -59,6 +61,9 @@ pub(crate) struct Lowerer<'s> {
     /// Names of every labelled `well` block, lowered or not: an event that
     /// names a well dropped for its own error is not a second mistake.
     pub written_wells: Vec<String>,
+    /// Whether the deck is an oil-water deck (it has an `oil` or a `water`
+    /// block), once the blocks are sorted: which keys and controls fit.
+    pub two_phase: bool,
 }
 
 /// What lowering found beyond the case itself: spans of the definitions,
@@ -86,6 +91,13 @@ pub struct Spans {
     pub fluid_compressibility: Option<Location>,
     /// Value span of the rock's `compressibility`.
     pub rock_compressibility: Option<Location>,
+    /// Value spans of the `water` block's keys in an oil-water deck (the
+    /// oil's are `viscosity`, `fvf`, `density` and `fluid_compressibility`).
+    pub water: FluidSpans,
+    /// Value span of the initial `water_contact`.
+    pub water_contact: Option<Location>,
+    /// Value span of the initial `water_saturation`.
+    pub water_saturation: Option<Location>,
     /// Per well: (radius, control, bhp_limit, completions) spans.
     pub wells: Vec<WellSpans>,
     /// Value span of the initial `pressure`.
@@ -105,6 +117,19 @@ pub struct Spans {
     pub main: Location,
 }
 
+/// Value spans of the keys of a liquid's block (`water`).
+#[derive(Debug, Clone, Default)]
+pub struct FluidSpans {
+    /// Value span of `viscosity`.
+    pub viscosity: Option<Location>,
+    /// Value span of `fvf`.
+    pub fvf: Option<Location>,
+    /// Value span of `density`.
+    pub density: Option<Location>,
+    /// Value span of `compressibility`.
+    pub compressibility: Option<Location>,
+}
+
 /// Value spans of one well's keys, for checks that point back at them.
 #[derive(Debug, Clone, Default)]
 pub struct WellSpans {
@@ -116,6 +141,8 @@ pub struct WellSpans {
     pub bhp_limit: Option<Location>,
     /// Value span of `location` or `completions`.
     pub completions: Option<Location>,
+    /// Value span of `max_water_cut`.
+    pub max_water_cut: Option<Location>,
     /// Event controls: (event index, location).
     pub event_controls: Vec<(usize, Location)>,
     /// Event BHP limits: (event index, location).
@@ -149,6 +176,19 @@ impl<'s> Lowerer<'s> {
         self.lower_blocks(&blocks)
     }
 
+    /// Lowers every block named `name` with `lower`, keeping those that lowered.
+    fn lower_each<T>(
+        &mut self,
+        blocks: &HashMap<&'static str, Vec<Found>>,
+        name: &str,
+        mut lower: impl FnMut(&mut Self, &Found) -> Option<T>,
+    ) -> Vec<T> {
+        let Some(list) = blocks.get(name) else {
+            return Vec::new();
+        };
+        list.iter().filter_map(|f| lower(self, f)).collect()
+    }
+
     /// Lower the sorted top-level blocks into a case.
     fn lower_blocks(
         &mut self,
@@ -170,10 +210,11 @@ impl<'s> Lowerer<'s> {
         let grid = self
             .require(blocks, "grid", main_loc)
             .and_then(|f| self.lower_grid(f.file, f.block, &mut spans));
-        let fluid_found = self.require(blocks, "fluid", main_loc);
+        let phase_blocks = self.phase_blocks(blocks, main_loc);
         let initial_found = self.require(blocks, "initial", main_loc);
         let rock_found = self.require(blocks, "rock", main_loc);
         let timeline_found = self.require(blocks, "timeline", main_loc);
+        let relperms = self.relperm_blocks(blocks, self.two_phase, main_loc);
 
         let Some(grid) = grid else {
             return (None, spans);
@@ -194,46 +235,31 @@ impl<'s> Lowerer<'s> {
         };
         let rock = rock_found
             .and_then(|f| self.lower_rock(f.file, f.block, shape, datum_pressure, &mut spans));
-        let fluid =
-            fluid_found.and_then(|f| self.lower_fluid(f.file, f.block, datum_pressure, &mut spans));
-        self.fvf = fluid.as_ref().map(|f| f.fvf);
+        let (fluid, oil_water) = self.lower_phases(
+            &phase_blocks,
+            relperms,
+            (rock_found, initial_found),
+            &grid,
+            datum_pressure,
+            &mut spans,
+        );
         self.written_wells = blocks
             .get("well")
             .map(|v| v.iter().filter_map(|f| label_of(f.block)).collect())
             .unwrap_or_default();
-        let wells: Vec<Well> = blocks
-            .get("well")
-            .map(|v| {
-                v.iter()
-                    .filter_map(|f| self.lower_well(f.file, f.block, &grid, &mut spans))
-                    .collect()
-            })
-            .unwrap_or_default();
-        let boundaries: Vec<Boundary> = blocks
-            .get("boundary")
-            .map(|v| {
-                v.iter()
-                    .filter_map(|f| self.lower_boundary(f.file, f.block, &grid, &mut spans))
-                    .collect()
-            })
-            .unwrap_or_default();
+        let wells: Vec<Well> = self.lower_each(blocks, "well", |this, f| {
+            this.lower_well(f.file, f.block, &grid, &mut spans)
+        });
+        let boundaries: Vec<Boundary> = self.lower_each(blocks, "boundary", |this, f| {
+            this.lower_boundary(f.file, f.block, &grid, &mut spans)
+        });
         let boundaries = self.without_overlap(boundaries, &grid);
-        let faults: Vec<Fault> = blocks
-            .get("fault")
-            .map(|v| {
-                v.iter()
-                    .filter_map(|f| self.lower_fault(f.file, f.block, &grid, &mut spans))
-                    .collect()
-            })
-            .unwrap_or_default();
-        let aquifers: Vec<Aquifer> = blocks
-            .get("aquifer")
-            .map(|v| {
-                v.iter()
-                    .filter_map(|f| self.lower_aquifer(f.file, f.block, &grid))
-                    .collect()
-            })
-            .unwrap_or_default();
+        let faults: Vec<Fault> = self.lower_each(blocks, "fault", |this, f| {
+            this.lower_fault(f.file, f.block, &grid, &mut spans)
+        });
+        let aquifers: Vec<Aquifer> = self.lower_each(blocks, "aquifer", |this, f| {
+            this.lower_aquifer(f.file, f.block, &grid)
+        });
         let aquifers = self.aquifers_without_overlap(aquifers, &boundaries, &grid);
         let timeline =
             timeline_found.and_then(|f| self.lower_timeline(f.file, f.block, &wells, &mut spans));
@@ -246,6 +272,9 @@ impl<'s> Lowerer<'s> {
         let (Some(rock), Some(fluid), Some(initial), Some(timeline)) =
             (rock, fluid, initial, timeline)
         else {
+            return (None, spans);
+        };
+        let Some(oil_water) = oil_water else {
             return (None, spans);
         };
         let expected_wells = blocks.get("well").map(|v| v.len()).unwrap_or(0);
@@ -265,6 +294,7 @@ impl<'s> Lowerer<'s> {
             grid,
             rock,
             fluid,
+            oil_water,
             initial,
             wells,
             boundaries,
@@ -283,6 +313,11 @@ pub fn find<'b>(block: &'b Block, key: &str) -> Option<&'b Statement> {
         Item::Statement(s) if s.key.name == key => Some(s),
         _ => None,
     })
+}
+
+/// `value` escaped for writing inside quotes in a deck.
+pub(crate) fn escape(value: &str) -> String {
+    value.replace('\\', "\\\\").replace('"', "\\\"")
 }
 
 /// A block's string label, if it has one.
@@ -313,5 +348,7 @@ fn example_value(k: &KeyDef) -> String {
         ValueKind::Cells => "[(1, 1, 1)]".into(),
         ValueKind::Control => "rate 500 stb/day".into(),
         ValueKind::Times => "[1 2 6] hr".into(),
+        ValueKind::TableColumn(_) => "[0.2 0.5 0.8]".into(),
+        ValueKind::RelpermName => "\"rock\"".into(),
     }
 }

@@ -460,7 +460,11 @@ impl<'s> Lowerer<'s> {
                         slot.event_controls
                             .push((event, Location::new(file, s.value.span)));
                     }
-                    match self.control(file, s) {
+                    let role = Some(wells[index].role);
+                    match self
+                        .control(file, s)
+                        .filter(|c| self.control_fits(file, s, *c, role))
+                    {
                         Some(c) => Some(c),
                         None => {
                             *ok = false;

@@ -23,7 +23,7 @@ impl<'s> Lowerer<'s> {
                 kind: AtomKind::Ident(mode),
                 span: mode_span,
             }, rest @ ..]
-                if mode == "rate" || mode == "bhp" =>
+                if schema::CONTROL_MODES.contains(&mode.as_str()) =>
             {
                 let [Atom {
                     kind: AtomKind::Number { value, unit, .. },
@@ -35,16 +35,16 @@ impl<'s> Lowerer<'s> {
                         Location::new(file, *mode_span),
                         format!(
                             "`{mode}` must be followed by one {}",
-                            if mode == "rate" {
-                                "surface rate, e.g. `rate 600 stb/day`"
+                            if mode == "bhp" {
+                                "pressure, e.g. `bhp 1500 psi`".to_string()
                             } else {
-                                "pressure, e.g. `bhp 1500 psi`"
+                                format!("surface rate, e.g. `{mode} 600 stb/day`")
                             }
                         ),
                     ));
                     return None;
                 };
-                if mode == "rate" {
+                if mode != "bhp" {
                     let q = to_si(
                         &mut self.reporter(file),
                         *value,
@@ -52,7 +52,7 @@ impl<'s> Lowerer<'s> {
                         unit.as_ref(),
                         Dim::SURFACE_RATE,
                         Gauge::Refused,
-                        "rate",
+                        mode,
                     )?;
                     if q < 0.0 {
                         self.diags.push(
@@ -65,7 +65,12 @@ impl<'s> Lowerer<'s> {
                         );
                         return None;
                     }
-                    Some(Control::Rate(q))
+                    Some(match mode.as_str() {
+                        "oil_rate" => Control::OilRate(q),
+                        "liquid_rate" => Control::LiquidRate(q),
+                        "water_rate" => Control::WaterRate(q),
+                        _ => Control::Rate(q),
+                    })
                 } else {
                     let p = to_si(
                         &mut self.reporter(file),
@@ -85,12 +90,22 @@ impl<'s> Lowerer<'s> {
                     Code::DeckChoice,
                     Location::new(file, first.span),
                     format!(
-                        "`control` expects `rate <surface rate>`, `bhp <pressure>` or `shut`, found {}",
+                        "`control` expects {}, found {}",
+                        if self.two_phase {
+                            "`oil_rate`, `liquid_rate` or `water_rate` with a surface rate, `bhp <pressure>` or `shut`"
+                        } else {
+                            "`rate <surface rate>`, `bhp <pressure>` or `shut`"
+                        },
                         crate::props::atom_words(&first.kind)
                     ),
                 );
                 if let AtomKind::Ident(w) = &first.kind {
-                    if let Some(near) = schema::nearest(w, schema::CONTROL_WORDS.iter().copied()) {
+                    let words = if self.two_phase {
+                        schema::CONTROL_WORDS
+                    } else {
+                        schema::SINGLE_PHASE_CONTROLS
+                    };
+                    if let Some(near) = schema::nearest(w, words.iter().copied()) {
                         d = d.with_replacement(
                             format!("replace by `{near}`"),
                             Location::new(file, first.span),
@@ -101,6 +116,8 @@ impl<'s> Lowerer<'s> {
                     let guess = rill_units::parse(&u.text).ok().map(|u| u.dim);
                     let mode = if guess == Some(Dim::PRESSURE) {
                         "bhp"
+                    } else if self.two_phase {
+                        "liquid_rate"
                     } else {
                         "rate"
                     };
@@ -137,10 +154,17 @@ impl<'s> Lowerer<'s> {
             Some(s) => self.number(file, s),
             None => Some(0.0),
         };
+        let role = match role {
+            Some("producer") => Some(Role::Producer),
+            Some(_) => Some(Role::Injector),
+            None => None,
+        };
         let control = find(block, "control").and_then(|s| {
             ws.control = Some(Location::new(file, s.value.span));
-            self.control(file, s)
+            let c = self.control(file, s)?;
+            self.control_fits(file, s, c, role).then_some(c)
         });
+        let max_water_cut = self.max_water_cut(file, block, role, &mut ws);
         let bhp_limit = match find(block, "bhp_limit") {
             Some(s) => {
                 ws.bhp_limit = Some(Location::new(file, s.value.span));
@@ -163,15 +187,13 @@ impl<'s> Lowerer<'s> {
         };
         Some(Well {
             name,
-            role: match role? {
-                "producer" => Role::Producer,
-                _ => Role::Injector,
-            },
+            role: role?,
             completions: completions?,
             radius: radius?,
             skin: skin?,
             control: control?,
             bhp_limit: bhp_limit?,
+            max_water_cut: max_water_cut?,
             origin,
         })
     }

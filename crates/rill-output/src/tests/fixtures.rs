@@ -56,6 +56,7 @@ pub fn case(nx: usize, ny: usize, nz: usize, units: UnitSystem) -> Case {
         skin: 0.0,
         control,
         bhp_limit: Some(1000.0 * PSI),
+        max_water_cut: None,
         origin: Origin::default(),
     };
     Case {
@@ -71,6 +72,7 @@ pub fn case(nx: usize, ny: usize, nz: usize, units: UnitSystem) -> Case {
             density: 1000.0,
             ref_pressure: 3000.0 * PSI,
         },
+        oil_water: None,
         initial: Initial::Datum {
             pressure: 3000.0 * PSI,
             depth: 7000.0 * FT,

@@ -36,6 +36,7 @@ fn small_case() -> Case {
             density: 1000.0,
             ref_pressure: 2e7,
         },
+        oil_water: None,
         initial: Initial::Datum {
             pressure: 2e7,
             depth: 1000.0,
@@ -70,6 +71,7 @@ fn small_case() -> Case {
             skin: 0.0,
             control: Control::Rate(1e-3),
             bhp_limit: None,
+            max_water_cut: None,
             origin: Origin::default(),
         }],
         boundaries: vec![Boundary {

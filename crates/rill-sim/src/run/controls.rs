@@ -59,6 +59,9 @@ impl WellState {
             Control::Bhp(p) => Some(p),
             Control::Rate(_) => self.limit,
             Control::Shut => None,
+            // Oil-water controls never reach this single-phase engine (`run` refuses
+            // oil-water cases, `NO_TWO_PHASE_ENGINE`); were one to, the well stays shut.
+            Control::OilRate(_) | Control::LiquidRate(_) | Control::WaterRate(_) => None,
         }
     }
     /// The BHP held when the well is on BHP control.
@@ -77,6 +80,9 @@ fn mode_of(c: Control) -> ControlMode {
         Control::Rate(_) => ControlMode::Rate,
         Control::Bhp(_) => ControlMode::Bhp,
         Control::Shut => ControlMode::Shut,
+        // Oil-water controls never reach this single-phase engine (`run` refuses
+        // oil-water cases, `NO_TWO_PHASE_ENGINE`); were one to, the well stays shut.
+        Control::OilRate(_) | Control::LiquidRate(_) | Control::WaterRate(_) => ControlMode::Shut,
     }
 }
 
@@ -319,6 +325,11 @@ impl Runner<'_> {
                     }
                     (ControlMode::Shut, _) => {}
                 },
+                // Oil-water controls never reach this single-phase engine (`run` refuses
+                // oil-water cases, `NO_TWO_PHASE_ENGINE`); were one to, the well stays shut.
+                Control::OilRate(_) | Control::LiquidRate(_) | Control::WaterRate(_) => {
+                    st.mode = ControlMode::Shut;
+                }
             }
             switched |= self.shut_if_reversed(w, st, x, false);
         }

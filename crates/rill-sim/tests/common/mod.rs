@@ -55,6 +55,7 @@ pub fn block(dx: Vec<f64>, dy: Vec<f64>, dz_layers: Vec<f64>, top: f64) -> Case 
             density: 62.4 * LB_FT3,
             ref_pressure: 3000.0 * PSI,
         },
+        oil_water: None,
         initial: Initial::Datum {
             pressure: 3000.0 * PSI,
             depth: top,
@@ -112,6 +113,7 @@ pub fn well(
         skin: 0.0,
         control,
         bhp_limit: None,
+        max_water_cut: None,
         origin: Origin::default(),
     }
 }
