@@ -120,7 +120,7 @@ pub fn to_json(r: &CellReport) -> Value {
             })
         })
         .collect();
-    json!({
+    let mut out = json!({
         "cell": {
             "i": r.i, "j": r.j, "k": r.k,
             "active": r.active,
@@ -133,7 +133,17 @@ pub fn to_json(r: &CellReport) -> Value {
         },
         "faces": faces,
         "wells": wells,
-    })
+    });
+    // Oil-water cases only: single-phase output stays as it was.
+    if let Some(cell) = out.get_mut("cell").and_then(Value::as_object_mut) {
+        if let Some(r) = &r.relperm {
+            cell.insert("relperm".into(), json!(r));
+        }
+        if let Some(sw) = r.water_saturation {
+            cell.insert("water_saturation".into(), json!(sw));
+        }
+    }
+    out
 }
 
 fn print_text(r: &CellReport, system: System) {
@@ -173,6 +183,12 @@ fn print_text(r: &CellReport, system: System) {
         show(r.pore_volume, Kind::ReservoirVolume),
         unit(Kind::ReservoirVolume).name
     );
+    if let Some(name) = &r.relperm {
+        println!("  relperm     \"{name}\"");
+    }
+    if let Some(sw) = r.water_saturation {
+        println!("  initial sw  {}", format_number(sw));
+    }
     println!();
     let t_head = format!("T [{}]", unit(Kind::Transmissibility).name);
     let k_head = format!("k_face [{perm}]");

@@ -1,6 +1,6 @@
 //! Hover: cells behind list items, tuples and patches (the numbers of
 //! `rill_model::inspect::cell_report`), wells (Peaceman radius, well index,
-//! productivity), quantities in SI and the other systems, units, keys and
+//! productivity), relperm blocks (mobility ratio, Buckley-Leverett front), quantities in SI and the other systems, units, keys and
 //! blocks from the schema, and the `rill explain` summary of a diagnostic
 //! under the cursor.
 
@@ -156,27 +156,18 @@ fn header_hover(
                 markdown: md,
             })
         }
-        name @ ("boundary" | "aquifer") if hit.blocks.len() == 1 => {
+        name @ ("boundary" | "aquifer" | "fault" | "relperm") if hit.blocks.len() == 1 => {
             let label = b.args.first()?;
             let AtomKind::Str { value, .. } = &label.kind else {
                 return None;
             };
-            let md = if name == "aquifer" {
-                crate::aquifer::aquifer_markdown(case?, value, run)?
-            } else {
-                crate::present::boundary_markdown(case?, value, run)?
+            let case = case?;
+            let md = match name {
+                "aquifer" => crate::aquifer::aquifer_markdown(case, value, run)?,
+                "boundary" => crate::present::boundary_markdown(case, value, run)?,
+                "fault" => crate::present::fault_markdown(case, value)?,
+                _ => crate::relperm::relperm_markdown(case, value)?,
             };
-            Some(Hover {
-                range: arg.map_or(b.name.span, |s| s.atom.span),
-                markdown: md,
-            })
-        }
-        "fault" if hit.blocks.len() == 1 => {
-            let label = b.args.first()?;
-            let AtomKind::Str { value, .. } = &label.kind else {
-                return None;
-            };
-            let md = crate::present::fault_markdown(case?, value)?;
             Some(Hover {
                 range: arg.map_or(b.name.span, |s| s.atom.span),
                 markdown: md,
@@ -239,6 +230,11 @@ fn value_hover(
         }
     }
     match &innermost.kind {
+        // `relperm = "channel sand"` in the rock or a patch: the curves it names.
+        AtomKind::Str { value, .. } if stmt.key.name == "relperm" => Some(Hover {
+            range: innermost.span,
+            markdown: crate::relperm::relperm_markdown(case?, value)?,
+        }),
         AtomKind::Str { value, .. } => {
             let is_file = steps.len() == 1
                 && steps[0].index == 1

@@ -48,6 +48,7 @@ mod locate;
 mod nav;
 mod outline;
 mod present;
+mod relperm;
 mod run_values;
 mod tokens;
 
@@ -138,6 +139,12 @@ pub enum SymbolKind {
     Patch,
     /// The `fluid` block.
     Fluid,
+    /// The `oil` block of an oil-water deck.
+    Oil,
+    /// The `water` block of an oil-water deck.
+    Water,
+    /// A `relperm` block: saturation functions.
+    Relperm,
     /// The `initial` block: the initial pressure.
     Initial,
     /// A `well` block.

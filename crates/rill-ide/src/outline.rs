@@ -71,6 +71,9 @@ fn block_symbol(text: &str, b: &Block, parents: &[&str]) -> Symbol {
         (None, "grid") => SymbolKind::Grid,
         (None, "rock") => SymbolKind::Rock,
         (None, "fluid") => SymbolKind::Fluid,
+        (None, "oil") => SymbolKind::Oil,
+        (None, "water") => SymbolKind::Water,
+        (None, "relperm") => SymbolKind::Relperm,
         (None, "initial") => SymbolKind::Initial,
         (None, "well") => SymbolKind::Well,
         (None, "boundary") => SymbolKind::Boundary,
@@ -91,6 +94,11 @@ fn block_symbol(text: &str, b: &Block, parents: &[&str]) -> Symbol {
         ),
         SymbolKind::Grid => ("grid".to_string(), key_text(text, b, "cells")),
         SymbolKind::Fluid => ("fluid".to_string(), lab.map(|l| l.0.to_string())),
+        SymbolKind::Oil | SymbolKind::Water => (name.to_string(), key_text(text, b, "viscosity")),
+        SymbolKind::Relperm => (
+            lab.map_or("relperm".to_string(), |l| l.0.to_string()),
+            key_text(text, b, "model").map(|m| format!("relperm, {m}")),
+        ),
         SymbolKind::Well => (
             lab.map_or("well".to_string(), |l| l.0.to_string()),
             key_text(text, b, "role"),
@@ -232,6 +240,19 @@ pub(crate) fn code_lenses(snap: &Snapshot) -> Vec<CodeLens> {
         .filter(|d| d.severity == Severity::Error)
         .count();
     let span = first.name.span;
+    if errors == 0
+        && analysis
+            .case
+            .as_ref()
+            .is_some_and(|c| c.oil_water.is_some())
+    {
+        // Checked clean, but this build has no oil-water engine.
+        return vec![CodeLens {
+            span,
+            title: "Run case: no oil-water engine in this build yet".into(),
+            command: None,
+        }];
+    }
     if errors == 0 && analysis.case.is_some() {
         vec![CodeLens {
             span,

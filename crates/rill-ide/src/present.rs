@@ -107,6 +107,19 @@ fn render_cell(case: &Case, r: &CellReport, heading: &str) -> String {
         "| pore volume | {} |\n",
         show(r.pore_volume, Kind::ReservoirVolume, sys)
     ));
+    if let Some(name) = &r.relperm {
+        s.push_str(&format!("| relperm | \"{}\" |\n", escape_md(name)));
+    }
+    if let Some(sw) = r.water_saturation {
+        let how = match case.oil_water.as_ref().map(|ow| &ow.saturation) {
+            Some(rill_model::InitialSaturation::Contact { .. }) => "from the water contact",
+            _ => "given",
+        };
+        s.push_str(&format!(
+            "| initial water saturation | {} ({how}) |\n",
+            format_number(sw)
+        ));
+    }
     s.push('\n');
     let t_unit = display_unit(Kind::Transmissibility, sys).name;
     // A fault on a face adds its multiplier and the transmissibility before it.
@@ -140,6 +153,9 @@ fn render_cell(case: &Case, r: &CellReport, heading: &str) -> String {
             s.push_str(&format!(" {} |", num(f.trans, Kind::Transmissibility, si)));
         }
         s.push('\n');
+    }
+    if case.oil_water.is_some() {
+        s.push_str("\nT and productivity with the oil's viscosity and formation volume factor.\n");
     }
     if faulted {
         s.push_str(&format!(

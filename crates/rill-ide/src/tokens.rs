@@ -65,7 +65,14 @@ fn items(out: &mut Out, list: &[Item]) {
             Item::Statement(s) => {
                 out.push(s.key.span, TokenKind::Key);
                 out.push(s.eq, TokenKind::Operator);
-                atoms(out, &s.value.atoms);
+                match s.value.atoms.as_slice() {
+                    // `relperm = "channel sand"` names a block, as its label does.
+                    [a @ Atom {
+                        kind: AtomKind::Str { unit: None, .. },
+                        ..
+                    }] if s.key.name == "relperm" => out.push(a.span, TokenKind::Name),
+                    list => atoms(out, list),
+                }
             }
             Item::Directive(d) => {
                 let kind = if d.name.name == "include" {
@@ -129,6 +136,7 @@ fn atom(out: &mut Out, a: &Atom) {
                 schema::RUN_KINDS,
                 schema::SYSTEMS,
                 schema::CONTROL_WORDS,
+                schema::RELPERM_MODELS,
             ]
             .iter()
             .any(|names| names.contains(&w))

@@ -130,7 +130,10 @@ fn symbol_kind(k: ide::SymbolKind) -> lsp::SymbolKind {
     use ide::SymbolKind as K;
     match k {
         K::Case => lsp::SymbolKind::PACKAGE,
-        K::Grid | K::Rock | K::Fluid | K::Initial | K::Report => lsp::SymbolKind::STRUCT,
+        K::Grid | K::Rock | K::Fluid | K::Oil | K::Water | K::Initial | K::Report => {
+            lsp::SymbolKind::STRUCT
+        }
+        K::Relperm => lsp::SymbolKind::FUNCTION,
         K::Patch => lsp::SymbolKind::OBJECT,
         K::Well => lsp::SymbolKind::VARIABLE,
         K::Boundary | K::Fault | K::Aquifer => lsp::SymbolKind::INTERFACE,

@@ -37,6 +37,11 @@ pub struct CellReport {
     pub faces: Vec<FaceReport>,
     /// Wells completed in the cell.
     pub wells: Vec<WellReport>,
+    /// Oil-water cases: the label of the `relperm` block the cell uses.
+    pub relperm: Option<String>,
+    /// Oil-water cases: the initial water saturation, given or from the
+    /// contact's capillary-gravity equilibrium (`derived::saturation`).
+    pub water_saturation: Option<f64>,
 }
 
 /// One face of the cell in a [`CellReport`], SI.
@@ -56,7 +61,8 @@ pub struct FaceReport {
     pub perm_face: f64,
     /// k A / L times the fault multiplier, m^3: the number the simulator assembles.
     pub geometric_trans: f64,
-    /// With viscosity and formation volume factor: surface m^3 / (s Pa).
+    /// With viscosity and formation volume factor (the oil's in an
+    /// oil-water case): surface m^3 / (s Pa).
     pub trans: f64,
     /// The product of the multipliers of the faults on this face (1 without one).
     pub multiplier: f64,
@@ -166,5 +172,11 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
         pore_volume: derived::pore_volume(g, rock, c),
         faces,
         wells,
+        relperm: case
+            .oil_water
+            .as_ref()
+            .and_then(|ow| ow.relperms.get(ow.cell_relperm.of(c)))
+            .map(|r| r.name.clone()),
+        water_saturation: derived::saturation::initial_water_saturation(case, c),
     })
 }

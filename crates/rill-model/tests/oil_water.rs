@@ -508,3 +508,50 @@ fn given_saturations_outside_zero_to_one_and_each_phase_are_checked() {
     assert_eq!(v[0].1, "water viscosity must be positive");
     assert_eq!(v[0].3, "0 cP");
 }
+
+/// The equilibrium of the deck, cell by cell, against hand-derived values,
+/// with incompressible phases (the deck's compressibilities removed). The
+/// density difference is (63.8 - 51) lb/ft^3 = 12.8 lb/ft^3, so a column
+/// h ft high above the contact holds pc = 12.8 h / 144 psi.
+#[test]
+fn saturations_from_the_contact_invert_each_cells_curves() {
+    use rill_model::derived::saturation::{initial_water_saturation, initial_water_saturations};
+    let incompressible = DECK
+        .replace("  compressibility = 1.2e-5 1/psi\n", "")
+        .replace("  compressibility = 3e-6 1/psi\n", "");
+    assert!(!incompressible.contains("compressibility"));
+    let sw_at = |text: &str, k: usize| {
+        let text = text.replace(DECK, &incompressible);
+        let case = check(&text).case.expect("a case");
+        let all = initial_water_saturations(&case);
+        assert_eq!(all.len(), case.grid.cell_count());
+        let c = case.grid.index(2, 0, k);
+        assert_eq!(Some(all[c]), initial_water_saturation(&case, c));
+        all[c]
+    };
+    // Layer 3 ("sand", centre 6062.5 ft), 17.5 ft above the contact at
+    // 6080 ft: pc = 12.8 * 17.5 / 144 = 1.5556 psi; Corey with
+    // pc_entry = 2 psi: S = 1 - 1.5556 / 2 = 0.22222,
+    // sw = 0.18 + 0.6 S = 0.31333.
+    assert!((sw_at(DECK, 2) - (0.18 + 0.6 * (1.0 - 12.8 * 17.5 / 144.0 / 2.0))).abs() < 1e-12);
+    assert!((sw_at(DECK, 2) - 0.313_333_3).abs() < 1e-7);
+    // Layers 1 and 2 (6012.5 and 6037.5 ft) stand 67.5 and 42.5 ft above
+    // it: pc above 2 psi, so connate water.
+    assert_eq!(sw_at(DECK, 0), 0.18);
+    assert_eq!(sw_at(DECK, 1), 0.18);
+    // Layer 4 lies below the contact: water only.
+    assert_eq!(sw_at(DECK, 3), 1.0);
+    // With the contact at 6110 ft, layer 4 ("silt", the table, centre
+    // 6087.5 ft) stands 22.5 ft above it: pc = 12.8 * 22.5 / 144 = 2 psi,
+    // between the rows (0.25, 9 psi) and (0.45, 1.6 psi):
+    // sw = 0.25 + 0.2 (9 - 2) / (9 - 1.6) = 0.43919.
+    let lower = incompressible.replace("water_contact = 6080 ft", "water_contact = 6110 ft");
+    assert!((sw_at(&lower, 3) - (0.25 + 0.2 * 7.0 / 7.4)).abs() < 1e-12);
+    assert!((sw_at(&lower, 3) - 0.439_189_2).abs() < 1e-7);
+    // The deck as written has slightly compressible phases: the oil is
+    // 7e-5 denser 7 psi below the datum, and the transition a little lower.
+    let compressible = check(DECK).case.expect("a case");
+    let c = compressible.grid.index(2, 0, 2);
+    let sw = initial_water_saturation(&compressible, c).unwrap();
+    assert!(sw > 0.313_333_3 && sw < 0.3136, "{sw}");
+}

@@ -36,6 +36,13 @@
 //!   still starts a line. Otherwise (an included
 //!   fragment without a `grid`, a list with comments) the list wraps as any
 //!   other. `layers [...]` (NZ values, usually a few) wraps as any other.
+//! - In a `relperm` block, consecutive statements whose values are lists of
+//!   plain numbers of one length (a saturation table: `sw`, `krw`, `kro`,
+//!   `pc`) are laid out as a table: the keys padded to one width, and each
+//!   column of values padded to its widest, so that the values of one row
+//!   stand under each other (`kro = [0.7  0.42 0   ]`). A table whose lines
+//!   would pass 100 columns, or with a comment inside a list, wraps as any
+//!   other list.
 //! - A block stays on one line (`well "A" { control = bhp 1500 psi }`, with
 //!   `; ` between its items, `name {}` when empty) when it was on one line
 //!   and still fits in 100 columns; otherwise it is expanded, one item per
@@ -75,6 +82,7 @@ pub fn format(file: &SourceFile, text: &str) -> String {
         nx: grid_nx(&file.items),
         rows_laid: false,
         level: 0,
+        rows: Vec::new(),
     };
     f.container(&file.items, 0, true, text.len());
     // Comments that no container claimed (not reached for a tree from `parse`).
@@ -98,6 +106,9 @@ struct Fmt<'a> {
     rows_laid: bool,
     /// Indentation level of the item whose words are being built.
     level: usize,
+    /// Statements laid out as rows of a table, by the start of their span
+    /// (see [`Fmt::table_rows`]).
+    rows: Vec<(usize, String)>,
 }
 
 struct Word {
@@ -309,6 +320,18 @@ impl<'a> Fmt<'a> {
         self.level = level;
         let words = match item {
             Item::Block(b) => return self.block(b, level, limit),
+            Item::Statement(s) if self.rows.iter().any(|r| r.0 == s.span.start) => {
+                let row = self
+                    .rows
+                    .iter()
+                    .find(|r| r.0 == s.span.start)
+                    .map(|r| r.1.clone());
+                self.out.push_str(&indent(level));
+                self.out.push_str(&row.unwrap_or_default());
+                let end = self.trailing(item.span().end, limit);
+                self.out.push('\n');
+                return end;
+            }
             Item::Statement(s) => self.statement_words(s),
             Item::Directive(d) => self.directive_words(d),
         };
@@ -363,6 +386,9 @@ impl<'a> Fmt<'a> {
         let first = b.items.first().map_or(close_start, |i| i.span().start);
         self.trailing(b.open.end, first);
         self.out.push('\n');
+        if b.name.name == "relperm" {
+            self.table_rows(&b.items, level + 1);
+        }
         self.container(&b.items, level + 1, false, close_start);
         self.out.push_str(&indent(level));
         self.out.push('}');
@@ -490,6 +516,93 @@ impl<'a> Fmt<'a> {
         words.push(close);
         self.rows_laid = true;
         true
+    }
+
+    /// Finds the runs of consecutive statements in `items` whose values are
+    /// lists of plain numbers of one length (two or more of them), and
+    /// records each statement of such a run as a row of an aligned table.
+    fn table_rows<'i>(&mut self, items: &'i [Item], level: usize) {
+        // One statement's key, its values as text and the text after `]`.
+        type Row<'s> = (&'s Statement, Vec<String>, String);
+        let comments = self.comments;
+        let row_of = |item: &'i Item| -> Option<Row<'i>> {
+            let Item::Statement(s) = item else {
+                return None;
+            };
+            let [Atom {
+                kind: AtomKind::List { items, unit, close },
+                span,
+            }] = s.value.atoms.as_slice()
+            else {
+                return None;
+            };
+            let end = close.map_or(span.end, |c| c.start);
+            if items.is_empty()
+                || comments
+                    .iter()
+                    .any(|c| span.start < c.span.start && c.span.start < end)
+            {
+                return None;
+            }
+            let values = items
+                .iter()
+                .map(|it| match &it.kind {
+                    AtomKind::Number {
+                        raw, unit: None, ..
+                    } => Some(raw.clone()),
+                    _ => None,
+                })
+                .collect::<Option<Vec<String>>>()?;
+            Some((s, values, with_unit("]".into(), unit)))
+        };
+        let mut runs: Vec<Vec<Row>> = Vec::new();
+        let mut current: Vec<Row> = Vec::new();
+        for item in items {
+            match row_of(item) {
+                Some(row) if current.first().is_none_or(|f| f.1.len() == row.1.len()) => {
+                    current.push(row)
+                }
+                next => {
+                    runs.push(std::mem::take(&mut current));
+                    current.extend(next);
+                }
+            }
+        }
+        runs.push(current);
+        for run in runs.into_iter().filter(|r| r.len() >= 2) {
+            let key_width = run
+                .iter()
+                .map(|r| r.0.key.name.chars().count())
+                .max()
+                .unwrap_or(0);
+            let columns = run[0].1.len();
+            let widths: Vec<usize> = (0..columns)
+                .map(|c| {
+                    run.iter()
+                        .map(|r| r.1[c].chars().count())
+                        .max()
+                        .unwrap_or(0)
+                })
+                .collect();
+            let lines: Vec<(usize, String)> = run
+                .iter()
+                .map(|(s, values, close)| {
+                    let cells: Vec<String> = values
+                        .iter()
+                        .zip(&widths)
+                        .map(|(v, w)| format!("{v:<w$}"))
+                        .collect();
+                    let key = format!("{:<key_width$}", s.key.name);
+                    (s.span.start, format!("{key} = [{}{close}", cells.join(" ")))
+                })
+                .collect();
+            if lines
+                .iter()
+                .all(|(_, l)| level * 2 + l.chars().count() <= WIDTH)
+            {
+                self.rows.extend(lines);
+            }
+        }
     }
 
     /// Comments before `limit` inside brackets, as words.

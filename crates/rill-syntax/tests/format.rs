@@ -291,3 +291,39 @@ fn wide_grid_rows_wrap_at_a_fixed_count_and_each_row_starts_a_line() {
         );
     }
 }
+
+/// A saturation table in a `relperm` block is laid out with its columns
+/// aligned, keys padded to one width; anything else in the block, and
+/// lists elsewhere, keep the plain layout.
+#[test]
+fn relperm_tables_align_their_columns() {
+    fmt(
+        "relperm \"shaly layers\" {\n  model = table\n  sw = [0.25 0.35 0.45 0.55 0.65 0.72]\n  krw = [0 0.02 0.07 0.15 0.26 0.35]\n  kro = [0.7 0.42 0.21 0.08 0.01 0]  # oil\n  pc = [9 3.2 1.6 0.8 0.3 0] psi\n}\n",
+        "relperm \"shaly layers\" {\n  model = table\n  sw  = [0.25 0.35 0.45 0.55 0.65 0.72]\n  krw = [0    0.02 0.07 0.15 0.26 0.35]\n  kro = [0.7  0.42 0.21 0.08 0.01 0   ]  # oil\n  pc  = [9    3.2  1.6  0.8  0.3  0   ] psi\n}\n",
+    );
+    // Lists of different lengths are not one table (the checker reports
+    // them); neither is one list alone, nor the same lists outside relperm.
+    fmt(
+        "relperm \"a\" {\n  sw = [0.2 0.5 0.8]\n  krw = [0 0.3]\n}\n",
+        "relperm \"a\" {\n  sw = [0.2 0.5 0.8]\n  krw = [0 0.3]\n}\n",
+    );
+    fmt(
+        "grid {\n  dx = [100 2000]\n  dy = [20 30]\n}\n",
+        "grid {\n  dx = [100 2000]\n  dy = [20 30]\n}\n",
+    );
+    // A comment inside a list leaves the table to the plain layout.
+    fmt(
+        "relperm \"a\" {\n  sw = [0.2 0.5 0.8]\n  krw = [0 0.1 # low\n  0.3]\n}\n",
+        "relperm \"a\" {\n  sw = [0.2 0.5 0.8]\n  krw = [0 0.1  # low\n    0.3]\n}\n",
+    );
+    // A table too wide for 100 columns wraps as any list.
+    let wide: Vec<String> = (0..30).map(|i| format!("0.{:02}", i + 10)).collect();
+    let text = format!(
+        "relperm \"a\" {{\n  sw = [{}]\n  krw = [{}]\n}}\n",
+        wide.join(" "),
+        wide.join(" ")
+    );
+    let out = check_format(&text, &parse(&text));
+    assert!(out.lines().all(|l| l.chars().count() <= 100), "{out}");
+    assert!(out.contains("\n  sw = [0.10 "), "{out}");
+}

@@ -1,0 +1,222 @@
+//! The editor on an oil-water deck: hover on a `relperm` block (mobility
+//! ratio and the Buckley-Leverett front) and on a cell (its curves and
+//! initial saturation), completion of the controls that fit the role and
+//! of relperm labels, the outline, the tokens and the run lens.
+
+mod common;
+use common::*;
+use rill_ide::{CompletionKind, SymbolKind, TokenKind};
+
+const DECK: &str = include_str!("../../../tests/fixtures/well.control-phase/clean.rill");
+
+/// The number in the row of the markdown table whose first cell starts with `what`.
+fn row_value(md: &str, what: &str) -> f64 {
+    let row = md
+        .lines()
+        .find(|l| l.starts_with(&format!("| {what}")))
+        .unwrap_or_else(|| panic!("no row `{what}` in\n{md}"));
+    let cells = row_cells(row);
+    let value = cells[1].split_whitespace().next().unwrap();
+    value
+        .parse()
+        .unwrap_or_else(|_| panic!("`{value}` in {row}"))
+}
+
+/// The fixture's curves: Corey swc 0.2, sor 0.25, krw_end 0.3, kro_end
+/// 0.8, nw = no = 2, with 2 cP oil and 0.5 cP water. M = (0.3 / 0.5) /
+/// (0.8 / 2) = 1.5. The front is checked against a brute-force maximum of
+/// the secant f_w(S) / (S - swc) on a grid of 200,000 saturations.
+#[test]
+fn hover_on_a_relperm_block_gives_the_mobility_ratio_and_the_front() {
+    let s = snap(DECK);
+    let h = s.hover(at(DECK, "relperm \"sand\"", 2)).expect("a hover");
+    let md = &h.markdown;
+    assert!(
+        md.starts_with("**relperm \"sand\"** — Corey: swc 0.2, sor 0.25"),
+        "{md}"
+    );
+    assert!(md.contains("used by 24 active cells"), "{md}");
+    assert!(md.contains("With oil 2 cP and water 0.5 cP"), "{md}");
+    assert_eq!(row_value(md, "endpoint mobility ratio"), 1.5);
+    let f = |s: f64| {
+        let n = ((s - 0.2) / 0.55).clamp(0.0, 1.0);
+        let (lw, lo) = (0.3 * n * n / 0.5, 0.8 * (1.0 - n) * (1.0 - n) / 2.0);
+        lw / (lw + lo)
+    };
+    let (mut best_s, mut best) = (0.2, 0.0);
+    for i in 1..=200_000 {
+        let s = 0.2 + 0.55 * i as f64 / 200_000.0;
+        let v = f(s) / (s - 0.2);
+        if v > best {
+            (best_s, best) = (s, v);
+        }
+    }
+    // Four significant digits are shown.
+    let near = |shown: f64, exact: f64| (shown - exact).abs() <= 5e-5 * exact.abs().max(1.0);
+    let front = row_value(md, "water saturation behind the front");
+    assert!(near(front, best_s), "{front} vs {best_s}");
+    assert!(near(
+        row_value(md, "fractional flow at the front"),
+        f(best_s)
+    ));
+    assert!(near(
+        row_value(md, "pore volumes injected at breakthrough"),
+        1.0 / best
+    ));
+    assert!(near(
+        row_value(md, "average water saturation"),
+        0.2 + 1.0 / best
+    ));
+    // The curves are tabulated from swc to 1 - sor.
+    assert!(md.contains("| 0.2 | 0 | 0.8 | 1.5 | 0 |"), "{md}");
+    assert!(md.contains("| 0.75 | 0.3 | 0 | 0 | 1 |"), "{md}");
+    // The same text on the label in `rock { relperm = ... }`.
+    let text = DECK.replace(
+        "  kz = 0.1 * kx\n",
+        "  kz = 0.1 * kx\n  relperm = \"sand\"\n",
+    );
+    let s = snap(&text);
+    let h = s
+        .hover(at(&text, "relperm = \"sand\"", 12))
+        .expect("a hover");
+    assert!(
+        h.markdown.starts_with("**relperm \"sand\"**"),
+        "{}",
+        h.markdown
+    );
+}
+
+#[test]
+fn hover_on_a_cell_gives_its_curves_and_initial_saturation() {
+    // Cell (1, 1, 2) of the injector's column: 6035 ft, 5 ft above the
+    // contact at 6040 ft. With (63.5 - 52) lb/ft^3 between the phases,
+    // pc = 11.5 * 5 / 144 psi = 0.3993 psi (compressibility moves it in the
+    // fourth digit), so S = 1 - 0.3993 / 1.5 and sw = 0.2 + 0.55 S = 0.6036.
+    let text = DECK.replace("location = (1, 1)", "completions = [(1, 1, 2)]");
+    let s = snap(&text);
+    let h = s.hover(at(&text, "(1, 1, 2)", 1)).expect("a hover");
+    let md = &h.markdown;
+    assert!(md.contains("| relperm | \"sand\" |"), "{md}");
+    let row = md
+        .lines()
+        .find(|l| l.starts_with("| initial water saturation"))
+        .expect("the saturation");
+    assert!(row.contains("(from the water contact)"), "{row}");
+    let sw: f64 = row_cells(row)[1]
+        .split_whitespace()
+        .next()
+        .unwrap()
+        .parse()
+        .unwrap();
+    let exact = 0.2 + 0.55 * (1.0 - 11.5 * 5.0 / 144.0 / 1.5);
+    assert!((sw - exact).abs() < 2e-4, "{sw} vs {exact}");
+    assert!(md.contains("with the oil's viscosity"), "{md}");
+}
+
+#[test]
+fn completion_offers_the_controls_of_the_role_and_the_relperm_labels() {
+    let labels = |text: &str, pat: &str, plus: usize| -> Vec<String> {
+        snap(text)
+            .completion(at(text, pat, plus))
+            .into_iter()
+            .map(|i| i.label)
+            .collect()
+    };
+    let text = DECK.replace("control = water_rate 300 stb/day", "control = ");
+    assert_eq!(
+        labels(&text, "control = \n", 10),
+        ["water_rate", "bhp", "shut"]
+    );
+    let text = DECK.replace("control = oil_rate 250 stb/day", "control = ");
+    assert_eq!(
+        labels(&text, "control = \n", 10),
+        ["oil_rate", "liquid_rate", "bhp", "shut"]
+    );
+    // Units of a phase rate are surface rates.
+    let text = DECK.replace("oil_rate 250 stb/day", "oil_rate 250 ");
+    assert!(labels(&text, "oil_rate 250 ", 13).contains(&"stb/day".to_string()));
+    // An event's change takes the role of its well.
+    let text = DECK.replace(
+        "  report_every = 10 day\n",
+        "  report_every = 10 day\n  at 50 day {\n    well \"P-1\" { control =  }\n  }\n",
+    );
+    assert_eq!(
+        labels(&text, "control =  }", 10),
+        ["oil_rate", "liquid_rate", "bhp", "shut"]
+    );
+    // `relperm = ` in the rock: the labels, quoted; inside quotes, bare.
+    let text = DECK.replace("  kz = 0.1 * kx\n", "  kz = 0.1 * kx\n  relperm = \n");
+    let items = snap(&text).completion(at(&text, "relperm = \n", 10));
+    assert_eq!(items.len(), 1);
+    assert_eq!(
+        (items[0].label.as_str(), items[0].kind),
+        ("\"sand\"", CompletionKind::Reference)
+    );
+    let text = DECK.replace("  kz = 0.1 * kx\n", "  kz = 0.1 * kx\n  relperm = \"sa\"\n");
+    let items = snap(&text).completion(at(&text, "\"sa\"", 3));
+    assert_eq!(items.len(), 1);
+    assert_eq!(items[0].insert_text, "sand");
+    // A single-phase deck keeps `rate`.
+    assert!(BASE.contains("control = rate 300 stb/day"));
+    let text = BASE.replace("control = rate 300 stb/day", "control = ");
+    assert_eq!(labels(&text, "control = \n", 10), ["rate", "bhp", "shut"]);
+}
+
+#[test]
+fn outline_tokens_and_lens_know_the_oil_water_blocks() {
+    let s = snap(DECK);
+    let symbols = s.symbols();
+    let kinds: Vec<(String, SymbolKind, Option<String>)> = symbols
+        .iter()
+        .map(|x| (x.name.clone(), x.kind, x.detail.clone()))
+        .collect();
+    assert!(
+        kinds.contains(&("oil".into(), SymbolKind::Oil, Some("2 cP".into()))),
+        "{kinds:?}"
+    );
+    assert!(
+        kinds.contains(&("water".into(), SymbolKind::Water, Some("0.5 cP".into()))),
+        "{kinds:?}"
+    );
+    assert!(
+        kinds.contains(&(
+            "sand".into(),
+            SymbolKind::Relperm,
+            Some("relperm, corey".into())
+        )),
+        "{kinds:?}"
+    );
+    let token = |pat: &str, plus: usize| {
+        let off = at(DECK, pat, plus);
+        s.semantic_tokens()
+            .into_iter()
+            .find(|t| t.span.start == off)
+            .map(|t| t.kind)
+    };
+    assert_eq!(token("oil {", 0), Some(TokenKind::Block));
+    assert_eq!(token("relperm \"sand\"", 0), Some(TokenKind::Block));
+    assert_eq!(token("model = corey", 8), Some(TokenKind::EnumValue));
+    assert_eq!(token("water_rate 300", 0), Some(TokenKind::EnumValue));
+    assert_eq!(token("water_contact", 0), Some(TokenKind::Key));
+    let text = DECK.replace(
+        "  kz = 0.1 * kx\n",
+        "  kz = 0.1 * kx\n  relperm = \"sand\"\n",
+    );
+    let s2 = snap(&text);
+    let off = at(&text, "= \"sand\"", 2);
+    let kind = s2
+        .semantic_tokens()
+        .into_iter()
+        .find(|t| t.span.start == off)
+        .map(|t| t.kind);
+    assert_eq!(kind, Some(TokenKind::Name));
+    // Clean, but not runnable in this build: the lens says so and runs nothing.
+    let lenses = s.code_lenses();
+    assert_eq!(lenses.len(), 1);
+    assert_eq!(lenses[0].command, None);
+    assert!(
+        lenses[0].title.contains("no oil-water engine"),
+        "{}",
+        lenses[0].title
+    );
+}
