@@ -1,7 +1,9 @@
 // VS Code glue for the rill language server (`rill lsp` on stdio).
 // Everything the language knows (diagnostics, hover, inlay hints, the
 // "Run case" code lens) lives in the server; this file only starts it,
-// passes the `rill.*` settings along and opens the report after a run.
+// passes the `rill.*` settings along and opens the report after a run (in
+// the system browser, or in a VS Code tab where the browser cannot reach the
+// file: a browser or remote VS Code).
 import * as fs from 'fs';
 import * as os from 'os';
 import * as path from 'path';
@@ -95,8 +97,64 @@ function reportFromResult(result: unknown): string | undefined {
   return value.startsWith('file:') ? vscode.Uri.parse(value).fsPath : value;
 }
 
+/**
+ * Whether the system browser can open a file of the machine the extension
+ * runs on: only with a desktop VS Code on that same machine. In a VS Code
+ * that runs in a browser (code-server) or a remote window (SSH, containers,
+ * WSL) the UI is on another machine than the file, and openExternal of a
+ * file: URI cannot reach it (a browser VS Code even navigates its own page
+ * towards it).
+ */
+export function systemBrowserReachesFiles(): boolean {
+  return vscode.env.uiKind !== vscode.UIKind.Web && !vscode.env.remoteName;
+}
+
+/** Report tabs by report path: a new run of the same deck refreshes its tab. */
+const reportPanels = new Map<string, vscode.WebviewPanel>();
+
+/** The tab title of a report: `rill report: <deck name>`. */
+export function reportTitle(reportPath: string): string {
+  return `rill report: ${path.basename(path.dirname(reportPath)).replace(/\.out$/i, '')}`;
+}
+
+/** Shows report.html in a VS Code tab (the page is self-contained and needs no scripts). */
+function showReportInTab(reportPath: string): boolean {
+  let html: string;
+  try {
+    html = fs.readFileSync(reportPath, 'utf8');
+  } catch (err) {
+    void vscode.window.showErrorMessage(`rill: cannot read ${reportPath}: ${err instanceof Error ? err.message : String(err)}`);
+    return false;
+  }
+  let panel = reportPanels.get(reportPath);
+  if (panel) {
+    panel.reveal(undefined, true);
+  } else {
+    panel = vscode.window.createWebviewPanel(
+      'rill.report',
+      reportTitle(reportPath),
+      { viewColumn: vscode.ViewColumn.Beside, preserveFocus: true },
+      { enableScripts: false, enableFindWidget: true },
+    );
+    const created = panel;
+    reportPanels.set(reportPath, created);
+    created.onDidDispose(() => {
+      if (reportPanels.get(reportPath) === created) {
+        reportPanels.delete(reportPath);
+      }
+    });
+  }
+  panel.webview.html = html;
+  log(`report shown in a tab: ${reportPath}`);
+  return true;
+}
+
 async function openReport(uri: vscode.Uri): Promise<boolean> {
-  // A file: URI opens in the system browser; the page is self-contained.
+  // The page is self-contained: the system browser shows it when it can
+  // reach the file, a VS Code tab otherwise.
+  if (uri.scheme === 'file' && !systemBrowserReachesFiles()) {
+    return showReportInTab(uri.fsPath);
+  }
   return vscode.env.openExternal(uri);
 }
 
@@ -350,6 +408,13 @@ export async function activate(context: vscode.ExtensionContext): Promise<RillAp
       }
     }),
     { dispose: () => void stopClient() },
+    {
+      dispose: () => {
+        for (const panel of [...reportPanels.values()]) {
+          panel.dispose();
+        }
+      },
+    },
   );
   await startClient();
   return { client: () => client, runCase };

@@ -109,6 +109,10 @@ const state = {
   configuration: {}, // flat keys under `rill`, e.g. { 'inlayHints.enabled': false }
   diagnostics: new Map(), // uri string -> Diagnostic[]
   openedExternally: [],
+  uiKind: 1, // UIKind.Desktop
+  remoteName: undefined,
+  // Webview panels created: { viewType, title, options, html, revealed, disposed }.
+  webviews: [],
   messages: [],
   // What showInformationMessage answers, as if the user clicked that button.
   informationAnswer: undefined,
@@ -201,6 +205,18 @@ const window = withFallback('window', {
   showErrorMessage: async (m) => { state.messages.push(['error', m]); return undefined; },
   withProgress: async (_opts, task) => task({ report() {} }, new CancellationTokenSource().token),
   showTextDocument: async () => undefined,
+  createWebviewPanel(viewType, title, showOptions, options) {
+    const disposed = new EventEmitter();
+    const record = { viewType, title, showOptions, options, html: undefined, revealed: 0, disposed: false };
+    state.webviews.push(record);
+    return {
+      viewType, title,
+      webview: { get html() { return record.html; }, set html(v) { record.html = v; } },
+      reveal() { record.revealed++; },
+      onDidDispose: disposed.event,
+      dispose() { if (!record.disposed) { record.disposed = true; disposed.fire(); } },
+    };
+  },
   activeTextEditor: undefined,
   visibleTextEditors: [],
   tabGroups: { all: [], onDidChangeTabs: () => new Disposable(), onDidChangeTabGroups: () => new Disposable() },
@@ -247,6 +263,9 @@ const commands = withFallback('commands', {
 const env = withFallback('env', {
   appName: 'rill-activation-test', language: 'en', machineId: 'test', sessionId: 'test', uriScheme: 'vscode',
   openExternal: async (uri) => { state.openedExternally.push(uri.toString()); return true; },
+  // A desktop VS Code on the deck's machine unless the test says otherwise.
+  get uiKind() { return state.uiKind; },
+  get remoteName() { return state.remoteName; },
 });
 
 const enums = {
@@ -256,6 +275,8 @@ const enums = {
   ConfigurationTarget: { Global: 1, Workspace: 2, WorkspaceFolder: 3 },
   EndOfLine: { LF: 1, CRLF: 2 },
   TextDocumentSaveReason: { Manual: 1, AfterDelay: 2, FocusOut: 3 },
+  UIKind: { Desktop: 1, Web: 2 },
+  ViewColumn: { Active: -1, Beside: -2, One: 1, Two: 2 },
 };
 
 module.exports = withFallback('vscode', {

@@ -50,6 +50,9 @@ async function startExtension({ configuration, folder, documents }) {
   state.documents = documents.map((d) => makeDocument(d.file, 'rill', d.text));
   state.diagnostics.clear();
   state.openedExternally.length = 0;
+  state.webviews.length = 0;
+  state.uiKind = vscode.UIKind.Desktop;
+  state.remoteName = undefined;
   state.messages.length = 0;
   state.informationAnswer = undefined;
   const context = { subscriptions: [], extensionPath: path.resolve(__dirname, '../..') };

@@ -99,6 +99,43 @@ test('without showDocument, the report is offered when it is written', { timeout
   }
 });
 
+for (const [where, setUp] of [
+  ['a browser VS Code (code-server)', () => { state.uiKind = vscode.UIKind.Web; }],
+  ['a remote window', () => { state.remoteName = 'ssh-remote'; }],
+]) {
+  test(`in ${where} the report opens in a VS Code tab, not the system browser`, { timeout: 60000 }, async () => {
+    const dir = tempDir('rill-activation-tab-');
+    const wrapper = path.join(dir, 'rill');
+    fs.writeFileSync(wrapper, `#!/bin/sh\nexec "${process.execPath}" "${path.join(__dirname, 'stand-in-server.js')}" "$@"\n`, { mode: 0o755 });
+    const deck = path.join(dir, 'pilot.rill');
+    fs.writeFileSync(deck, 'grid { cells = 2 x 2 x 1 }\n');
+    const ext = await startExtension({
+      configuration: { path: wrapper },
+      folder: dir,
+      documents: [{ file: deck, text: fs.readFileSync(deck, 'utf8') }],
+    });
+    setUp();
+    try {
+      await withTimeout(vscode.commands.executeCommand('rill.runCase', vscode.Uri.file(deck)), 10000, 'rill.runCase');
+      const panel = await waitFor('a report tab', () => state.webviews[0]?.html && state.webviews[0], 10000);
+      assert.equal(panel.viewType, 'rill.report');
+      assert.equal(panel.title, 'rill report: pilot');
+      assert.equal(panel.options.enableScripts, false);
+      assert.equal(panel.html, fs.readFileSync(path.join(dir, 'pilot.out', 'report.html'), 'utf8'));
+      assert.deepEqual(state.openedExternally, []);
+      // A second run refreshes the same tab.
+      fs.rmSync(path.join(dir, 'pilot.out'), { recursive: true });
+      await withTimeout(vscode.commands.executeCommand('rill.runCase', vscode.Uri.file(deck)), 10000, 'rill.runCase');
+      await waitFor('the tab revealed again', () => panel.revealed === 1, 10000);
+      assert.equal(state.webviews.length, 1);
+      assert.deepEqual(state.messages.filter(([kind]) => kind === 'error'), []);
+    } finally {
+      await ext.stop();
+    }
+    assert.equal(state.webviews[0].disposed, true, 'the tab closes with the extension');
+  });
+}
+
 test('a missing binary is reported, not thrown', { timeout: 30000 }, async () => {
   const dir = tempDir('rill-activation-missing-');
   const ext = await startExtension({
