@@ -6,9 +6,8 @@
 # playwright-core (editors/vscode/test/real/drive.mjs): open a workspace
 # with two decks, see a diagnostic from `rill lsp` in the Problems panel,
 # hover a well's cell and find its faces' transmissibilities, run the case
-# with "rill: Run case" and find its result files. (Hover after the run is
-# tested against the server by tests/lsp/test_run_hover.py; in this
-# workbench hover stopped answering after a run: DEVELOPERS.md, known gaps.)
+# with "rill: Run case" and find its result files, hover again and find the
+# run's values.
 #
 # The pinned packages (editors/vscode/test/real/package-lock.json) go to
 # target/vscode-real/, not the repository; VS Code's own dependencies are

@@ -1,7 +1,8 @@
 // Drives the rill extension in a real VS Code (code-server) with headless
 // Chromium: opens the workspace, sees a diagnostic in the Problems panel,
 // hovers a well's cell and finds the interface transmissibilities, runs
-// the case from the command palette and finds its result files. Run by
+// the case from the command palette and finds its result files, then
+// hovers again and finds the run's values. Run by
 // scripts/checks/vscode_real.sh:
 //   node drive.mjs URL WORKSPACE SCREENSHOT_DIR
 import { chromium } from 'playwright-core';
@@ -144,6 +145,16 @@ await check('rill: Run case writes the result set', async () => {
   await page.keyboard.press('Enter');
   const out = path.join(workspace, 'teaching-block.out');
   await until('series.csv and report.html', async () => fs.existsSync(path.join(out, 'series.csv')) && fs.existsSync(path.join(out, 'report.html')), 120);
+});
+
+await check('hover after the run shows the last run', async () => {
+  // The run may open its report in a new browser tab: back to the workbench.
+  for (const other of page.context().pages()) {
+    if (other !== page) await other.close();
+  }
+  await page.bringToFront();
+  const shown = await hoverAt('teaching-block.rill', 'location = (6, 6)', 'location = ('.length, 'last run', 60);
+  if (!/into the cell|out of the cell/.test(shown)) throw new Error(`no flux direction: ${shown.slice(0, 300)}`);
 });
 
 await page.screenshot({ path: path.join(shots, 'final.png') }).catch(() => {});
