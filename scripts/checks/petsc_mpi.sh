@@ -8,7 +8,7 @@
 # fault, an aquifer) transient and steady with the embedded engine and on
 # 1, 2 and 3 ranks, and compares every series and every map value within
 # 1e-8 relative (scripts/checks/lib/compare_runs.py). Also: a deck with an
-# error ends every rank with one message.
+# error ends every rank with one message, and so does a failing PETSc solve.
 #
 # Needs: apt-get install --no-install-recommends libpetsc-real-dev pkg-config openmpi-bin
 # Without PETSc the check is skipped, unless PETSC_STRICT=1 (CI), where it fails.
@@ -89,6 +89,20 @@ broken_deck() {
   [ "$rc" -ne 0 ] && [ "$(grep -c 'unit.dimension' "$dir/log")" = 1 ] || { cat "$dir/log"; return 1; }
 }
 step "a deck with an error ends every rank with one message" broken_deck
+
+petsc_failure() {
+  local dir="$tmp/petsc-failure" rc
+  mkdir -p "$dir"
+  cp "$repo/tests/mpi/hollin-moor.rill" "$dir/block.rill"
+  # CG cannot take the default right preconditioning: PETSc refuses the
+  # solve on every rank; the run must end everywhere, write nothing and say why.
+  mpirun -n 2 "$tmp/rill-petsc" run "$dir/block.rill" --engine petsc -q --out "$dir/out" \
+    --petsc-options "-ksp_type cg" >"$dir/log" 2>&1
+  rc=$?
+  [ "$rc" -ne 0 ] && grep -q "PETSc failed while solving" "$dir/log" && [ ! -e "$dir/out/series.csv" ] ||
+    { cat "$dir/log"; return 1; }
+}
+step "a PETSc failure ends every rank, writes nothing and says why" petsc_failure
 
 echo "petsc_mpi: $passed passed, $failed failed"
 [ "$failed" -eq 0 ]
