@@ -18,6 +18,63 @@ impl<'s> Lowerer<'s> {
         }
     }
 
+    /// The items of a list value `[a b c] unit`, each in SI with its span: a
+    /// unit after `]` applies to every item, an item may carry its own.
+    /// `None` when the value is not one list (the caller says what it
+    /// expected); `Some(None)` when an item is not a number of `dim` (said
+    /// here, `item` describing what an item should be).
+    pub(super) fn number_list(
+        &mut self,
+        file: usize,
+        stmt: &Statement,
+        dim: Dim,
+        item: &str,
+    ) -> Option<Option<Vec<(f64, Span)>>> {
+        let key = stmt.key.name.as_str();
+        let [Atom {
+            kind: AtomKind::List { items, unit, .. },
+            ..
+        }] = stmt.value.atoms.as_slice()
+        else {
+            return None;
+        };
+        let mut out = Vec::with_capacity(items.len());
+        let mut ok = true;
+        for it in items {
+            let AtomKind::Number {
+                value,
+                unit: own_unit,
+                ..
+            } = &it.kind
+            else {
+                self.diags.push(Diagnostic::error(
+                    Code::DeckValue,
+                    Location::new(file, it.span),
+                    format!(
+                        "each item of `{key}` is {item}, found {}",
+                        crate::props::atom_words(&it.kind)
+                    ),
+                ));
+                ok = false;
+                continue;
+            };
+            let unit = own_unit.as_ref().or(unit.as_ref());
+            match to_si(
+                &mut self.reporter(file),
+                *value,
+                it.span,
+                unit,
+                dim,
+                Gauge::Refused,
+                key,
+            ) {
+                Some(v) => out.push((v, it.span)),
+                None => ok = false,
+            }
+        }
+        Some(ok.then_some(out))
+    }
+
     /// A single quantity of the given dimension.
     pub(super) fn quantity(
         &mut self,

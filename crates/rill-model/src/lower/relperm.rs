@@ -202,58 +202,22 @@ impl<'s> Lowerer<'s> {
     /// The items of a table column `[a b c] unit`, in SI.
     fn table_column(&mut self, file: usize, stmt: &Statement, dim: Dim) -> Option<Vec<Point>> {
         let key = stmt.key.name.as_str();
-        let [Atom {
-            kind: AtomKind::List { items, unit, .. },
-            ..
-        }] = stmt.value.atoms.as_slice()
-        else {
-            if !stmt.value.atoms.is_empty() {
-                self.diags.push(Diagnostic::error(
-                    Code::DeckValue,
-                    Location::new(file, stmt.value.span),
-                    format!(
-                        "`{key}` expects a list with one value per row of the table, e.g. `{key} = {}`",
-                        if dim == Dim::PRESSURE { "[9 3.2 0] psi" } else { example(key) }
-                    ),
-                ));
-            }
-            return None;
-        };
-        let mut out = Vec::with_capacity(items.len());
-        let mut ok = true;
-        for item in items {
-            let AtomKind::Number {
-                value,
-                unit: own_unit,
-                ..
-            } = &item.kind
-            else {
-                self.diags.push(Diagnostic::error(
-                    Code::DeckValue,
-                    Location::new(file, item.span),
-                    format!(
-                        "each item of `{key}` is a number, found {}",
-                        crate::props::atom_words(&item.kind)
-                    ),
-                ));
-                ok = false;
-                continue;
-            };
-            let unit = own_unit.as_ref().or(unit.as_ref());
-            match to_si(
-                &mut self.reporter(file),
-                *value,
-                item.span,
-                unit,
-                dim,
-                Gauge::Refused,
-                key,
-            ) {
-                Some(v) => out.push((v, item.span)),
-                None => ok = false,
+        match self.number_list(file, stmt, dim, "a number") {
+            Some(column) => column,
+            None => {
+                if !stmt.value.atoms.is_empty() {
+                    self.diags.push(Diagnostic::error(
+                        Code::DeckValue,
+                        Location::new(file, stmt.value.span),
+                        format!(
+                            "`{key}` expects a list with one value per row of the table, e.g. `{key} = {}`",
+                            if dim == Dim::PRESSURE { "[9 3.2 0] psi" } else { example(key) }
+                        ),
+                    ));
+                }
+                None
             }
         }
-        ok.then_some(out)
     }
 
     #[allow(clippy::too_many_lines)] // one check per rule of the table, in the order the reference lists them

@@ -236,10 +236,7 @@ impl<'s> Lowerer<'s> {
         let Some(stmt) = find(block, "report_at") else {
             return Some(Vec::new());
         };
-        let [Atom {
-            kind: AtomKind::List { items, unit, .. },
-            ..
-        }] = stmt.value.atoms.as_slice()
+        let Some(items) = self.number_list(file, stmt, Dim::TIME, "a time, e.g. `12` or `12 hr`")
         else {
             self.diags.push(
                 Diagnostic::error(
@@ -251,37 +248,11 @@ impl<'s> Lowerer<'s> {
             );
             return None;
         };
+        let items = items?;
         let mut times = Vec::with_capacity(items.len());
         let mut ok = true;
-        for item in items {
-            let AtomKind::Number {
-                value,
-                unit: own_unit,
-                ..
-            } = &item.kind
-            else {
-                self.diags.push(Diagnostic::error(
-                    Code::DeckValue,
-                    Location::new(file, item.span),
-                    "each item of `report_at` is a time, e.g. `12` or `12 hr`",
-                ));
-                ok = false;
-                continue;
-            };
-            let unit = own_unit.as_ref().or(unit.as_ref());
-            let Some(t) = to_si(
-                &mut self.reporter(file),
-                *value,
-                item.span,
-                unit,
-                Dim::TIME,
-                Gauge::Refused,
-                "report_at",
-            ) else {
-                ok = false;
-                continue;
-            };
-            let at = Location::new(file, item.span);
+        for (t, span) in items {
+            let at = Location::new(file, span);
             if t <= 0.0 {
                 self.diags.push(Diagnostic::error(
                     Code::TimelineOrder,
