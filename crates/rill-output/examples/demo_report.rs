@@ -317,5 +317,6 @@ fn demo_results(case: &Case, n: usize) -> RunResults {
             wall_seconds: 1.62,
         },
         flow_per_pascal: 0.0,
+        oil_water: None,
     }
 }

@@ -140,6 +140,58 @@ pub struct RunResults {
     /// the reservoir could carry; writers use it to tell round-off from a
     /// flow (0 when unknown).
     pub flow_per_pascal: f64,
+    /// What an oil-water run adds (`None` for a single-phase run). In an
+    /// oil-water run `WellSeries::rate` and `cumulative` hold the surface
+    /// liquid (oil plus water), `balance_error` the larger of the two
+    /// phases' errors and `pressure` the oil pressure.
+    pub oil_water: Option<OilWaterResults>,
+}
+
+/// One well's phase series in an oil-water run, one value per report time.
+/// Surface m^3/s and m^3; production positive, injection negative.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct PhaseWellSeries {
+    /// Surface oil rate.
+    pub oil_rate: Vec<f64>,
+    /// Surface water rate.
+    pub water_rate: Vec<f64>,
+    /// Surface water cut, water over liquid (0 when the well flows nothing).
+    pub water_cut: Vec<f64>,
+    /// Cumulative surface oil.
+    pub cumulative_oil: Vec<f64>,
+    /// Cumulative surface water.
+    pub cumulative_water: Vec<f64>,
+    /// Producers: when the water cut first rose 0.01 above the water cut
+    /// of the well's first producing step (water breakthrough), s,
+    /// interpolated between the ends of the two steps around it; `None`:
+    /// not yet, or not a producer.
+    pub breakthrough: Option<f64>,
+}
+
+/// The series and maps an oil-water run adds, one value per report time.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct OilWaterResults {
+    /// One per well, in deck order.
+    pub wells: Vec<PhaseWellSeries>,
+    /// Oil in place, surface m^3.
+    pub oil_in_place: Vec<f64>,
+    /// Water in place, surface m^3.
+    pub water_in_place: Vec<f64>,
+    /// Produced oil over the initial oil in place.
+    pub recovery: Vec<f64>,
+    /// Water injected by the wells so far over the initial pore volume
+    /// (pore volumes injected), reservoir m^3 per m^3.
+    pub pore_volumes_injected: Vec<f64>,
+    /// Pore-volume weighted average water saturation.
+    pub sw_avg: Vec<f64>,
+    /// The oil balance error of the last step before each report time
+    /// (defined as `RunResults::balance_error` for the one liquid).
+    pub balance_error_oil: Vec<f64>,
+    /// The water balance error, likewise.
+    pub balance_error_water: Vec<f64>,
+    /// Cell water saturations (NaN in inactive cells), kept like
+    /// `RunResults::pressure`.
+    pub saturation: Vec<Vec<f64>>,
 }
 
 /// Where the wall time of a run went, s. Given to `Observer::timings` at the

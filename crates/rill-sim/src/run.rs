@@ -160,6 +160,11 @@ pub trait Observer {
     /// recorded: the time, s, and the cell pressures, Pa, one per grid cell
     /// in grid order (NaN in inactive cells).
     fn report_time(&mut self, _time: f64, _pressure: &[f64]) {}
+    /// Oil-water runs, at each report time right after
+    /// [`Observer::report_time`] (which then gives the oil pressures): the
+    /// cell water saturations, one per grid cell in grid order (NaN in
+    /// inactive cells).
+    fn report_saturation(&mut self, _time: f64, _water_saturation: &[f64]) {}
 }
 
 /// An observer that watches nothing.

@@ -185,6 +185,7 @@ pub fn results(case: &Case) -> RunResults {
             wall_seconds: 0.125,
         },
         flow_per_pascal: 0.0,
+        oil_water: None,
     }
 }
 

@@ -59,6 +59,7 @@ pub(super) fn empty_results(case: &Case) -> RunResults {
         events: Vec::new(),
         stats: SolverStats::default(),
         flow_per_pascal: 0.0,
+        oil_water: None,
     }
 }
 
