@@ -215,12 +215,13 @@ pub fn run(request: &Request, observer: &mut dyn Observer) -> Outcome {
             result: Err(Failure::NotRunnable { errors }),
         };
     };
-    if case.oil_water.is_some() {
+    #[cfg(feature = "petsc")]
+    if case.oil_water.is_some() && matches!(request.engine, Engine::Petsc(_)) {
         // Before the result folder is opened: nothing on disk changes.
         return Outcome {
             export: not_asked(),
             result: Err(Failure::Run(RunError::Setup(
-                rill_sim::NO_TWO_PHASE_ENGINE.into(),
+                rill_sim::NO_DISTRIBUTED_OIL_WATER.into(),
             ))),
         };
     }

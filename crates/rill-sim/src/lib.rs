@@ -38,6 +38,7 @@
 mod aquifer;
 mod disc;
 mod fluxes;
+mod oilwater;
 /// The linear algebra, a crate of its own; kept under this name for the front ends.
 pub use rill_linear as linear;
 mod pvt;
@@ -49,5 +50,5 @@ pub use disc::Part;
 pub use results::*;
 pub use run::{
     run, run_distributed, KeepPressures, NewtonOptions, NoObserver, Observer, Parallel, PartSolve,
-    PartSystem, Progress, RunError, RunOptions, NO_TWO_PHASE_ENGINE,
+    PartSystem, Progress, RunError, RunOptions, NO_DISTRIBUTED_OIL_WATER,
 };

@@ -15,12 +15,12 @@ mod controls;
 mod floating;
 mod guard;
 mod newton;
-mod pace;
+pub(crate) mod pace;
 mod parallel;
 mod reduce;
 mod report;
 mod steady;
-mod transient;
+pub(crate) mod transient;
 
 use std::fmt;
 use std::sync::atomic::{AtomicU64, Ordering};
@@ -35,6 +35,7 @@ use crate::linear::{self, CsrMatrix, SolverOptions};
 use crate::pvt::Pvt;
 use crate::results::*;
 pub use parallel::{Parallel, PartSolve, PartSystem};
+pub(crate) use report::empty_results as empty_results_for;
 
 /// Newton's stopping test and safeguards.
 #[derive(Debug, Clone, PartialEq)]
@@ -413,8 +414,9 @@ fn initial_state(case: &Case, d: &Disc) -> Vec<f64> {
     x
 }
 
-/// Why an oil-water case does not run: this engine is single-phase.
-pub const NO_TWO_PHASE_ENGINE: &str = "this build has no oil-water engine yet (the deck has `oil` and `water` blocks; the simulator runs single-phase decks, with one `fluid`). `rill check`, `rill inspect` and the editor handle the deck in full; to run it as one liquid, replace `oil` and `water` by one `fluid` block and the phase controls by `rate`";
+/// Why an oil-water case does not run in a distributed run: the
+/// distributed engine is single-phase.
+pub const NO_DISTRIBUTED_OIL_WATER: &str = "the distributed engine runs single-phase decks only (the deck has `oil` and `water` blocks); run this deck with the embedded engine (`--engine embedded`, the default)";
 
 /// Runs a checked case.
 ///
@@ -457,7 +459,10 @@ fn run_on(
         size: p.size(),
     });
     if case.oil_water.is_some() {
-        return Err(RunError::Setup(NO_TWO_PHASE_ENGINE.into()));
+        if par.is_some() {
+            return Err(RunError::Setup(NO_DISTRIBUTED_OIL_WATER.into()));
+        }
+        return crate::oilwater::run(case, options, observer);
     }
     let d = Disc::new_part(case, part);
     let setup_seconds = start.elapsed().as_secs_f64();

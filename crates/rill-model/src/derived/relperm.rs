@@ -68,7 +68,85 @@ impl SatTable {
     }
 }
 
+/// The curves and their slopes at one water saturation, for a Newton
+/// Jacobian: relative permeabilities, capillary pressure (Pa) and their
+/// derivatives in `sw` (exact for the Corey form; the slope of the linear
+/// piece, from the right at a row, for a table; 0 where a curve is held
+/// constant).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct SatPoint {
+    /// Water relative permeability.
+    pub krw: f64,
+    /// d krw / d sw.
+    pub dkrw: f64,
+    /// Oil relative permeability.
+    pub kro: f64,
+    /// d kro / d sw.
+    pub dkro: f64,
+    /// Capillary pressure `p_oil - p_water`, Pa.
+    pub pc: f64,
+    /// d pc / d sw, Pa.
+    pub dpc: f64,
+}
+
 impl Curves {
+    /// Every curve and its slope at `sw` (see [`SatPoint`]).
+    pub fn at(&self, sw: f64) -> SatPoint {
+        match self {
+            Curves::Corey(c) => {
+                let span = 1.0 - c.swc - c.sor;
+                let s = c.normalised(sw);
+                let inside = span > 0.0 && sw > c.swc && sw < 1.0 - c.sor;
+                let ds = if inside { 1.0 / span } else { 0.0 };
+                SatPoint {
+                    krw: c.krw_end * s.powf(c.nw),
+                    dkrw: if inside {
+                        c.krw_end * c.nw * s.powf(c.nw - 1.0) * ds
+                    } else {
+                        0.0
+                    },
+                    kro: c.kro_end * (1.0 - s).powf(c.no),
+                    dkro: if inside {
+                        -c.kro_end * c.no * (1.0 - s).powf(c.no - 1.0) * ds
+                    } else {
+                        0.0
+                    },
+                    pc: c.pc_entry * (1.0 - s),
+                    dpc: -c.pc_entry * ds,
+                }
+            }
+            Curves::Table(t) => SatPoint {
+                krw: interpolate(&t.sw, &t.krw, sw),
+                dkrw: slope(&t.sw, &t.krw, sw),
+                kro: interpolate(&t.sw, &t.kro, sw),
+                dkro: slope(&t.sw, &t.kro, sw),
+                pc: interpolate(&t.sw, &t.pc, sw),
+                dpc: slope(&t.sw, &t.pc, sw),
+            },
+        }
+    }
+
+    /// The water saturation where the fractional flow `f_w` (no gravity,
+    /// no capillarity) is steepest, between the connate saturation and
+    /// `1 - sor`: the inflection point of the S-shaped curve, where a
+    /// Newton update of a saturation should not cross in one step.
+    /// Found on a grid of 2000 points (a table's slope is piecewise, so
+    /// the steepest grid point is the answer to the table's resolution).
+    pub fn steepest_flow(&self, mu_w: f64, mu_o: f64) -> f64 {
+        let (lo, hi) = (self.swc(), self.sw_max());
+        if hi <= lo {
+            return lo;
+        }
+        const POINTS: usize = 2000;
+        (0..=POINTS)
+            .map(|i| lo + (hi - lo) * i as f64 / POINTS as f64)
+            .max_by(|&a, &b| {
+                self.fractional_flow_slope(a, mu_w, mu_o)
+                    .total_cmp(&self.fractional_flow_slope(b, mu_w, mu_o))
+            })
+            .unwrap_or(lo)
+    }
+
     /// Water relative permeability at water saturation `sw`.
     pub fn krw(&self, sw: f64) -> f64 {
         match self {

@@ -59,8 +59,8 @@ impl WellState {
             Control::Bhp(p) => Some(p),
             Control::Rate(_) => self.limit,
             Control::Shut => None,
-            // Oil-water controls never reach this single-phase engine (`run` refuses
-            // oil-water cases, `NO_TWO_PHASE_ENGINE`); were one to, the well stays shut.
+            // Oil-water controls never reach this single-phase engine (`run` sends
+            // oil-water cases to the oil-water engine); were one to, the well stays shut.
             Control::OilRate(_) | Control::LiquidRate(_) | Control::WaterRate(_) => None,
         }
     }
@@ -80,8 +80,8 @@ fn mode_of(c: Control) -> ControlMode {
         Control::Rate(_) => ControlMode::Rate,
         Control::Bhp(_) => ControlMode::Bhp,
         Control::Shut => ControlMode::Shut,
-        // Oil-water controls never reach this single-phase engine (`run` refuses
-        // oil-water cases, `NO_TWO_PHASE_ENGINE`); were one to, the well stays shut.
+        // Oil-water controls never reach this single-phase engine (`run` sends
+        // oil-water cases to the oil-water engine); were one to, the well stays shut.
         Control::OilRate(_) | Control::LiquidRate(_) | Control::WaterRate(_) => ControlMode::Shut,
     }
 }
@@ -325,8 +325,8 @@ impl Runner<'_> {
                     }
                     (ControlMode::Shut, _) => {}
                 },
-                // Oil-water controls never reach this single-phase engine (`run` refuses
-                // oil-water cases, `NO_TWO_PHASE_ENGINE`); were one to, the well stays shut.
+                // Oil-water controls never reach this single-phase engine (`run` sends
+                // oil-water cases to the oil-water engine); were one to, the well stays shut.
                 Control::OilRate(_) | Control::LiquidRate(_) | Control::WaterRate(_) => {
                     st.mode = ControlMode::Shut;
                 }

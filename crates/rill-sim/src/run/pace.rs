@@ -19,7 +19,7 @@ const WINDOW: usize = 1000;
 const PROJECTION_FACTOR: f64 = 10.0;
 
 /// Counts the steps and watches their pace.
-pub(super) struct Pace {
+pub(crate) struct Pace {
     max_steps: usize,
     end: f64,
     /// The times reached by the last `WINDOW` steps, oldest first.
@@ -27,7 +27,7 @@ pub(super) struct Pace {
 }
 
 impl Pace {
-    pub(super) fn new(timeline: &Timeline) -> Pace {
+    pub(crate) fn new(timeline: &Timeline) -> Pace {
         Pace {
             max_steps: timeline.max_steps,
             end: timeline.end,
@@ -39,7 +39,7 @@ impl Pace {
     /// the run has used its steps before the end, or when at the pace of
     /// the last `WINDOW` steps it would need more than `PROJECTION_FACTOR`
     /// times `max_steps`.
-    pub(super) fn check(&mut self, step: usize, t: f64) -> Result<(), RunError> {
+    pub(crate) fn check(&mut self, step: usize, t: f64) -> Result<(), RunError> {
         self.recent.push_back(t);
         if self.recent.len() > WINDOW + 1 {
             self.recent.pop_front();

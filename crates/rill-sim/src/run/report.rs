@@ -20,7 +20,7 @@ pub(super) struct ReportRow<'a> {
 }
 
 /// Results with a named, empty series per well and boundary.
-pub(super) fn empty_results(case: &Case) -> RunResults {
+pub(crate) fn empty_results(case: &Case) -> RunResults {
     RunResults {
         times: Vec::new(),
         pressure_avg: Vec::new(),

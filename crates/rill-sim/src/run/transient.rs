@@ -15,7 +15,7 @@ use crate::results::RunResults;
 /// Report times after t = 0: every `report_every`, every `report_at`, the
 /// events, the end;
 /// sorted, without near-duplicates.
-fn report_stops(tl: &Timeline) -> Vec<f64> {
+pub(crate) fn report_stops(tl: &Timeline) -> Vec<f64> {
     let end = tl.end;
     let mut stops: Vec<f64> = Vec::new();
     if let Some(every) = tl.report_every.filter(|e| *e > 0.0) {
