@@ -7,7 +7,10 @@ times rill's CPR variants; then scipy's GMRES preconditioned by `spilu`
 relative residual. Prints one table with the ratios (rill over the best
 scipy time).
 
-usage: scripts/bench/cpr_vs_scipy.py [--dims 40 40 20] [--tol 1e-8] [--repeat 3]
+With `--system DIR` the system is the first Newton system a run exported
+(`rill run DECK --export-system DIR`: `matrix.mtx`, `rhs.mtx`) instead.
+
+usage: scripts/bench/cpr_vs_scipy.py [--dims 40 40 20 | --system DIR] [--tol 1e-8] [--repeat 3]
 Needs: pip install -r scripts/bench/requirements.txt
 """
 import argparse
@@ -55,14 +58,21 @@ def main():
     ap.add_argument("--dims", type=int, nargs=3, default=[40, 40, 20])
     ap.add_argument("--tol", type=float, default=1e-8)
     ap.add_argument("--repeat", type=int, default=3)
+    ap.add_argument("--system", help="a run's exported first system (matrix.mtx, rhs.mtx)")
     a = ap.parse_args()
     out = tempfile.mkdtemp(prefix="rill-cpr-")
     cmd = ["cargo", "run", "-q", "--release", "-p", "rill-linear", "--example", "cpr_vs_scipy", "--",
-           "--dims", *map(str, a.dims), "--tol", str(a.tol), "--out", out, "--repeat", str(a.repeat)]
+           "--tol", str(a.tol), "--repeat", str(a.repeat)]
+    if a.system:
+        cmd += ["--system", a.system]
+        files = (os.path.join(a.system, "matrix.mtx"), os.path.join(a.system, "rhs.mtx"))
+    else:
+        cmd += ["--dims", *map(str, a.dims), "--out", out]
+        files = (os.path.join(out, "A.mtx"), os.path.join(out, "b.mtx"))
     text = subprocess.run(cmd, cwd=ROOT, check=True, capture_output=True, text=True).stdout
     rill = [json.loads(line) for line in text.splitlines() if line.startswith("{")]
-    A = scipy.io.mmread(os.path.join(out, "A.mtx")).tocsr()
-    b = np.asarray(scipy.io.mmread(os.path.join(out, "b.mtx"))).ravel()
+    A = scipy.io.mmread(files[0]).tocsr()
+    b = np.asarray(scipy.io.mmread(files[1])).ravel()
     peers = []
     for fill, drop in ((10, 1e-4), (20, 1e-6), (40, 0.0)):
         best = None

@@ -240,19 +240,6 @@ pub(crate) fn code_lenses(snap: &Snapshot) -> Vec<CodeLens> {
         .filter(|d| d.severity == Severity::Error)
         .count();
     let span = first.name.span;
-    if errors == 0
-        && analysis
-            .case
-            .as_ref()
-            .is_some_and(|c| c.oil_water.is_some())
-    {
-        // Checked clean, but this build has no oil-water engine.
-        return vec![CodeLens {
-            span,
-            title: "Run case: no oil-water engine in this build yet".into(),
-            command: None,
-        }];
-    }
     if errors == 0 && analysis.case.is_some() {
         vec![CodeLens {
             span,

@@ -210,13 +210,8 @@ fn outline_tokens_and_lens_know_the_oil_water_blocks() {
         .find(|t| t.span.start == off)
         .map(|t| t.kind);
     assert_eq!(kind, Some(TokenKind::Name));
-    // Clean, but not runnable in this build: the lens says so and runs nothing.
+    // Clean: the lens runs it as any deck.
     let lenses = s.code_lenses();
     assert_eq!(lenses.len(), 1);
-    assert_eq!(lenses[0].command, None);
-    assert!(
-        lenses[0].title.contains("no oil-water engine"),
-        "{}",
-        lenses[0].title
-    );
+    assert_eq!(lenses[0].command.as_deref(), Some("rill.run"));
 }

@@ -28,6 +28,12 @@
 //!   (`B`, `rho` at their reference values, initial controls; events do not
 //!   apply) once, again only if a well switches to or from its limit.
 //!
+//! Oil-water decks (`Case::oil_water`) run on the fully implicit
+//! oil-water engine (module `oilwater`): oil pressure and water saturation
+//! per cell, upstream relative mobilities with the same face
+//! transmissibilities, Peaceman phase completions, damped Newton with
+//! CPR-GMRES; serial only.
+//!
 //! Acceptance tests against published results are in `tests/` (each names
 //! its source); `tests/field_size.rs` has the 1.12 million cell steady case
 //! (ignored in debug builds; run it with `--release -- --ignored`).
