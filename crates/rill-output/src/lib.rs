@@ -47,6 +47,18 @@
 //! `cautions` ([`CAUTION`] first) and, last, `timings` (wall times and the
 //! start time: the only part that differs between two runs of one deck).
 //!
+//! An oil-water run (`RunResults::oil_water`, for a case with
+//! `Case::oil_water`) keeps those columns, its well rates and cumulatives
+//! being the liquid, and adds after each producer's cumulative `<WELL>
+//! oil_rate`, `water_rate`, `water_cut [-]`, `cumulative_oil`,
+//! `cumulative_water`, after each injector's `<WELL> water_rate` and
+//! `cumulative_water` (negative, as injection is), before `balance_error`
+//! `oil_in_place [stb]`, `recovery [-]`, `sw_avg [-]` and
+//! `pore_volumes_injected [-]`, and after it `balance_error_oil [-]` and
+//! `balance_error_water [-]` (`series.rs`). `series.json` adds `"phases":
+//! "oil-water"` and each producer's `breakthrough`; [`CAUTION_OIL_WATER`]
+//! replaces [`CAUTION`] ([`standing_caution`]).
+//!
 //! # The maps
 //! `maps/step_NNNN.vtr` are VTK XML RectilinearGrids (zlib-compressed inline
 //! base64 arrays): x east, y north, z elevation (−depth) in report length
@@ -56,7 +68,8 @@
 //! point at the mean depth of the columns around it (see `vtk.rs`); the
 //! `.pvd` names whichever was written. The cell array `depth` holds the
 //! cell-centre depth the simulator uses.
-//! Cell data: `pressure` (report units, NaN in inactive cells), `active`,
+//! Cell data: `pressure` (report units, NaN in inactive cells), in an
+//! oil-water run `sw` and `so` (fractions, NaN in inactive cells), `active`,
 //! `porosity`, `kx`, `ky`, `kz`, `depth`, `layer`; the units are named in
 //! field data (`pressure_unit`, `permeability_unit`, `length_unit`,
 //! `time_unit`) beside `TimeValue`.
@@ -68,10 +81,13 @@
 //! last report time, coloured with our own ramp *rill slate-to-amber* and
 //! marked with the well completions. Large grids stay small: at most 12
 //! layer maps (evenly chosen, listed on the page), and a layer of more than
-//! 20 000 columns is drawn as area-weighted block averages. The plotting
-//! code is ours (`svg` module): a plotting crate would pull in font
-//! rendering and a raster backend for what is a few hundred lines of SVG
-//! text. Every user string (names, titles, paths) is escaped.
+//! 20 000 columns is drawn as area-weighted block averages. An oil-water
+//! run's page adds the water cut and recovery charts, the breakthrough
+//! table and water saturation maps per layer at up to four report times
+//! (ramp *rill umber-to-tide*; which times and how small: `oil_water.rs`).
+//! The plotting code is ours (`svg` module): a plotting crate would pull
+//! in font rendering and a raster backend for what is a few hundred lines
+//! of SVG text. Every user string (names, titles, paths) is escaped.
 //!
 //! # Atomicity and refusals
 //! Everything is built in a hidden staging directory beside `out_dir` (same

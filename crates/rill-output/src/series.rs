@@ -190,8 +190,8 @@ pub(crate) struct SeriesTable {
 }
 
 impl SeriesTable {
-    /// The table of a run of `case`: [`SeriesTable::new`] with the wells'
-    /// roles, which decide an oil-water run's phase columns.
+    /// The table of a run of `case`, with the wells' roles, which decide
+    /// an oil-water run's phase columns (see [`SeriesTable::build`]).
     pub fn for_case(case: &Case, results: &RunResults) -> SeriesTable {
         let injector = |w: usize| {
             results.wells.get(w).is_some_and(|well| {
