@@ -568,7 +568,13 @@ impl Report<'_> {
                 s,
                 "<li>3-D maps for ParaView: <code>maps/rill.pvd</code> ({steps} report times). z is elevation (−depth); \
                  a grid whose layers dip is written with its corner points (each at the mean depth of the columns \
-                 around it), and the cell array <code>depth</code> holds the depth of each cell centre.</li>"
+                 around it), and the cell array <code>depth</code> holds the depth of each cell centre.{}</li>",
+                if self.results.oil_water.is_some() {
+                    " Beside the (oil) <code>pressure</code>, each holds the water and oil saturations \
+                     <code>sw</code> and <code>so</code>."
+                } else {
+                    ""
+                }
             );
         }
         s.push_str(

@@ -241,6 +241,7 @@ fn the_report_shows_water_cut_recovery_and_breakthrough() {
         "no injector row"
     );
     assert!(summary.contains("a well's rate and cumulative are its liquid, oil plus water"));
+    assert!(html.contains("the water and oil saturations <code>sw</code> and <code>so</code>"));
 }
 
 #[test]
