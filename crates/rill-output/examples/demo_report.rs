@@ -2,17 +2,21 @@
 //! at the report and the maps without running the simulator:
 //!
 //! ```text
-//! cargo run -p rill-output --example demo_report -- OUT_DIR [--large]
+//! cargo run -p rill-output --example demo_report -- OUT_DIR [--large] [--oil-water]
 //! ```
 //! `--large` uses a 60 x 220 x 85 grid (1.12 million cells) to measure the
-//! writers' time and the report's size.
+//! writers' time and the report's size. `--oil-water` makes it a waterflood:
+//! phase series, water cuts with breakthrough, saturation maps.
 
 use std::path::PathBuf;
 use std::time::Instant;
 
 use rill_model::*;
 use rill_output::{write_results, RunMeta};
-use rill_sim::{BoundarySeries, ControlMode, RunResults, SolverStats, WellSeries};
+use rill_sim::{
+    BoundarySeries, ControlMode, OilWaterResults, PhaseWellSeries, RunResults, SolverStats,
+    WellSeries,
+};
 
 const PSI: f64 = 6894.757293168;
 const STB: f64 = 0.158987294928;
@@ -27,13 +31,16 @@ fn main() {
         .find(|a| !a.starts_with("--"))
         .map(PathBuf::from)
     else {
-        eprintln!("usage: demo_report OUT_DIR [--large]");
+        eprintln!("usage: demo_report OUT_DIR [--large] [--oil-water]");
         std::process::exit(2);
     };
     let large = args.iter().any(|a| a == "--large");
     let (nx, ny, nz) = if large { (60, 220, 85) } else { (30, 20, 4) };
-    let case = demo_case(nx, ny, nz);
-    let results = demo_results(&case, 13);
+    let mut case = demo_case(nx, ny, nz);
+    let mut results = demo_results(&case, 13);
+    if args.iter().any(|a| a == "--oil-water") {
+        waterflood(&mut case, &mut results);
+    }
     let deck = out
         .parent()
         .unwrap_or(&PathBuf::from("."))
@@ -319,4 +326,151 @@ fn demo_results(case: &Case, n: usize) -> RunResults {
         flow_per_pascal: 0.0,
         oil_water: None,
     }
+}
+
+/// Turns the demo into a waterflood from INJ-1: the oil is the fluid, a
+/// front of water spreads from the injector (faster in the better layers)
+/// and reaches LE-2, then LE-1; their water cuts rise after breakthrough.
+fn waterflood(case: &mut Case, results: &mut RunResults) {
+    let (swc, sor) = (0.2, 0.25);
+    let n = results.times.len();
+    let days: Vec<f64> = results.times.iter().map(|t| t / DAY).collect();
+    let end = days[n - 1];
+    let cells = case.grid.cell_count();
+    case.fluid.name = Some("light oil".into());
+    case.oil_water = Some(OilWater {
+        water: Fluid {
+            name: Some("brine".into()),
+            viscosity: 0.5e-3,
+            fvf: 1.01,
+            compressibility: 3e-6 / PSI,
+            density: 1030.0,
+            ref_pressure: 3000.0 * PSI,
+        },
+        relperms: vec![Relperm {
+            name: "sand".into(),
+            curves: Curves::Corey(Corey {
+                swc,
+                sor,
+                krw_end: 0.3,
+                kro_end: 0.8,
+                nw: 2.0,
+                no: 2.0,
+                pc_entry: 0.0,
+            }),
+            origin: Origin::default(),
+        }],
+        cell_relperm: CellRelperm(std::sync::Arc::new(vec![0; cells])),
+        saturation: InitialSaturation::Cells(vec![swc; cells].into()),
+    });
+    case.wells[0].control = Control::LiquidRate(600.0 * STB / DAY);
+    case.wells[1].control = Control::LiquidRate(450.0 * STB / DAY);
+    case.wells[2].control = Control::WaterRate(500.0 * STB / DAY);
+
+    // The front's reach (fractions of the grid) from the injector.
+    let reach = |day: f64, layer_k: f64| 0.8 * (day / end).sqrt() * (layer_k / 150.0).sqrt();
+    let grid = case.grid.clone();
+    let inj = &case.wells[2].completions[0];
+    let (ix, iy) = (inj.i as f64 / grid.nx as f64, inj.j as f64 / grid.ny as f64);
+    let distance = |i: usize, j: usize| {
+        ((i as f64 / grid.nx as f64 - ix).powi(2) + (j as f64 / grid.ny as f64 - iy).powi(2)).sqrt()
+    };
+    let layer_k = [150.0, 40.0, 300.0, 90.0];
+    let saturation: Vec<Vec<f64>> = days
+        .iter()
+        .map(|&day| {
+            (0..cells)
+                .map(|c| {
+                    if !case.rock.is_active(c) {
+                        return f64::NAN;
+                    }
+                    let (i, j, k) = grid.ijk(c);
+                    let front = reach(day, layer_k[k % 4]);
+                    let r = distance(i, j);
+                    if r < front {
+                        swc + (1.0 - swc - sor) * (0.55 + 0.45 * (1.0 - r / front))
+                    } else {
+                        swc
+                    }
+                })
+                .collect()
+        })
+        .collect();
+
+    // Breakthrough: the front in the main layer reaches the producer.
+    let mut phases = Vec::new();
+    let mut produced_oil = vec![0.0; n];
+    let mut produced_water = vec![0.0; n];
+    for (w, well) in results.wells.iter().enumerate() {
+        let c = &case.wells[w].completions[0];
+        let r = distance(c.i, c.j);
+        let producer = case.wells[w].role == Role::Producer;
+        let breakthrough = (producer && reach(end, 150.0) > r).then(|| end * (r / 0.8).powi(2));
+        let cut: Vec<f64> = days
+            .iter()
+            .map(|&day| match breakthrough {
+                Some(bt) if day > bt => 0.85 * (1.0 - (-(day - bt) / 110.0).exp()),
+                _ if producer => 0.0,
+                _ => 1.0,
+            })
+            .collect();
+        let oil_rate: Vec<f64> = well
+            .rate
+            .iter()
+            .zip(&cut)
+            .map(|(q, f)| q * (1.0 - f))
+            .collect();
+        let water_rate: Vec<f64> = well.rate.iter().zip(&cut).map(|(q, f)| q * f).collect();
+        let sum = |rate: &[f64]| {
+            let mut acc = 0.0;
+            rate.iter()
+                .enumerate()
+                .map(|(t, q)| {
+                    if t > 0 {
+                        acc += q * (results.times[t] - results.times[t - 1]);
+                    }
+                    acc
+                })
+                .collect::<Vec<f64>>()
+        };
+        let (cumulative_oil, cumulative_water) = (sum(&oil_rate), sum(&water_rate));
+        for t in 0..n {
+            produced_oil[t] += cumulative_oil[t];
+            produced_water[t] += cumulative_water[t];
+        }
+        phases.push(PhaseWellSeries {
+            water_cut: if producer { cut } else { vec![1.0; n] },
+            oil_rate,
+            water_rate,
+            cumulative_oil,
+            cumulative_water,
+            breakthrough: breakthrough.map(|d| d * DAY),
+        });
+    }
+    // Invented volumes: 2.4 million stb of oil and 4 million rb of pores;
+    // the water's formation volume factor is 1.01. `produced_water` is
+    // the wells' net (the injector's share is negative).
+    let oil_0 = 2.4e6 * STB;
+    let pore_volume = 4.0e6 * STB;
+    results.oil_water = Some(OilWaterResults {
+        wells: phases,
+        oil_in_place: produced_oil.iter().map(|p| oil_0 - p).collect(),
+        water_in_place: produced_water
+            .iter()
+            .map(|net| swc * pore_volume / 1.01 - net)
+            .collect(),
+        recovery: produced_oil.iter().map(|p| p / oil_0).collect(),
+        pore_volumes_injected: results.wells[2]
+            .cumulative
+            .iter()
+            .map(|v| -v * 1.01 / pore_volume)
+            .collect(),
+        sw_avg: produced_water
+            .iter()
+            .map(|net| swc - net * 1.01 / pore_volume)
+            .collect(),
+        balance_error_oil: results.balance_error.clone(),
+        balance_error_water: results.balance_error.iter().map(|e| 0.7 * e).collect(),
+        saturation,
+    });
 }

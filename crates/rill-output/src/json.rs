@@ -23,6 +23,12 @@
 //!               "started": "..."}
 //! }
 //! ```
+//! An oil-water run adds `"phases": "oil-water"` after `units`, the phase
+//! and field series of `series.csv` (quantities `oil_rate`, `water_rate`,
+//! `water_cut`, `cumulative_oil`, `cumulative_water`, `oil_in_place`,
+//! `recovery`, `sw_avg`, `pore_volumes_injected`, `balance_error_oil`,
+//! `balance_error_water`), and to each producer in `wells` its
+//! `breakthrough`: the time of water breakthrough, `null` while none.
 //! Values that are not finite are `null`. Everything that differs between
 //! two runs of the same deck (wall times, the start time) is in `timings`,
 //! last, so that comparing two result sets only has to drop that one key.
@@ -47,6 +53,10 @@ struct Doc<'a> {
     title: &'a str,
     deck: String,
     units: &'static str,
+    /// `"oil-water"` for an oil-water run; absent for a single-phase one,
+    /// so older readers see no change.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    phases: Option<&'static str>,
     report_times: usize,
     series: Vec<Series<'a>>,
     wells: Vec<Well<'a>>,
@@ -92,6 +102,11 @@ struct Well<'a> {
     role: Option<&'static str>,
     /// Control mode over the step that ended at each report time.
     control: Vec<&'static str>,
+    /// Oil-water runs, producers only: the time of water breakthrough in
+    /// the time unit of the series, `null` when the water has not broken
+    /// through.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    breakthrough: Option<Option<f64>>,
 }
 
 #[derive(Serialize)]
@@ -161,20 +176,29 @@ pub(crate) fn write_json(
             values: &c.values,
         })
         .collect();
+    let time_unit = display_unit(Quantity::Time, case.report.units);
     let wells = results
         .wells
         .iter()
-        .map(|w| Well {
-            name: &w.name,
-            role: case
+        .enumerate()
+        .map(|(n, w)| {
+            let role = case
                 .wells
                 .iter()
                 .find(|cw| cw.name == w.name)
-                .map(|cw| match cw.role {
+                .map(|cw| cw.role);
+            let phases = results.oil_water.as_ref().and_then(|ow| ow.wells.get(n));
+            Well {
+                name: &w.name,
+                role: role.map(|r| match r {
                     Role::Producer => "producer",
                     Role::Injector => "injector",
                 }),
-            control: w.mode.iter().map(|m| mode_name(*m)).collect(),
+                control: w.mode.iter().map(|m| mode_name(*m)).collect(),
+                breakthrough: phases
+                    .filter(|_| role != Some(Role::Injector))
+                    .map(|p| p.breakthrough.map(|t| time_unit.show(t))),
+            }
         })
         .collect();
     let boundaries = results
@@ -210,6 +234,7 @@ pub(crate) fn write_json(
         title,
         deck: meta.deck.display().to_string(),
         units: system_name(case.report.units),
+        phases: results.oil_water.as_ref().map(|_| "oil-water"),
         report_times: table.rows(),
         series,
         wells,
@@ -227,7 +252,7 @@ pub(crate) fn write_json(
             .events
             .iter()
             .map(|e| EventDoc {
-                time: display_unit(Quantity::Time, case.report.units).show(e.time),
+                time: time_unit.show(e.time),
                 well: &e.well,
                 action: match e.action {
                     WellAction::Shut => "shut",

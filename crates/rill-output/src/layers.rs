@@ -46,47 +46,74 @@ pub(crate) fn layer_maps(
     length: &Unit,
 ) -> Vec<LayerMap> {
     let grid = &case.grid;
-    let (nx, ny) = (grid.nx, grid.ny);
-    let (bx, by) = (nx.div_ceil(block), ny.div_ceil(block));
+    let plane = grid.nx * grid.ny;
     let depth = cell_center_depths(grid);
     let mut maps: Vec<LayerMap> = Vec::new();
     for &k in layers {
-        let mut sum = vec![0.0; bx * by];
-        let mut weight = vec![0.0; bx * by];
-        let mut depth_sum = 0.0;
-        for j in 0..ny {
-            for i in 0..nx {
-                let c = grid.index(i, j, k);
-                depth_sum += depth[c];
-                let p = pressure[c];
-                if case.rock.is_active(c) && p.is_finite() {
-                    let a = grid.dx[i] * grid.dy[j];
-                    let b = i / block + bx * (j / block);
-                    sum[b] += a * p_unit.show(p);
-                    weight[b] += a;
-                }
-            }
-        }
-        let values = sum
-            .iter()
-            .zip(&weight)
-            .map(|(s, w)| (*w > 0.0).then(|| s / w))
-            .collect();
-        maps.push((k, values, length.show(depth_sum / (nx * ny) as f64)));
+        let base = plane * k;
+        let values = block_means(
+            grid.nx,
+            &grid.dx,
+            &grid.dy,
+            block,
+            |col| case.rock.is_active(base + col) && pressure[base + col].is_finite(),
+            |col| p_unit.show(pressure[base + col]),
+        );
+        let depth_sum: f64 = depth[base..base + plane].iter().sum();
+        maps.push((k, values, length.show(depth_sum / plane as f64)));
     }
     maps
+}
+
+/// One layer's values averaged over blocks of `block` x `block` columns,
+/// weighted by column area (`dx[i] * dy[j]`) over the columns `col = i +
+/// nx * j` that `counts`; `None` for a block with none. Row by row from
+/// `j = 0`; `dy.len()` rows.
+pub(crate) fn block_means(
+    nx: usize,
+    dx: &[f64],
+    dy: &[f64],
+    block: usize,
+    counts: impl Fn(usize) -> bool,
+    value: impl Fn(usize) -> f64,
+) -> Vec<Option<f64>> {
+    let ny = dy.len();
+    let (bx, by) = (nx.div_ceil(block), ny.div_ceil(block));
+    let mut sum = vec![0.0; bx * by];
+    let mut weight = vec![0.0; bx * by];
+    for (j, dy) in dy.iter().enumerate() {
+        for (i, dx) in dx.iter().enumerate().take(nx) {
+            let col = i + nx * j;
+            if counts(col) {
+                let a = dx * dy;
+                let b = i / block + bx * (j / block);
+                sum[b] += a * value(col);
+                weight[b] += a;
+            }
+        }
+    }
+    sum.iter()
+        .zip(&weight)
+        .map(|(s, w)| (*w > 0.0).then(|| s / w))
+        .collect()
 }
 
 /// The one colour scale of all maps: the lowest and highest value drawn,
 /// widened to `min_span` (display units) about its middle, (0, 1) when
 /// nothing is drawn.
 pub(crate) fn colour_range(maps: &[LayerMap], min_span: f64) -> (f64, f64) {
-    let (lo, hi) = maps
-        .iter()
-        .flat_map(|(_, v, _)| v.iter().flatten())
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
-            (a.min(v), b.max(v))
-        });
+    value_range(
+        maps.iter().flat_map(|(_, v, _)| v.iter().flatten()),
+        min_span,
+    )
+}
+
+/// The lowest and highest of `values`, widened to `min_span` about its
+/// middle, (0, 1) when there are none.
+pub(crate) fn value_range<'a>(values: impl Iterator<Item = &'a f64>, min_span: f64) -> (f64, f64) {
+    let (lo, hi) = values.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
+        (a.min(v), b.max(v))
+    });
     if lo.is_finite() {
         widen(lo, hi, min_span)
     } else {

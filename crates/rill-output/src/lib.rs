@@ -47,6 +47,18 @@
 //! `cautions` ([`CAUTION`] first) and, last, `timings` (wall times and the
 //! start time: the only part that differs between two runs of one deck).
 //!
+//! An oil-water run (`RunResults::oil_water`, for a case with
+//! `Case::oil_water`) keeps those columns, its well rates and cumulatives
+//! being the liquid, and adds after each producer's cumulative `<WELL>
+//! oil_rate`, `water_rate`, `water_cut [-]`, `cumulative_oil`,
+//! `cumulative_water`, after each injector's `<WELL> water_rate` and
+//! `cumulative_water` (negative, as injection is), before `balance_error`
+//! `oil_in_place [stb]`, `recovery [-]`, `sw_avg [-]` and
+//! `pore_volumes_injected [-]`, and after it `balance_error_oil [-]` and
+//! `balance_error_water [-]` (`series.rs`). `series.json` adds `"phases":
+//! "oil-water"` and each producer's `breakthrough`; [`CAUTION_OIL_WATER`]
+//! replaces [`CAUTION`] ([`standing_caution`]).
+//!
 //! # The maps
 //! `maps/step_NNNN.vtr` are VTK XML RectilinearGrids (zlib-compressed inline
 //! base64 arrays): x east, y north, z elevation (−depth) in report length
@@ -56,7 +68,8 @@
 //! point at the mean depth of the columns around it (see `vtk.rs`); the
 //! `.pvd` names whichever was written. The cell array `depth` holds the
 //! cell-centre depth the simulator uses.
-//! Cell data: `pressure` (report units, NaN in inactive cells), `active`,
+//! Cell data: `pressure` (report units, NaN in inactive cells), in an
+//! oil-water run `sw` and `so` (fractions, NaN in inactive cells), `active`,
 //! `porosity`, `kx`, `ky`, `kz`, `depth`, `layer`; the units are named in
 //! field data (`pressure_unit`, `permeability_unit`, `length_unit`,
 //! `time_unit`) beside `TimeValue`.
@@ -68,10 +81,13 @@
 //! last report time, coloured with our own ramp *rill slate-to-amber* and
 //! marked with the well completions. Large grids stay small: at most 12
 //! layer maps (evenly chosen, listed on the page), and a layer of more than
-//! 20 000 columns is drawn as area-weighted block averages. The plotting
-//! code is ours (`svg` module): a plotting crate would pull in font
-//! rendering and a raster backend for what is a few hundred lines of SVG
-//! text. Every user string (names, titles, paths) is escaped.
+//! 20 000 columns is drawn as area-weighted block averages. An oil-water
+//! run's page adds the water cut and recovery charts, the breakthrough
+//! table and water saturation maps per layer at up to four report times
+//! (ramp *rill umber-to-tide*; which times and how small: `oil_water.rs`).
+//! The plotting code is ours (`svg` module): a plotting crate would pull
+//! in font rendering and a raster backend for what is a few hundred lines
+//! of SVG text. Every user string (names, titles, paths) is escaped.
 //!
 //! # Atomicity and refusals
 //! Everything is built in a hidden staging directory beside `out_dir` (same
@@ -94,16 +110,19 @@
 #![warn(clippy::too_many_lines)]
 
 mod atomic;
+mod colours;
 mod csv;
 mod json;
 mod last_state;
 mod layers;
+mod oil_water;
 mod report;
 mod series;
 mod svg;
 mod text;
 mod timeline;
 mod units;
+mod validate;
 mod vtk;
 
 use std::fmt;
@@ -114,7 +133,7 @@ use rill_model::{Case, MapSelection};
 use rill_sim::RunResults;
 
 pub use last_state::{LastState, ARRAYS as LAST_STATE_ARRAYS};
-pub use report::CAUTION;
+pub use report::{standing_caution, CAUTION, CAUTION_OIL_WATER};
 pub use series::ZeroScale;
 
 /// What the report and `series.json` show beyond the case and the results.
@@ -248,8 +267,8 @@ pub fn write_results(
     results: &RunResults,
     meta: &RunMeta,
 ) -> Result<WrittenFiles, OutputError> {
-    // The series and arrays are validated once, in `finish`; the count of
-    // pressure arrays here, before anything is written.
+    // The count of pressure arrays is checked here, the series and arrays
+    // (again) in `finish`.
     if !results.pressure.is_empty() && results.pressure.len() != results.times.len() {
         return Err(OutputError::Inconsistent(format!(
             "cell pressures are stored for {} of {} report times",
@@ -257,9 +276,15 @@ pub fn write_results(
             results.times.len()
         )));
     }
+    // Before the staging folder is opened: a mismatch writes nothing.
+    validate::results(case, results)?;
+    let saturation = results.oil_water.as_ref().map(|ow| &ow.saturation);
     let mut writer = ResultWriter::begin(out_dir, case, &meta.deck)?;
-    for (&time, pressure) in results.times.iter().zip(&results.pressure) {
+    for (n, (&time, pressure)) in results.times.iter().zip(&results.pressure).enumerate() {
         writer.map(time, pressure)?;
+        if let Some(saturation) = saturation {
+            writer.saturation(time, &saturation[n])?;
+        }
     }
     writer.finish(case, results, meta)
 }
@@ -270,6 +295,10 @@ pub fn write_results(
 /// writes the series, the collection and the report and swaps the set in.
 /// Dropped unfinished (a failed or cancelled run), it removes its staging
 /// folder and leaves the previous set as it was.
+///
+/// For an oil-water case every report time's cell pressures
+/// ([`ResultWriter::map`]) are followed by its water saturations
+/// ([`ResultWriter::saturation`]), and the map is written then, with both.
 pub struct ResultWriter {
     target: PathBuf,
     staging: atomic::Staging,
@@ -283,6 +312,19 @@ pub struct ResultWriter {
     selection: MapSelection,
     /// Report times seen by `map`.
     seen: usize,
+    /// An oil-water case's state between a report time's pressures and
+    /// its saturations; `None` for a single-phase case.
+    two_phase: Option<TwoPhase>,
+}
+
+/// What a [`ResultWriter`] of an oil-water case holds between calls.
+struct TwoPhase {
+    /// The report time (number, s) whose saturations are due next.
+    due: Option<(usize, f64)>,
+    /// Its cell pressures, Pa, when its map is to be written.
+    pressure: Vec<f64>,
+    /// The saturations the report draws.
+    keeper: oil_water::Keeper,
 }
 
 impl ResultWriter {
@@ -301,12 +343,18 @@ impl ResultWriter {
             cells: case.grid.cell_count(),
             selection: case.report.maps,
             seen: 0,
+            two_phase: case.oil_water.as_ref().map(|_| TwoPhase {
+                due: None,
+                pressure: Vec::new(),
+                keeper: oil_water::Keeper::new(case),
+            }),
         })
     }
 
     /// Writes the map of the report time `time` (s): `pressure` in Pa, one
     /// value per grid cell (NaN in inactive cells). With `maps = last` or
-    /// `none` it writes nothing (`finish` writes the last one).
+    /// `none` it writes nothing (`finish` writes the last one). For an
+    /// oil-water case the map waits for [`ResultWriter::saturation`].
     pub fn map(&mut self, time: f64, pressure: &[f64]) -> Result<(), OutputError> {
         if pressure.len() != self.cells {
             return Err(OutputError::Inconsistent(format!(
@@ -316,17 +364,80 @@ impl ResultWriter {
                 self.cells
             )));
         }
+        let index = self.seen;
         self.seen += 1;
+        if let Some(two) = &mut self.two_phase {
+            if let Some((due, _)) = two.due {
+                return Err(OutputError::Inconsistent(format!(
+                    "the water saturations of report time {due} did not come before the next report time"
+                )));
+            }
+            two.due = Some((index, time));
+            if self.selection == MapSelection::All {
+                two.pressure.clear();
+                two.pressure.extend_from_slice(pressure);
+            }
+            return Ok(());
+        }
         if self.selection != MapSelection::All {
             return Ok(());
         }
-        self.write_map(self.seen - 1, time, pressure)
+        self.write_map(index, time, pressure, None)
+    }
+
+    /// An oil-water case's water saturations at the report time `time`
+    /// (s) whose pressures [`ResultWriter::map`] has just had: one value per
+    /// grid cell (NaN in inactive cells). Writes that report time's map
+    /// (with `maps = all`) and keeps what the report draws.
+    pub fn saturation(&mut self, time: f64, water_saturation: &[f64]) -> Result<(), OutputError> {
+        let Some(two) = &mut self.two_phase else {
+            return Err(OutputError::Inconsistent(
+                "water saturations came for a single-phase case".into(),
+            ));
+        };
+        let Some((index, due_time)) = two.due else {
+            return Err(OutputError::Inconsistent(format!(
+                "water saturations came without the cell pressures of their report time (after {} report times)",
+                self.seen
+            )));
+        };
+        if due_time.to_bits() != time.to_bits() {
+            return Err(OutputError::Inconsistent(format!(
+                "the water saturations of report time {index} came for {time} s, the pressures for {due_time} s"
+            )));
+        }
+        if water_saturation.len() != self.cells {
+            return Err(OutputError::Inconsistent(format!(
+                "water saturations at report time {index} have {} values for {} cells",
+                water_saturation.len(),
+                self.cells
+            )));
+        }
+        two.due = None;
+        two.keeper.offer(index, time, water_saturation);
+        if self.selection != MapSelection::All {
+            return Ok(());
+        }
+        // Taken out for the write (which borrows the writer) and put back,
+        // so the buffer is reused at the next report time.
+        let pressure = std::mem::take(&mut two.pressure);
+        let written = self.write_map(index, time, &pressure, Some(water_saturation));
+        if let Some(two) = &mut self.two_phase {
+            two.pressure = pressure;
+        }
+        written
     }
 
     /// Writes the map of report time number `index` (0-based), which names
     /// the file: with `maps = last` the one file still says which report
     /// time it holds.
-    fn write_map(&mut self, index: usize, time: f64, pressure: &[f64]) -> Result<(), OutputError> {
+    fn write_map(
+        &mut self,
+        index: usize,
+        time: f64,
+        pressure: &[f64],
+        water_saturation: Option<&[f64]>,
+    ) -> Result<(), OutputError> {
         if self.steps.is_empty() {
             self.staging.subdir("maps")?;
         }
@@ -334,7 +445,7 @@ impl ResultWriter {
         let shown = self.time_unit.show(time);
         let maps = &self.maps;
         self.staging.file(&format!("maps/{name}"), |w| {
-            maps.write_step(w, pressure, shown)
+            maps.write_step(w, pressure, water_saturation, shown)
         })?;
         self.steps.push((shown, name));
         Ok(())
@@ -349,8 +460,13 @@ impl ResultWriter {
         results: &RunResults,
         meta: &RunMeta,
     ) -> Result<WrittenFiles, OutputError> {
-        validate(case, results)?;
+        validate::results(case, results)?;
         let n = results.times.len();
+        if let Some((due, _)) = self.two_phase.as_ref().and_then(|two| two.due) {
+            return Err(OutputError::Inconsistent(format!(
+                "the water saturations of report time {due} never came"
+            )));
+        }
         if !self.steps.is_empty() && self.steps.len() != n {
             return Err(OutputError::Inconsistent(format!(
                 "maps were written for {} of {n} report times",
@@ -359,11 +475,20 @@ impl ResultWriter {
         }
         if self.selection == MapSelection::Last {
             if let (Some(&time), Some(pressure)) = (results.times.last(), results.pressure.last()) {
-                self.write_map(n - 1, time, pressure)?;
+                // Validated: an oil-water run keeps saturations like pressures.
+                let saturation = results
+                    .oil_water
+                    .as_ref()
+                    .and_then(|ow| ow.saturation.last())
+                    .map(Vec::as_slice);
+                self.write_map(n - 1, time, pressure, saturation)?;
             }
         }
-        let system = case.report.units;
-        let table = series::SeriesTable::new(results, system);
+        let saturation = self
+            .two_phase
+            .take()
+            .map_or_else(Vec::new, |two| two.keeper.into_snapshots());
+        let table = series::SeriesTable::for_case(case, results);
         let title = meta
             .title
             .clone()
@@ -374,7 +499,7 @@ impl ResultWriter {
                     .file_name()
                     .map_or("rill run".into(), |n| n.to_string_lossy().into_owned())
             });
-        let mut cautions = vec![CAUTION.to_string()];
+        let mut cautions = vec![report::standing_caution(results).to_string()];
         cautions.extend(meta.cautions.iter().cloned());
         cautions.extend(report::derived_cautions(case, results, &table));
 
@@ -412,6 +537,7 @@ impl ResultWriter {
             case_name: case_name(case),
             cautions: &cautions,
             files: &relative,
+            saturation: &saturation,
         };
         staging.file("report.html", |w| report::write_report(w, &page))?;
 
@@ -556,93 +682,6 @@ fn check_target(out_dir: &Path, deck: &Path) -> Result<PathBuf, OutputError> {
         Err(_) => {}
     }
     Ok(target)
-}
-
-/// Checks that every series has one value per report time and every cell
-/// array one value per cell, so that no writer can index out of bounds.
-/// (How many pressure arrays there are is checked by the callers.)
-fn validate(case: &Case, results: &RunResults) -> Result<(), OutputError> {
-    let n = results.times.len();
-    let grid = &case.grid;
-    let cells = grid.cell_count();
-    let bad = |what: String| Err(OutputError::Inconsistent(what));
-    if n == 0 {
-        return bad("there are no report times".into());
-    }
-    let check = |name: &str, len: usize| -> Result<(), OutputError> {
-        if len == n {
-            Ok(())
-        } else {
-            Err(OutputError::Inconsistent(format!(
-                "{name} has {len} values for {n} report times"
-            )))
-        }
-    };
-    check("pressure_avg", results.pressure_avg.len())?;
-    check("balance_error", results.balance_error.len())?;
-    for w in &results.wells {
-        check(&format!("well \"{}\" bhp", w.name), w.bhp.len())?;
-        check(&format!("well \"{}\" rate", w.name), w.rate.len())?;
-        check(
-            &format!("well \"{}\" cumulative", w.name),
-            w.cumulative.len(),
-        )?;
-        if !w.mode.is_empty() {
-            check(&format!("well \"{}\" control mode", w.name), w.mode.len())?;
-        }
-    }
-    for b in &results.boundaries {
-        check(&format!("boundary \"{}\" rate", b.name), b.rate.len())?;
-        check(
-            &format!("boundary \"{}\" cumulative", b.name),
-            b.cumulative.len(),
-        )?;
-    }
-    for a in &results.aquifers {
-        check(&format!("aquifer \"{}\" rate", a.name), a.rate.len())?;
-        check(
-            &format!("aquifer \"{}\" cumulative", a.name),
-            a.cumulative.len(),
-        )?;
-        check(
-            &format!("aquifer \"{}\" pressure", a.name),
-            a.pressure.len(),
-        )?;
-    }
-    if cells == 0 {
-        return bad("the grid has no cells".into());
-    }
-    if grid.dx.len() != grid.nx
-        || grid.dy.len() != grid.ny
-        || grid.dz.len() != cells
-        || grid.top.len() != grid.nx * grid.ny
-    {
-        return bad("the grid's dx, dy, dz or top arrays do not match its size".into());
-    }
-    let rock = &case.rock;
-    if [
-        rock.porosity.len(),
-        rock.kx.len(),
-        rock.ky.len(),
-        rock.kz.len(),
-    ]
-    .iter()
-    .any(|&l| l != cells)
-    {
-        return bad("the rock arrays do not have one value per cell".into());
-    }
-    if let Some((t, p)) = results
-        .pressure
-        .iter()
-        .enumerate()
-        .find(|(_, p)| p.len() != cells)
-    {
-        return bad(format!(
-            "cell pressures at report time {t} have {} values for {cells} cells",
-            p.len()
-        ));
-    }
-    Ok(())
 }
 
 #[cfg(test)]

@@ -17,15 +17,18 @@ use rill_model::{Case, Control, Role};
 use rill_sim::{ControlMode, RunResults};
 
 use crate::json::mode_name;
+use crate::layers::min_pressure_span;
+#[cfg(test)]
 pub(crate) use crate::layers::{block_size, chosen_layers};
-use crate::layers::{colour_range, layer_maps, min_pressure_span};
 use crate::series::{Measure, Owner, SeriesTable};
-use crate::svg::{colour_bar, HeatMap, Line, LineChart};
+use crate::svg::{Line, LineChart};
 use crate::text::{escape, human};
 use crate::units::{display_unit, system_name, Quantity};
 use crate::RunMeta;
 
 mod aquifers;
+mod maps;
+mod oil_water;
 
 /// Most layer maps shown.
 pub(crate) const MAX_LAYER_MAPS: usize = 12;
@@ -41,6 +44,24 @@ compressible liquid on a rectilinear grid, with the properties given in the deck
 and do not replace, professional judgement. Injection limits, fracture pressure and any well work \
 must follow local regulations and be decided by licensed engineers.";
 
+/// [`CAUTION`] for an oil-water run, whose model is another.
+pub const CAUTION_OIL_WATER: &str =
+    "Results are engineering estimates from a simplified model: oil and water \
+as two immiscible, slightly compressible liquids on a rectilinear grid, with the properties and \
+saturation functions given in the deck. They support, and do not replace, professional judgement. \
+Injection limits, fracture pressure and any well work must follow local regulations and be decided \
+by licensed engineers.";
+
+/// The caution that heads the report and `series.json` of `results`:
+/// [`CAUTION_OIL_WATER`] for an oil-water run, else [`CAUTION`].
+pub fn standing_caution(results: &RunResults) -> &'static str {
+    if results.oil_water.is_some() {
+        CAUTION_OIL_WATER
+    } else {
+        CAUTION
+    }
+}
+
 pub(crate) struct Report<'a> {
     pub case: &'a Case,
     pub results: &'a RunResults,
@@ -53,6 +74,9 @@ pub(crate) struct Report<'a> {
     pub cautions: &'a [String],
     /// Relative paths of the other files in the result set.
     pub files: &'a [String],
+    /// An oil-water run's water saturations at the report times the
+    /// writer kept for the report (none for a single-phase run).
+    pub saturation: &'a [crate::oil_water::Snapshot],
 }
 
 pub(crate) fn write_report(w: &mut dyn Write, r: &Report) -> io::Result<()> {
@@ -141,7 +165,9 @@ impl Report<'_> {
         self.summary(&mut s);
         crate::timeline::section(self.case, self.results, &mut s);
         self.charts(&mut s);
+        self.oil_water_charts(&mut s);
         self.maps(&mut s);
+        self.saturation_maps(&mut s);
         self.notes(&mut s);
         let _ = write!(
             s,
@@ -262,10 +288,17 @@ impl Report<'_> {
         s.push_str("</table>\n</div>\n");
 
         self.end_tables(s, t_end);
+        self.oil_water_tables(s, t_end);
         s.push_str(
             "<p class=\"note\">Rates and cumulatives are at surface conditions; positive for production \
-             (out of the reservoir), negative for injection or inflow.</p>\n</section>\n",
+             (out of the reservoir), negative for injection or inflow.",
         );
+        if results.oil_water.is_some() {
+            s.push_str(
+                " In this oil-water run a well's rate and cumulative are its liquid, oil plus water.",
+            );
+        }
+        s.push_str("</p>\n</section>\n");
     }
 
     /// The wells' and boundaries' last rates, pressures and cumulatives, at
@@ -464,10 +497,16 @@ impl Report<'_> {
                     xs: &time.values,
                     lines,
                     min_span,
+                    y_cover: None,
                 };
                 s.push_str(&chart.render());
             }
             let _ = writeln!(s, "<figcaption>{caption}</figcaption>\n</figure>");
+        };
+        let liquid = if results.oil_water.is_some() {
+            " Wells: liquid, oil plus water."
+        } else {
+            ""
         };
         chart(
             s,
@@ -476,7 +515,7 @@ impl Report<'_> {
             rate_lines,
             None,
             format!("Positive: production; negative: injection or inflow. Boundaries dashed after the wells. \
-                     Each rate is drawn as a step: the value at a report time held over the interval that ends there.{cap_note}"),
+                     Each rate is drawn as a step: the value at a report time held over the interval that ends there.{liquid}{cap_note}"),
         );
         chart(
             s,
@@ -484,7 +523,7 @@ impl Report<'_> {
             format!("Cumulative [{}]", v_unit.name),
             cum_lines,
             None,
-            format!("At surface conditions.{cap_note}"),
+            format!("At surface conditions.{liquid}{cap_note}"),
         );
         chart(
             s,
@@ -511,131 +550,6 @@ impl Report<'_> {
         s.push_str("</div>\n</section>\n");
     }
 
-    fn maps(&self, s: &mut String) {
-        let case = self.case;
-        let grid = &case.grid;
-        let results = self.results;
-        let system = case.report.units;
-        let length = display_unit(Quantity::Length, system);
-        let p_unit = display_unit(Quantity::Pressure, system);
-        let time = self.table.time();
-        s.push_str("<section>\n<h2>Pressure maps by layer</h2>\n");
-        let Some(pressure) = results.pressure.last() else {
-            s.push_str("<p class=\"empty\">The run stored no cell pressures, so there are no maps.</p>\n</section>\n");
-            return;
-        };
-        let t_end = time.values.last().copied().unwrap_or(0.0);
-        let (nx, ny, nz) = (grid.nx, grid.ny, grid.nz);
-        let layers = chosen_layers(nz, MAX_LAYER_MAPS);
-        let block = block_size(nx, ny, MAP_CELL_LIMIT);
-        let (bx, by) = (nx.div_ceil(block), ny.div_ceil(block));
-        let edges = |widths: &[f64], b: usize| -> Vec<f64> {
-            let mut out = vec![0.0];
-            let mut acc = 0.0;
-            for (n, w) in widths.iter().enumerate() {
-                acc += w / length.factor;
-                if (n + 1) % b == 0 || n + 1 == widths.len() {
-                    out.push(acc);
-                }
-            }
-            out
-        };
-        let x_edges = edges(&grid.dx, block);
-        let y_edges = edges(&grid.dy, block);
-
-        let maps = layer_maps(case, pressure, &layers, block, &p_unit, &length);
-        let range = colour_range(&maps, min_pressure_span(&p_unit));
-
-        let _ = writeln!(
-            s,
-            "<p class=\"note\">Cell pressure at {} {} (the last report time), one map per layer seen from above, \
-             on one colour scale (min {} and max {} {} over the layers shown). Colour ramp: rill slate-to-amber.</p>",
-            human(t_end),
-            escape(&time.unit.name),
-            human(range.0),
-            human(range.1),
-            escape(&p_unit.name)
-        );
-        if layers.len() < nz {
-            let list: Vec<String> = layers.iter().map(|k| (k + 1).to_string()).collect();
-            let _ = writeln!(
-                s,
-                "<p class=\"note\">Showing {} of {nz} layers, evenly spaced from top to bottom: {}. \
-                 Every layer is in the VTK maps (<code>maps/rill.pvd</code>).</p>",
-                layers.len(),
-                list.join(", ")
-            );
-        }
-        if block > 1 {
-            let _ = writeln!(
-                s,
-                "<p class=\"note\">Each layer has {} columns, more than the {} drawn per map: the maps show \
-                 area-weighted averages over blocks of {block} × {block} columns ({bx} × {by} blocks). \
-                 The VTK maps keep every cell.</p>",
-                human((nx * ny) as f64),
-                human(MAP_CELL_LIMIT as f64)
-            );
-        }
-        s.push_str(&colour_bar(range, &format!("Pressure [{}]", p_unit.name)));
-        s.push_str("<div class=\"maps\">\n");
-        let max_px = if layers.len() == 1 { 640.0 } else { 430.0 };
-        // Well completions, at their cell centres, per layer.
-        let centre = |widths: &[f64], n: usize| {
-            (widths[..n].iter().sum::<f64>() + 0.5 * widths[n]) / length.factor
-        };
-        let marks_in = |k: usize| -> Vec<(f64, f64, String)> {
-            let mut marks = Vec::new();
-            for well in &case.wells {
-                for c in well
-                    .completions
-                    .iter()
-                    .filter(|c| c.k == k && c.i < nx && c.j < ny)
-                {
-                    marks.push((
-                        centre(&grid.dx, c.i),
-                        centre(&grid.dy, c.j),
-                        well.name.clone(),
-                    ));
-                }
-            }
-            marks
-        };
-        for (k, values, mean_depth) in &maps {
-            let title = format!("Layer {}", k + 1);
-            let marks = marks_in(*k);
-            let map = HeatMap {
-                title: &title,
-                x_edges: &x_edges,
-                y_edges: &y_edges,
-                values,
-                range,
-                length_unit: &length.name,
-                max_px,
-                marks: &marks,
-            };
-            let (lmin, lmax) = values
-                .iter()
-                .flatten()
-                .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
-                    (a.min(v), b.max(v))
-                });
-            let span = if lmin.is_finite() {
-                format!("{} – {} {}", human(lmin), human(lmax), escape(&p_unit.name))
-            } else {
-                "no active cells".to_string()
-            };
-            let _ = writeln!(
-                s,
-                "<figure>\n<h3>{}</h3>\n{}<figcaption>centre depth ≈ {} {} (mean) · {span}</figcaption>\n</figure>",
-                escape(&title),
-                map.render(),
-                human(*mean_depth),
-                escape(&length.name)
-            );
-        }
-        s.push_str("</div>\n</section>\n");
-    }
-
     fn notes(&self, s: &mut String) {
         s.push_str("<section>\n<h2>About these results</h2>\n<ul class=\"note\">\n");
         let _ = writeln!(
@@ -654,7 +568,13 @@ impl Report<'_> {
                 s,
                 "<li>3-D maps for ParaView: <code>maps/rill.pvd</code> ({steps} report times). z is elevation (−depth); \
                  a grid whose layers dip is written with its corner points (each at the mean depth of the columns \
-                 around it), and the cell array <code>depth</code> holds the depth of each cell centre.</li>"
+                 around it), and the cell array <code>depth</code> holds the depth of each cell centre.{}</li>",
+                if self.results.oil_water.is_some() {
+                    " Beside the (oil) <code>pressure</code>, each holds the water and oil saturations \
+                     <code>sw</code> and <code>so</code>."
+                } else {
+                    ""
+                }
             );
         }
         s.push_str(

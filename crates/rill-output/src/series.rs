@@ -15,8 +15,12 @@
 //! volume the rate scale moves over the run. Only what is written changes:
 //! `RunResults` keep the simulator's numbers. Pressures, times and the
 //! balance error (already relative, and small on purpose) are never
-//! snapped.
+//! snapped. An oil-water run's phase rates and cumulatives are snapped
+//! against the same scales (its well rates are the liquid, so they bound
+//! the phases); its fractions (water cut, recovery, `sw_avg`, pore volumes
+//! injected), oil in place and phase balance errors are not.
 
+use rill_model::{Case, Role};
 use rill_sim::RunResults;
 use rill_units::System;
 
@@ -110,6 +114,22 @@ pub(crate) enum Measure {
     /// An aquifer's pressure.
     Pressure,
     BalanceError,
+    // Oil-water runs: per well (surface, the sign of `Rate`)...
+    OilRate,
+    WaterRate,
+    /// A producer's surface water cut, water over liquid.
+    WaterCut,
+    CumulativeOil,
+    CumulativeWater,
+    // ... and for the field.
+    OilInPlace,
+    /// Produced oil over the initial oil in place.
+    Recovery,
+    /// Pore-volume weighted average water saturation.
+    SwAvg,
+    PoreVolumesInjected,
+    BalanceErrorOil,
+    BalanceErrorWater,
 }
 
 impl Measure {
@@ -123,6 +143,17 @@ impl Measure {
             Measure::Cumulative => "cumulative",
             Measure::Pressure => "pressure",
             Measure::BalanceError => "balance_error",
+            Measure::OilRate => "oil_rate",
+            Measure::WaterRate => "water_rate",
+            Measure::WaterCut => "water_cut",
+            Measure::CumulativeOil => "cumulative_oil",
+            Measure::CumulativeWater => "cumulative_water",
+            Measure::OilInPlace => "oil_in_place",
+            Measure::Recovery => "recovery",
+            Measure::SwAvg => "sw_avg",
+            Measure::PoreVolumesInjected => "pore_volumes_injected",
+            Measure::BalanceErrorOil => "balance_error_oil",
+            Measure::BalanceErrorWater => "balance_error_water",
         }
     }
 }
@@ -159,12 +190,47 @@ pub(crate) struct SeriesTable {
 }
 
 impl SeriesTable {
+    /// The table of a run of `case`, with the wells' roles, which decide
+    /// an oil-water run's phase columns (see [`SeriesTable::build`]).
+    pub fn for_case(case: &Case, results: &RunResults) -> SeriesTable {
+        let injector = |w: usize| {
+            results.wells.get(w).is_some_and(|well| {
+                case.wells
+                    .iter()
+                    .any(|cw| cw.name == well.name && cw.role == Role::Injector)
+            })
+        };
+        SeriesTable::build(results, case.report.units, &injector)
+    }
+
+    /// The table of `results` without the wells' roles: an oil-water run's
+    /// wells all get a producer's phase columns (the writers use
+    /// [`SeriesTable::for_case`]).
+    #[cfg(test)]
+    pub fn new(results: &RunResults, system: System) -> SeriesTable {
+        SeriesTable::build(results, system, &|_| false)
+    }
+
     /// Columns in the order of the spec: time, average pressure, for every
     /// well its BHP, rate and cumulative, for every boundary its rate (and,
     /// beyond the spec, its cumulative), for every aquifer its rate,
     /// cumulative and pressure, and the balance error. Rates and
     /// cumulatives that are round-off are 0 (see the module doc).
-    pub fn new(results: &RunResults, system: System) -> SeriesTable {
+    ///
+    /// An oil-water run adds, after each well's cumulative, a producer's
+    /// oil rate, water rate, water cut and cumulative oil and water, or an
+    /// injector's (`injector(w)`) water rate and cumulative water; before
+    /// the balance error, oil in place, recovery, the average water
+    /// saturation and the pore volumes injected; after it, the oil and
+    /// water balance errors.
+    // One list of columns in file order: split, the order would be spread
+    // over several functions.
+    #[allow(clippy::too_many_lines)]
+    fn build(
+        results: &RunResults,
+        system: System,
+        injector: &dyn Fn(usize) -> bool,
+    ) -> SeriesTable {
         let unit = |q| display_unit(q, system);
         let zero = ZeroScale::new(results);
         let column = |name: String, measure, owner, unit: Unit, si: &[f64]| Column {
@@ -172,8 +238,10 @@ impl SeriesTable {
                 .iter()
                 .map(|&v| {
                     let v = match measure {
-                        Measure::Rate => zero.rate(v),
-                        Measure::Cumulative => zero.volume(v),
+                        Measure::Rate | Measure::OilRate | Measure::WaterRate => zero.rate(v),
+                        Measure::Cumulative | Measure::CumulativeOil | Measure::CumulativeWater => {
+                            zero.volume(v)
+                        }
                         _ => v,
                     };
                     unit.show(v)
@@ -184,6 +252,7 @@ impl SeriesTable {
             owner,
             unit,
         };
+        let ow = results.oil_water.as_ref();
         let mut columns = vec![
             column(
                 "time".into(),
@@ -223,6 +292,31 @@ impl SeriesTable {
                 unit(Quantity::SurfaceVolume),
                 &well.cumulative,
             ));
+            let Some(phases) = ow.and_then(|ow| ow.wells.get(w)) else {
+                continue;
+            };
+            let rate = unit(Quantity::SurfaceRate);
+            let volume = unit(Quantity::SurfaceVolume);
+            let fraction = unit(Quantity::Dimensionless);
+            let mut phase = |key: Measure, unit: &Unit, si: &[f64]| {
+                columns.push(column(
+                    format!("{} {}", well.name, key.key()),
+                    key,
+                    owner,
+                    unit.clone(),
+                    si,
+                ));
+            };
+            if injector(w) {
+                phase(Measure::WaterRate, &rate, &phases.water_rate);
+                phase(Measure::CumulativeWater, &volume, &phases.cumulative_water);
+            } else {
+                phase(Measure::OilRate, &rate, &phases.oil_rate);
+                phase(Measure::WaterRate, &rate, &phases.water_rate);
+                phase(Measure::WaterCut, &fraction, &phases.water_cut);
+                phase(Measure::CumulativeOil, &volume, &phases.cumulative_oil);
+                phase(Measure::CumulativeWater, &volume, &phases.cumulative_water);
+            }
         }
         for (b, boundary) in results.boundaries.iter().enumerate() {
             columns.push(column(
@@ -264,13 +358,39 @@ impl SeriesTable {
                 &aquifer.pressure,
             ));
         }
-        columns.push(column(
-            "balance_error".into(),
-            Measure::BalanceError,
-            None,
-            unit(Quantity::Dimensionless),
-            &results.balance_error,
-        ));
+        let fraction = unit(Quantity::Dimensionless);
+        let mut field = |measure: Measure, unit: &Unit, si: &[f64]| {
+            columns.push(column(
+                measure.key().into(),
+                measure,
+                None,
+                unit.clone(),
+                si,
+            ));
+        };
+        if let Some(ow) = ow {
+            field(
+                Measure::OilInPlace,
+                &unit(Quantity::SurfaceVolume),
+                &ow.oil_in_place,
+            );
+            field(Measure::Recovery, &fraction, &ow.recovery);
+            field(Measure::SwAvg, &fraction, &ow.sw_avg);
+            field(
+                Measure::PoreVolumesInjected,
+                &fraction,
+                &ow.pore_volumes_injected,
+            );
+        }
+        field(Measure::BalanceError, &fraction, &results.balance_error);
+        if let Some(ow) = ow {
+            field(Measure::BalanceErrorOil, &fraction, &ow.balance_error_oil);
+            field(
+                Measure::BalanceErrorWater,
+                &fraction,
+                &ow.balance_error_water,
+            );
+        }
         SeriesTable { columns }
     }
 

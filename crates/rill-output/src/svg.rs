@@ -5,93 +5,15 @@
 //! in font rendering and a raster backend, while the report only needs a few
 //! hundred lines of text output that the browser renders with its own fonts.
 //!
-//! Colours:
-//! - **rill slate-to-amber**, the sequential ramp of the pressure maps, is our
-//!   own design: five stops in OKLCH, lightness rising evenly from 0.27
-//!   (deep slate blue) through a grey teal and sand to 0.90 (pale amber), hue
-//!   turning 262° → 75°, interpolated in OKLab. Lightness increases
-//!   monotonically, so the order of values reads without the colour bar and
-//!   survives greyscale printing and the common colour-vision deficiencies.
-//! - **rill series colours**, eight hues of our own for lines, combined with
-//!   dash patterns so that the ninth series differs from the first.
+//! The colours (ramps of the maps, series colours) are in `colours.rs`.
 
 use std::fmt::Write as _;
 
+#[cfg(test)]
+pub(crate) use crate::colours::ramp;
+pub(crate) use crate::colours::Palette;
+use crate::colours::{hex, series_style, NO_DATA};
 use crate::text::{ellipsize, escape, group_thousands, trim_zeros};
-
-// ---- colours ----------------------------------------------------------------
-
-/// The stops of rill slate-to-amber: (L, C, h°) in OKLCH.
-const RAMP_STOPS: [(f64, f64, f64); 5] = [
-    (0.27, 0.060, 262.0),
-    (0.43, 0.075, 245.0),
-    (0.59, 0.060, 205.0),
-    (0.75, 0.080, 105.0),
-    (0.90, 0.140, 75.0),
-];
-
-/// Colour of rill slate-to-amber at `t` in [0, 1], as sRGB bytes.
-pub(crate) fn ramp(t: f64) -> [u8; 3] {
-    let t = if t.is_finite() {
-        t.clamp(0.0, 1.0)
-    } else {
-        0.0
-    };
-    let segments = (RAMP_STOPS.len() - 1) as f64;
-    let x = t * segments;
-    let n = (x.floor() as usize).min(RAMP_STOPS.len() - 2);
-    let f = x - n as f64;
-    let lab = |(l, c, h): (f64, f64, f64)| {
-        let h = h.to_radians();
-        (l, c * h.cos(), c * h.sin())
-    };
-    let (l0, a0, b0) = lab(RAMP_STOPS[n]);
-    let (l1, a1, b1) = lab(RAMP_STOPS[n + 1]);
-    oklab_to_srgb(l0 + (l1 - l0) * f, a0 + (a1 - a0) * f, b0 + (b1 - b0) * f)
-}
-
-/// OKLab (Björn Ottosson, 2020) to gamma-encoded sRGB, clipped to the gamut.
-fn oklab_to_srgb(l: f64, a: f64, b: f64) -> [u8; 3] {
-    let l_ = l + 0.3963377774 * a + 0.2158037573 * b;
-    let m_ = l - 0.1055613458 * a - 0.0638541728 * b;
-    let s_ = l - 0.0894841775 * a - 1.2914855480 * b;
-    let (l3, m3, s3) = (l_ * l_ * l_, m_ * m_ * m_, s_ * s_ * s_);
-    let lin = [
-        4.0767416621 * l3 - 3.3077115913 * m3 + 0.2309699292 * s3,
-        -1.2684380046 * l3 + 2.6097574011 * m3 - 0.3413193965 * s3,
-        -0.0041960863 * l3 - 0.7034186147 * m3 + 1.7076147010 * s3,
-    ];
-    lin.map(|c| {
-        let c = c.clamp(0.0, 1.0);
-        let g = if c <= 0.0031308 {
-            12.92 * c
-        } else {
-            1.055 * c.powf(1.0 / 2.4) - 0.055
-        };
-        (g * 255.0).round() as u8
-    })
-}
-
-pub(crate) fn hex([r, g, b]: [u8; 3]) -> String {
-    format!("#{r:02x}{g:02x}{b:02x}")
-}
-
-/// rill series colours.
-const SERIES_COLOURS: [&str; 8] = [
-    "#1d4e89", "#c8553d", "#2e8b57", "#d4a017", "#7b4f9d", "#3a9fd8", "#8a5a44", "#56646c",
-];
-const DASHES: [&str; 3] = ["", "7 4", "2 3"];
-
-/// Stroke colour and dash pattern of the `n`-th series.
-pub(crate) fn series_style(n: usize) -> (&'static str, &'static str) {
-    (
-        SERIES_COLOURS[n % SERIES_COLOURS.len()],
-        DASHES[(n / SERIES_COLOURS.len()) % DASHES.len()],
-    )
-}
-
-/// Fill of cells without a value (inactive).
-pub(crate) const NO_DATA: &str = "#e4e4e7";
 
 // ---- ticks ------------------------------------------------------------------
 
@@ -229,6 +151,9 @@ pub(crate) struct LineChart<'a> {
     /// The smallest span of the y axis, in its units (pressure axes: so
     /// that round-off does not fill the plot like a trend).
     pub min_span: Option<f64>,
+    /// An interval the y axis covers whatever the data (fractions: from 0,
+    /// and a water cut up to 1).
+    pub y_cover: Option<(f64, f64)>,
 }
 
 const CHART_W: f64 = 540.0;
@@ -261,6 +186,10 @@ impl LineChart<'_> {
         });
         let (ymin, ymax) = match self.min_span {
             Some(span) => widen(ymin, ymax, span),
+            None => (ymin, ymax),
+        };
+        let (ymin, ymax) = match self.y_cover {
+            Some((lo, hi)) => (ymin.min(lo), ymax.max(hi)),
             None => (ymin, ymax),
         };
         let xt = Ticks::new(xmin, xmax, 6);
@@ -475,6 +404,8 @@ pub(crate) struct HeatMap<'a> {
     pub max_px: f64,
     /// Marked points (well completions): x, y in the units of the edges, and a label.
     pub marks: &'a [(f64, f64, String)],
+    /// The colour ramp.
+    pub palette: Palette,
 }
 
 impl HeatMap<'_> {
@@ -511,7 +442,7 @@ impl HeatMap<'_> {
             let fill = if lv == LEVELS {
                 NO_DATA.to_string()
             } else {
-                hex(ramp((lv as f64 + 0.5) / LEVELS as f64))
+                hex(self.palette.colour((lv as f64 + 0.5) / LEVELS as f64))
             };
             let _ = writeln!(s, "<path fill=\"{fill}\" d=\"{d}\"/>");
         }
@@ -625,9 +556,9 @@ impl HeatMap<'_> {
     }
 }
 
-/// A horizontal colour bar for `range` with ticks, a label and a swatch
-/// for cells without data.
-pub(crate) fn colour_bar(range: (f64, f64), label: &str) -> String {
+/// A horizontal colour bar of `palette` for `range` with ticks, a label
+/// and a swatch for cells without data.
+pub(crate) fn colour_bar(range: (f64, f64), label: &str, palette: Palette) -> String {
     let (w, bar_w, bar_h, ml) = (620.0, 440.0, 16.0, 14.0);
     let (lo, hi) = range;
     let mut s = String::new();
@@ -645,7 +576,7 @@ pub(crate) fn colour_bar(range: (f64, f64), label: &str) -> String {
             "<rect x=\"{}\" y=\"6\" width=\"{}\" height=\"{bar_h}\" fill=\"{}\"/>",
             r2(x0),
             r2(x1 - x0 + 0.02),
-            hex(ramp((lv as f64 + 0.5) / LEVELS as f64))
+            hex(palette.colour((lv as f64 + 0.5) / LEVELS as f64))
         );
     }
     let _ = writeln!(s, "</g>\n<rect x=\"{ml}\" y=\"6\" width=\"{bar_w}\" height=\"{bar_h}\" fill=\"none\" stroke=\"#6b7280\"/>");
@@ -722,27 +653,5 @@ mod tests {
         // A flat series still gets a range.
         let t = Ticks::new(3000.0, 3000.0, 5);
         assert!(t.lo < 3000.0 && t.hi > 3000.0);
-    }
-
-    #[test]
-    fn ramp_lightness_rises_monotonically() {
-        // Relative luminance (sRGB, ITU-R BT.709 weights) must increase along the ramp.
-        let lum = |[r, g, b]: [u8; 3]| {
-            let lin = |c: u8| {
-                let c = c as f64 / 255.0;
-                if c <= 0.04045 {
-                    c / 12.92
-                } else {
-                    ((c + 0.055) / 1.055).powf(2.4)
-                }
-            };
-            0.2126 * lin(r) + 0.7152 * lin(g) + 0.0722 * lin(b)
-        };
-        let mut last = -1.0;
-        for n in 0..=64 {
-            let l = lum(ramp(n as f64 / 64.0));
-            assert!(l > last, "step {n}: {l} <= {last}");
-            last = l;
-        }
     }
 }

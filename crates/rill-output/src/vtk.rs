@@ -19,8 +19,10 @@
 //!   mean of its corners: exact for a planar dip, smoothed at a step. The
 //!   cell array `depth` holds each cell centre's depth as the simulator
 //!   uses it (column top plus the layers above).
-//! - Cell data: `pressure` (NaN in inactive cells), `active` (1/0),
-//!   `porosity`, `kx`, `ky`, `kz`, `depth`, `layer`. Units are the report
+//! - Cell data: `pressure` (NaN in inactive cells), in an oil-water run
+//!   `sw` and `so` (water and oil saturation, fractions, `so = 1 - sw`; NaN
+//!   in inactive cells), then `active` (1/0), `porosity`, `kx`, `ky`,
+//!   `kz`, `depth`, `layer`. Units are the report
 //!   system's; they are named in field data (`pressure_unit`, ...), as string
 //!   arrays, together with `TimeValue` (the report time, in `time_unit`).
 //! - Cell arrays are Float64 (UInt8 for `active`, Int32 for `layer`), inline
@@ -175,19 +177,24 @@ impl MapWriter {
         }
     }
 
-    /// Writes one step file: `pressure` in Pa per deck cell, `time` in report units.
-    pub fn write_step(&self, w: &mut dyn Write, pressure: &[f64], time: f64) -> io::Result<()> {
-        let values: Vec<f64> = self
-            .vtk_order
-            .iter()
-            .map(|&c| {
-                if self.active[c] {
-                    pressure[c] / self.pressure_factor
-                } else {
-                    f64::NAN
-                }
-            })
-            .collect();
+    /// Writes one step file: `pressure` in Pa per deck cell, `time` in
+    /// report units; an oil-water run's `water_saturation` per deck cell
+    /// adds the cell arrays `sw` and `so` (`1 - sw`).
+    pub fn write_step(
+        &self,
+        w: &mut dyn Write,
+        pressure: &[f64],
+        water_saturation: Option<&[f64]>,
+        time: f64,
+    ) -> io::Result<()> {
+        // Inactive cells are NaN whatever the simulator left in them.
+        let gather = |f: &dyn Fn(usize) -> f64| -> Vec<f64> {
+            self.vtk_order
+                .iter()
+                .map(|&c| if self.active[c] { f(c) } else { f64::NAN })
+                .collect()
+        };
+        let values = gather(&|c| pressure[c] / self.pressure_factor);
         let extent = format!("0 {} 0 {} 0 {}", self.nx, self.ny, self.nz);
         let kind = if self.structured {
             "StructuredGrid"
@@ -209,6 +216,10 @@ impl MapWriter {
             self.field_units,
         )?;
         w.write_all(data_array_f64("pressure", &values).as_bytes())?;
+        if let Some(sw) = water_saturation {
+            w.write_all(data_array_f64("sw", &gather(&|c| sw[c])).as_bytes())?;
+            w.write_all(data_array_f64("so", &gather(&|c| 1.0 - sw[c])).as_bytes())?;
+        }
         w.write_all(self.static_arrays.as_bytes())?;
         write!(
             w,

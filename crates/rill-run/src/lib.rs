@@ -11,7 +11,8 @@
 //! exported system.
 //!
 //! # Cautions
-//! The report lists, after the standing [`rill_output::CAUTION`], every
+//! The report lists, after the standing caution
+//! ([`rill_output::standing_caution`]), every
 //! checker warning or note about what was simulated: the code families
 //! `sanity` (values outside their usual range), `well` (well placement and
 //! pressures) and `flow` (isolated cells, nothing driving flow), each as
@@ -359,8 +360,9 @@ fn run_secondary(
     }
 }
 
-/// Passes progress and cancellation through, writes each report time's map,
-/// exports the first system when asked, and keeps the timings. A map that
+/// Passes progress and cancellation through, writes each report time's map
+/// (an oil-water run's with its water saturations, which follow the
+/// pressures), exports the first system when asked, and keeps the timings. A map that
 /// cannot be written stops the run (as a cancellation) and is the failure.
 struct Watch<'a> {
     inner: &'a mut dyn Observer,
@@ -388,6 +390,15 @@ impl Observer for Watch<'_> {
             }
         }
         self.inner.report_time(time, pressure);
+    }
+
+    fn report_saturation(&mut self, time: f64, water_saturation: &[f64]) {
+        if self.map_error.is_none() {
+            if let Err(e) = self.maps.saturation(time, water_saturation) {
+                self.map_error = Some(e);
+            }
+        }
+        self.inner.report_saturation(time, water_saturation);
     }
 
     fn first_system(&mut self, matrix: &CsrMatrix, rhs: &[f64]) {

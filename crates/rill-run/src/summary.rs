@@ -1,12 +1,14 @@
 //! The summary of a finished run, in the case's report units: how far it
 //! got and at what cost, the final state of every well, boundary and
 //! aquifer, the worst mass balance error, where the results are, the deck's
-//! cautions and the standing caution. The command line prints it; the server shows it as
-//! its message.
+//! cautions and the standing caution. An oil-water run adds each
+//! producer's water cut, phase rates and water breakthrough, and the
+//! field's recovery and pore volumes injected. The command line prints it;
+//! the server shows it as its message.
 
 use std::path::Path;
 
-use rill_model::{Case, RunKind};
+use rill_model::{Case, Role, RunKind};
 use rill_output::WrittenFiles;
 use rill_sim::{ControlMode, RunResults};
 use rill_units::{display_unit, format_number, Kind};
@@ -66,6 +68,8 @@ impl Summary {
         if let Some(p) = r.pressure_avg.get(last) {
             lines.push(format!("  average pressure {}", show(*p, Kind::Pressure)));
         }
+        // An oil-water run's well rates are the liquid, oil plus water.
+        let liquid = if r.oil_water.is_some() { "liquid " } else { "" };
         for w in &r.wells {
             let mode = match w.mode.get(last) {
                 Some(ControlMode::Bhp) => "on BHP",
@@ -73,7 +77,7 @@ impl Summary {
                 _ => "on rate",
             };
             lines.push(format!(
-                "  {} rate {}, BHP {}, cumulative {} ({mode})",
+                "  {} {liquid}rate {}, BHP {}, cumulative {liquid}{} ({mode})",
                 w.name,
                 show(
                     zero.rate(w.rate.get(last).copied().unwrap_or(0.0)),
@@ -106,8 +110,17 @@ impl Summary {
                 show(at(&a.pressure), Kind::Pressure)
             ));
         }
-        let worst = r.balance_error.iter().copied().fold(0.0f64, f64::max);
-        lines.push(format!("  largest mass balance error {worst:.2e}"));
+        oil_water_lines(&mut lines, case, r, &show, &zero);
+        let largest = |v: &[f64]| v.iter().copied().fold(0.0f64, f64::max);
+        let worst = largest(&r.balance_error);
+        match &r.oil_water {
+            Some(ow) => lines.push(format!(
+                "  largest mass balance error {worst:.2e} (oil {:.2e}, water {:.2e})",
+                largest(&ow.balance_error_oil),
+                largest(&ow.balance_error_water)
+            )),
+            None => lines.push(format!("  largest mass balance error {worst:.2e}")),
+        }
         lines.push(format!(
             "  results in {} (report: {})",
             written.dir.display(),
@@ -120,7 +133,7 @@ impl Summary {
             lines.push(format!("  caution: {c}"));
         }
         lines.push(String::new());
-        lines.push(format!("Caution: {}", rill_output::CAUTION));
+        lines.push(format!("Caution: {}", rill_output::standing_caution(r)));
         Summary { lines }
     }
 
@@ -128,6 +141,50 @@ impl Summary {
     pub fn text(&self) -> String {
         self.lines.join("\n")
     }
+}
+
+/// An oil-water run's lines: each producer's water cut, phase rates and
+/// water breakthrough, then the field's recovery and pore volumes
+/// injected, at the last report time. Nothing for a single-phase run.
+fn oil_water_lines(
+    lines: &mut Vec<String>,
+    case: &Case,
+    r: &RunResults,
+    show: &dyn Fn(f64, Kind) -> String,
+    zero: &rill_output::ZeroScale,
+) {
+    let Some(ow) = &r.oil_water else {
+        return;
+    };
+    let last = r.times.len().saturating_sub(1);
+    let at = |v: &[f64]| v.get(last).copied().unwrap_or(0.0);
+    for (w, phases) in r.wells.iter().zip(&ow.wells) {
+        let injector = case
+            .wells
+            .iter()
+            .any(|cw| cw.name == w.name && cw.role == Role::Injector);
+        if injector {
+            continue;
+        }
+        let breakthrough = match phases.breakthrough {
+            Some(t) => format!("water breakthrough at {}", show(t, Kind::Time)),
+            None => "no water breakthrough yet".into(),
+        };
+        lines.push(format!(
+            "  {} water cut {} (oil {}, water {}), {breakthrough}",
+            w.name,
+            format_number(at(&phases.water_cut)),
+            show(zero.rate(at(&phases.oil_rate)), Kind::SurfaceRate),
+            show(zero.rate(at(&phases.water_rate)), Kind::SurfaceRate),
+        ));
+    }
+    let produced: f64 = ow.wells.iter().map(|p| at(&p.cumulative_oil)).sum();
+    lines.push(format!(
+        "  recovery {} of the initial oil in place ({} produced), {} pore volumes injected",
+        format_number(at(&ow.recovery)),
+        show(zero.volume(produced), Kind::SurfaceVolume),
+        format_number(at(&ow.pore_volumes_injected)),
+    ));
 }
 
 fn plural<'a>(n: usize, one: &'a str, many: &'a str) -> &'a str {

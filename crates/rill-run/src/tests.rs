@@ -4,6 +4,8 @@ use super::*;
 use rill_model::{Code, Diagnostic, Location, MemorySource};
 use std::sync::atomic::{AtomicUsize, Ordering};
 
+mod oil_water;
+
 const BLOCK: &str = include_str!("../../../examples/teaching-block.rill");
 
 /// Writes `text` as `block.rill` in a fresh directory and checks it.

@@ -159,6 +159,7 @@ fn report_of_a_large_grid_stays_small() {
         case_name: None,
         cautions: &cautions,
         files: &[],
+        saturation: &[],
     };
     let mut html = Vec::new();
     crate::report::write_report(&mut html, &page).unwrap();
@@ -183,6 +184,7 @@ fn report_of_a_large_grid_stays_small() {
         case_name: None,
         cautions: &cautions,
         files: &[],
+        saturation: &[],
     };
     let mut html = Vec::new();
     crate::report::write_report(&mut html, &page).unwrap();

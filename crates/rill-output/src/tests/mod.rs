@@ -5,7 +5,9 @@
 mod aquifer_series;
 mod atomic_writes;
 mod chromium;
-mod fixtures;
+pub(crate) mod fixtures;
 mod html;
+mod oil_water_maps;
+mod oil_water_series;
 mod series_files;
 mod vtk_maps;

@@ -10,7 +10,7 @@ use crate::{write_results, RunMeta};
 use rill_model::UnitSystem;
 
 /// Decodes an inline compressed binary VTK array (UInt64 header) to bytes.
-fn decode(text: &str) -> Vec<u8> {
+pub(super) fn decode(text: &str) -> Vec<u8> {
     let text = text.trim();
     let first = B64.decode(&text[..32]).unwrap();
     let word =
@@ -42,7 +42,7 @@ fn decode(text: &str) -> Vec<u8> {
     out
 }
 
-fn f64s(bytes: &[u8]) -> Vec<f64> {
+pub(super) fn f64s(bytes: &[u8]) -> Vec<f64> {
     bytes
         .chunks(8)
         .map(|c| f64::from_le_bytes(c.try_into().unwrap()))
