@@ -167,7 +167,7 @@ impl Engine<'_> {
             };
             assemble(&self.d, &ctx, &self.curves_of, x, asm);
             self.timings.assembly += t0.elapsed().as_secs_f64();
-            let (done, why) = self.converged(asm, wells, step.dt);
+            let (done, why) = self.converged(asm, x, wells, step.dt);
             if done {
                 return Ok(());
             }
@@ -201,7 +201,7 @@ impl Engine<'_> {
 
     /// Whether the assembly at the current iterate meets every test, and
     /// if not, which test it misses worst.
-    fn converged(&self, asm: &Assembly, wells: &[WellState], dt: f64) -> (bool, String) {
+    fn converged(&self, asm: &Assembly, x: &[f64], wells: &[WellState], dt: f64) -> (bool, String) {
         let d = &self.d;
         let nc = d.n_cells;
         let mut worst = (0.0f64, 0usize, 0usize);
@@ -257,6 +257,12 @@ impl Engine<'_> {
             if st.target() == Target::Bhp || st.target() == Target::Shut {
                 continue;
             }
+            if self.past_limit(st, x[2 * (self.d.n_cells + w)]) {
+                return (
+                    false,
+                    format!("well \"{}\" is past its BHP limit", self.case.wells[w].name),
+                );
+            }
             if let Some((q, t)) = st.rate_and_target(asm.well_q[w]) {
                 let v = (q - t).abs() / t.abs().max(1e-300);
                 if !(v <= WELL_TOLERANCE) {
@@ -308,14 +314,17 @@ impl Engine<'_> {
         }
     }
 
-    /// Rate wells whose BHP passed its limit go to the limit; wells on
-    /// their limit whose rate there is above the target go back to it. At
-    /// most `max_switches` switches per well and step.
+    /// Rate wells whose BHP passed its limit go to the limit, always (the
+    /// limit is a hard constraint); wells on their limit whose rate there is
+    /// above the target go back to it, at most `max_switches` times a step,
+    /// and after `settle_after_switches` switches only when the limit
+    /// delivers more than the target by `settle_margin` (the hysteresis of
+    /// the single-phase engine, see `NewtonOptions`).
     fn switch_controls(&self, x: &mut [f64], wells: &mut [WellState], asm: &Assembly) {
         let nc = self.d.n_cells;
-        let max = self.opts.newton.max_switches;
+        let o = &self.opts.newton;
         for (w, st) in wells.iter_mut().enumerate() {
-            if st.switches >= max || st.cut_off {
+            if st.cut_off {
                 continue;
             }
             let Some((q, target)) = st.rate_and_target(asm.well_q[w]) else {
@@ -326,19 +335,31 @@ impl Engine<'_> {
             };
             let k = 2 * (nc + w);
             if !st.on_limit {
-                let past = match st.role {
-                    Role::Producer => x[k] < limit,
-                    Role::Injector => x[k] > limit,
-                };
-                if past {
+                if self.past_limit(st, x[k]) {
                     st.on_limit = true;
                     st.switches += 1;
                     x[k] = limit;
                 }
-            } else if q > target {
-                st.on_limit = false;
-                st.switches += 1;
+            } else {
+                let margin = if st.switches >= o.settle_after_switches {
+                    o.settle_margin
+                } else {
+                    0.0
+                };
+                if st.switches < o.max_switches && q > target * (1.0 + margin) {
+                    st.on_limit = false;
+                    st.switches += 1;
+                }
             }
+        }
+    }
+
+    /// Whether `bhp` is beyond the limit of the rate well `st`.
+    pub(super) fn past_limit(&self, st: &WellState, bhp: f64) -> bool {
+        match (st.limit(), st.role) {
+            (Some(l), Role::Producer) => bhp < l,
+            (Some(l), Role::Injector) => bhp > l,
+            (None, _) => false,
         }
     }
 }
