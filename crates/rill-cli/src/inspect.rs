@@ -142,6 +142,16 @@ pub fn to_json(r: &CellReport) -> Value {
         if let Some(sw) = r.water_saturation {
             cell.insert("water_saturation".into(), json!(sw));
         }
+        if let Some(ph) = r.phases {
+            cell.insert("krw".into(), json!(ph.krw));
+            cell.insert("kro".into(), json!(ph.kro));
+            // 1/cP, as the deck's viscosities are quoted in field units.
+            cell.insert(
+                "water_mobility_per_cp".into(),
+                json!(ph.water_mobility * 1e-3),
+            );
+            cell.insert("oil_mobility_per_cp".into(), json!(ph.oil_mobility * 1e-3));
+        }
     }
     out
 }
@@ -188,6 +198,23 @@ fn print_text(r: &CellReport, system: System) {
     }
     if let Some(sw) = r.water_saturation {
         println!("  initial sw  {}", format_number(sw));
+    }
+    if let Some(ph) = r.phases {
+        let (per, name) = if system == System::Si {
+            (1.0, "1/(Pa s)")
+        } else {
+            (1e-3, "1/cP")
+        };
+        println!(
+            "  krw, kro    {}, {}",
+            format_number(ph.krw),
+            format_number(ph.kro)
+        );
+        println!(
+            "  kr/mu       water {}, oil {} {name}",
+            format_number(ph.water_mobility * per),
+            format_number(ph.oil_mobility * per)
+        );
     }
     println!();
     let t_head = format!("T [{}]", unit(Kind::Transmissibility).name);

@@ -120,6 +120,21 @@ fn render_cell(case: &Case, r: &CellReport, heading: &str) -> String {
             format_number(sw)
         ));
     }
+    if let Some(ph) = r.phases {
+        // Mobility in 1/cP outside SI, as viscosities are quoted.
+        let (per, mob_unit) = if sys == System::Si {
+            (1.0, "1/(Pa s)")
+        } else {
+            (1e-3, "1/cP")
+        };
+        s.push_str(&format!(
+            "| krw, kro (initial) | {}, {} |\n| water, oil mobility kr/mu | {}, {} {mob_unit} |\n",
+            format_number(ph.krw),
+            format_number(ph.kro),
+            format_number(ph.water_mobility * per),
+            format_number(ph.oil_mobility * per)
+        ));
+    }
     s.push('\n');
     let t_unit = display_unit(Kind::Transmissibility, sys).name;
     // A fault on a face adds its multiplier and the transmissibility before it.

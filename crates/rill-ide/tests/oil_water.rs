@@ -111,6 +111,29 @@ fn hover_on_a_cell_gives_its_curves_and_initial_saturation() {
     let exact = 0.2 + 0.55 * (1.0 - 11.5 * 5.0 / 144.0 / 1.5);
     assert!((sw - exact).abs() < 2e-4, "{sw} vs {exact}");
     assert!(md.contains("with the oil's viscosity"), "{md}");
+    // The phases there: Corey with swc 0.2, sor 0.25, krw_end 0.3,
+    // kro_end 0.8, both exponents 2 (hand-computed from the deck); the
+    // mobilities with 0.5 cP water and 2 cP oil.
+    let s_n = (sw - 0.2) / 0.55;
+    let (krw, kro) = (0.3 * s_n * s_n, 0.8 * (1.0 - s_n) * (1.0 - s_n));
+    let numbers = |prefix: &str| -> Vec<f64> {
+        let row = md.lines().find(|l| l.starts_with(prefix)).expect(prefix);
+        row_cells(row)[1]
+            .split([',', ' '])
+            .filter_map(|t| t.parse().ok())
+            .collect()
+    };
+    let kr = numbers("| krw, kro (initial)");
+    assert!(
+        (kr[0] - krw).abs() < 1e-5 && (kr[1] - kro).abs() < 1e-5,
+        "{kr:?}"
+    );
+    let mob = numbers("| water, oil mobility");
+    assert!(
+        (mob[0] - krw / 0.5).abs() < 1e-5 && (mob[1] - kro / 2.0).abs() < 1e-5,
+        "{mob:?}"
+    );
+    assert!(md.contains("1/cP"), "{md}");
 }
 
 #[test]

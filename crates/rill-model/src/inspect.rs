@@ -42,6 +42,22 @@ pub struct CellReport {
     /// Oil-water cases: the initial water saturation, given or from the
     /// contact's capillary-gravity equilibrium (`derived::saturation`).
     pub water_saturation: Option<f64>,
+    /// Oil-water cases: the phases at the initial saturation, from the
+    /// cell's curves and the deck's viscosities.
+    pub phases: Option<PhaseReport>,
+}
+
+/// The two phases of a cell at its initial water saturation, SI.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PhaseReport {
+    /// Water relative permeability.
+    pub krw: f64,
+    /// Oil relative permeability.
+    pub kro: f64,
+    /// Water mobility `krw / mu_w`, 1/(Pa s).
+    pub water_mobility: f64,
+    /// Oil mobility `kro / mu_o`, 1/(Pa s).
+    pub oil_mobility: f64,
 }
 
 /// One face of the cell in a [`CellReport`], SI.
@@ -178,5 +194,20 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
             .and_then(|ow| ow.relperms.get(ow.cell_relperm.of(c)))
             .map(|r| r.name.clone()),
         water_saturation: derived::saturation::initial_water_saturation(case, c),
+        phases: phases(case, c),
+    })
+}
+
+/// The phases of cell `c` of an oil-water case at its initial saturation.
+fn phases(case: &Case, c: usize) -> Option<PhaseReport> {
+    let ow = case.oil_water.as_ref()?;
+    let curves = &ow.relperms.get(ow.cell_relperm.of(c))?.curves;
+    let sw = derived::saturation::initial_water_saturation(case, c)?;
+    let (krw, kro) = (curves.krw(sw), curves.kro(sw));
+    Some(PhaseReport {
+        krw,
+        kro,
+        water_mobility: krw / ow.water.viscosity,
+        oil_mobility: kro / case.fluid.viscosity,
     })
 }
