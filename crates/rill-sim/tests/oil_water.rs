@@ -783,3 +783,146 @@ fn the_waterflood_example_breaks_through() {
         assert!(*o <= 1e-8 && *w <= 1e-8, "{o:e} {w:e}");
     }
 }
+
+/// A row of oil at connate water between a water-bearing side and a
+/// producer; `support` is the boundary or aquifer block on the west side.
+fn supported_row(support: &str, producer_extra: &str) -> String {
+    format!(
+        r#"
+grid {{
+  cells = 30 x 1 x 1
+  dx = 50 ft
+  dy = 100 ft
+  dz = 20 ft
+  top = 5000 ft
+}}
+rock {{
+  porosity = 0.2
+  kx = 300 md
+  ky = kx
+  kz = kx
+  compressibility = 4e-6 1/psi
+}}
+oil {{
+  viscosity = 1.5 cP
+  fvf = 1.1 rb/stb
+  compressibility = 1e-5 1/psi
+  density = 50 lb/ft^3
+}}
+water {{
+  viscosity = 0.5 cP
+  fvf = 1 rb/stb
+  compressibility = 3e-6 1/psi
+  density = 62 lb/ft^3
+}}
+relperm "sand" {{
+  model = corey
+  swc = 0.2
+  sor = 0.2
+  krw_end = 0.4
+  kro_end = 0.8
+  nw = 2
+  no = 2
+}}
+initial {{
+  pressure = 3000 psi at 5010 ft
+  water_saturation = 0.2
+}}
+{support}
+well "P" {{
+  role = producer
+  location = (30, 1)
+  radius = 0.3 ft
+  control = bhp 2000 psi
+{producer_extra}
+}}
+timeline {{
+  end = 3 yr
+  report_every = 30 day
+}}
+"#
+    )
+}
+
+/// The far side of a constant-pressure boundary with no contact is water:
+/// what flows in is water, what the producer makes turns to water, and both
+/// balances (boundary flow included) close every step.
+#[test]
+fn a_constant_pressure_boundary_supplies_water() {
+    let r = run_case(&case(&supported_row(
+        "boundary \"west\" {\n  side = west\n  pressure = 3000 psi at 5010 ft\n}",
+        "",
+    )));
+    let ow = r.oil_water.as_ref().unwrap();
+    let last = r.times.len() - 1;
+    // Inflow (negative) through the west side, and water reaching the producer.
+    assert!(r.boundaries[0].cumulative[last] < 0.0);
+    assert!(
+        ow.wells[0].water_cut[last] > 0.5,
+        "{:?}",
+        ow.wells[0].water_cut
+    );
+    assert!(ow.wells[0].breakthrough.is_some());
+    // The oil left in place plus the oil produced is the initial oil: the
+    // boundary brought none.
+    let oil = ow.oil_in_place[last] + ow.wells[0].cumulative_oil[last];
+    assert!(
+        (oil - ow.oil_in_place[0]).abs() <= 1e-8 * ow.oil_in_place[0],
+        "{oil} vs {}",
+        ow.oil_in_place[0]
+    );
+    for (o, w) in ow.balance_error_oil.iter().zip(&ow.balance_error_water) {
+        assert!(*o <= 1e-8 && *w <= 1e-8, "{o:e} {w:e}");
+    }
+}
+
+/// A finite aquifer on the west side supports the producer with water.
+#[test]
+fn an_aquifer_supplies_water() {
+    let r = run_case(&case(&supported_row(
+        "aquifer \"west leg\" {\n  side = west\n  water_volume = 2e7 rb\n  compressibility = 7e-6 1/psi\n  productivity = 40 rb/day/psi\n}",
+        "",
+    )));
+    let ow = r.oil_water.as_ref().unwrap();
+    let last = r.times.len() - 1;
+    assert!(r.aquifers[0].cumulative[last] < 0.0, "an influx");
+    assert!(
+        ow.wells[0].water_cut[last] > 0.3,
+        "{:?}",
+        ow.wells[0].water_cut
+    );
+    // The aquifer's pressure fell with what it gave.
+    assert!(r.aquifers[0].pressure[last] < r.aquifers[0].pressure[0]);
+    for (o, w) in ow.balance_error_oil.iter().zip(&ow.balance_error_water) {
+        assert!(*o <= 1e-8 && *w <= 1e-8, "{o:e} {w:e}");
+    }
+}
+
+/// A producer whose water cut passes its `max_water_cut` is shut for the
+/// rest of the run, and the results say when.
+#[test]
+fn a_producer_past_its_water_cut_is_shut() {
+    let r = run_case(&case(&supported_row(
+        "boundary \"west\" {\n  side = west\n  pressure = 3000 psi at 5010 ft\n}",
+        "  max_water_cut = 0.3",
+    )));
+    let ow = r.oil_water.as_ref().unwrap();
+    let shut = r
+        .events
+        .iter()
+        .find(|e| e.well == "P" && e.action == rill_sim::WellAction::Shut)
+        .expect("the well is shut");
+    // Shut at the end of the first step that passed the cut: no report
+    // before it shows more, and water was rising toward it.
+    let k = r.times.iter().position(|&t| t > shut.time).unwrap();
+    let before: Vec<f64> = (0..k)
+        .filter(|&j| r.times[j] < shut.time)
+        .map(|j| ow.wells[0].water_cut[j])
+        .collect();
+    assert!(before.iter().all(|&c| c <= 0.3), "{before:?}");
+    assert!(before.iter().any(|&c| c > 0.05), "{before:?}");
+    for j in k..r.times.len() {
+        assert_eq!(ow.wells[0].oil_rate[j], 0.0);
+        assert_eq!(r.wells[0].mode[j], rill_sim::ControlMode::Shut);
+    }
+}
