@@ -293,11 +293,8 @@ pub fn run(request: &Request, observer: &mut dyn Observer) -> Outcome {
     meta.wall_seconds = Some(started.elapsed().as_secs_f64());
     // The last report time's face fluxes, by the simulator's own formula,
     // and the digest that ties the set to this case.
-    meta.last_state = results
-        .pressure
-        .last()
-        .and_then(|p| rill_sim::face_fluxes(case, p))
-        .map(|fluxes| rill_output::LastState {
+    meta.last_state =
+        rill_sim::last_face_fluxes(case, &results).map(|fluxes| rill_output::LastState {
             digest: rill_model::digest::case_digest(case),
             fluxes,
         });

@@ -21,6 +21,36 @@ pub struct FaceFluxes {
     pub z: Vec<f64>,
 }
 
+/// The face fluxes at the last report time of a run of `case`: of the one
+/// liquid, or of oil plus water in an oil-water run (at the last oil
+/// pressures and saturations). `None` without cell values.
+pub fn last_face_fluxes(case: &Case, results: &crate::RunResults) -> Option<FaceFluxes> {
+    let p = results.pressure.last()?;
+    match &results.oil_water {
+        Some(ow) => crate::oilwater::liquid_face_fluxes(case, p, ow.saturation.last()?),
+        None => face_fluxes(case, p),
+    }
+}
+
+/// Which axis array a connection from `a` to `b` (b > a) writes.
+pub(crate) fn axis_of<'f>(
+    case: &Case,
+    out: &'f mut FaceFluxes,
+    a: usize,
+    b: usize,
+) -> &'f mut Vec<f64> {
+    let grid = &case.grid;
+    let (ia, ja, _) = grid.ijk(a);
+    let (ib, jb, _) = grid.ijk(b);
+    if ib != ia {
+        &mut out.x
+    } else if jb != ja {
+        &mut out.y
+    } else {
+        &mut out.z
+    }
+}
+
 /// The face fluxes of `case` at `pressure` (Pa, one value per grid cell),
 /// with the fluid model of the run kind (steady runs are incompressible).
 /// `None` when `pressure` does not have one value per cell.
@@ -52,17 +82,7 @@ pub fn face_fluxes(case: &Case, pressure: &[f64]) -> Option<FaceFluxes> {
         let dd = depth[a] - depth[b];
         let phi = (pa - pb) - rho * GRAVITY * dd;
         let flux = conn.geometric_trans * 0.5 * (ba + bb) / pvt.mu * phi;
-        let (ia, ja, ka) = grid.ijk(a);
-        let (ib, jb, _) = grid.ijk(b);
-        let axis = if ib != ia {
-            &mut out.x
-        } else if jb != ja {
-            &mut out.y
-        } else {
-            debug_assert!(grid.ijk(b).2 == ka + 1);
-            &mut out.z
-        };
-        axis[a] = flux;
+        axis_of(case, &mut out, a, b)[a] = flux;
     }
     Some(out)
 }

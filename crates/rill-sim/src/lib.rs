@@ -49,7 +49,7 @@ mod oilwater;
 pub use rill_linear as linear;
 mod pvt;
 pub mod results;
-pub use fluxes::{face_fluxes, FaceFluxes};
+pub use fluxes::{face_fluxes, last_face_fluxes, FaceFluxes};
 mod run;
 
 pub use disc::Part;

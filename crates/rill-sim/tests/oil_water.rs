@@ -926,3 +926,19 @@ fn a_producer_past_its_water_cut_is_shut() {
         assert_eq!(r.wells[0].mode[j], rill_sim::ControlMode::Shut);
     }
 }
+
+/// The face fluxes a result set records for an oil-water run are oil plus
+/// water by the assembly's formula: in the nearly incompressible
+/// Buckley-Leverett row (both formation volume factors 1) every face
+/// carries the injection rate.
+#[test]
+fn recorded_face_fluxes_carry_the_injected_liquid() {
+    let c = case(&buckley_leverett_deck(40, 100.0, 5.0));
+    let r = run_case(&c);
+    let f = rill_sim::last_face_fluxes(&c, &r).expect("fluxes");
+    let q = 200.0 * 0.158987294928 / DAY;
+    for (i, v) in f.x[..39].iter().enumerate() {
+        assert!((v - q).abs() <= 1e-4 * q, "face {i}: {v} vs {q}");
+    }
+    assert_eq!(f.x[39], 0.0);
+}

@@ -120,6 +120,18 @@ pub(crate) fn run(
             "the grid has no active cell (porosity 0 everywhere)".into(),
         ));
     }
+    // A rate no completion can deliver would leave the BHP undetermined.
+    if let Some(w) = case
+        .wells
+        .iter()
+        .zip(&d.wells)
+        .find(|(w, g)| !matches!(w.control, Control::Bhp(_) | Control::Shut) && g.wi_sum <= 0.0)
+    {
+        return Err(RunError::Setup(format!(
+            "well \"{}\" is on a rate control but every completion has a zero well index (well.productivity): its rate cannot be delivered",
+            w.0.name
+        )));
+    }
     let ow = case.oil_water.as_ref().expect("Phases::new checked it");
     let curves_of: Vec<u32> = d
         .cell_of
@@ -291,4 +303,45 @@ fn target_of(control: Control, role: Role) -> assemble::Target {
             Role::Injector => Target::Water(q),
         },
     }
+}
+
+/// Oil plus water surface flux through the `+i`, `+j`, `+k` face of every
+/// cell at oil pressures `p` and water saturations `sw` (one per grid
+/// cell), by the assembly's own face formula. `None` when the arrays do
+/// not have one value per cell or the case is not oil-water.
+pub(crate) fn liquid_face_fluxes(case: &Case, p: &[f64], sw: &[f64]) -> Option<crate::FaceFluxes> {
+    let n = case.grid.cell_count();
+    if p.len() != n || sw.len() != n {
+        return None;
+    }
+    let ph = Phases::new(case)?;
+    let ow = case.oil_water.as_ref()?;
+    if ph.curves.is_empty() {
+        return None;
+    }
+    let props = |c: usize| {
+        let curves = ow.cell_relperm.of(c).min(ph.curves.len() - 1);
+        CellProps::new(&ph, curves, p[c], sw[c])
+    };
+    let depth = derived::cell_center_depths(&case.grid);
+    let mut out = crate::FaceFluxes {
+        x: vec![0.0; n],
+        y: vec![0.0; n],
+        z: vec![0.0; n],
+    };
+    for conn in derived::case_connections(case) {
+        let (a, b) = (conn.a, conn.b);
+        if !(case.rock.is_active(a) && case.rock.is_active(b)) {
+            continue;
+        }
+        let f = assemble::face_flux(
+            &ph,
+            conn.geometric_trans,
+            depth[a] - depth[b],
+            &props(a),
+            &props(b),
+        );
+        crate::fluxes::axis_of(case, &mut out, a, b)[a] = f[0].v + f[1].v;
+    }
+    Some(out)
 }
