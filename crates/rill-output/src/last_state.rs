@@ -9,9 +9,10 @@
 //! cumulative; and the layout of the binary file. `last_state.f64` holds
 //! four arrays of little-endian doubles, one value per grid cell in grid
 //! order (i fastest, then j, then k): `pressure` (Pa, NaN in inactive
-//! cells), then `flux_x`, `flux_y`, `flux_z`, the surface flux through each
-//! cell's `+i`, `+j`, `+k` face (m^3/s, positive towards the larger index;
-//! 0 on the grid's edge). In Python:
+//! cells; the oil pressure in an oil-water run), then `flux_x`, `flux_y`,
+//! `flux_z`, the surface flux through each cell's `+i`, `+j`, `+k` face
+//! (m^3/s, positive towards the larger index; 0 on the grid's edge; oil
+//! plus water in an oil-water run). In Python:
 //! `numpy.fromfile("last_state.f64", "<f8").reshape(4, nz, ny, nx)`.
 //!
 //! Rates and cumulatives are written as the series write them (round-off
