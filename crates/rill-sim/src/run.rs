@@ -466,23 +466,7 @@ fn run_on(
     }
     let d = Disc::new_part(case, part);
     let setup_seconds = start.elapsed().as_secs_f64();
-    if d.n_global_cells == 0 {
-        return Err(RunError::Setup(
-            "the grid has no active cell (porosity 0 everywhere)".into(),
-        ));
-    }
-    // A rate no completion can deliver would leave the BHP undetermined.
-    if let Some(w) = case
-        .wells
-        .iter()
-        .zip(&d.wells)
-        .find(|(w, g)| matches!(w.control, rill_model::Control::Rate(_)) && g.wi_sum <= 0.0)
-    {
-        return Err(RunError::Setup(format!(
-            "well \"{}\" is on a rate control but every completion has a zero well index (well.productivity): its rate cannot be delivered",
-            w.0.name
-        )));
-    }
+    check_runnable(case, &d)?;
     let steady = case.timeline.kind == RunKind::Steady;
     let mut x = initial_state(case, &d);
     let mut wells = controls::initial_wells(case);
@@ -519,6 +503,29 @@ fn run_on(
     observer.timings(&r.timings);
     results.stats = r.stats;
     Ok(results)
+}
+
+/// Refuses a discretisation no engine can run: no active cell, or a rate
+/// well whose completions all have a zero well index (its rate cannot be
+/// delivered, and its BHP would be undetermined).
+pub(crate) fn check_runnable(case: &Case, d: &Disc) -> Result<(), RunError> {
+    if d.n_global_cells == 0 {
+        return Err(RunError::Setup(
+            "the grid has no active cell (porosity 0 everywhere)".into(),
+        ));
+    }
+    if let Some(w) = case
+        .wells
+        .iter()
+        .zip(&d.wells)
+        .find(|(w, g)| w.control.surface_rate().is_some() && g.wi_sum <= 0.0)
+    {
+        return Err(RunError::Setup(format!(
+            "well \"{}\" is on a rate control but every completion has a zero well index (well.productivity): its rate cannot be delivered",
+            w.0.name
+        )));
+    }
+    Ok(())
 }
 
 /// The scaled residual of an assembly (see [`NewtonOptions`]).

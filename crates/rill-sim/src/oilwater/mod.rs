@@ -115,23 +115,7 @@ pub(crate) fn run(
         ));
     }
     let d = Disc::new_part(case, crate::disc::Part::SERIAL);
-    if d.n_cells == 0 {
-        return Err(RunError::Setup(
-            "the grid has no active cell (porosity 0 everywhere)".into(),
-        ));
-    }
-    // A rate no completion can deliver would leave the BHP undetermined.
-    if let Some(w) = case
-        .wells
-        .iter()
-        .zip(&d.wells)
-        .find(|(w, g)| !matches!(w.control, Control::Bhp(_) | Control::Shut) && g.wi_sum <= 0.0)
-    {
-        return Err(RunError::Setup(format!(
-            "well \"{}\" is on a rate control but every completion has a zero well index (well.productivity): its rate cannot be delivered",
-            w.0.name
-        )));
-    }
+    crate::run::check_runnable(case, &d)?;
     let ow = case.oil_water.as_ref().expect("Phases::new checked it");
     let curves_of: Vec<u32> = d
         .cell_of
