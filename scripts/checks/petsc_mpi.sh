@@ -104,5 +104,17 @@ petsc_failure() {
 }
 step "a PETSc failure ends every rank, writes nothing and says why" petsc_failure
 
+oil_water_refused() {
+  local dir="$tmp/oil-water" rc
+  mkdir -p "$dir"
+  cp "$repo/examples/brackenlow-waterflood.rill" "$dir/flood.rill"
+  # The distributed engine is single-phase: one clear refusal, nothing written.
+  mpirun -n 2 "$tmp/rill-petsc" run "$dir/flood.rill" --engine petsc -q --out "$dir/out" >"$dir/log" 2>&1
+  rc=$?
+  [ "$rc" -ne 0 ] && [ "$(grep -c 'runs single-phase decks only' "$dir/log")" = 1 ] && [ ! -e "$dir/out" ] ||
+    { cat "$dir/log"; return 1; }
+}
+step "an oil-water deck is refused by the distributed engine with one message" oil_water_refused
+
 echo "petsc_mpi: $passed passed, $failed failed"
 [ "$failed" -eq 0 ]

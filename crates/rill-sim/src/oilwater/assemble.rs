@@ -94,6 +94,9 @@ pub(crate) struct Assembly {
     pub aq_influx: Vec<f64>,
     /// Cell properties at the assembled state.
     pub props: Vec<CellProps>,
+    /// The accumulation block of every block row (row-major 2 x 2; zero in
+    /// well and aquifer rows), for CPR's true-IMPES weights.
+    pub acc: Vec<f64>,
 }
 
 impl Assembly {
@@ -116,6 +119,7 @@ impl Assembly {
             aq_q: vec![[0.0; 2]; d.aquifers.len()],
             aq_influx: vec![0.0; d.aquifers.len()],
             props: Vec::with_capacity(d.n_cells),
+            acc: vec![0.0; 4 * n],
         }
     }
 }
@@ -248,18 +252,20 @@ fn cell_rows(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) {
     let mut tasks = Vec::with_capacity(nc / CHUNK + 1);
     {
         let (mut vals, mut res, mut mass) = (cell_vals, cell_res, &mut out.mass[..]);
+        let mut acc_blocks = &mut out.acc[..4 * nc];
         let mut r0 = 0;
         while r0 < nc {
             let r1 = (r0 + CHUNK).min(nc);
             let (v, vt) = std::mem::take(&mut vals).split_at_mut(4 * (rp[r1] - rp[r0]));
             let (r, rt) = std::mem::take(&mut res).split_at_mut(2 * (r1 - r0));
             let (m, mt) = std::mem::take(&mut mass).split_at_mut(r1 - r0);
-            tasks.push((r0, r1, v, r, m));
-            (vals, res, mass) = (vt, rt, mt);
+            let (a, at) = std::mem::take(&mut acc_blocks).split_at_mut(4 * (r1 - r0));
+            tasks.push((r0, r1, v, r, m, a));
+            (vals, res, mass, acc_blocks) = (vt, rt, mt, at);
             r0 = r1;
         }
     }
-    tasks.into_par_iter().for_each(|(r0, r1, vals, res, mass)| {
+    tasks.into_par_iter().for_each(|(r0, r1, vals, res, mass, acc_out)| {
         let base = rp[r0];
         for i in r0..r1 {
             let row = &mut vals[4 * (rp[i] - base)..4 * (rp[i + 1] - base)];
@@ -268,6 +274,7 @@ fn cell_rows(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) {
             let mut r = [acc[0].v - ctx.mass_old[i][0], acc[1].v - ctx.mass_old[i][1]];
             mass[i - r0] = [acc[0].v, acc[1].v];
             let mut jd = [acc[0].d[0], acc[0].d[1], acc[1].d[0], acc[1].d[1]];
+            acc_out[4 * (i - r0)..4 * (i - r0) + 4].copy_from_slice(&jd);
             for k in rp[i]..rp[i + 1] {
                 let j = ci[k];
                 if j >= nc || j == i {

@@ -129,6 +129,7 @@ pub(crate) fn run(
         rel_tol: LINEAR_TOLERANCE,
         ..CoupledOptions::default()
     };
+    opts.cpr.decoupling = crate::linear::Decoupling::TrueImpes;
     opts.max_iter = opts.max_iter.max(options.linear.max_iter.min(1000));
     let mut engine = Engine {
         case,
