@@ -265,47 +265,49 @@ fn cell_rows(d: &Disc, ctx: &Ctx, x: &[f64], out: &mut Assembly) {
             r0 = r1;
         }
     }
-    tasks.into_par_iter().for_each(|(r0, r1, vals, res, mass, acc_out)| {
-        let base = rp[r0];
-        for i in r0..r1 {
-            let row = &mut vals[4 * (rp[i] - base)..4 * (rp[i + 1] - base)];
-            row.fill(0.0);
-            let acc = accumulation(ph, &props[i], x[2 * i + 1], d.pv_ref[i]);
-            let mut r = [acc[0].v - ctx.mass_old[i][0], acc[1].v - ctx.mass_old[i][1]];
-            mass[i - r0] = [acc[0].v, acc[1].v];
-            let mut jd = [acc[0].d[0], acc[0].d[1], acc[1].d[0], acc[1].d[1]];
-            acc_out[4 * (i - r0)..4 * (i - r0) + 4].copy_from_slice(&jd);
-            for k in rp[i]..rp[i + 1] {
-                let j = ci[k];
-                if j >= nc || j == i {
-                    continue;
-                }
-                let t = d.trans[k];
-                let (f, own, other) = if i < j {
-                    (
-                        face_flux(ph, t, d.depth[i] - d.depth[j], &props[i], &props[j]),
-                        [0, 1],
-                        [2, 3],
-                    )
-                } else {
-                    let f = face_flux(ph, t, d.depth[j] - d.depth[i], &props[j], &props[i]);
-                    (f.map(|v| -v), [2, 3], [0, 1])
-                };
-                let blk = &mut row[4 * (k - rp[i])..4 * (k - rp[i]) + 4];
-                for e in 0..2 {
-                    r[e] += dt * f[e].v;
-                    for v in 0..2 {
-                        jd[2 * e + v] += dt * f[e].d[own[v]];
-                        blk[2 * e + v] = dt * f[e].d[other[v]];
+    tasks
+        .into_par_iter()
+        .for_each(|(r0, r1, vals, res, mass, acc_out)| {
+            let base = rp[r0];
+            for i in r0..r1 {
+                let row = &mut vals[4 * (rp[i] - base)..4 * (rp[i + 1] - base)];
+                row.fill(0.0);
+                let acc = accumulation(ph, &props[i], x[2 * i + 1], d.pv_ref[i]);
+                let mut r = [acc[0].v - ctx.mass_old[i][0], acc[1].v - ctx.mass_old[i][1]];
+                mass[i - r0] = [acc[0].v, acc[1].v];
+                let mut jd = [acc[0].d[0], acc[0].d[1], acc[1].d[0], acc[1].d[1]];
+                acc_out[4 * (i - r0)..4 * (i - r0) + 4].copy_from_slice(&jd);
+                for k in rp[i]..rp[i + 1] {
+                    let j = ci[k];
+                    if j >= nc || j == i {
+                        continue;
+                    }
+                    let t = d.trans[k];
+                    let (f, own, other) = if i < j {
+                        (
+                            face_flux(ph, t, d.depth[i] - d.depth[j], &props[i], &props[j]),
+                            [0, 1],
+                            [2, 3],
+                        )
+                    } else {
+                        let f = face_flux(ph, t, d.depth[j] - d.depth[i], &props[j], &props[i]);
+                        (f.map(|v| -v), [2, 3], [0, 1])
+                    };
+                    let blk = &mut row[4 * (k - rp[i])..4 * (k - rp[i]) + 4];
+                    for e in 0..2 {
+                        r[e] += dt * f[e].v;
+                        for v in 0..2 {
+                            jd[2 * e + v] += dt * f[e].d[own[v]];
+                            blk[2 * e + v] = dt * f[e].d[other[v]];
+                        }
                     }
                 }
+                let dg = 4 * (d.diag[i] - rp[i]);
+                row[dg..dg + 4].copy_from_slice(&jd);
+                res[2 * (i - r0)] = r[0];
+                res[2 * (i - r0) + 1] = r[1];
             }
-            let dg = 4 * (d.diag[i] - rp[i]);
-            row[dg..dg + 4].copy_from_slice(&jd);
-            res[2 * (i - r0)] = r[0];
-            res[2 * (i - r0) + 1] = r[1];
-        }
-    });
+        });
 }
 
 /// Adds the boundary faces to the cell rows and sums their rates.

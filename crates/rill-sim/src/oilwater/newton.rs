@@ -182,7 +182,10 @@ impl Engine<'_> {
                 observer.first_system(&asm.jac, &rhs);
             }
             dx.fill(0.0);
-            match self.solver.solve_with(&asm.jac, Some(&asm.acc), &rhs, &mut dx) {
+            match self
+                .solver
+                .solve_with(&asm.jac, Some(&asm.acc), &rhs, &mut dx)
+            {
                 Ok(st) => {
                     it.linear += st.iterations;
                     self.stats.linear_iterations += st.iterations;
