@@ -132,6 +132,7 @@ def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--cases", nargs="+", default=["a", "b"])
     ap.add_argument("--n", type=int, default=100)
+    ap.add_argument("--nz", type=int, default=85, help="layers of case (b): 85 is the 1.12-million-cell block")
     ap.add_argument("--peer", nargs="*", default=["a"], help="cases whose first system goes to scipy too")
     ap.add_argument("--tol", type=float, default=1e-6)
     a = ap.parse_args()
@@ -147,9 +148,9 @@ def main():
             cells, name = a.n * a.n, f"(a) quarter five-spot {a.n} x {a.n} to 1.5 PV"
         else:
             subprocess.run([sys.executable, os.path.join(ROOT, "scripts/bench/gen_field_case.py"), work,
-                            "--waterflood"], check=True, capture_output=True)
+                            "--waterflood", "--nz", str(a.nz)], check=True, capture_output=True)
             deck = os.path.join(work, "field.rill")
-            cells, name = 60 * 220 * 85, "(b) generated block, waterflood for a year"
+            cells, name = 60 * 220 * a.nz, f"(b) generated block 60 x 220 x {a.nz}, waterflood for a year"
         doc, peak, system = run(deck, work)
         report(name, cells, doc, peak)
         if case in a.peer:
