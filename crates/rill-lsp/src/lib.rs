@@ -118,6 +118,63 @@ where
     }
 }
 
+/// Standard output written by one thread of its own. Tokio's `stdout`
+/// hands every write to its blocking pool, and a burst of publications
+/// (hundreds of documents opened at once) raced new pool threads into
+/// being faster than idle ones were reused; one writer thread keeps the
+/// thread count of the server bounded whatever the traffic. Writes are
+/// queued (the queue holds what the client has not read yet, as the pipe
+/// and tokio's buffer did) and written in order.
+struct StdoutThread {
+    tx: std::sync::mpsc::Sender<Vec<u8>>,
+}
+
+impl StdoutThread {
+    fn start() -> (StdoutThread, Option<std::thread::JoinHandle<()>>) {
+        let (tx, rx) = std::sync::mpsc::channel::<Vec<u8>>();
+        let handle = std::thread::Builder::new()
+            .name("rill-stdout".into())
+            .spawn(move || {
+                use std::io::Write;
+                let mut out = std::io::stdout().lock();
+                for chunk in rx {
+                    if out.write_all(&chunk).and_then(|()| out.flush()).is_err() {
+                        break;
+                    }
+                }
+            })
+            .ok();
+        (StdoutThread { tx }, handle)
+    }
+}
+
+impl AsyncWrite for StdoutThread {
+    fn poll_write(
+        self: std::pin::Pin<&mut Self>,
+        _cx: &mut std::task::Context<'_>,
+        buf: &[u8],
+    ) -> std::task::Poll<std::io::Result<usize>> {
+        std::task::Poll::Ready(match self.tx.send(buf.to_vec()) {
+            Ok(()) => Ok(buf.len()),
+            Err(_) => Err(std::io::ErrorKind::BrokenPipe.into()),
+        })
+    }
+
+    fn poll_flush(
+        self: std::pin::Pin<&mut Self>,
+        _cx: &mut std::task::Context<'_>,
+    ) -> std::task::Poll<std::io::Result<()>> {
+        std::task::Poll::Ready(Ok(()))
+    }
+
+    fn poll_shutdown(
+        self: std::pin::Pin<&mut Self>,
+        _cx: &mut std::task::Context<'_>,
+    ) -> std::task::Poll<std::io::Result<()>> {
+        std::task::Poll::Ready(Ok(()))
+    }
+}
+
 /// `rill lsp`: the server on stdin and stdout. Returns the exit code.
 pub fn run_stdio() -> u8 {
     let runtime = match tokio::runtime::Builder::new_multi_thread()
@@ -131,7 +188,17 @@ pub fn run_stdio() -> u8 {
             return 2;
         }
     };
-    let code = runtime.block_on(serve(tokio::io::stdin(), tokio::io::stdout()));
+    let (stdout, writer) = StdoutThread::start();
+    let code = runtime.block_on(serve(tokio::io::stdin(), stdout));
+    // `serve` dropped its output: the writer thread ends once the queue is
+    // written; wait for it (the last replies, `shutdown`'s among them), but
+    // not for ever if the client stopped reading.
+    if let Some(writer) = writer {
+        let deadline = std::time::Instant::now() + std::time::Duration::from_secs(2);
+        while !writer.is_finished() && std::time::Instant::now() < deadline {
+            std::thread::sleep(std::time::Duration::from_millis(5));
+        }
+    }
     // Tokio's stdin reader is a blocking thread that may sit in `read` for
     // ever; do not wait for it (nor for a cancelled run still unwinding).
     runtime.shutdown_background();
