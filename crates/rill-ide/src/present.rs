@@ -71,6 +71,41 @@ pub(crate) fn cell_markdown(
     Some(s)
 }
 
+/// The oil-water rows of a cell's table: its curves, its initial
+/// saturation and the phases there (empty for a single-phase case).
+fn phase_rows(case: &Case, r: &CellReport, sys: System) -> String {
+    let mut s = String::new();
+    if let Some(name) = &r.relperm {
+        s.push_str(&format!("| relperm | \"{}\" |\n", escape_md(name)));
+    }
+    if let Some(sw) = r.water_saturation {
+        let how = match case.oil_water.as_ref().map(|ow| &ow.saturation) {
+            Some(rill_model::InitialSaturation::Contact { .. }) => "from the water contact",
+            _ => "given",
+        };
+        s.push_str(&format!(
+            "| initial water saturation | {} ({how}) |\n",
+            format_number(sw)
+        ));
+    }
+    if let Some(ph) = r.phases {
+        // Mobility in 1/cP outside SI, as viscosities are quoted.
+        let (per, mob_unit) = if sys == System::Si {
+            (1.0, "1/(Pa s)")
+        } else {
+            (1e-3, "1/cP")
+        };
+        s.push_str(&format!(
+            "| krw, kro (initial) | {}, {} |\n| water, oil mobility kr/mu | {}, {} {mob_unit} |\n",
+            format_number(ph.krw),
+            format_number(ph.kro),
+            format_number(ph.water_mobility * per),
+            format_number(ph.oil_mobility * per)
+        ));
+    }
+    s
+}
+
 fn render_cell(case: &Case, r: &CellReport, heading: &str) -> String {
     let (sys, second) = systems(case);
     let len = display_unit(Kind::Length, sys).name;
@@ -107,34 +142,7 @@ fn render_cell(case: &Case, r: &CellReport, heading: &str) -> String {
         "| pore volume | {} |\n",
         show(r.pore_volume, Kind::ReservoirVolume, sys)
     ));
-    if let Some(name) = &r.relperm {
-        s.push_str(&format!("| relperm | \"{}\" |\n", escape_md(name)));
-    }
-    if let Some(sw) = r.water_saturation {
-        let how = match case.oil_water.as_ref().map(|ow| &ow.saturation) {
-            Some(rill_model::InitialSaturation::Contact { .. }) => "from the water contact",
-            _ => "given",
-        };
-        s.push_str(&format!(
-            "| initial water saturation | {} ({how}) |\n",
-            format_number(sw)
-        ));
-    }
-    if let Some(ph) = r.phases {
-        // Mobility in 1/cP outside SI, as viscosities are quoted.
-        let (per, mob_unit) = if sys == System::Si {
-            (1.0, "1/(Pa s)")
-        } else {
-            (1e-3, "1/cP")
-        };
-        s.push_str(&format!(
-            "| krw, kro (initial) | {}, {} |\n| water, oil mobility kr/mu | {}, {} {mob_unit} |\n",
-            format_number(ph.krw),
-            format_number(ph.kro),
-            format_number(ph.water_mobility * per),
-            format_number(ph.oil_mobility * per)
-        ));
-    }
+    s.push_str(&phase_rows(case, r, sys));
     s.push('\n');
     let t_unit = display_unit(Kind::Transmissibility, sys).name;
     // A fault on a face adds its multiplier and the transmissibility before it.
