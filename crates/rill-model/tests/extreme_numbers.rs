@@ -29,6 +29,9 @@ fn corpus() -> Corpus {
         root().join("examples/teaching-block.rill"),
         root().join("examples/larkspur-east.rill"),
         root().join("examples/tamsin-ridge/tamsin-ridge.rill"),
+        // Oil-water: the phases, the Corey and table curves, the contact,
+        // the phase controls and `max_water_cut`.
+        root().join("examples/brackenlow-waterflood.rill"),
     ];
     let mut decks = Vec::new();
     let mut numbers = Vec::new();
