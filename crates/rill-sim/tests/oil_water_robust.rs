@@ -275,6 +275,9 @@ const SHORT_TIMELINE: &str =
 const BRACKENLOW_TIMELINE: &str = "timeline {\n  end = 10 day\n  report_every = 2 day\n  max_steps = 500\n  at 4 day {\n    well \"BW-1\" { control = liquid_rate 1500 stb/day }\n  }\n}";
 /// The longest run a mutated deck keeps its own timeline for, s.
 const LONGEST_END: f64 = 30.0 * 86400.0;
+/// The most steps a mutated deck keeps its own timeline for (a hard case
+/// stops at them with its error instead of taking minutes).
+const MOST_STEPS: usize = 500;
 
 /// `text` with its top-level `timeline` block replaced by `block`; `None`
 /// when no such block is found.
@@ -481,10 +484,10 @@ fn mutated_oil_water_decks_run_or_stop_with_a_message() {
                 "the checker panicked\n--- deck ---\n{t}"
             )));
         };
-        if a.runnable_case()
-            .is_some_and(|c| c.timeline.end > LONGEST_END)
-        {
-            // A mutation lengthened the run: run a few days of it.
+        let long = |c: &Case| c.timeline.end > LONGEST_END || c.timeline.max_steps > MOST_STEPS;
+        if a.runnable_case().is_some_and(long) {
+            // A mutation lengthened the run or lifted its step guard: run
+            // a few days of it, at most `MOST_STEPS` steps.
             let Some(short) = with_timeline(&t, SHORT_TIMELINE) else {
                 return Ok(());
             };
