@@ -36,8 +36,10 @@
 //!   volume factors), this sums the equations.
 //! * `PressureRow`: w_i = e_0, the first equation alone (for comparison).
 //!
-//! A block whose weight is undefined (a singular D_ii, or row 0 of D_ii^{-1}
-//! with a zero first entry) takes w_i = e_0.
+//! The weights solve only the non-pressure columns (w_i[0] = 1 and
+//! w_i^T D_ii e_s = 0 for s > 0), so a D_ii singular in its pressure column
+//! alone still decouples. A block whose non-pressure part is singular, or
+//! whose weights come out huge, takes w_i = e_0.
 
 use std::sync::Mutex;
 
@@ -327,12 +329,13 @@ fn weights(
         _ => None,
     };
     let zero = vec![0.0; bb];
+    let m = b - 1;
     w.par_chunks_mut(b)
         .enumerate()
         .with_min_len(ROW_CHUNK)
         .for_each_init(
-            || (vec![0.0; bb], Vec::new()),
-            |(inv, work), (i, wi)| {
+            || (vec![0.0; m * m], vec![0.0; m * m], Vec::new()),
+            |(sub, inv, work), (i, wi)| {
                 let d = match acc {
                     Some(acc) => &acc[i * bb..i * bb + bb],
                     None => {
@@ -344,14 +347,30 @@ fn weights(
                 };
                 wi.iter_mut().for_each(|x| *x = 0.0);
                 wi[0] = 1.0;
-                if invert_block(d, b, inv, work) {
-                    let w0 = inv[0];
-                    let big = inv[..b].iter().fold(0.0f64, |m, x| m.max(x.abs()));
-                    // A negligible first entry would blow the weights up.
-                    if w0.abs() > 1e-12 * big {
-                        for (s, x) in wi.iter_mut().enumerate() {
-                            *x = inv[s] / w0;
-                        }
+                if m == 0 {
+                    return;
+                }
+                // w_0 = 1 and sum_r w_r D[r][s] = 0 for s >= 1: the other
+                // weights solve S^T w' = -D[0][1..], S = D[1..][1..]. The
+                // same as row 0 of D^-1 scaled where D is invertible, and
+                // still defined where D is not: an accumulation block with
+                // no pressure derivative (incompressible phases in a cell
+                // full of one of them) keeps its saturation columns.
+                for r in 0..m {
+                    for s in 0..m {
+                        sub[s * m + r] = d[(r + 1) * b + s + 1];
+                    }
+                }
+                if invert_block(sub, m, inv, work) {
+                    let mut ok = true;
+                    for r in 0..m {
+                        let v: f64 = (0..m).map(|s| -inv[r * m + s] * d[s + 1]).sum();
+                        // Huge weights would drown the first equation.
+                        ok &= v.is_finite() && v.abs() < 1e12;
+                        wi[r + 1] = v;
+                    }
+                    if !ok {
+                        wi.iter_mut().skip(1).for_each(|x| *x = 0.0);
                     }
                 }
             },

@@ -195,6 +195,38 @@ fn weights_and_pressure_matrix_follow_their_definitions() {
     }
 }
 
+/// Incompressible phases in a cell full of one of them give an
+/// accumulation block with no pressure derivative, `[[0, a], [0, b]]`:
+/// singular, yet its saturation column still fixes the true-IMPES weights
+/// (`w = (1, -a / b)`), and CPR with them converges.
+#[test]
+fn true_impes_weights_hold_where_the_accumulation_has_no_pressure_column() {
+    let mut s = two_phase_system(6, 4, 2, 1.5, 11);
+    for blk in s.accumulation.chunks_mut(4).step_by(3) {
+        blk[0] = 0.0;
+        blk[2] = 0.0;
+    }
+    let o = CprOptions {
+        decoupling: Decoupling::TrueImpes,
+        ..Default::default()
+    };
+    let cpr = Cpr::build(&s.a, Some(&s.accumulation), &o).expect("set-up");
+    let w = cpr.weights();
+    for (i, blk) in s.accumulation.chunks(4).enumerate() {
+        let expect = -blk[1] / blk[3];
+        assert!(
+            (w[2 * i + 1] - expect).abs() <= 1e-14 * expect.abs(),
+            "block {i}: {} vs {expect}",
+            w[2 * i + 1]
+        );
+    }
+    let (out, _) = run(
+        &s,
+        &opts(Decoupling::TrueImpes, SecondStage::BlockIlu0, true),
+    );
+    out.expect("CPR converges");
+}
+
 /// A block tridiagonal matrix (a 1D grid) has no fill: block ILU(0) is its
 /// exact LU, so GMRES with the second stage alone converges in one
 /// iteration. Also for blocks of 3, with a random diagonally dominant

@@ -267,7 +267,8 @@ codes! {
     /// (0, 1], or a table that does not start (krw) or end (kro) at zero.
     RelpermEndpoints = "relperm.endpoints",
     /// A saturation table of the wrong shape: `sw` not increasing, `krw`
-    /// decreasing, `kro` or `pc` increasing, lists of different lengths.
+    /// decreasing, `kro` or `pc` increasing, lists of different lengths;
+    /// a Corey exponent below 1 (a warning).
     RelpermShape = "relperm.shape",
     /// An initial pressure that is zero, negative or below 1 atm somewhere in the grid.
     InitialPressure = "initial.pressure",

@@ -372,6 +372,55 @@ fn a_table_of_the_wrong_shape_is_relperm_shape() {
     assert_eq!(e.len(), 1, "{e:?}");
     assert_eq!((e[0].0, e[0].3.as_str()), (Severity::Warning, "0.01"));
     assert!(!a.has_errors());
+    // The same at the table's ends (sw = 0, sw = 1): a phase would flow out
+    // of a cell that holds none of it.
+    for (edits, at) in [
+        (
+            [
+                ("sw = [0.25 0.45 0.72]", "sw = [0 0.45 0.72]"),
+                ("krw = [0 0.07 0.35]", "krw = [0.01 0.07 0.35]"),
+            ],
+            "0.01",
+        ),
+        (
+            [
+                ("sw = [0.25 0.45 0.72]", "sw = [0.25 0.45 1]"),
+                ("kro = [0.7 0.21 0]", "kro = [0.7 0.21 0.02]"),
+            ],
+            "0.02",
+        ),
+    ] {
+        let text = edits
+            .iter()
+            .fold(DECK.to_string(), |t, (f, to)| t.replace(f, to));
+        let a = check(&text);
+        let e = found(&a, &text, Code::RelpermEndpoints);
+        assert_eq!(e.len(), 1, "{e:?}");
+        assert_eq!((e[0].0, e[0].3.as_str()), (Severity::Error, at), "{e:?}");
+        assert!(e[0].1.contains("holds none"), "{e:?}");
+    }
+}
+
+#[test]
+fn a_corey_exponent_below_one_is_a_relperm_shape_warning() {
+    for (from, to, at) in [
+        ("nw = 2.5", "nw = 0.4", "0.4"),
+        ("no = 2.0", "no = 0.7", "0.7"),
+    ] {
+        let text = DECK.replace(from, to);
+        let a = check(&text);
+        let e = found(&a, &text, Code::RelpermShape);
+        assert_eq!(e.len(), 1, "{to}: {e:?}");
+        assert_eq!(
+            (e[0].0, e[0].3.as_str()),
+            (Severity::Warning, at),
+            "{to}: {e:?}"
+        );
+        assert!(e[0].1.contains("infinitely steeply"), "{e:?}");
+        assert!(!a.has_errors(), "{to}");
+    }
+    let a = edited("nw = 2.5", "nw = 1");
+    assert!(found(&a, DECK, Code::RelpermShape).is_empty());
 }
 
 #[test]

@@ -11,8 +11,8 @@
 //! `scripts/fuzz-checker` runs the long campaign. Each property prints its
 //! tallies (decks, clean, finished, stopped by kind, refused by code; run
 //! with `--nocapture`); `SHOW_STOPS=1` also prints every run error with
-//! its deck, `SHOW_SLOWEST=1` the slowest deck. Engine defects found this
-//! way are kept, minimal, in `oil_water_defects.rs`.
+//! its deck, `SHOW_SLOWEST=1` the slowest deck. Edge cases found this
+//! way are kept, minimal, with the engine's answer, in `oil_water_edges.rs`.
 
 use std::cell::{Cell, RefCell};
 use std::collections::BTreeMap;

@@ -56,15 +56,46 @@ impl Corey {
 }
 
 impl SatTable {
-    /// The first saturation at which `kro` reaches 0 (`1 - sor`), or the
-    /// last row's saturation when it never does.
+    /// The first saturation at which `kro` reaches 0 (`1 - sor`), or 1
+    /// when no row has `kro` 0 (above its last row `kro` falls to 0 at
+    /// sw = 1).
     pub fn oil_end(&self) -> f64 {
         self.sw
             .iter()
             .zip(&self.kro)
             .find(|(_, &k)| k <= 0.0)
-            .or_else(|| self.sw.iter().zip(&self.kro).next_back())
             .map_or(1.0, |(&s, _)| s)
+    }
+
+    /// `krw` and its slope at `sw`: the table, and below its first row a
+    /// line to 0 at sw = 0 (no water flows where there is none).
+    fn water(&self, sw: f64) -> (f64, f64) {
+        match (self.sw.first(), self.krw.first()) {
+            (Some(&s0), Some(&k0)) if k0 > 0.0 && s0 > 0.0 && sw < s0 => {
+                (k0 * sw.max(0.0) / s0, if sw >= 0.0 { k0 / s0 } else { 0.0 })
+            }
+            _ => (
+                interpolate(&self.sw, &self.krw, sw),
+                slope(&self.sw, &self.krw, sw),
+            ),
+        }
+    }
+
+    /// `kro` and its slope at `sw`: the table, and from its last row a
+    /// line to 0 at sw = 1 (no oil flows where there is none).
+    fn oil(&self, sw: f64) -> (f64, f64) {
+        let n = self.sw.len().min(self.kro.len());
+        if n > 0 {
+            let (s1, k1) = (self.sw[n - 1], self.kro[n - 1]);
+            if k1 > 0.0 && s1 < 1.0 && sw >= s1 {
+                let v = k1 * ((1.0 - sw) / (1.0 - s1)).clamp(0.0, 1.0);
+                return (v, if sw < 1.0 { -k1 / (1.0 - s1) } else { 0.0 });
+            }
+        }
+        (
+            interpolate(&self.sw, &self.kro, sw),
+            slope(&self.sw, &self.kro, sw),
+        )
     }
 }
 
@@ -115,14 +146,18 @@ impl Curves {
                     dpc: -c.pc_entry * ds,
                 }
             }
-            Curves::Table(t) => SatPoint {
-                krw: interpolate(&t.sw, &t.krw, sw),
-                dkrw: slope(&t.sw, &t.krw, sw),
-                kro: interpolate(&t.sw, &t.kro, sw),
-                dkro: slope(&t.sw, &t.kro, sw),
-                pc: interpolate(&t.sw, &t.pc, sw),
-                dpc: slope(&t.sw, &t.pc, sw),
-            },
+            Curves::Table(t) => {
+                let (krw, dkrw) = t.water(sw);
+                let (kro, dkro) = t.oil(sw);
+                SatPoint {
+                    krw,
+                    dkrw,
+                    kro,
+                    dkro,
+                    pc: interpolate(&t.sw, &t.pc, sw),
+                    dpc: slope(&t.sw, &t.pc, sw),
+                }
+            }
         }
     }
 
@@ -151,7 +186,7 @@ impl Curves {
     pub fn krw(&self, sw: f64) -> f64 {
         match self {
             Curves::Corey(c) => c.krw_end * c.normalised(sw).powf(c.nw),
-            Curves::Table(t) => interpolate(&t.sw, &t.krw, sw),
+            Curves::Table(t) => t.water(sw).0,
         }
     }
 
@@ -159,7 +194,7 @@ impl Curves {
     pub fn kro(&self, sw: f64) -> f64 {
         match self {
             Curves::Corey(c) => c.kro_end * (1.0 - c.normalised(sw)).powf(c.no),
-            Curves::Table(t) => interpolate(&t.sw, &t.kro, sw),
+            Curves::Table(t) => t.oil(sw).0,
         }
     }
 

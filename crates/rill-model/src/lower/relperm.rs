@@ -176,6 +176,25 @@ impl<'s> Lowerer<'s> {
                     ),
                 ));
                 ok = false;
+            } else if v < 1.0 {
+                // Newton cannot follow a curve that starts with an infinite
+                // slope: steps shrink wherever the phase starts to flow.
+                let (phase, from) = if key == "nw" {
+                    ("krw", "`swc`")
+                } else {
+                    ("kro", "`1 - sor`")
+                };
+                self.diags.push(
+                    Diagnostic::warning(
+                        Code::RelpermShape,
+                        at,
+                        format!(
+                            "the Corey exponent `{key}` is {}, below 1: `{phase}` rises infinitely steeply from {from}, and a run takes very short steps wherever that phase starts to flow",
+                            crate::values::short_number(v)
+                        ),
+                    )
+                    .with_note("measured Corey exponents lie between about 1 and 6; 1 gives a straight line"),
+                );
             }
         }
         if let Some((pc, at)) = pc_entry {
@@ -385,28 +404,55 @@ impl<'s> Lowerer<'s> {
                 "`kro` is 0 at the first saturation: oil could never flow".into(),
             );
         }
+        // A phase cannot flow where there is none of it: below the first
+        // row `krw` falls linearly to 0 at sw = 0, above the last `kro`
+        // to 0 at sw = 1. A row at that very end leaves no room to fall.
         if krw[0].0 != 0.0 {
+            let at_end = sw[0].0 <= 0.0;
             push(
                 self,
-                Severity::Warning,
+                if at_end {
+                    Severity::Error
+                } else {
+                    Severity::Warning
+                },
                 Code::RelpermEndpoints,
                 krw[0].1,
-                format!(
-                    "the first `krw` is {}, not 0: water flows even at the lowest saturation of the table (held constant below it)",
-                    crate::values::short_number(krw[0].0)
-                ),
+                if at_end {
+                    format!(
+                        "`krw` is {} at sw = 0: water would flow out of a cell that holds none",
+                        crate::values::short_number(krw[0].0)
+                    )
+                } else {
+                    format!(
+                        "the first `krw` is {}, not 0: water flows below the table's first saturation (falling linearly to 0 at sw = 0)",
+                        crate::values::short_number(krw[0].0)
+                    )
+                },
             );
         }
         if kro[n - 1].0 != 0.0 {
+            let at_end = sw[n - 1].0 >= 1.0;
             push(
                 self,
-                Severity::Warning,
+                if at_end {
+                    Severity::Error
+                } else {
+                    Severity::Warning
+                },
                 Code::RelpermEndpoints,
                 kro[n - 1].1,
-                format!(
-                    "the last `kro` is {}, not 0: no oil is left behind the flood (held constant above the table)",
-                    crate::values::short_number(kro[n - 1].0)
-                ),
+                if at_end {
+                    format!(
+                        "`kro` is {} at sw = 1: oil would flow out of a cell that holds none",
+                        crate::values::short_number(kro[n - 1].0)
+                    )
+                } else {
+                    format!(
+                        "the last `kro` is {}, not 0: no oil is left behind the flood (`kro` falls linearly to 0 at sw = 1 above the table)",
+                        crate::values::short_number(kro[n - 1].0)
+                    )
+                },
             );
         }
         let values = |v: &[Point]| v.iter().map(|p| p.0).collect::<Vec<f64>>();

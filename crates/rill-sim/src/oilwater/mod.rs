@@ -46,6 +46,7 @@
 mod ad;
 mod assemble;
 mod cells;
+mod floating;
 mod newton;
 mod record;
 mod steps;
@@ -91,6 +92,8 @@ pub(crate) struct Engine<'a> {
     /// Diagonal of a held well row per second of step.
     hold: f64,
     solver: CoupledSolver,
+    /// Regions an incompressible run may leave floating (see `floating`).
+    floating: Vec<floating::FloatRegion>,
     first_system_sent: bool,
     stats: SolverStats,
     timings: Timings,
@@ -142,6 +145,7 @@ pub(crate) fn run(
         outside,
         hold: t_typ.max(1e-30) * lam_ref,
         solver: CoupledSolver::new(opts),
+        floating: Vec::new(),
         first_system_sent: false,
         stats: SolverStats::default(),
         timings: Timings {
@@ -152,6 +156,7 @@ pub(crate) fn run(
         d,
     };
     let x = engine.initial_state()?;
+    engine.floating = engine.floating_regions(&x);
     let mut results = crate::run::empty_results_for(case);
     results.oil_water = Some(record::empty(case));
     let t_max = engine.d.t_sum.iter().copied().fold(0.0, f64::max);

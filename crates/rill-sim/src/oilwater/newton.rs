@@ -5,6 +5,7 @@ use rill_model::{Control, Role};
 
 use super::assemble::{assemble, Assembly, Ctx, Drive, Target};
 use super::cells::{OIL, WATER};
+use super::floating::{apply_pins, PinRows};
 use super::{target_of, Engine, BALANCE_TOLERANCE, CELL_TOLERANCE, MAX_DS, MAX_NEWTON};
 use crate::results::ControlMode;
 use crate::run::Observer;
@@ -154,6 +155,10 @@ impl Engine<'_> {
                     x[2 * (nc + w)] = p;
                 }
             }
+            let pins = self.pins(wells).map_err(StepFail::Failed)?;
+            for &(c, p0) in &pins {
+                x[2 * c] = p0;
+            }
             let drive: Vec<Drive> = wells.iter().map(WellState::drive).collect();
             let t0 = std::time::Instant::now();
             let ctx = Ctx {
@@ -166,6 +171,14 @@ impl Engine<'_> {
                 hold: self.hold,
             };
             assemble(&self.d, &ctx, &self.curves_of, x, asm);
+            if !pins.is_empty() {
+                let rows = PinRows {
+                    row_ptr: &self.d.row_ptr,
+                    diag: &self.d.diag,
+                    scale: self.hold * step.dt,
+                };
+                apply_pins(asm, &pins, rows, x);
+            }
             self.timings.assembly += t0.elapsed().as_secs_f64();
             let (done, why) = self.converged(asm, x, wells, step.dt);
             if done {
@@ -318,7 +331,8 @@ impl Engine<'_> {
     }
 
     /// Rate wells whose BHP passed its limit go to the limit, always (the
-    /// limit is a hard constraint); wells on their limit whose rate there is
+    /// limit is a hard constraint), and so do oil-rate wells with no mobile
+    /// oil in any completed cell; wells on their limit whose rate there is
     /// above the target go back to it, at most `max_switches` times a step,
     /// and after `settle_after_switches` switches only when the limit
     /// delivers more than the target by `settle_margin` (the hysteresis of
@@ -338,7 +352,7 @@ impl Engine<'_> {
             };
             let k = 2 * (nc + w);
             if !st.on_limit {
-                if self.past_limit(st, x[k]) {
+                if self.past_limit(st, x[k]) || self.no_oil_to_take(w, st, asm) {
                     st.on_limit = true;
                     st.switches += 1;
                     x[k] = limit;
@@ -355,6 +369,17 @@ impl Engine<'_> {
                 }
             }
         }
+    }
+
+    /// Whether `st` is an oil-rate well none of whose completed cells holds
+    /// mobile oil: no BHP meets its target, so it goes to its limit (and
+    /// takes the water there) until oil comes back.
+    fn no_oil_to_take(&self, w: usize, st: &WellState, asm: &Assembly) -> bool {
+        matches!(target_of(st.control, st.role), Target::Oil(_))
+            && self.d.wells[w]
+                .comps
+                .iter()
+                .all(|cp| asm.props[cp.cell].kr_mu[OIL].v <= 0.0)
     }
 
     /// Whether `bhp` is beyond the limit of the rate well `st`.

