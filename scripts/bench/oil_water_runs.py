@@ -17,7 +17,7 @@ set) and the time per cell per Newton iteration, read from the result set
 times rill's CPR-GMRES and scipy's GMRES with spilu on it to the same
 relative residual.
 
-usage: scripts/bench/oil_water_runs.py [--cases a b] [--n 100] [--peer a] [--tol 1e-6]
+usage: scripts/bench/oil_water_runs.py [--cases a b] [--n 100] [--nz 85] [--peer a] [--tol 1e-6] [--fills 10 20 40]
 Needs: a release build (cargo build --release -p rill-cli) and
 pip install -r scripts/bench/requirements.txt
 """
@@ -135,6 +135,8 @@ def main():
     ap.add_argument("--nz", type=int, default=85, help="layers of case (b): 85 is the 1.12-million-cell block")
     ap.add_argument("--peer", nargs="*", default=["a"], help="cases whose first system goes to scipy too")
     ap.add_argument("--tol", type=float, default=1e-6)
+    ap.add_argument("--fills", type=int, nargs="*", default=[10, 20, 40],
+                    help="spilu fill factors of the scipy peers (the largest systems: 10 only)")
     a = ap.parse_args()
     if not os.path.exists(RILL):
         sys.exit("build first: cargo build --release -p rill-cli")
@@ -155,7 +157,8 @@ def main():
         report(name, cells, doc, peak)
         if case in a.peer:
             subprocess.run([sys.executable, os.path.join(ROOT, "scripts/bench/cpr_vs_scipy.py"),
-                            "--system", system, "--tol", str(a.tol), "--repeat", "1"], check=True)
+                            "--system", system, "--tol", str(a.tol), "--repeat", "1",
+                            "--fills", *map(str, a.fills)], check=True)
 
 
 if __name__ == "__main__":

@@ -412,3 +412,50 @@ fn the_tutorial_deck_checks_and_runs() {
         "the run reaches 2 yr: {times:?}"
     );
 }
+
+const WATERFLOOD_DECK: &str = "examples/brackenlow-waterflood.rill";
+
+/// The waterflood tutorial quotes its example: every line of its
+/// `rill-fragment` blocks (but `...`) is a line of the deck, comments
+/// aside, and the `rill check` and `rill inspect` lines it shows are what
+/// the commands print.
+#[test]
+fn the_waterflood_tutorial_quotes_its_example() {
+    let page = read("docs/waterflood.md");
+    let deck = read(WATERFLOOD_DECK);
+    let deck_lines: Vec<&str> = deck
+        .lines()
+        .map(|l| l.split('#').next().unwrap_or("").trim_end())
+        .collect();
+    let fragments = code_blocks(&page, "rill-fragment");
+    assert!(
+        fragments.len() >= 5,
+        "the page reads the deck block by block"
+    );
+    for (line, block) in &fragments {
+        for l in block.lines() {
+            if l.trim() == "..." {
+                continue;
+            }
+            assert!(
+                deck_lines.contains(&l.trim_end()),
+                "docs/waterflood.md:{line}: `{l}` is not a line of {WATERFLOOD_DECK}"
+            );
+        }
+    }
+    let rill = env!("CARGO_BIN_EXE_rill");
+    let deck_path = repo().join(WATERFLOOD_DECK);
+    let inspect = Command::new(rill)
+        .args(["inspect", "--cell", "12,6,5"])
+        .arg(&deck_path)
+        .output()
+        .unwrap();
+    let shown = String::from_utf8_lossy(&inspect.stdout);
+    for quoted in ["initial sw  0.634422", "krw, kro    0.208784, 0.0180364"] {
+        assert!(page.contains(quoted), "the page quotes `{quoted}`");
+        assert!(
+            shown.contains(quoted),
+            "rill inspect prints `{quoted}`:\n{shown}"
+        );
+    }
+}

@@ -246,8 +246,8 @@ pub static EXPLANATIONS: &[Explanation] = &[
     },
     Explanation {
         code: Code::SanityFvf,
-        summary: "Formation volume factor not positive (error) or outside 0.5-3 rb/stb (warning).",
-        details: "A liquid's fvf is near 1 rb/stb.",
+        summary: "Formation volume factor not positive (error), outside 0.5-3 rb/stb, or an oil's below 1 rb/stb (warnings).",
+        details: "A liquid's fvf is near 1 rb/stb. Oil in the reservoir holds its dissolved gas and fills more room than the stock-tank oil it gives, so an `oil` block's fvf below 1 rb/stb is most likely upside down (1/fvf); water and a single-phase `fluid` may sit just below 1.",
         wrong: "fvf = 10.2 rb/stb",
         right: "fvf = 1.02 rb/stb",
         fix: "Check the value; an fvf below 1 may be upside down.",

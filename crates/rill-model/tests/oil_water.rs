@@ -333,6 +333,24 @@ fn corey_endpoints_that_cannot_hold_are_relperm_endpoints() {
             "{to}: {e:?}"
         );
     }
+    // A percentage typed for a fraction: the fix gives the fraction.
+    for (from, to, fix) in [
+        (
+            "krw_end = 0.32",
+            "krw_end = 32",
+            "replace by 0.32 (a percentage as a fraction)",
+        ),
+        (
+            "swc = 0.18",
+            "swc = 18",
+            "replace by 0.18 (a percentage as a fraction)",
+        ),
+    ] {
+        let text = DECK.replace(from, to);
+        let e = found(&check(&text), &text, Code::RelpermEndpoints);
+        assert_eq!(e.len(), 1, "{to}: {e:?}");
+        assert_eq!(e[0].2, vec![fix.to_string()], "{to}: {e:?}");
+    }
     let a = edited("nw = 2.5", "nw = -1");
     assert!(a.diagnostics.iter().any(|d| d.code == Code::DeckOutOfRange));
     // A key of the table form in a Corey block.
@@ -603,4 +621,22 @@ fn saturations_from_the_contact_invert_each_cells_curves() {
     let c = compressible.grid.index(2, 0, 2);
     let sw = initial_water_saturation(&compressible, c).unwrap();
     assert!(sw > 0.313_333_3 && sw < 0.3136, "{sw}");
+}
+
+#[test]
+fn an_oil_formation_volume_factor_below_one_is_upside_down() {
+    let a = edited("fvf = 1.18 rb/stb", "fvf = 0.8 rb/stb");
+    let text = DECK.replacen("fvf = 1.18 rb/stb", "fvf = 0.8 rb/stb", 1);
+    let e = found(&a, &text, Code::SanityFvf);
+    assert_eq!(e.len(), 1, "{e:?}");
+    assert_eq!(
+        (e[0].0, e[0].3.as_str()),
+        (Severity::Warning, "0.8 rb/stb"),
+        "{e:?}"
+    );
+    assert!(e[0].1.contains("below 1"), "{e:?}");
+    // Water may sit just below 1; so may the single fluid of a
+    // single-phase deck (a water-filled aquifer model).
+    let a = edited("fvf = 1.01 rb/stb", "fvf = 0.99 rb/stb");
+    assert!(found(&a, DECK, Code::SanityFvf).is_empty());
 }

@@ -125,13 +125,17 @@ impl<'s> Lowerer<'s> {
         let mut ok = true;
         for (key, (v, at)) in [("swc", swc), ("sor", sor)] {
             if !(0.0..=1.0).contains(&v) {
-                self.diags.push(Diagnostic::error(
-                    Code::RelpermEndpoints,
-                    at,
-                    format!(
-                        "`{key}` is a saturation between 0 and 1, found {}",
-                        crate::values::short_number(v)
+                self.diags.push(as_fraction(
+                    Diagnostic::error(
+                        Code::RelpermEndpoints,
+                        at,
+                        format!(
+                            "`{key}` is a saturation between 0 and 1, found {}",
+                            crate::values::short_number(v)
+                        ),
                     ),
+                    v,
+                    at,
                 ));
                 ok = false;
             }
@@ -154,13 +158,17 @@ impl<'s> Lowerer<'s> {
         }
         for (key, (v, at)) in [("krw_end", krw_end), ("kro_end", kro_end)] {
             if v <= 0.0 || v > 1.0 {
-                self.diags.push(Diagnostic::error(
-                    Code::RelpermEndpoints,
-                    at,
-                    format!(
-                        "`{key}` is an end-point relative permeability above 0 and at most 1, found {}",
-                        crate::values::short_number(v)
+                self.diags.push(as_fraction(
+                    Diagnostic::error(
+                        Code::RelpermEndpoints,
+                        at,
+                        format!(
+                            "`{key}` is an end-point relative permeability above 0 and at most 1, found {}",
+                            crate::values::short_number(v)
+                        ),
                     ),
+                    v,
+                    at,
                 ));
                 ok = false;
             }
@@ -462,5 +470,20 @@ impl<'s> Lowerer<'s> {
             kro: values(&kro),
             pc: pc.as_ref().map_or_else(|| vec![0.0; n], |(p, _)| values(p)),
         })
+    }
+}
+
+/// Offers the fraction for a value that reads as a percentage (above 1, at
+/// most 100), the usual slip in a saturation or an end point.
+fn as_fraction(d: Diagnostic, v: f64, at: Location) -> Diagnostic {
+    if v > 1.0 && v <= 100.0 {
+        let fraction = crate::values::short_number(v / 100.0);
+        d.with_replacement(
+            format!("replace by {fraction} (a percentage as a fraction)"),
+            at,
+            fraction,
+        )
+    } else {
+        d
     }
 }
