@@ -1,11 +1,13 @@
-"""Hover after a run: a cell's faces show the flux the run moved and a well
-shows its rate, BHP and cumulative, equal to the values in the result set on
-disk (`last_state.json`, `last_state.f64`, `series.csv`); an edit that
-changes a simulated value drops them."""
+"""Hover after a run: a cell's faces show the flux the run moved (after an
+oil-water run, its water saturation too) and a well shows its rate, BHP and
+cumulative, equal to the values in the result set on disk
+(`last_state.json`, `last_state.f64`, `series.csv`); an edit that changes a
+simulated value drops them."""
 
 import asyncio
 import csv
 import json
+import shutil
 import struct
 from pathlib import Path
 
@@ -15,6 +17,7 @@ from pytest_lsp import LanguageClient
 from test_server import clean, open_deck, change, wait_for
 
 STB_PER_DAY = 0.158987294928 / 86400.0  # m3/s of 1 stb/day
+REPO = Path(__file__).resolve().parents[2]
 
 
 async def run_deck(client: LanguageClient, uri: str):
@@ -40,6 +43,23 @@ async def hover(client: LanguageClient, uri: str, text: str, needle: str, plus: 
     return h.contents.value
 
 
+async def open_and_run(client: LanguageClient, deck: Path):
+    """Opens `deck`, waits for it to check clean and runs it; gives its
+    text, URI, `last_state.json` and the arrays of `last_state.f64` by the
+    names the header gives them, in order."""
+    text = deck.read_text()
+    uri = open_deck(client, deck, text)
+    await wait_for(client, lambda: clean(client, uri), "a clean deck")
+    await run_deck(client, uri)
+    out = deck.with_suffix(".out")
+    head = json.loads((out / "last_state.json").read_text())
+    nx, ny, nz = head["grid"]
+    n = nx * ny * nz
+    order = head["arrays"]["order"]
+    values = struct.unpack("<%dd" % (len(order) * n), (out / "last_state.f64").read_bytes())
+    return text, uri, head, {name: values[k * n : (k + 1) * n] for k, name in enumerate(order)}
+
+
 def run_section(md: str) -> str:
     assert "**last run**" in md, md
     return md[md.index("**last run**"):]
@@ -63,17 +83,10 @@ async def test_hover_after_a_run_shows_the_runs_flux_and_well_rate_from_the_resu
     client: LanguageClient, workspace: Path
 ):
     deck = workspace / "block.rill"
-    text = deck.read_text()
-    uri = open_deck(client, deck, text)
-    await wait_for(client, lambda: clean(client, uri), "a clean deck")
-    await run_deck(client, uri)
-    out = workspace / "block.out"
-    head = json.loads((out / "last_state.json").read_text())
-    nx, ny, nz = head["grid"]
-    n = nx * ny * nz
-    raw = (out / "last_state.f64").read_bytes()
-    arrays = struct.unpack("<%dd" % (4 * n), raw)
-    pressure, fx, fy = arrays[:n], arrays[n : 2 * n], arrays[2 * n : 3 * n]
+    text, uri, head, arrays = await open_and_run(client, deck)
+    assert list(arrays) == ["pressure", "flux_x", "flux_y", "flux_z"], list(arrays)
+    nx = head["grid"][0]
+    pressure, fx, fy = arrays["pressure"], arrays["flux_x"], arrays["flux_y"]
 
     # The producer's cell (6, 6, 1): the flux through each face, out of or
     # into the cell, as the result files hold it (field units: stb/day).
@@ -96,7 +109,7 @@ async def test_hover_after_a_run_shows_the_runs_flux_and_well_rate_from_the_resu
     assert f"pressure {shown(pressure[c] / 6894.757293168361):g} psi" in md, md
 
     # The well: its rate, BHP and cumulative, equal to series.csv's last row.
-    with open(out / "series.csv", newline="") as f:
+    with open(deck.with_suffix(".out") / "series.csv", newline="") as f:
         last = list(csv.DictReader(f))[-1]
     md = await hover(client, uri, text, 'well "MB-1"', 7)
     section = run_section(md)
@@ -153,3 +166,27 @@ async def test_hover_still_answers_after_the_run_files_are_announced_as_created(
     client.workspace_did_change_watched_files(types.DidChangeWatchedFilesParams(changes=changes))
     md = await asyncio.wait_for(hover(client, uri, text, "location = (6, 6)", len("location = ") + 1), 20)
     assert "last run" in md, md
+
+
+async def test_hover_after_an_oil_water_run_shows_the_cells_saturation_from_the_result_files(
+    client: LanguageClient, workspace: Path
+):
+    """The waterflood example, run from the editor: hover on the producer's
+    cell gives the water saturation the run left there (the fifth array of
+    `last_state.f64`, named in the header) beside its pressure."""
+    deck = workspace / "flood.rill"
+    shutil.copy(REPO / "examples" / "brackenlow-waterflood.rill", deck)
+    text, uri, head, arrays = await open_and_run(client, deck)
+    assert list(arrays) == ["pressure", "flux_x", "flux_y", "flux_z", "water_saturation"], list(arrays)
+    nx = head["grid"][0]
+    pressure, sw = arrays["pressure"], arrays["water_saturation"]
+
+    # BW-1 at (23, 11), its first completed layer.
+    md = await hover(client, uri, text, "location = (23, 11)", len("location = ") + 1)
+    assert "(23, 11, 1)" in md, md
+    c = 22 + nx * 10
+    section = run_section(md)
+    assert f"pressure {shown(pressure[c] / 6894.757293168361):g} psi" in section, section
+    assert f"water saturation {shown(sw[c]):g} (krw " in section, section
+    # The water has reached the producer by the end of the run.
+    assert sw[c] > 0.3, sw[c]

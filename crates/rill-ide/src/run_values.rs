@@ -24,6 +24,8 @@ pub struct RunValues {
     /// Surface flux through the `+i`, `+j`, `+k` face of each cell, m^3/s,
     /// positive towards the larger index.
     pub flux: [Vec<f64>; 3],
+    /// Cell water saturation (an oil-water run; NaN in inactive cells).
+    pub water_saturation: Option<Vec<f64>>,
     /// Each well's last values.
     pub wells: Vec<RunWell>,
     /// Each boundary's last rate and cumulative.
@@ -66,6 +68,7 @@ impl RunValues {
         self.grid == (g.nx, g.ny, g.nz)
             && self.pressure.len() == n
             && self.flux.iter().all(|f| f.len() == n)
+            && self.water_saturation.as_ref().is_none_or(|s| s.len() == n)
     }
 
     /// The heading of every section: `last run, t = 730 day`.
@@ -102,7 +105,11 @@ pub(crate) fn cell_section(case: &Case, run: &RunValues, c: usize) -> Option<Str
         s.push_str("inactive cell\n");
         return Some(s);
     }
-    s.push_str(&format!("pressure {}\n\n", show(p, Kind::Pressure, sys)));
+    s.push_str(&format!("pressure {}", show(p, Kind::Pressure, sys)));
+    if let Some(sw) = run.water_saturation.as_ref().map(|s| s[c]) {
+        s.push_str(&saturation_words(case, c, sw));
+    }
+    s.push_str("\n\n");
     let q = display_unit(Kind::SurfaceRate, sys).name;
     s.push_str(&format!(
         "| face | flux [{q}] | direction |\n|---|---:|---|\n"
@@ -124,6 +131,20 @@ pub(crate) fn cell_section(case: &Case, run: &RunValues, c: usize) -> Option<Str
         ));
     }
     Some(s)
+}
+
+/// `, water saturation 0.63 (krw 0.21, kro 0.04)`: an oil-water run's
+/// saturation in cell `c` and the relative permeabilities it gives there.
+fn saturation_words(case: &Case, c: usize, sw: f64) -> String {
+    let mut s = format!(", water saturation {}", rill_units::format_number(sw));
+    if let Some(ph) = rill_model::inspect::phases_at(case, c, sw) {
+        s.push_str(&format!(
+            " (krw {}, kro {})",
+            rill_units::format_number(ph.krw),
+            rill_units::format_number(ph.kro)
+        ));
+    }
+    s
 }
 
 /// The well section: rate, BHP and cumulative.

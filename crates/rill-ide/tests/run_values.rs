@@ -32,6 +32,7 @@ fn run() -> RunValues {
             vec![-4.0 * STB / DAY; n],
             vec![0.0; n],
         ],
+        water_saturation: None,
         wells: vec![RunWell {
             name: "MB-1".into(),
             rate: 150.0 * STB / DAY,
@@ -105,5 +106,61 @@ fn a_boundary_shows_its_last_rate_and_values_for_another_grid_are_ignored() {
     other.grid = (10, 11, 1);
     let off = at(&text, "location = (6, 6)", 12);
     let md = s.hover_with_run(off, Some(&other)).unwrap().markdown;
+    assert!(!md.contains("last run"), "{md}");
+}
+
+/// The number after `key` in `md`, up to the next `,` or `)`.
+fn number_after(md: &str, key: &str) -> f64 {
+    let rest = &md[md
+        .find(key)
+        .unwrap_or_else(|| panic!("`{key}` not in {md}"))
+        + key.len()..];
+    let end = rest.find([',', ')']).unwrap();
+    rest[..end].trim().parse().unwrap()
+}
+
+#[test]
+fn a_cell_of_an_oil_water_run_shows_its_saturation_and_relative_permeabilities() {
+    let text = include_str!("../../../examples/brackenlow-waterflood.rill");
+    let s = snap(text);
+    let n = 24 * 12 * 6;
+    let values = RunValues {
+        time: 365.0 * DAY,
+        grid: (24, 12, 6),
+        pressure: vec![3000.0 * PSI; n],
+        flux: [vec![0.0; n], vec![0.0; n], vec![0.0; n]],
+        water_saturation: Some(vec![0.5; n]),
+        wells: Vec::new(),
+        boundaries: Vec::new(),
+        aquifers: Vec::new(),
+    };
+    let off = at(text, "location = (2, 2)", 12);
+    let md = s.hover_with_run(off, Some(&values)).unwrap().markdown;
+    assert!(
+        md.contains("**last run**, t = 365 day: pressure 3000 psi, water saturation 0.5 (krw "),
+        "{md}"
+    );
+    // The cell's curves are the deck's "fenwold sand" Corey curves (swc
+    // 0.16, sor 0.24, krw_end 0.35, kro_end 0.9, nw 2.2, no 2.5): at sw 0.5
+    // the normalised saturation is 0.34 / 0.6, so krw = 0.35 S^2.2 and
+    // kro = 0.9 (1 - S)^2.5 (Corey's power-law form, as the reference
+    // defines it).
+    assert!(md.contains("| relperm | \"fenwold sand\" |"), "{md}");
+    let sn: f64 = 0.34 / 0.6;
+    let (krw, kro) = (0.35 * sn.powf(2.2), 0.9 * (1.0 - sn).powf(2.5));
+    let section = &md[md.find("**last run**").unwrap()..];
+    let (shown_krw, shown_kro) = (number_after(section, "krw "), number_after(section, "kro "));
+    assert!(
+        (shown_krw - krw).abs() <= 1e-5 * krw,
+        "{shown_krw} vs {krw}"
+    );
+    assert!(
+        (shown_kro - kro).abs() <= 1e-5 * kro,
+        "{shown_kro} vs {kro}"
+    );
+    // A saturation array of another length says nothing about these cells.
+    let mut short = values.clone();
+    short.water_saturation = Some(vec![0.5; n - 1]);
+    let md = s.hover_with_run(off, Some(&short)).unwrap().markdown;
     assert!(!md.contains("last run"), "{md}");
 }

@@ -121,8 +121,20 @@ fn read(dir: &Path) -> Option<(String, RunValues)> {
     if n == 0 {
         return None;
     }
+    // The arrays the file holds, in order: the four of every run, then an
+    // oil-water run's water saturation.
+    let order: Vec<&str> = head["arrays"]["order"]
+        .as_array()?
+        .iter()
+        .map(Value::as_str)
+        .collect::<Option<_>>()?;
+    let oil_water = match order[..] {
+        ["pressure", "flux_x", "flux_y", "flux_z"] => false,
+        ["pressure", "flux_x", "flux_y", "flux_z", "water_saturation"] => true,
+        _ => return None,
+    };
     let bytes = std::fs::read(dir.join(ARRAYS)).ok()?;
-    if bytes.len() != n.checked_mul(4 * 8)? {
+    if bytes.len() != n.checked_mul(order.len() * 8)? {
         return None;
     }
     let mut arrays = bytes
@@ -136,6 +148,11 @@ fn read(dir: &Path) -> Option<(String, RunValues)> {
         .into_iter();
     let pressure = arrays.next()?;
     let flux = [arrays.next()?, arrays.next()?, arrays.next()?];
+    let water_saturation = if oil_water {
+        Some(arrays.next()?)
+    } else {
+        None
+    };
     // A null (not finite) number reads as NaN.
     let num = |v: &Value| v.as_f64().unwrap_or(f64::NAN);
     let flows = |key: &str| -> Option<Vec<RunFlow>> {
@@ -169,9 +186,64 @@ fn read(dir: &Path) -> Option<(String, RunValues)> {
         grid: (nx, ny, nz),
         pressure,
         flux,
+        water_saturation,
         wells,
         boundaries: flows("boundaries")?,
         aquifers: flows("aquifers")?,
     };
     Some((digest, values))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A result set of a 2 x 1 x 1 grid whose header lists `order` and whose
+    /// file holds `arrays` arrays, array `a` cell `c` holding `10 a + c`.
+    fn set(order: &[&str], arrays: usize) -> tempfile::TempDir {
+        let dir = tempfile::tempdir().unwrap();
+        let head = serde_json::json!({
+            "format": "rill-last-state",
+            "format_version": 1,
+            "case_digest": "d",
+            "time_s": 86400.0,
+            "grid": [2, 1, 1],
+            "arrays": {"file": ARRAYS, "order": order, "dtype": "<f8"},
+            "wells": [],
+            "boundaries": [],
+            "aquifers": [],
+        });
+        std::fs::write(dir.path().join(HEADER), head.to_string()).unwrap();
+        let bytes: Vec<u8> = (0..arrays * 2)
+            .flat_map(|k| (10.0 * (k / 2) as f64 + (k % 2) as f64).to_le_bytes())
+            .collect();
+        std::fs::write(dir.path().join(ARRAYS), bytes).unwrap();
+        dir
+    }
+
+    const FOUR: [&str; 4] = ["pressure", "flux_x", "flux_y", "flux_z"];
+    const FIVE: [&str; 5] = ["pressure", "flux_x", "flux_y", "flux_z", "water_saturation"];
+
+    #[test]
+    fn an_oil_water_set_gives_its_saturations_and_a_single_phase_set_none() {
+        let dir = set(&FIVE, 5);
+        let (_, v) = read(dir.path()).unwrap();
+        assert_eq!(v.pressure, [0.0, 1.0]);
+        assert_eq!(v.flux[2], [30.0, 31.0]);
+        assert_eq!(v.water_saturation, Some(vec![40.0, 41.0]));
+        let dir = set(&FOUR, 4);
+        let (_, v) = read(dir.path()).unwrap();
+        assert_eq!(v.water_saturation, None);
+        assert_eq!(v.flux[2], [30.0, 31.0]);
+    }
+
+    #[test]
+    fn a_set_whose_arrays_do_not_match_its_header_is_not_read() {
+        // Five arrays named, four written; four named, five written; an
+        // array of a name this reader does not know.
+        assert!(read(set(&FIVE, 4).path()).is_none());
+        assert!(read(set(&FOUR, 5).path()).is_none());
+        let odd = ["pressure", "flux_x", "flux_y", "flux_z", "oil_saturation"];
+        assert!(read(set(&odd, 5).path()).is_none());
+    }
 }

@@ -200,9 +200,16 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
 
 /// The phases of cell `c` of an oil-water case at its initial saturation.
 fn phases(case: &Case, c: usize) -> Option<PhaseReport> {
+    let sw = derived::saturation::initial_water_saturation(case, c)?;
+    phases_at(case, c, sw)
+}
+
+/// The phases of cell `c` of an oil-water case at water saturation `sw`
+/// (a run's, say), from the cell's curves and the deck's viscosities;
+/// `None` for a single-phase case.
+pub fn phases_at(case: &Case, c: usize, sw: f64) -> Option<PhaseReport> {
     let ow = case.oil_water.as_ref()?;
     let curves = &ow.relperms.get(ow.cell_relperm.of(c))?.curves;
-    let sw = derived::saturation::initial_water_saturation(case, c)?;
     let (krw, kro) = (curves.krw(sw), curves.kro(sw));
     Some(PhaseReport {
         krw,

@@ -12,8 +12,10 @@
 //! cells; the oil pressure in an oil-water run), then `flux_x`, `flux_y`,
 //! `flux_z`, the surface flux through each cell's `+i`, `+j`, `+k` face
 //! (m^3/s, positive towards the larger index; 0 on the grid's edge; oil
-//! plus water in an oil-water run). In Python:
-//! `numpy.fromfile("last_state.f64", "<f8").reshape(4, nz, ny, nx)`.
+//! plus water in an oil-water run), and in an oil-water run a fifth,
+//! `water_saturation` (NaN in inactive cells). The header's
+//! `arrays.order` names them. In Python:
+//! `numpy.fromfile("last_state.f64", "<f8").reshape(len(order), nz, ny, nx)`.
 //!
 //! Rates and cumulatives are written as the series write them (round-off
 //! as 0, see [`crate::ZeroScale`]).
@@ -40,6 +42,20 @@ pub struct LastState {
 /// Names of the arrays in `last_state.f64`, in file order.
 pub const ARRAYS: [&str; 4] = ["pressure", "flux_x", "flux_y", "flux_z"];
 
+/// The arrays of an oil-water run: those of [`ARRAYS`], then the cells'
+/// water saturation.
+pub const OIL_WATER_ARRAYS: [&str; 5] =
+    ["pressure", "flux_x", "flux_y", "flux_z", "water_saturation"];
+
+/// The water saturation at the last report time of an oil-water run.
+pub(crate) fn last_saturation(results: &RunResults) -> Option<&[f64]> {
+    results
+        .oil_water
+        .as_ref()
+        .and_then(|ow| ow.saturation.last())
+        .map(Vec::as_slice)
+}
+
 /// Writes the header.
 pub(crate) fn write_header(
     w: &mut dyn Write,
@@ -50,6 +66,11 @@ pub(crate) fn write_header(
     let zero = ZeroScale::new(results);
     let last = |v: &[f64]| v.last().copied().unwrap_or(0.0);
     let g = &case.grid;
+    let order: &[&str] = if last_saturation(results).is_some() {
+        &OIL_WATER_ARRAYS
+    } else {
+        &ARRAYS
+    };
     let doc = json!({
         "format": "rill-last-state",
         "format_version": 1,
@@ -58,7 +79,7 @@ pub(crate) fn write_header(
         "report_time_index": results.times.len().saturating_sub(1),
         "grid": [g.nx, g.ny, g.nz],
         "units": "si",
-        "arrays": {"file": "last_state.f64", "order": ARRAYS, "dtype": "<f8"},
+        "arrays": {"file": "last_state.f64", "order": order, "dtype": "<f8"},
         "wells": results.wells.iter().map(|w| json!({
             "name": w.name,
             "rate_m3_s": zero.rate(last(&w.rate)),
@@ -86,14 +107,19 @@ fn finite(v: f64) -> Option<f64> {
     v.is_finite().then_some(v)
 }
 
-/// Writes the arrays: `pressure` then the three flux arrays.
+/// Writes the arrays: `pressure`, the three flux arrays and, in an
+/// oil-water run, the water saturation.
 pub(crate) fn write_arrays(
     w: &mut dyn Write,
     pressure: &[f64],
     state: &LastState,
+    water_saturation: Option<&[f64]>,
 ) -> io::Result<()> {
     let f = &state.fluxes;
-    for array in [pressure, &f.x, &f.y, &f.z] {
+    for array in [pressure, &f.x, &f.y, &f.z]
+        .into_iter()
+        .chain(water_saturation)
+    {
         for v in array {
             w.write_all(&v.to_le_bytes())?;
         }

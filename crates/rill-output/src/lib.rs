@@ -29,7 +29,7 @@
 //!   series.csv           one row per report time, headers with units
 //!   series.json          the same series with units, solver statistics, cautions
 //!   last_state.json      the last report time in SI: case digest, wells, boundaries
-//!   last_state.f64       its cell pressures and face fluxes (see `last_state`)
+//!   last_state.f64       its cell pressures, face fluxes and water saturations (see `last_state`)
 //!   maps/step_0000.vtr   VTK XML RectilinearGrid per report time (.vts: StructuredGrid)
 //!   maps/rill.pvd        the collection, timesteps in report time units
 //!   report.html          self-contained page: caution, summary, plots, layer maps
@@ -132,7 +132,9 @@ use std::path::{Path, PathBuf};
 use rill_model::{Case, MapSelection};
 use rill_sim::RunResults;
 
-pub use last_state::{LastState, ARRAYS as LAST_STATE_ARRAYS};
+pub use last_state::{
+    LastState, ARRAYS as LAST_STATE_ARRAYS, OIL_WATER_ARRAYS as LAST_STATE_OIL_WATER_ARRAYS,
+};
 pub use report::{standing_caution, CAUTION, CAUTION_OIL_WATER};
 pub use series::ZeroScale;
 
@@ -514,7 +516,7 @@ impl ResultWriter {
                 last_state::write_header(w, case, results, state)
             })?;
             staging.file("last_state.f64", |w| {
-                last_state::write_arrays(w, pressure, state)
+                last_state::write_arrays(w, pressure, state, last_state::last_saturation(results))
             })?;
             relative.push("last_state.json".into());
             relative.push("last_state.f64".into());

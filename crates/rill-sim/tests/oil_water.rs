@@ -651,27 +651,42 @@ mod reflections {
     use super::*;
     use proptest::prelude::*;
 
-    /// A random heterogeneous deck, and the same deck mirrored in x.
-    fn decks(nx: usize, ny: usize, perm: &[f64], wells: [(usize, usize); 2]) -> (String, String) {
-        let mirror = |i: usize| nx - 1 - i;
-        let cells = |v: &[f64], flip: bool| {
+    /// Which way a deck is mirrored: in x (i to nx - 1 - i), in y, or both.
+    #[derive(Clone, Copy)]
+    struct Flip {
+        x: bool,
+        y: bool,
+    }
+
+    impl Flip {
+        fn cell(self, nx: usize, ny: usize, (i, j): (usize, usize)) -> (usize, usize) {
+            (
+                if self.x { nx - 1 - i } else { i },
+                if self.y { ny - 1 - j } else { j },
+            )
+        }
+    }
+
+    /// A random heterogeneous deck, mirrored as `flip` says.
+    fn deck(nx: usize, ny: usize, perm: &[f64], wells: [(usize, usize); 2], flip: Flip) -> String {
+        // The mirrored deck's cell (i, j) holds the original's mirror image.
+        let cells = |v: &[f64]| {
             let mut out = Vec::with_capacity(v.len());
             for j in 0..ny {
                 for i in 0..nx {
-                    let i = if flip { mirror(i) } else { i };
+                    let (i, j) = flip.cell(nx, ny, (i, j));
                     out.push(format!("{}", v[i + nx * j]));
                 }
             }
             out.join(" ")
         };
         let liquids = liquids(3.0);
-        let text = |flip: bool| {
-            let at = |(i, j): (usize, usize)| {
-                let i = if flip { mirror(i) } else { i };
-                format!("({}, {})", i + 1, j + 1)
-            };
-            format!(
-                r#"
+        let at = |c: (usize, usize)| {
+            let (i, j) = flip.cell(nx, ny, c);
+            format!("({}, {})", i + 1, j + 1)
+        };
+        format!(
+            r#"
 grid {{
   cells = {nx} x {ny} x 1
   dx = 80 ft
@@ -709,18 +724,17 @@ timeline {{
   report_every = 50 day
 }}
 "#,
-                k = cells(perm, flip),
-                wi = at(wells[0]),
-                wp = at(wells[1]),
-            )
-        };
-        (text(false), text(true))
+            k = cells(perm),
+            wi = at(wells[0]),
+            wp = at(wells[1]),
+        )
     }
 
     proptest! {
         #![proptest_config(ProptestConfig::with_cases(8))]
-        /// Mirroring a heterogeneous deck in x mirrors its results: the
-        /// same well rates and the mirrored saturation map, to 1e-6.
+        /// Mirroring a heterogeneous deck in x, in y or in both mirrors its
+        /// results: the same well rates and the mirrored saturation map, to
+        /// 1e-6.
         #[test]
         fn mirroring_a_deck_mirrors_its_results(
             nx in 3usize..7,
@@ -732,20 +746,26 @@ timeline {{
             let wi = (wi.0 % nx, wi.1 % ny);
             let wp = (wp.0 % nx, wp.1 % ny);
             prop_assume!(wi != wp);
-            let (a, b) = decks(nx, ny, &seed[..nx * ny], [wi, wp]);
-            let (ra, rb) = (run_case(&case(&a)), run_case(&case(&b)));
-            let (oa, ob) = (ra.oil_water.unwrap(), rb.oil_water.unwrap());
-            for (wa, wb) in oa.wells.iter().zip(&ob.wells) {
-                for (x, y) in wa.oil_rate.iter().zip(&wb.oil_rate).chain(wa.water_rate.iter().zip(&wb.water_rate)) {
-                    prop_assert!((x - y).abs() <= 1e-6 * x.abs().max(y.abs()).max(1e-12), "{x} vs {y}");
+            let perm = &seed[..nx * ny];
+            let as_is = Flip { x: false, y: false };
+            let ra = run_case(&case(&deck(nx, ny, perm, [wi, wp], as_is)));
+            let oa = ra.oil_water.unwrap();
+            for flip in [Flip { x: true, y: false }, Flip { x: false, y: true }, Flip { x: true, y: true }] {
+                let rb = run_case(&case(&deck(nx, ny, perm, [wi, wp], flip)));
+                let ob = rb.oil_water.unwrap();
+                for (wa, wb) in oa.wells.iter().zip(&ob.wells) {
+                    for (x, y) in wa.oil_rate.iter().zip(&wb.oil_rate).chain(wa.water_rate.iter().zip(&wb.water_rate)) {
+                        prop_assert!((x - y).abs() <= 1e-6 * x.abs().max(y.abs()).max(1e-12), "{x} vs {y}");
+                    }
                 }
-            }
-            let last = oa.saturation.len() - 1;
-            let (sa, sb) = (&oa.saturation[last], &ob.saturation[last]);
-            for j in 0..ny {
-                for i in 0..nx {
-                    let (x, y) = (sa[i + nx * j], sb[nx - 1 - i + nx * j]);
-                    prop_assert!((x - y).abs() <= 1e-6, "sw ({i},{j}): {x} vs {y}");
+                let last = oa.saturation.len() - 1;
+                let (sa, sb) = (&oa.saturation[last], &ob.saturation[last]);
+                for j in 0..ny {
+                    for i in 0..nx {
+                        let (fi, fj) = flip.cell(nx, ny, (i, j));
+                        let (x, y) = (sa[i + nx * j], sb[fi + nx * fj]);
+                        prop_assert!((x - y).abs() <= 1e-6, "sw ({i},{j}): {x} vs {y}");
+                    }
                 }
             }
         }

@@ -1,8 +1,10 @@
 //! What the pipeline does with an oil-water run's results: the maps are
 //! streamed with the saturations that follow each report time's
-//! pressures, and the summary gives recovery, water cuts and breakthrough.
-//! The simulator cannot run such a deck yet, so the results are made by
-//! hand (invented round numbers in field units).
+//! pressures, the summary gives recovery, water cuts and breakthrough, and
+//! the last state holds the water saturations. The writer's tests take
+//! results made by hand (invented round numbers in field units), so that
+//! every line of the summary has a known value; the last state's test runs
+//! the deck.
 
 use super::*;
 use rill_model::MemorySource;
@@ -265,4 +267,34 @@ fn a_report_time_without_its_saturations_stops_the_run() {
     assert!(w.cancelled(), "the run is asked to stop");
     let e = w.map_error.as_ref().unwrap().to_string();
     assert!(e.contains("water saturations of report time 0"), "{e}");
+}
+
+/// A run of the deck leaves its last saturations in `last_state.f64`, the
+/// fifth array, named in the header; hover reads them from there.
+#[test]
+fn the_last_state_of_an_oil_water_run_holds_its_water_saturations() {
+    let (dir, path, analysis) = checked();
+    let out = dir.path().join("flood.out");
+    let done = run(
+        &Request::new(&analysis, &path, &out),
+        &mut rill_sim::NoObserver,
+    )
+    .result
+    .unwrap_or_else(|e| panic!("{e:?}"));
+    let head = json(&out.join("last_state.json"));
+    assert_eq!(
+        head["arrays"]["order"],
+        serde_json::json!(rill_output::LAST_STATE_OIL_WATER_ARRAYS)
+    );
+    let n = 4 * 3 * 2;
+    let a = super::last_state_arrays(&out);
+    assert_eq!(a.len(), 5 * n);
+    let ow = done.results.oil_water.as_ref().unwrap();
+    let last = ow.saturation.last().unwrap();
+    assert_eq!(&a[4 * n..], &last[..]);
+    assert_eq!(&a[..n], &done.results.pressure.last().unwrap()[..]);
+    // The injector's cell has taken water beyond its initial saturation.
+    let case = analysis.runnable_case().unwrap();
+    let initial = rill_model::derived::saturation::initial_water_saturation(case, 0).unwrap();
+    assert!(last[0] > initial + 0.01, "{} vs {initial}", last[0]);
 }
