@@ -32,16 +32,16 @@ import scipy.sparse.linalg as sla
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 
 
-def scipy_gmres(a, b, tol, fill, drop):
-    t0 = time.perf_counter()
-    name = f"scipy gmres + spilu(fill {fill}, drop {drop})"
-    try:
-        ilu = sla.spilu(a.tocsc(), fill_factor=fill, drop_tol=drop)
-    except RuntimeError as e:  # SuperLU refuses a factor it finds singular
-        return {"solver": name + f": {e}", "setup_seconds": time.perf_counter() - t0, "solve_seconds": 0.0,
-                "total_seconds": float("inf"), "iterations": 0, "rel_residual_check": float("nan"),
-                "converged": False}
-    m = sla.LinearOperator(a.shape, ilu.solve)
+def refused(name, t0, e):
+    """The row of a peer whose factor SuperLU refuses as singular."""
+    return {"solver": name + f": {e}", "setup_seconds": time.perf_counter() - t0, "solve_seconds": 0.0,
+            "total_seconds": float("inf"), "iterations": 0, "rel_residual_check": float("nan"),
+            "converged": False}
+
+
+def timed_gmres(a, b, tol, m, name, t0):
+    """scipy's GMRES (restart 30, at most 500 iterations) preconditioned by
+    `m`, set up since `t0`; the row of the table."""
     t1 = time.perf_counter()
     its = [0]
 
@@ -55,6 +55,16 @@ def scipy_gmres(a, b, tol, fill, drop):
     return {"solver": name, "setup_seconds": t1 - t0,
             "solve_seconds": t2 - t1, "total_seconds": t2 - t0, "iterations": its[0],
             "rel_residual_check": rel, "converged": info == 0 and rel <= 10 * tol}
+
+
+def scipy_gmres(a, b, tol, fill, drop):
+    t0 = time.perf_counter()
+    name = f"scipy gmres + spilu(fill {fill}, drop {drop})"
+    try:
+        ilu = sla.spilu(a.tocsc(), fill_factor=fill, drop_tol=drop)
+    except RuntimeError as e:  # SuperLU refuses a factor it finds singular
+        return refused(name, t0, e)
+    return timed_gmres(a, b, tol, sla.LinearOperator(a.shape, ilu.solve), name, t0)
 
 
 def quasi_impes_pressure(a):
@@ -83,9 +93,7 @@ def pyamg_cpr(a, b, tol, fill, drop):
     try:
         ilu = sla.spilu(a.tocsc(), fill_factor=fill, drop_tol=drop)
     except RuntimeError as e:
-        return {"solver": name + f": {e}", "setup_seconds": time.perf_counter() - t0, "solve_seconds": 0.0,
-                "total_seconds": float("inf"), "iterations": 0, "rel_residual_check": float("nan"),
-                "converged": False}
+        return refused(name, t0, e)
 
     def apply(r):
         rp = r[0::2] + w1 * r[1::2]
@@ -94,20 +102,7 @@ def pyamg_cpr(a, b, tol, fill, drop):
         x1[0::2] = xp
         return x1 + ilu.solve(r - a @ x1)
 
-    m = sla.LinearOperator(a.shape, apply)
-    t1 = time.perf_counter()
-    its = [0]
-
-    def count(_):
-        its[0] += 1
-
-    x, info = sla.gmres(a, b, rtol=tol, atol=0.0, restart=30, maxiter=500, M=m,
-                        callback=count, callback_type="pr_norm")
-    t2 = time.perf_counter()
-    rel = np.linalg.norm(b - a @ x) / np.linalg.norm(b)
-    return {"solver": name, "setup_seconds": t1 - t0,
-            "solve_seconds": t2 - t1, "total_seconds": t2 - t0, "iterations": its[0],
-            "rel_residual_check": rel, "converged": info == 0 and rel <= 10 * tol}
+    return timed_gmres(a, b, tol, sla.LinearOperator(a.shape, apply), name, t0)
 
 
 def main():
