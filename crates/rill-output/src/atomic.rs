@@ -367,10 +367,17 @@ pub(crate) fn write_files_atomically(
             if FAIL_ON.with(|f| f.borrow().as_deref() == Some(name)) {
                 return Err(io::Error::other("injected failure (test)"));
             }
-            let tmp = tempfile::Builder::new()
-                .prefix(&format!(".{name}."))
-                .suffix(".tmp")
-                .tempfile_in(dir)?;
+            let prefix = format!(".{name}.");
+            let mut builder = tempfile::Builder::new();
+            builder.prefix(&prefix).suffix(".tmp");
+            // A temporary file is private (0600); once renamed it is a
+            // result like any other, readable as the umask allows.
+            #[cfg(unix)]
+            {
+                use std::os::unix::fs::PermissionsExt;
+                builder.permissions(fs::Permissions::from_mode(0o666));
+            }
+            let tmp = builder.tempfile_in(dir)?;
             let mut w = BufWriter::with_capacity(1 << 20, tmp);
             write(&mut w)?;
             let tmp = w.into_inner().map_err(|e| e.into_error())?;

@@ -15,8 +15,9 @@
 //!   before it, `map` at each report time, `finish` at the end, so a run's
 //!   memory does not grow with its report times.
 //! - [`write_system`] / [`write_system_with`] write `matrix.mtx` and
-//!   `rhs.mtx` for `rill run --export-system DIR` (the MatrixMarket text
-//!   itself comes from `rill-sim`).
+//!   `rhs.mtx` (and for oil-water runs `accumulation.mtx`) for
+//!   `rill run --export-system DIR` (the MatrixMarket text itself comes
+//!   from `rill-sim`).
 //! - [`ZeroScale`] says which rates and cumulatives are written as 0
 //!   (round-off against the run's scale; the results keep their numbers).
 //! - [`RunMeta`] carries what the report shows beyond the results: deck path,
@@ -584,26 +585,36 @@ pub fn write_system(
         deck,
         |w| w.write_all(matrix_market),
         |w| w.write_all(rhs_market),
+        None,
     )
 }
 
+/// Writes one file of an exported system into the writer it is given.
+pub type SystemPart<'a> = Box<dyn FnOnce(&mut dyn Write) -> io::Result<()> + 'a>;
+
 /// [`write_system`] with writers instead of bytes, for systems too large to
-/// hold twice in memory.
+/// hold twice in memory. `accumulation`, when given, is written as
+/// `accumulation.mtx` beside the other two, in the same atomic step: the
+/// accumulation blocks of an oil-water system (what true-IMPES decoupling
+/// needs).
 pub fn write_system_with(
     dir: &Path,
     deck: &Path,
     matrix: impl FnOnce(&mut dyn Write) -> io::Result<()>,
     rhs: impl FnOnce(&mut dyn Write) -> io::Result<()>,
+    accumulation: Option<SystemPart<'_>>,
 ) -> Result<Vec<PathBuf>, OutputError> {
     let dir = atomic::resolve(dir).map_err(|e| OutputError::Io {
         path: dir.to_path_buf(),
         source: e,
     })?;
     refuse_deck_places(&dir, deck, false)?;
-    atomic::write_files_atomically(
-        &dir,
-        vec![("matrix.mtx", Box::new(matrix)), ("rhs.mtx", Box::new(rhs))],
-    )
+    let mut files: Vec<(&str, atomic::FileWriter<'_>)> =
+        vec![("matrix.mtx", Box::new(matrix)), ("rhs.mtx", Box::new(rhs))];
+    if let Some(acc) = accumulation {
+        files.push(("accumulation.mtx", acc));
+    }
+    atomic::write_files_atomically(&dir, files)
 }
 
 /// Refuses the deck file and the deck's own directory, and with

@@ -371,6 +371,27 @@ struct Watch<'a> {
     timings: Timings,
 }
 
+impl Watch<'_> {
+    /// Writes the first system where `--export-system` asked, once.
+    fn export_system(&mut self, matrix: &CsrMatrix, rhs: &[f64], accumulation: Option<&[f64]>) {
+        if let Some((dir, deck)) = self.export.take() {
+            let accumulation = accumulation.map(|acc| -> rill_output::SystemPart<'_> {
+                Box::new(move |w| rill_sim::linear::write_vector_market(acc, w))
+            });
+            self.exported = match rill_output::write_system_with(
+                dir,
+                deck,
+                |w| rill_sim::linear::write_matrix_market(matrix, w),
+                |w| rill_sim::linear::write_vector_market(rhs, w),
+                accumulation,
+            ) {
+                Ok(files) => SystemExport::Written(files),
+                Err(e) => SystemExport::Failed(e.to_string()),
+            };
+        }
+    }
+}
+
 impl Observer for Watch<'_> {
     fn progress(&mut self, p: &Progress) {
         self.inner.progress(p);
@@ -399,18 +420,13 @@ impl Observer for Watch<'_> {
     }
 
     fn first_system(&mut self, matrix: &CsrMatrix, rhs: &[f64]) {
-        if let Some((dir, deck)) = self.export.take() {
-            self.exported = match rill_output::write_system_with(
-                dir,
-                deck,
-                |w| rill_sim::linear::write_matrix_market(matrix, w),
-                |w| rill_sim::linear::write_vector_market(rhs, w),
-            ) {
-                Ok(files) => SystemExport::Written(files),
-                Err(e) => SystemExport::Failed(e.to_string()),
-            };
-        }
+        self.export_system(matrix, rhs, None);
         self.inner.first_system(matrix, rhs);
+    }
+
+    fn first_coupled_system(&mut self, matrix: &CsrMatrix, rhs: &[f64], accumulation: &[f64]) {
+        self.export_system(matrix, rhs, Some(accumulation));
+        self.inner.first_coupled_system(matrix, rhs, accumulation);
     }
 
     fn timings(&mut self, t: &Timings) {

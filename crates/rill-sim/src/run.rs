@@ -155,6 +155,14 @@ pub trait Observer {
     /// Newton system `J dx = -R`. Unknowns: active cells in grid order, then
     /// one BHP per well.
     fn first_system(&mut self, _matrix: &CsrMatrix, _rhs: &[f64]) {}
+    /// Oil-water runs, in place of [`Observer::first_system`] (which it
+    /// calls unless overridden): the first Newton system, two unknowns a
+    /// block row (oil pressure, water saturation; a well's BHP and a held
+    /// zero), with the accumulation blocks the engine's true-IMPES
+    /// decoupling uses (one 2 x 2 row-major block a block row).
+    fn first_coupled_system(&mut self, matrix: &CsrMatrix, rhs: &[f64], _accumulation: &[f64]) {
+        self.first_system(matrix, rhs);
+    }
     /// Where the time went, once at the end of a successful run.
     fn timings(&mut self, _t: &Timings) {}
     /// At each report time (t = 0 first), after its series values are

@@ -51,6 +51,7 @@ impl Rng {
 
 /// A synthetic system: the 2 x 2 block Jacobian, a right-hand side and the
 /// accumulation blocks (for true-IMPES weights).
+#[derive(Clone)]
 pub struct TwoPhaseSystem {
     /// Block matrix, block = 2, one block row a cell.
     pub a: CsrMatrix,

@@ -251,6 +251,7 @@ fn export_system_writes_both_files_atomically() {
         &deck,
         |w| w.write_all(b"new matrix\n"),
         |_| Err(std::io::Error::other("solver gave up")),
+        None,
     )
     .unwrap_err();
     assert!(
@@ -265,6 +266,37 @@ fn export_system_writes_both_files_atomically() {
         ["matrix.mtx", "rhs.mtx"],
         "no temporary files left"
     );
+
+    // An oil-water system adds its accumulation blocks, in the same step.
+    let written = write_system_with(
+        &sys,
+        &deck,
+        |w| w.write_all(b"matrix\n"),
+        |w| w.write_all(b"rhs\n"),
+        Some(Box::new(|w| w.write_all(b"blocks\n"))),
+    )
+    .unwrap();
+    assert_eq!(written.len(), 3);
+    assert_eq!(
+        fs::read_to_string(sys.join("accumulation.mtx")).unwrap(),
+        "blocks\n"
+    );
+    assert_eq!(
+        siblings(&sys),
+        ["accumulation.mtx", "matrix.mtx", "rhs.mtx"]
+    );
+
+    // The files are as readable as any file the user creates there, not
+    // private like the temporary files they were.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        let plain = sys.join("plain");
+        fs::File::create(&plain).unwrap();
+        let mode = |p: &Path| fs::metadata(p).unwrap().permissions().mode() & 0o777;
+        assert_eq!(mode(&sys.join("matrix.mtx")), mode(&plain));
+        fs::remove_file(plain).unwrap();
+    }
 
     let err = write_system(dir.path(), &deck, b"", b"").unwrap_err();
     assert!(err.to_string().contains("deck's own directory"), "{err}");

@@ -298,3 +298,49 @@ fn the_last_state_of_an_oil_water_run_holds_its_water_saturations() {
     let initial = rill_model::derived::saturation::initial_water_saturation(case, 0).unwrap();
     assert!(last[0] > initial + 0.01, "{} vs {initial}", last[0]);
 }
+
+/// Values of a MatrixMarket array file (one column).
+fn market_vector(path: &Path) -> Vec<f64> {
+    let text = std::fs::read_to_string(path).unwrap();
+    let mut lines = text.lines().filter(|l| !l.starts_with('%'));
+    let n: usize = lines
+        .next()
+        .unwrap()
+        .split_whitespace()
+        .next()
+        .unwrap()
+        .parse()
+        .unwrap();
+    let v: Vec<f64> = lines.map(|l| l.trim().parse().unwrap()).collect();
+    assert_eq!(v.len(), n);
+    v
+}
+
+#[test]
+fn an_oil_water_export_adds_the_accumulation_blocks() {
+    let (dir, path, analysis) = checked();
+    let sys = dir.path().join("system");
+    let out = dir.path().join("flood.out");
+    let mut request = Request::new(&analysis, &path, &out);
+    request.export_system = Some(sys.clone());
+    let outcome = run(&request, &mut rill_sim::NoObserver);
+    assert!(outcome.result.is_ok());
+    let SystemExport::Written(files) = outcome.export else {
+        panic!("expected the export, got {:?}", outcome.export);
+    };
+    assert_eq!(files.len(), 3);
+    let rhs = market_vector(&sys.join("rhs.mtx"));
+    let acc = market_vector(&sys.join("accumulation.mtx"));
+    // One 2 x 2 block a block row: 24 cells and three wells, two unknowns each.
+    assert_eq!(rhs.len(), 2 * (24 + 3));
+    assert_eq!(acc.len(), 2 * rhs.len());
+    // In every cell, more water saturation holds more water and less oil;
+    // the wells' block rows hold no fluid.
+    for (i, b) in acc.chunks(4).enumerate() {
+        if i < 24 {
+            assert!(b[3] > 0.0 && b[1] < 0.0, "cell {i}: {b:?}");
+        } else {
+            assert_eq!(b, [0.0; 4], "well row {i}");
+        }
+    }
+}

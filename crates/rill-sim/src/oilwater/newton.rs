@@ -192,7 +192,7 @@ impl Engine<'_> {
             }
             if !self.first_system_sent {
                 self.first_system_sent = true;
-                observer.first_system(&asm.jac, &rhs);
+                observer.first_coupled_system(&asm.jac, &rhs, &asm.acc);
             }
             dx.fill(0.0);
             match self
