@@ -5,7 +5,8 @@
 //! ```text
 //! cargo run -p rill-linear --example cpr_vs_scipy -- [--dims 40 40 20] \
 //!     [--sigma 2] [--seed 7] [--tol 1e-8] [--out DIR] [--repeat 3] \
-//!     [--system DIR] [--pressure-cycles 2] [--sweeps 2] [--only-first]
+//!     [--system DIR] [--pressure-cycles 2] [--sweeps 2] [--only-first] \
+//!     [--pressure-study]
 //! ```
 //!
 //! Writes `DIR/A.mtx` (the scalar expansion of the 2 x 2 block matrix,
@@ -79,8 +80,9 @@ fn run() -> Result<(), String> {
         }
         i += 1;
     }
-    if let (Some(dir), true) = (&system, pressure_study) {
-        return study_pressure(dir, &base);
+    if pressure_study {
+        let dir = system.ok_or("--pressure-study needs --system DIR")?;
+        return study_pressure(&dir, &base);
     }
     if let Some(dir) = system {
         return exported(&dir, tol, repeat, &base, only_first);
@@ -240,17 +242,7 @@ fn exported(
     base: &CprOptions,
     only_first: bool,
 ) -> Result<(), String> {
-    let scalar = mtx::read_matrix(&format!("{dir}/matrix.mtx"))?;
-    let b = mtx::read_vector(&format!("{dir}/rhs.mtx"), scalar.n)?;
-    let a = scalar
-        .to_block(2)
-        .map_err(|e| format!("{dir}/matrix.mtx: not two unknowns a block row: {e}"))?;
-    let acc_path = format!("{dir}/accumulation.mtx");
-    let accumulation = if std::path::Path::new(&acc_path).exists() {
-        Some(mtx::read_vector(&acc_path, 2 * a.rows())?)
-    } else {
-        None
-    };
+    let (a, b, accumulation) = read_exported(dir)?;
     eprintln!(
         "{dir}: {} unknowns, {} stored values, {}",
         a.rows(),
@@ -267,14 +259,36 @@ fn exported(
     Ok(())
 }
 
+/// A system a run exported: the matrix as 2 x 2 blocks, the right-hand
+/// side and, when the run wrote them, the accumulation blocks.
+type Exported = (CsrMatrix, Vec<f64>, Option<Vec<f64>>);
+
+/// Reads the system in `dir`.
+fn read_exported(dir: &str) -> Result<Exported, String> {
+    let scalar = mtx::read_matrix(&format!("{dir}/matrix.mtx"))?;
+    let b = mtx::read_vector(&format!("{dir}/rhs.mtx"), scalar.n)?;
+    let a = scalar
+        .to_block(2)
+        .map_err(|e| format!("{dir}/matrix.mtx: not two unknowns a block row: {e}"))?;
+    let acc_path = format!("{dir}/accumulation.mtx");
+    let accumulation = if std::path::Path::new(&acc_path).exists() {
+        Some(mtx::read_vector(&acc_path, 2 * a.rows())?)
+    } else {
+        None
+    };
+    Ok((a, b, accumulation))
+}
+
 /// The pressure stage alone on an exported system: the residual of
 /// stationary V-cycles (does the cycle converge as an iteration on the
 /// pressure matrix?) and GMRES with one V-cycle as preconditioner.
 fn study_pressure(dir: &str, base: &CprOptions) -> Result<(), String> {
-    let scalar = mtx::read_matrix(&format!("{dir}/matrix.mtx"))?;
-    let a = scalar.to_block(2).map_err(|e| e.to_string())?;
-    let acc = mtx::read_vector(&format!("{dir}/accumulation.mtx"), 2 * a.rows()).ok();
-    for decoupling in [Decoupling::TrueImpes, Decoupling::QuasiImpes] {
+    let (a, _, acc) = read_exported(dir)?;
+    let decouplings = match acc {
+        Some(_) => vec![Decoupling::TrueImpes, Decoupling::QuasiImpes],
+        None => vec![Decoupling::QuasiImpes],
+    };
+    for decoupling in decouplings {
         let opts = CprOptions {
             decoupling,
             ..base.clone()

@@ -210,8 +210,9 @@ impl Cpr {
             work: Mutex::new(Work {
                 rp: vec![0.0; n],
                 xp: vec![0.0; n],
-                rp2: Vec::new(),
-                dxp: Vec::new(),
+                // Only a pressure stage of several cycles uses them.
+                rp2: vec![0.0; if opts.pressure_cycles > 1 { n } else { 0 }],
+                dxp: vec![0.0; if opts.pressure_cycles > 1 { n } else { 0 }],
                 x1: vec![0.0; rows],
                 r2: vec![0.0; rows],
             }),
@@ -314,7 +315,7 @@ impl Preconditioner for CprPreconditioner<'_> {
             x1,
             r2,
         } = &mut *guard;
-        // Stage 1: restrict with the weights, one V-cycle, prolong.
+        // Stage 1: restrict with the weights, V-cycles, prolong.
         rp.par_iter_mut()
             .zip(r.par_chunks(b))
             .zip(c.weights.par_chunks(b))
@@ -322,8 +323,6 @@ impl Preconditioner for CprPreconditioner<'_> {
             .for_each(|((p, ri), wi)| *p = ri.iter().zip(wi).map(|(x, y)| x * y).sum());
         h.vcycle(&c.pressure, rp, xp);
         for _ in 1..c.opts.pressure_cycles {
-            rp2.resize(rp.len(), 0.0);
-            dxp.resize(rp.len(), 0.0);
             c.pressure.residual_into(rp, xp, rp2);
             h.vcycle(&c.pressure, rp2, dxp);
             xp.par_iter_mut()

@@ -10,6 +10,13 @@ use rill_linear::{
 };
 use support::two_phase::{two_phase_system, TwoPhaseSystem};
 
+/// Every decoupling, in the order the measurements below quote them.
+const DECOUPLINGS: [Decoupling; 3] = [
+    Decoupling::QuasiImpes,
+    Decoupling::TrueImpes,
+    Decoupling::PressureRow,
+];
+
 fn norm(v: &[f64]) -> f64 {
     v.iter().map(|x| x * x).sum::<f64>().sqrt()
 }
@@ -89,11 +96,7 @@ fn cpr_variants_converge_where_the_second_stage_alone_does_not() {
         assert!(s.contrast > 1e7, "{}", s.contrast);
         let grid = format!("{nx}x{ny}x{nz} ({} unknowns)", s.a.rows());
         let mut cpr_ilu = 0;
-        for d in [
-            Decoupling::QuasiImpes,
-            Decoupling::TrueImpes,
-            Decoupling::PressureRow,
-        ] {
+        for d in DECOUPLINGS {
             for st in [SecondStage::BlockIlu0, SecondStage::BlockJacobi] {
                 let (out, _) = run(&s, &opts(d, st, true));
                 let stats = out.unwrap_or_else(|e| panic!("{grid} {d:?} {st:?}: {e}"));
@@ -153,11 +156,7 @@ fn cpr_solution_matches_the_sparse_direct_solve() {
 fn weights_and_pressure_matrix_follow_their_definitions() {
     let s = two_phase_system(7, 5, 3, 2.0, 3);
     let a = &s.a;
-    for d in [
-        Decoupling::QuasiImpes,
-        Decoupling::TrueImpes,
-        Decoupling::PressureRow,
-    ] {
+    for d in DECOUPLINGS {
         let o = CprOptions {
             decoupling: d,
             ..Default::default()
@@ -219,17 +218,10 @@ fn a_pressure_row_with_a_negative_diagonal_is_turned() {
             .iter_mut()
             .for_each(|v| *v = -*v);
     }
-    for d in [
-        Decoupling::QuasiImpes,
-        Decoupling::TrueImpes,
-        Decoupling::PressureRow,
-    ] {
-        let o = CprOptions {
-            decoupling: d,
-            ..Default::default()
-        };
-        let plain = Cpr::build(&s.a, Some(&s.accumulation), &o).expect("set-up");
-        let cpr = Cpr::build(&turned.a, Some(&turned.accumulation), &o).expect("set-up");
+    for d in DECOUPLINGS {
+        let o = opts(d, SecondStage::BlockIlu0, true);
+        let plain = Cpr::build(&s.a, Some(&s.accumulation), &o.cpr).expect("set-up");
+        let cpr = Cpr::build(&turned.a, Some(&turned.accumulation), &o.cpr).expect("set-up");
         let ap = cpr.pressure_matrix();
         for i in 0..ap.n {
             assert!(ap.get(i, i) > 0.0, "{d:?} row {i}: {}", ap.get(i, i));
@@ -239,10 +231,6 @@ fn a_pressure_row_with_a_negative_diagonal_is_turned() {
             assert_eq!(w[2 * i], -w0[2 * i], "{d:?} block {i}");
             assert_eq!(w[2 * i + 1], -w0[2 * i + 1], "{d:?} block {i}");
         }
-        let o = CoupledOptions {
-            cpr: o,
-            ..Default::default()
-        };
         let (before, _) = run(&s, &o);
         let (after, x) = run(&turned, &o);
         let (k0, k1) = (iterations(&before), iterations(&after));
