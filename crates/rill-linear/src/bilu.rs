@@ -138,11 +138,43 @@ pub(crate) struct BlockIlu0 {
 
 impl BlockIlu0 {
     pub(crate) fn factor(a: &CsrMatrix) -> Result<Self, LinearError> {
-        let (n, b) = (a.n, a.block);
+        let mut f = BlockIlu0 {
+            b: a.block,
+            row_ptr: a.row_ptr.clone(),
+            col_idx: a.col_idx.clone(),
+            diag: diagonal_positions(a)?,
+            lu: a.values.clone(),
+        };
+        f.eliminate()?;
+        Ok(f)
+    }
+
+    /// Factors new values of the matrix factored before (same block size
+    /// and pattern, which the caller has checked) in the storage already
+    /// held: no allocation, so no fresh pages to fault in for each Newton
+    /// iteration of a large system.
+    pub(crate) fn refactor(&mut self, a: &CsrMatrix) -> Result<(), LinearError> {
+        debug_assert!(a.block == self.b && a.row_ptr == self.row_ptr && a.col_idx == self.col_idx);
+        self.lu.copy_from_slice(&a.values);
+        self.eliminate()
+    }
+
+    fn eliminate(&mut self) -> Result<(), LinearError> {
+        match self.b {
+            2 => self.eliminate_with::<2>(),
+            3 => self.eliminate_with::<3>(),
+            _ => self.eliminate_with::<0>(),
+        }
+    }
+
+    /// The elimination in place of `lu` (holding A on entry), for blocks of
+    /// B (0: of the factor's own size). With B fixed the block size is a
+    /// constant and the block products unroll.
+    fn eliminate_with<const B: usize>(&mut self) -> Result<(), LinearError> {
+        let b = if B == 0 { self.b } else { B };
         let bb = b * b;
-        let diag = diagonal_positions(a)?;
-        let (rp, ci) = (&a.row_ptr, &a.col_idx);
-        let mut lu = a.values.clone();
+        let n = self.diag.len();
+        let (rp, ci, diag, lu) = (&self.row_ptr, &self.col_idx, &self.diag, &mut self.lu);
         // Position of each column in the current row (usize::MAX: absent).
         let mut pos = vec![usize::MAX; n];
         let (mut l, mut u, mut t, mut work) =
@@ -178,17 +210,53 @@ impl BlockIlu0 {
                 pos[ci[k]] = usize::MAX;
             }
         }
-        Ok(BlockIlu0 {
-            b,
-            row_ptr: rp.clone(),
-            col_idx: ci.clone(),
-            diag,
-            lu,
-        })
+        Ok(())
     }
 
     /// z = U^{-1} L^{-1} r.
     pub(crate) fn apply(&self, r: &[f64], z: &mut [f64]) {
+        match self.b {
+            2 => self.apply_fixed::<2>(r, z),
+            3 => self.apply_fixed::<3>(r, z),
+            _ => self.apply_general(r, z),
+        }
+    }
+
+    /// [`BlockIlu0::apply`] for blocks of the fixed size B: the block
+    /// products unroll and lose their bounds checks. The solves are
+    /// sequential, so this is the kernel the second stage waits on (2 x 2
+    /// blocks of 1.12 million cells: 88 ms in the general loop).
+    fn apply_fixed<const B: usize>(&self, r: &[f64], z: &mut [f64]) {
+        let (rp, ci, lu) = (&self.row_ptr, &self.col_idx, &self.lu);
+        // s -= sum over the stored blocks k in `range` of block_k z_(col k).
+        let subtract = |s: &mut [f64; B], range: std::ops::Range<usize>, z: &[f64]| {
+            let blocks = lu[range.start * B * B..range.end * B * B].chunks_exact(B * B);
+            for (&j, m) in ci[range].iter().zip(blocks) {
+                let xj: &[f64; B] = z[j * B..j * B + B].try_into().expect("B values");
+                for (row, sr) in s.iter_mut().enumerate() {
+                    for (c, xc) in xj.iter().enumerate() {
+                        *sr -= m[row * B + c] * xc;
+                    }
+                }
+            }
+        };
+        z.copy_from_slice(r);
+        for (i, &di) in self.diag.iter().enumerate() {
+            let mut s: [f64; B] = z[i * B..i * B + B].try_into().expect("B values");
+            subtract(&mut s, rp[i]..di, z);
+            z[i * B..i * B + B].copy_from_slice(&s);
+        }
+        for (i, &di) in self.diag.iter().enumerate().rev() {
+            let mut s: [f64; B] = z[i * B..i * B + B].try_into().expect("B values");
+            subtract(&mut s, di + 1..rp[i + 1], z);
+            let d = &lu[di * B * B..(di + 1) * B * B];
+            for (row, zr) in z[i * B..i * B + B].iter_mut().enumerate() {
+                *zr = (0..B).map(|c| d[row * B + c] * s[c]).sum();
+            }
+        }
+    }
+
+    fn apply_general(&self, r: &[f64], z: &mut [f64]) {
         let (b, bb) = (self.b, self.b * self.b);
         let (rp, ci, lu) = (&self.row_ptr, &self.col_idx, &self.lu);
         z.copy_from_slice(r);
@@ -225,10 +293,22 @@ pub(crate) struct BlockJacobi {
 
 impl BlockJacobi {
     pub(crate) fn new(a: &CsrMatrix) -> Result<Self, LinearError> {
+        let mut f = BlockJacobi {
+            b: a.block,
+            inv: vec![0.0; a.n * a.block * a.block],
+        };
+        f.refactor(a)?;
+        Ok(f)
+    }
+
+    /// Inverts the diagonal blocks of new values of a matrix of the same
+    /// size, in the storage already held.
+    pub(crate) fn refactor(&mut self, a: &CsrMatrix) -> Result<(), LinearError> {
         let (b, bb) = (a.block, a.block * a.block);
+        debug_assert!(b == self.b && self.inv.len() == a.n * bb);
         let diag = diagonal_positions(a)?;
-        let mut inv = vec![0.0; a.n * bb];
-        let bad = inv
+        let bad = self
+            .inv
             .par_chunks_mut(bb)
             .enumerate()
             .with_min_len(VEC_CHUNK / bb)
@@ -238,10 +318,10 @@ impl BlockJacobi {
             })
             .flatten()
             .min();
-        if let Some(i) = bad {
-            return Err(singular_pivot("block Jacobi", i));
+        match bad {
+            Some(i) => Err(singular_pivot("block Jacobi", i)),
+            None => Ok(()),
         }
-        Ok(BlockJacobi { b, inv })
     }
 
     /// z = D^{-1} r, block rows in parallel.

@@ -129,7 +129,13 @@ impl CoupledSolver {
         let t0 = Instant::now();
         let reusable = !self.stale && self.cpr.as_ref().is_some_and(|c| c.same_pattern(a));
         match self.cpr.as_mut() {
-            Some(c) if reusable => c.update(a, accumulation, AmgRefresh::Fine)?,
+            Some(c) if reusable => {
+                if let Err(e) = c.update(a, accumulation, AmgRefresh::Fine) {
+                    // A failed update leaves the set-up half new.
+                    self.invalidate();
+                    return Err(e);
+                }
+            }
             _ => {
                 self.invalidate();
                 self.cpr = Some(Cpr::build(a, accumulation, &self.opts.cpr)?);

@@ -136,6 +136,13 @@ impl Stage2 {
             SecondStage::BlockJacobi => Stage2::Jacobi(BlockJacobi::new(a)?),
         })
     }
+    /// New values of the same pattern, in the storage held.
+    fn refactor(&mut self, a: &CsrMatrix) -> Result<(), LinearError> {
+        match self {
+            Stage2::Ilu0(f) => f.refactor(a),
+            Stage2::Jacobi(f) => f.refactor(a),
+        }
+    }
     fn apply(&self, r: &[f64], z: &mut [f64]) {
         match self {
             Stage2::Ilu0(f) => f.apply(r, z),
@@ -220,8 +227,9 @@ impl Cpr {
     }
 
     /// Adopts new values of a matrix with the pattern of the one built for
-    /// (checked): weights, pressure matrix and second stage are recomputed,
-    /// the multigrid refreshed as `refresh` says.
+    /// (checked): weights, pressure matrix and second stage are recomputed
+    /// in the storage held, the multigrid refreshed as `refresh` says. After
+    /// an error the set-up is half updated: build it anew.
     pub fn update(
         &mut self,
         a: &CsrMatrix,
@@ -234,10 +242,9 @@ impl Cpr {
             });
         }
         self.weights = weights(a, accumulation, self.opts.decoupling)?;
-        self.pressure = pressure_matrix(a, &mut self.weights);
+        pressure_values(a, &mut self.weights, &mut self.pressure.values);
         self.refresh_amg(refresh)?;
-        self.stage2 = Stage2::new(a, self.opts.second_stage)?;
-        Ok(())
+        self.stage2.refactor(a)
     }
 
     /// True when `a` has the block size and block pattern set up for.
@@ -430,10 +437,24 @@ fn weights(
 /// diagonal comes out negative is negated, with its weights (see
 /// [`Cpr`]'s module doc: the multigrid's smoothers diverge on it).
 fn pressure_matrix(a: &CsrMatrix, w: &mut [f64]) -> CsrMatrix {
-    let (b, bb) = (a.block, a.block * a.block);
     let mut values = vec![0.0; a.col_idx.len()];
+    pressure_values(a, w, &mut values);
+    CsrMatrix {
+        n: a.n,
+        ncols: a.ncols,
+        block: 1,
+        row_ptr: a.row_ptr.clone(),
+        col_idx: a.col_idx.clone(),
+        values,
+    }
+}
+
+/// The values of [`pressure_matrix`] into storage of the block pattern's
+/// length (turning rows and weights as it does).
+fn pressure_values(a: &CsrMatrix, w: &mut [f64], values: &mut [f64]) {
+    let (b, bb) = (a.block, a.block * a.block);
     {
-        let mut rows = split_rows_mut(&mut values, &a.row_ptr);
+        let mut rows = split_rows_mut(values, &a.row_ptr);
         rows.par_iter_mut()
             .zip(w.par_chunks_mut(b))
             .enumerate()
@@ -450,13 +471,5 @@ fn pressure_matrix(a: &CsrMatrix, w: &mut [f64]) -> CsrMatrix {
                     wi.iter_mut().for_each(|x| *x = -*x);
                 }
             });
-    }
-    CsrMatrix {
-        n: a.n,
-        ncols: a.ncols,
-        block: 1,
-        row_ptr: a.row_ptr.clone(),
-        col_idx: a.col_idx.clone(),
-        values,
     }
 }

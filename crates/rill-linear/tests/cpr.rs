@@ -313,7 +313,7 @@ fn true_impes_weights_hold_where_the_accumulation_has_no_pressure_column() {
 
 /// A block tridiagonal matrix (a 1D grid) has no fill: block ILU(0) is its
 /// exact LU, so GMRES with the second stage alone converges in one
-/// iteration. Also for blocks of 3, with a random diagonally dominant
+/// iteration. Also for blocks of 3 and 4, with a random diagonally dominant
 /// system; and CPR on these (and on a 2D pattern, with fill) agrees with
 /// the direct solve.
 #[test]
@@ -335,9 +335,15 @@ fn block_ilu0_is_exact_without_fill() {
         }
         assert!(rel_diff(&x, &direct(&s.a, &s.b)) <= 1e-10);
     }
-    // Blocks of 3: tridiagonal, then a 2D pattern (with fill) for CPR.
+    // Blocks of 3 (the fixed-size kernels) and 4 (the general ones):
+    // tridiagonal, then a 2D pattern (with fill) for CPR.
     let mut rng = support::two_phase::Rng(99);
-    for (n, width) in [(400usize, 1usize), (900, 30)] {
+    for (bs, n, width) in [
+        (3, 400usize, 1usize),
+        (3, 900, 30),
+        (4, 400, 1),
+        (4, 900, 30),
+    ] {
         let mut t = Vec::new();
         for i in 0..n {
             for j in [
@@ -350,20 +356,20 @@ fn block_ilu0_is_exact_without_fill() {
                 if j >= n || (j != i && width == 1 && j.abs_diff(i) != 1) {
                     continue;
                 }
-                for r in 0..3 {
-                    for c in 0..3 {
+                for r in 0..bs {
+                    for c in 0..bs {
                         let v = if i == j && r == c {
                             20.0
                         } else {
                             rng.next() - 0.5
                         };
-                        t.push((3 * i + r, 3 * j + c, v));
+                        t.push((bs * i + r, bs * j + c, v));
                     }
                 }
             }
         }
-        let a = CsrMatrix::from_block_triplets(n, 3, &t);
-        let b: Vec<f64> = (0..3 * n).map(|_| rng.next() - 0.5).collect();
+        let a = CsrMatrix::from_block_triplets(n, bs, &t);
+        let b: Vec<f64> = (0..bs * n).map(|_| rng.next() - 0.5).collect();
         let xd = direct(&a, &b);
         for pressure_stage in [false, true] {
             let o = CoupledOptions {
@@ -374,7 +380,7 @@ fn block_ilu0_is_exact_without_fill() {
                     pressure_stage,
                 )
             };
-            let mut x = vec![0.0; 3 * n];
+            let mut x = vec![0.0; bs * n];
             let st = solve_coupled(&a, &b, &mut x, &o).expect("converges");
             if width == 1 && !pressure_stage {
                 assert_eq!(st.iterations, 1, "{st:?}");
