@@ -15,7 +15,7 @@ With `--system DIR` the system is the first Newton system a run exported
 `accumulation.mtx` that rill's true-IMPES variants use) instead.
 
 usage: scripts/bench/cpr_vs_scipy.py [--dims 40 40 20 | --system DIR] [--tol 1e-8] [--repeat 3]
-                                     [--fills 10 20 40] [--no-pyamg]
+                                     [--fills 10 20 40] [--cpr-fills 1] [--no-pyamg]
 Needs: pip install -r scripts/bench/requirements.txt
 """
 import argparse
@@ -146,6 +146,9 @@ def main():
     ap.add_argument("--system", help="a run's exported first system (matrix.mtx, rhs.mtx)")
     ap.add_argument("--fills", type=int, nargs="*", default=[10, 20, 40],
                     help="spilu fill factors of the scipy peers (10: drop 1e-4, 20: 1e-6, 40: 0)")
+    ap.add_argument("--cpr-fills", type=int, nargs="*", default=[1],
+                    help="spilu fill factors of the pyamg CPR's second stage, besides its block Jacobi "
+                         "(none: block Jacobi only)")
     ap.add_argument("--no-pyamg", action="store_true", help="leave out the pyamg CPR peer")
     a = ap.parse_args()
     out = tempfile.mkdtemp(prefix="rill-cpr-")
@@ -168,7 +171,7 @@ def main():
     drops = {10: 1e-4, 20: 1e-6, 40: 0.0}
     runs = [(scipy_gmres, f, drops.get(f, 1e-4)) for f in a.fills]
     if not a.no_pyamg:
-        runs += [(pyamg_cpr, 1, 1e-4), (pyamg_cpr, 0, 0.0)]
+        runs += [(pyamg_cpr, f, 1e-4) for f in a.cpr_fills if f > 0] + [(pyamg_cpr, 0, 0.0)]
     for peer, fill, drop in runs:
         best = None
         for _ in range(a.repeat):

@@ -5,7 +5,8 @@
 //! ```text
 //! cargo run -p rill-linear --example cpr_vs_scipy -- [--dims 40 40 20] \
 //!     [--sigma 2] [--seed 7] [--tol 1e-8] [--out DIR] [--repeat 3] \
-//!     [--system DIR] [--pressure-cycles 2] [--sweeps 2] [--only-first] \
+//!     [--system DIR] [--pressure-cycles 2] [--sweeps 2] [--max-coarse 3000] \
+//!     [--only-first] \
 //!     [--pressure-study]
 //! ```
 //!
@@ -72,6 +73,7 @@ fn run() -> Result<(), String> {
             "--pressure-study" => pressure_study = true,
             "--pressure-cycles" => (base.pressure_cycles, i) = (num(v(1))?, i + 1),
             "--sweeps" => (base.amg.sweeps, i) = (num(v(1))?, i + 1),
+            "--max-coarse" => (base.amg.max_coarse, i) = (num(v(1))?, i + 1),
             "--system" => {
                 system = Some(v(1).ok_or("--system needs a value")?.clone());
                 i += 1;
