@@ -5,8 +5,8 @@
 mod support;
 
 use rill_linear::{
-    solve, solve_coupled, CoupledOptions, CoupledSolver, Cpr, CprOptions, CsrMatrix, Decoupling,
-    LinearError, LinearStats, Method, SecondStage, SolverOptions,
+    solve, solve_coupled, AmgRefresh, CoupledOptions, CoupledSolver, Cpr, CprOptions, CsrMatrix,
+    Decoupling, LinearError, LinearStats, Method, Preconditioner, SecondStage, SolverOptions,
 };
 use support::two_phase::{two_phase_system, TwoPhaseSystem};
 
@@ -435,6 +435,59 @@ fn the_set_up_is_reused_while_the_pattern_stays() {
     let mut x = vec![0.0; small.a.rows()];
     let fourth = solver.solve(&small.a, &small.b, &mut x).expect("fourth");
     assert!(!fourth.reused_setup);
+}
+
+/// An update refactors in the storage it holds: for new values of the same
+/// pattern, `Cpr::update` with a rebuilt multigrid gives, bit for bit, the
+/// operator `Cpr::build` gives on those values, for each second stage, and
+/// after a failed update the coupled solver builds anew rather than use
+/// the half-updated set-up.
+#[test]
+fn an_update_in_place_equals_a_fresh_build() {
+    let s = two_phase_system(12, 10, 4, 2.0, 31);
+    let other = two_phase_system(12, 10, 4, 2.0, 32);
+    assert!(other.a.same_pattern(&s.a));
+    let r: Vec<f64> = (0..s.a.rows())
+        .map(|i| ((i * 29) % 47) as f64 - 23.0)
+        .collect();
+    for second_stage in [SecondStage::BlockIlu0, SecondStage::BlockJacobi] {
+        let o = CprOptions {
+            decoupling: Decoupling::TrueImpes,
+            second_stage,
+            ..CprOptions::default()
+        };
+        let mut updated = Cpr::build(&s.a, Some(&s.accumulation), &o).expect("build");
+        updated
+            .update(&other.a, Some(&other.accumulation), AmgRefresh::Rebuild)
+            .expect("update");
+        let fresh = Cpr::build(&other.a, Some(&other.accumulation), &o).expect("build");
+        let (mut zu, mut zf) = (vec![0.0; r.len()], vec![0.0; r.len()]);
+        updated.preconditioner(&other.a).apply(&r, &mut zu);
+        fresh.preconditioner(&other.a).apply(&r, &mut zf);
+        assert_eq!(zu, zf, "{second_stage:?}");
+        assert_eq!(updated.pressure_matrix(), fresh.pressure_matrix());
+        assert_eq!(updated.weights(), fresh.weights());
+    }
+    // A zero diagonal block in the new values: the update fails, and
+    // the next solve of good values builds anew and converges.
+    let mut solver = CoupledSolver::new(CoupledOptions::default());
+    let mut x = vec![0.0; s.a.rows()];
+    solver.solve(&s.a, &s.b, &mut x).expect("first");
+    let mut bad = s.a.clone();
+    let k = bad.row_ptr[5]
+        + bad.col_idx[bad.row_ptr[5]..bad.row_ptr[6]]
+            .binary_search(&5)
+            .unwrap();
+    bad.values[4 * k..4 * k + 4]
+        .iter_mut()
+        .for_each(|v| *v = 0.0);
+    let mut x = vec![0.0; s.a.rows()];
+    assert!(solver.solve(&bad, &s.b, &mut x).is_err());
+    assert!(solver.cpr().is_none(), "the half-updated set-up is dropped");
+    let mut x = vec![0.0; s.a.rows()];
+    let again = solver.solve(&other.a, &other.b, &mut x).expect("again");
+    assert!(!again.reused_setup);
+    assert!(true_rel_residual(&other.a, &other.b, &x) <= 1e-8);
 }
 
 #[test]
