@@ -67,10 +67,16 @@ pub fn mean_depth(faces: &[AquiferFace]) -> Option<f64> {
 
 /// The initial aquifer pressure `p_ai`, Pa: the initial equilibrium
 /// pressure at the faces' mean depth. With a datum, the hydrostat through
-/// it; with cell pressures, the area-weighted mean of each face cell's
-/// pressure moved along the hydrostat to the mean depth.
+/// it (in an oil-water case initialised from a water contact, the water's
+/// hydrostat through the contact, as the engine starts the aquifer, even
+/// where the faces' mean depth lies above the contact); with cell
+/// pressures, the area-weighted mean of each face cell's pressure moved
+/// along the hydrostat to the mean depth.
 pub fn initial_pressure(case: &Case, faces: &[AquiferFace]) -> Option<f64> {
     let depth = mean_depth(faces)?;
+    if let Some(eq) = derived::saturation::equilibrium(case) {
+        return Some(eq.water_pressure(depth));
+    }
     match &case.initial {
         Initial::Datum { .. } => crate::checks::initial_pressure_at(case, depth),
         Initial::Cells(p) => {

@@ -204,8 +204,10 @@ fn initial_checks(
     };
     match &case.initial {
         Initial::Datum { pressure, depth } => {
-            let p_at = |z| derived::hydrostatic_pressure(&case.fluid, *pressure, *depth, z);
-            // Monotone in depth: the lowest pressure is at one end of the grid.
+            let p_at = |z| initial_pressure_at(case, z).unwrap_or(f64::NAN);
+            // Monotone in depth (the two hydrostats of an oil-water case
+            // meet at the contact): the lowest pressure is at one end of
+            // the grid.
             let (z, p) = [(shallow, p_at(shallow)), (deep, p_at(deep))]
                 .into_iter()
                 .min_by(|a, b| a.1.total_cmp(&b.1))
@@ -349,8 +351,20 @@ fn pressure_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagno
     }
 }
 
-/// Initial pressure at a depth, from the datum in hydrostatic equilibrium.
+/// Initial pressure at a depth, from the datum in hydrostatic equilibrium:
+/// the pressure the engine starts from there. In an oil-water case
+/// initialised from a water contact, the oil's hydrostat through the datum
+/// above the contact and the water's through the contact below it (where
+/// the engine puts the water leg's cells and the aquifers); otherwise the
+/// hydrostat of the case's fluid (the oil of an oil-water case).
 pub fn initial_pressure_at(case: &Case, depth: f64) -> Option<f64> {
+    if let Some(eq) = derived::saturation::equilibrium(case) {
+        return Some(if depth > eq.contact {
+            eq.water_pressure(depth)
+        } else {
+            eq.oil_pressure(depth)
+        });
+    }
     match &case.initial {
         Initial::Datum {
             pressure,

@@ -640,3 +640,59 @@ fn an_oil_formation_volume_factor_below_one_is_upside_down() {
     let a = edited("fvf = 1.01 rb/stb", "fvf = 0.99 rb/stb");
     assert!(found(&a, DECK, Code::SanityFvf).is_empty());
 }
+
+/// Below the water contact the initial pressure follows the water's
+/// hydrostat through the contact, as the engine starts its water leg:
+/// a producer completed there, held to a BHP between the oil's hydrostat
+/// carried on below the contact and the water's, would produce (no
+/// `well.bhp`), and one above the water's pressure would inject (one).
+/// An aquifer starts on the water's hydrostat too.
+#[test]
+fn below_the_contact_the_initial_pressure_is_the_waters() {
+    let a = check(DECK);
+    let case = a.case.as_ref().expect("the deck lowers");
+    let eq = rill_model::derived::saturation::equilibrium(case).expect("a contact and a datum");
+    // Layer 4's centre, 6087.5 ft, lies 7.5 ft below the contact at 6080 ft.
+    let z = 6087.5 * 0.3048;
+    let (p_oil, p_water) = (eq.oil_pressure(z), eq.water_pressure(z));
+    let p0 = rill_model::checks::initial_pressure_at(case, z).expect("a datum");
+    assert_eq!(p0, p_water);
+    // The water is denser: 7.5 ft more of its column than of the oil's,
+    // about 0.09 psi/ft apart (63.8 and 51 lb/ft^3 over 144 in^2/ft^2).
+    let gap = (p_water - p_oil) / PSI;
+    assert!((0.6..0.75).contains(&gap), "{gap} psi");
+    // Above the contact, the oil's.
+    let above = 6062.5 * 0.3048;
+    assert_eq!(
+        rill_model::checks::initial_pressure_at(case, above),
+        Some(eq.oil_pressure(above))
+    );
+    let bhp_between = format!("{:.2} psi", (p_oil + p_water) / 2.0 / PSI);
+    let bhp_above = format!("{:.2} psi", p_water / PSI + 0.2);
+    for (bhp, warned) in [(bhp_between, false), (bhp_above, true)] {
+        let text = DECK.replacen(
+            "  location = (6, 1)\n  radius = 0.3 ft\n  control = oil_rate 600 stb/day",
+            &format!("  location = (6, 1)\n  layers = 4\n  radius = 0.3 ft\n  control = bhp {bhp}"),
+            1,
+        );
+        assert_ne!(text, DECK);
+        let got = found(&check(&text), &text, Code::WellBhp);
+        assert_eq!(!got.is_empty(), warned, "BHP {bhp}: {got:?}");
+    }
+    // An aquifer on the west side: its faces' mean depth is the grid's
+    // middle, 6050 ft, above the contact, and still it starts on the
+    // water's hydrostat.
+    let text = format!(
+        "{DECK}\naquifer \"west leg\" {{\n  side = west\n  water_volume = 2e7 rb\n  compressibility = 7e-6 1/psi\n  productivity = 40 rb/day/psi\n}}\n"
+    );
+    let a = check(&text);
+    let case = a.case.as_ref().expect("the deck lowers");
+    let faces = rill_model::aquifer::faces(case, &case.aquifers[0]);
+    let depth = rill_model::aquifer::mean_depth(&faces).expect("faces");
+    assert!((depth / 0.3048 - 6050.0).abs() < 1e-6, "{depth}");
+    let eq = rill_model::derived::saturation::equilibrium(case).expect("a contact and a datum");
+    assert_eq!(
+        rill_model::aquifer::initial_pressure(case, &faces),
+        Some(eq.water_pressure(depth))
+    );
+}

@@ -17,28 +17,56 @@ pub(super) fn fluid_checks(case: &Case, spans: &Spans, sys: System, out: &mut Ve
         compressibility: spans.fluid_compressibility,
     };
     // In an oil-water deck each phase is checked, and named.
-    let (oil_name, water) = match &case.oil_water {
-        Some(ow) => ("oil ", Some(&ow.water)),
-        None => ("", None),
-    };
-    liquid_checks(&case.fluid, &oil, oil_name, spans.main, sys, out);
-    if let Some(water) = water {
-        liquid_checks(water, &spans.water, "water ", spans.main, sys, out);
+    match &case.oil_water {
+        Some(ow) => {
+            liquid_checks(&case.fluid, &oil, Liquid::Oil, spans.main, sys, out);
+            liquid_checks(&ow.water, &spans.water, Liquid::Water, spans.main, sys, out);
+        }
+        None => liquid_checks(&case.fluid, &oil, Liquid::Fluid, spans.main, sys, out),
     }
 }
 
-/// The checks of one liquid (`fluid`, `oil` or `water`); `phase` ("",
-/// "oil " or "water ") starts the messages that name it.
+/// Which liquid a block describes: the one `fluid` of a single-phase deck,
+/// or the `oil` or the `water` of an oil-water deck.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum Liquid {
+    Fluid,
+    Oil,
+    Water,
+}
+
+impl Liquid {
+    /// What starts the messages that name it: nothing for the one fluid.
+    fn prefix(self) -> &'static str {
+        match self {
+            Liquid::Fluid => "",
+            Liquid::Oil => "oil ",
+            Liquid::Water => "water ",
+        }
+    }
+
+    /// Its name as a noun ("a liquid density", "fluid compressibility").
+    fn noun(self, single_phase: &'static str) -> &'static str {
+        match self {
+            Liquid::Fluid => single_phase,
+            Liquid::Oil => "oil",
+            Liquid::Water => "water",
+        }
+    }
+}
+
+/// The checks of one liquid, each message naming it.
 fn liquid_checks(
     f: &Fluid,
     spans: &FluidSpans,
-    phase: &str,
+    liquid: Liquid,
     main: Location,
     sys: System,
     out: &mut Vec<Diagnostic>,
 ) {
     let at = |l: Option<Location>| l.unwrap_or(main);
-    let fluid_word = if phase.is_empty() { "fluid " } else { phase };
+    let phase = liquid.prefix();
+    let fluid_word = liquid.noun("fluid");
     if f.viscosity <= 0.0 {
         out.push(Diagnostic::error(
             Code::SanityViscosity,
@@ -75,7 +103,7 @@ fn liquid_checks(
                 "a liquid's fvf is close to 1 rb/stb; a value near 1/fvf may be upside down",
             ),
         );
-    } else if phase == "oil " && f.fvf < 1.0 {
+    } else if liquid == Liquid::Oil && f.fvf < 1.0 {
         // Reservoir oil holds its dissolved gas: it fills more room than
         // the stock-tank oil it gives (common practice, no published source
         // for a bound; dead oils sit just above 1).
@@ -98,14 +126,14 @@ fn liquid_checks(
         out.push(Diagnostic::error(
             Code::SanityCompressibility,
             at(spans.compressibility),
-            format!("{fluid_word}compressibility cannot be negative"),
+            format!("{fluid_word} compressibility cannot be negative"),
         ));
     } else if f.compressibility > 1e-3 / PSI {
         out.push(Diagnostic::warning(
             Code::SanityCompressibility,
             at(spans.compressibility),
             format!(
-                "{fluid_word}compressibility of {} 1/psi is above 1e-3 1/psi; water is about 3e-6 1/psi (common practice, no published source)",
+                "{fluid_word} compressibility of {} 1/psi is above 1e-3 1/psi; water is about 3e-6 1/psi (common practice, no published source)",
                 crate::values::short_number(f.compressibility * PSI)
             ),
         ));
@@ -116,11 +144,7 @@ fn liquid_checks(
             at(spans.density),
             format!(
                 "a {} density of {} is outside 500 to 1300 kg/m^3",
-                if phase.is_empty() {
-                    "liquid"
-                } else {
-                    phase.trim_end()
-                },
+                liquid.noun("liquid"),
                 show(f.density, Kind::Density, sys)
             ),
         ));

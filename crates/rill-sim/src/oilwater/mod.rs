@@ -267,15 +267,9 @@ impl Engine<'_> {
         }
         let first = d.n_cells + d.n_wells;
         for (a, g) in d.aquifers.iter().enumerate() {
-            // The aquifer on the water's hydrostat at its mean face depth.
-            let p = match (eq, g.faces.first()) {
-                (Some(eq), Some(f)) => {
-                    let depth = d.depth[f.cell] + f.dd_c - f.dd_a;
-                    eq.water_pressure(depth)
-                }
-                _ => g.p_init,
-            };
-            x[2 * (first + a)] = p;
+            // On the water's hydrostat at its mean face depth when the
+            // case starts from a contact (`aquifer::initial_pressure`).
+            x[2 * (first + a)] = g.p_init;
         }
         Ok(x)
     }
