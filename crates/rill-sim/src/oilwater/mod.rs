@@ -171,34 +171,52 @@ pub(crate) fn run(
 }
 
 /// The oil pressure and water saturation of a boundary face's far side at
-/// depth `z`, with no derivatives.
+/// depth `z`, with no derivatives. A boundary with a datum in a case with a
+/// water contact is in the capillary-gravity equilibrium of its own datum,
+/// as the initial state is of the initial datum: the oil's hydrostat above
+/// the contact, full of water on the water's below it. So a boundary held
+/// at the initial datum leaves the initial state at rest (on the oil's
+/// hydrostat alone it drained the water leg).
 fn boundary_sides(case: &Case, d: &Disc, ph: &Phases) -> Vec<Outside> {
     let eq = saturation::equilibrium(case);
-    let contact = match case.oil_water.as_ref().map(|o| &o.saturation) {
-        Some(InitialSaturation::Contact { depth }) => Some(*depth),
+    let ow = case.oil_water.as_ref().expect("an oil-water case");
+    let contact = match ow.saturation {
+        InitialSaturation::Contact { depth } => Some(depth),
         _ => None,
     };
     d.bfaces
         .iter()
         .map(|f| {
             let b = &case.boundaries[f.boundary];
-            let p = match b.datum {
-                Some(datum) => {
-                    derived::hydrostatic_pressure(&case.fluid, b.pressure, datum, f.face_depth)
-                }
-                None => b.pressure,
-            };
-            let curves = &ph.curves[case
-                .oil_water
-                .as_ref()
-                .map_or(0, |o| o.cell_relperm.of(d.cell_of[f.cell]))
+            let z = f.face_depth;
+            let curves = &ph.curves[ow
+                .cell_relperm
+                .of(d.cell_of[f.cell])
                 .min(ph.curves.len() - 1)];
-            let s = match (contact, eq) {
-                (Some(c), Some(eq)) if f.face_depth < c => {
-                    eq.water_saturation(curves, f.face_depth)
+            let (p, s) = match (b.datum, contact) {
+                (Some(datum), Some(c)) => {
+                    let own = saturation::Equilibrium {
+                        oil: &case.fluid,
+                        water: &ow.water,
+                        datum_pressure: b.pressure,
+                        datum_depth: datum,
+                        contact: c,
+                    };
+                    if z > c {
+                        (own.water_pressure(z) + curves.pc(1.0), 1.0)
+                    } else {
+                        (own.oil_pressure(z), own.water_saturation(curves, z))
+                    }
                 }
-                (Some(c), None) if f.face_depth < c => curves.swc(),
-                _ => 1.0,
+                (Some(datum), None) => (
+                    derived::hydrostatic_pressure(&case.fluid, b.pressure, datum, z),
+                    1.0,
+                ),
+                (None, Some(c)) if z < c => (
+                    b.pressure,
+                    eq.map_or(curves.swc(), |eq| eq.water_saturation(curves, z)),
+                ),
+                (None, _) => (b.pressure, 1.0),
             };
             let mut props = CellProps::from_sat(ph, &curves.at(s), p);
             for a in props
