@@ -268,5 +268,13 @@ fn print_text(r: &CellReport, system: System) {
             show(w.productivity, Kind::Productivity),
             unit(Kind::Productivity).name
         );
+        if let Some((oil, water)) = w.phase_productivity {
+            println!(
+                "    at initial sw  oil {}, water {} {} (the productivity above: the oil's, kr = 1)",
+                show(oil, Kind::Productivity),
+                show(water, Kind::Productivity),
+                unit(Kind::Productivity).name
+            );
+        }
     }
 }

@@ -458,4 +458,18 @@ fn the_waterflood_tutorial_quotes_its_example() {
             "rill inspect prints `{quoted}`:\n{shown}"
         );
     }
+    // The producer's top cell: each phase's productivity at the initial
+    // saturation, oil at kro_end (0.9 / 1.8 cP over its fvf) and no water.
+    let inspect = Command::new(rill)
+        .args(["inspect", "--cell", "23,11,2"])
+        .arg(&deck_path)
+        .output()
+        .unwrap();
+    let shown = String::from_utf8_lossy(&inspect.stdout);
+    let quoted = "at initial sw  oil 0.736059, water 0 stb/day/psi";
+    assert!(page.contains(quoted), "the page quotes `{quoted}`");
+    assert!(
+        shown.contains(quoted),
+        "rill inspect prints `{quoted}`:\n{shown}"
+    );
 }

@@ -178,7 +178,7 @@ fn render_cell(case: &Case, r: &CellReport, heading: &str) -> String {
         s.push('\n');
     }
     if case.oil_water.is_some() {
-        s.push_str("\nT and productivity with the oil's viscosity and formation volume factor.\n");
+        s.push_str("\nT and productivity with the oil's viscosity and formation volume factor (kr = 1); each phase's productivity at the initial saturation follows the well.\n");
     }
     if faulted {
         s.push_str(&format!(
@@ -203,6 +203,13 @@ fn render_cell(case: &Case, r: &CellReport, heading: &str) -> String {
             show(w.well_index, Kind::WellIndex, sys),
             show(w.productivity, Kind::Productivity, sys)
         ));
+        if let Some((oil, water)) = w.phase_productivity {
+            s.push_str(&format!(
+                "at the initial saturation: oil productivity {}, water productivity {}\n",
+                show(oil, Kind::Productivity, sys),
+                show(water, Kind::Productivity, sys)
+            ));
+        }
     }
     s
 }

@@ -134,6 +134,37 @@ fn hover_on_a_cell_gives_its_curves_and_initial_saturation() {
         "{mob:?}"
     );
     assert!(md.contains("1/cP"), "{md}");
+    // Each phase's productivity at the initial saturation: the
+    // productivity with the oil's viscosity and fvf (kr = 1) times kro for
+    // the oil, and for the water krw with its own viscosity and fvf
+    // (0.5 cP and 1.01 rb/stb against 2 cP and 1.2 rb/stb in the deck).
+    let well = md
+        .lines()
+        .find(|l| l.starts_with("well \""))
+        .expect("the well line");
+    let productivity: f64 = well
+        .split("productivity ")
+        .nth(1)
+        .and_then(|t| t.split_whitespace().next())
+        .and_then(|t| t.parse().ok())
+        .expect("a productivity");
+    let phases = md
+        .lines()
+        .find(|l| l.starts_with("at the initial saturation:"))
+        .expect("the phase productivities");
+    let values: Vec<f64> = phases
+        .split_whitespace()
+        .filter_map(|t| t.trim_end_matches(',').parse().ok())
+        .collect();
+    let (oil, water) = (
+        productivity * kro,
+        productivity * krw * (2.0 * 1.2) / (0.5 * 1.01),
+    );
+    let near = |a: f64, b: f64| (a - b).abs() <= 1e-3 * b.abs();
+    assert!(
+        near(values[0], oil) && near(values[1], water),
+        "{phases}: {oil}, {water}"
+    );
 }
 
 #[test]

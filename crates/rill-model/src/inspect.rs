@@ -101,7 +101,11 @@ pub struct WellReport {
     /// with the permeabilities normal to the wellbore and the length along it.
     pub well_index: f64,
     /// Well index with viscosity and formation volume factor: surface m^3 / (s Pa).
+    /// In an oil-water case, the oil's, with kr = 1.
     pub productivity: f64,
+    /// Oil-water cases: each phase's productivity at the cell's initial
+    /// saturation, `WI kr / (mu B)`, oil then water, surface m^3 / (s Pa).
+    pub phase_productivity: Option<(f64, f64)>,
 }
 
 /// The report for 0-based cell `(i, j, k)`; `None` outside the grid.
@@ -164,6 +168,16 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
         })
         .map(|(w, comp)| {
             let wi = derived::well_index(g, rock, comp, w.radius, w.skin);
+            let phase_productivity =
+                case.oil_water
+                    .as_ref()
+                    .zip(phases(case, c))
+                    .map(|(ow, ph)| {
+                        (
+                            wi.geometric * ph.oil_mobility / case.fluid.fvf,
+                            wi.geometric * ph.water_mobility / ow.water.fvf,
+                        )
+                    });
             WellReport {
                 name: w.name.clone(),
                 role: w.role,
@@ -171,6 +185,7 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
                 r_eq: wi.r_eq,
                 well_index: wi.geometric,
                 productivity: derived::fluid_trans(case, wi.geometric),
+                phase_productivity,
             }
         })
         .collect();
