@@ -445,12 +445,15 @@ fn the_waterflood_tutorial_quotes_its_example() {
     }
     let rill = env!("CARGO_BIN_EXE_rill");
     let deck_path = repo().join(WATERFLOOD_DECK);
-    let inspect = Command::new(rill)
-        .args(["inspect", "--cell", "12,6,5"])
-        .arg(&deck_path)
-        .output()
-        .unwrap();
-    let shown = String::from_utf8_lossy(&inspect.stdout);
+    let inspect = |cell: &str| {
+        let out = Command::new(rill)
+            .args(["inspect", "--cell", cell])
+            .arg(&deck_path)
+            .output()
+            .unwrap();
+        String::from_utf8_lossy(&out.stdout).into_owned()
+    };
+    let shown = inspect("12,6,5");
     for quoted in ["initial sw  0.634422", "krw, kro    0.208784, 0.0180364"] {
         assert!(page.contains(quoted), "the page quotes `{quoted}`");
         assert!(
@@ -460,12 +463,7 @@ fn the_waterflood_tutorial_quotes_its_example() {
     }
     // The producer's top cell: each phase's productivity at the initial
     // saturation, oil at kro_end (0.9 / 1.8 cP over its fvf) and no water.
-    let inspect = Command::new(rill)
-        .args(["inspect", "--cell", "23,11,2"])
-        .arg(&deck_path)
-        .output()
-        .unwrap();
-    let shown = String::from_utf8_lossy(&inspect.stdout);
+    let shown = inspect("23,11,2");
     let quoted = "at initial sw  oil 0.736059, water 0 stb/day/psi";
     assert!(page.contains(quoted), "the page quotes `{quoted}`");
     assert!(
