@@ -3,7 +3,7 @@
 //! `rill inspect` (`rill_units::format_number`), so that hover and the
 //! command line show the same digits.
 
-use rill_model::inspect::{cell_report, CellReport};
+use rill_model::inspect::{self, cell_report, CellReport};
 use rill_model::{derived, Case, Control, Role};
 use rill_units::{display_unit, format_number, Dim, Kind, System};
 
@@ -244,10 +244,15 @@ pub(crate) fn well_markdown(case: &Case, name: &str, run: Option<&RunValues>) ->
     let len = display_unit(Kind::Length, sys).name;
     let wi = display_unit(Kind::WellIndex, sys).name;
     let pi = display_unit(Kind::Productivity, sys).name;
+    // An oil-water deck adds each phase's productivity at the initial
+    // saturation; the productivity column is then the oil's with kr = 1.
+    let two_phase = case.oil_water.is_some();
     s.push_str(&format!(
-        "| completion | r_eq [{len}] | well index [{wi}] | productivity [{pi}] | along |\n|---|---:|---:|---:|---|\n"
+        "| completion | r_eq [{len}] | well index [{wi}] | productivity [{pi}] |{} along |\n|---|---:|---:|---:|{}---|\n",
+        if two_phase { " oil, water at initial sw |" } else { "" },
+        if two_phase { "---:|" } else { "" }
     ));
-    let mut total = 0.0;
+    let (mut total, mut oil_total, mut water_total) = (0.0, 0.0, 0.0);
     for c in &w.completions {
         if c.cell >= case.grid.cell_count() {
             continue;
@@ -255,8 +260,20 @@ pub(crate) fn well_markdown(case: &Case, name: &str, run: Option<&RunValues>) ->
         let index = derived::well_index(&case.grid, &case.rock, c, w.radius, w.skin);
         let prod = derived::fluid_trans(case, index.geometric);
         total += prod;
+        let phases = match inspect::phase_productivity(case, c.cell, index.geometric) {
+            Some((oil, water)) => {
+                (oil_total, water_total) = (oil_total + oil, water_total + water);
+                format!(
+                    " {}, {} |",
+                    num(oil, Kind::Productivity, sys),
+                    num(water, Kind::Productivity, sys)
+                )
+            }
+            None if two_phase => " |".to_string(),
+            None => String::new(),
+        };
         s.push_str(&format!(
-            "| ({}, {}, {}) | {} | {} | {} | {} |\n",
+            "| ({}, {}, {}) | {} | {} | {} |{phases} {} |\n",
             c.i + 1,
             c.j + 1,
             c.k + 1,
@@ -271,6 +288,18 @@ pub(crate) fn well_markdown(case: &Case, name: &str, run: Option<&RunValues>) ->
             "\ntotal productivity {}\n",
             show(total, Kind::Productivity, sys)
         ));
+        if two_phase {
+            s.push_str(&format!(
+                "at the initial saturation: oil {}, water {}\n",
+                show(oil_total, Kind::Productivity, sys),
+                show(water_total, Kind::Productivity, sys)
+            ));
+        }
+    }
+    if two_phase {
+        s.push_str(
+            "\nProductivity with the oil's viscosity and formation volume factor (kr = 1); each phase's with its own, at the initial saturation.\n",
+        );
     }
     if let Some(section) = run.and_then(|run| run_values::well_section(case, run, name)) {
         s.push_str(&section);

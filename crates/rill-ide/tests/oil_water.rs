@@ -269,3 +269,76 @@ fn outline_tokens_and_lens_know_the_oil_water_blocks() {
     assert_eq!(lenses.len(), 1);
     assert_eq!(lenses[0].command.as_deref(), Some("rill.run"));
 }
+
+/// Hover on a well of an oil-water deck: each completion's phase
+/// productivities at the initial saturation, the same numbers the cell
+/// hover gives under the well, the productivity column being the oil's
+/// with kr = 1 (kro times it is the oil's), and their totals.
+#[test]
+fn hover_on_a_well_gives_each_completions_phase_productivities() {
+    let s = snap(DECK);
+    let h = s.hover(at(DECK, "well \"I-1\"", 6)).expect("a hover");
+    let md = &h.markdown;
+    assert!(md.contains("| oil, water at initial sw |"), "{md}");
+    assert!(md.contains("with the oil's viscosity"), "{md}");
+    let rows: Vec<Vec<String>> = md
+        .lines()
+        .filter(|l| l.starts_with("| (1, 1, "))
+        .map(row_cells)
+        .collect();
+    assert_eq!(rows.len(), 2, "{md}");
+    let (mut oil_total, mut water_total) = (0.0, 0.0);
+    for (k, row) in rows.iter().enumerate() {
+        let pair: Vec<f64> = row[4].split(", ").map(|t| t.parse().unwrap()).collect();
+        (oil_total, water_total) = (oil_total + pair[0], water_total + pair[1]);
+        // The cell hover of that completion says the same.
+        let cell = format!("(1, 1, {})", k + 1);
+        let text = DECK.replace("location = (1, 1)", &format!("completions = [{cell}]"));
+        let cell_md = snap(&text)
+            .hover(at(&text, &cell, 1))
+            .expect("a hover")
+            .markdown;
+        let line = cell_md
+            .lines()
+            .find(|l| l.starts_with("at the initial saturation:"))
+            .expect("phase productivities");
+        let shown: Vec<f64> = line
+            .split_whitespace()
+            .filter_map(|t| t.trim_end_matches(',').parse().ok())
+            .collect();
+        assert!(
+            close6(pair[0], shown[0]) && close6(pair[1], shown[1]),
+            "{row:?} vs {line}"
+        );
+        let kro = cell_md
+            .lines()
+            .find(|l| l.starts_with("| krw, kro (initial)"))
+            .and_then(|l| {
+                row_cells(l)[1]
+                    .split(", ")
+                    .nth(1)
+                    .and_then(|t| t.parse::<f64>().ok())
+            })
+            .expect("kro");
+        let prod: f64 = row[3].parse().unwrap();
+        // Two shown numbers multiplied: each rounded at six digits.
+        let product = prod * kro;
+        assert!(
+            ((pair[0] - product) / product).abs() < 2e-5,
+            "{} vs {prod} x {kro}",
+            pair[0]
+        );
+    }
+    let totals = md
+        .lines()
+        .find(|l| l.starts_with("at the initial saturation: oil"))
+        .expect("the totals");
+    let t: Vec<f64> = totals
+        .split_whitespace()
+        .filter_map(|t| t.trim_end_matches(',').parse().ok())
+        .collect();
+    assert!(
+        close6(t[0], oil_total) && close6(t[1], water_total),
+        "{totals}"
+    );
+}

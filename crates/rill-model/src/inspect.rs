@@ -168,16 +168,7 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
         })
         .map(|(w, comp)| {
             let wi = derived::well_index(g, rock, comp, w.radius, w.skin);
-            let phase_productivity =
-                case.oil_water
-                    .as_ref()
-                    .zip(phases(case, c))
-                    .map(|(ow, ph)| {
-                        (
-                            wi.geometric * ph.oil_mobility / case.fluid.fvf,
-                            wi.geometric * ph.water_mobility / ow.water.fvf,
-                        )
-                    });
+            let phase_productivity = phase_productivity(case, c, wi.geometric);
             WellReport {
                 name: w.name.clone(),
                 role: w.role,
@@ -211,6 +202,19 @@ pub fn cell_report(case: &Case, i: usize, j: usize, k: usize) -> Option<CellRepo
         water_saturation: derived::saturation::initial_water_saturation(case, c),
         phases: phases(case, c),
     })
+}
+
+/// Each phase's productivity, oil then water, of a completion with
+/// geometric well index `well_index` (m^3) in cell `c` of an oil-water
+/// case, at the cell's initial saturation: `WI kr / (mu B)`, surface
+/// m^3 / (s Pa). `None` for a single-phase case.
+pub fn phase_productivity(case: &Case, c: usize, well_index: f64) -> Option<(f64, f64)> {
+    let ow = case.oil_water.as_ref()?;
+    let ph = phases(case, c)?;
+    Some((
+        well_index * ph.oil_mobility / case.fluid.fvf,
+        well_index * ph.water_mobility / ow.water.fvf,
+    ))
 }
 
 /// The phases of cell `c` of an oil-water case at its initial saturation.
