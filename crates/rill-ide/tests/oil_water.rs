@@ -22,6 +22,17 @@ fn row_value(md: &str, what: &str) -> f64 {
         .unwrap_or_else(|_| panic!("`{value}` in {row}"))
 }
 
+/// The oil and water productivities on the first line of `md` that starts
+/// with `prefix` (`at the initial saturation: ...`), as shown.
+fn phase_numbers(md: &str, prefix: &str) -> Vec<f64> {
+    md.lines()
+        .find(|l| l.starts_with(prefix))
+        .unwrap_or_else(|| panic!("no line `{prefix}` in\n{md}"))
+        .split_whitespace()
+        .filter_map(|t| t.trim_end_matches(',').parse().ok())
+        .collect()
+}
+
 /// The fixture's curves: Corey swc 0.2, sor 0.25, krw_end 0.3, kro_end
 /// 0.8, nw = no = 2, with 2 cP oil and 0.5 cP water. M = (0.3 / 0.5) /
 /// (0.8 / 2) = 1.5. The front is checked against a brute-force maximum of
@@ -148,14 +159,7 @@ fn hover_on_a_cell_gives_its_curves_and_initial_saturation() {
         .and_then(|t| t.split_whitespace().next())
         .and_then(|t| t.parse().ok())
         .expect("a productivity");
-    let phases = md
-        .lines()
-        .find(|l| l.starts_with("at the initial saturation:"))
-        .expect("the phase productivities");
-    let values: Vec<f64> = phases
-        .split_whitespace()
-        .filter_map(|t| t.trim_end_matches(',').parse().ok())
-        .collect();
+    let values = phase_numbers(md, "at the initial saturation:");
     let (oil, water) = (
         productivity * kro,
         productivity * krw * (2.0 * 1.2) / (0.5 * 1.01),
@@ -163,7 +167,7 @@ fn hover_on_a_cell_gives_its_curves_and_initial_saturation() {
     let near = |a: f64, b: f64| (a - b).abs() <= 1e-3 * b.abs();
     assert!(
         near(values[0], oil) && near(values[1], water),
-        "{phases}: {oil}, {water}"
+        "{values:?}: {oil}, {water}"
     );
 }
 
@@ -298,17 +302,10 @@ fn hover_on_a_well_gives_each_completions_phase_productivities() {
             .hover(at(&text, &cell, 1))
             .expect("a hover")
             .markdown;
-        let line = cell_md
-            .lines()
-            .find(|l| l.starts_with("at the initial saturation:"))
-            .expect("phase productivities");
-        let shown: Vec<f64> = line
-            .split_whitespace()
-            .filter_map(|t| t.trim_end_matches(',').parse().ok())
-            .collect();
+        let shown = phase_numbers(&cell_md, "at the initial saturation:");
         assert!(
             close6(pair[0], shown[0]) && close6(pair[1], shown[1]),
-            "{row:?} vs {line}"
+            "{row:?} vs {shown:?}"
         );
         let kro = cell_md
             .lines()
@@ -329,16 +326,9 @@ fn hover_on_a_well_gives_each_completions_phase_productivities() {
             pair[0]
         );
     }
-    let totals = md
-        .lines()
-        .find(|l| l.starts_with("at the initial saturation: oil"))
-        .expect("the totals");
-    let t: Vec<f64> = totals
-        .split_whitespace()
-        .filter_map(|t| t.trim_end_matches(',').parse().ok())
-        .collect();
+    let t = phase_numbers(md, "at the initial saturation: oil");
     assert!(
         close6(t[0], oil_total) && close6(t[1], water_total),
-        "{totals}"
+        "{t:?}"
     );
 }
