@@ -250,7 +250,7 @@ impl Cpr {
                 detail: "CPR update: the matrix has another pattern than the one set up".into(),
             });
         }
-        self.weights = weights(a, accumulation, self.opts.decoupling)?;
+        weights_into(a, accumulation, self.opts.decoupling, &mut self.weights)?;
         pressure_values(a, &mut self.weights, &mut self.pressure.values);
         self.refresh_amg(refresh)?;
         self.stage2.refactor(a)
@@ -369,11 +369,26 @@ fn weights(
     accumulation: Option<&[f64]>,
     kind: Decoupling,
 ) -> Result<Vec<f64>, LinearError> {
+    let mut w = vec![0.0; a.n * a.block];
+    weights_into(a, accumulation, kind, &mut w)?;
+    Ok(w)
+}
+
+/// [`weights`] into storage of `n * b` values held from before: every
+/// value is written.
+fn weights_into(
+    a: &CsrMatrix,
+    accumulation: Option<&[f64]>,
+    kind: Decoupling,
+    w: &mut [f64],
+) -> Result<(), LinearError> {
     let (n, b, bb) = (a.n, a.block, a.block * a.block);
-    let mut w = vec![0.0; n * b];
     if kind == Decoupling::PressureRow {
-        w.par_chunks_mut(b).for_each(|wi| wi[0] = 1.0);
-        return Ok(w);
+        w.par_chunks_mut(b).for_each(|wi| {
+            wi.iter_mut().for_each(|x| *x = 0.0);
+            wi[0] = 1.0;
+        });
+        return Ok(());
     }
     let acc = match kind {
         Decoupling::TrueImpes => {
@@ -439,7 +454,7 @@ fn weights(
                 }
             },
         );
-    Ok(w)
+    Ok(())
 }
 
 /// Ap[i][j] = w_i^T A_ij e_0 on the block pattern of `a`; a row whose
@@ -462,23 +477,21 @@ fn pressure_matrix(a: &CsrMatrix, w: &mut [f64]) -> CsrMatrix {
 /// length (turning rows and weights as it does).
 fn pressure_values(a: &CsrMatrix, w: &mut [f64], values: &mut [f64]) {
     let (b, bb) = (a.block, a.block * a.block);
-    {
-        let mut rows = split_rows_mut(values, &a.row_ptr);
-        rows.par_iter_mut()
-            .zip(w.par_chunks_mut(b))
-            .enumerate()
-            .with_min_len(ROW_CHUNK)
-            .for_each(|(i, (out, wi))| {
-                let (cols, v) = a.row(i);
-                for (k, o) in out.iter_mut().enumerate() {
-                    let blk = &v[k * bb..k * bb + bb];
-                    *o = (0..b).map(|s| wi[s] * blk[s * b]).sum();
-                }
-                let diag = cols.binary_search(&i).map_or(0.0, |k| out[k]);
-                if diag < 0.0 {
-                    out.iter_mut().for_each(|o| *o = -*o);
-                    wi.iter_mut().for_each(|x| *x = -*x);
-                }
-            });
-    }
+    split_rows_mut(values, &a.row_ptr)
+        .par_iter_mut()
+        .zip(w.par_chunks_mut(b))
+        .enumerate()
+        .with_min_len(ROW_CHUNK)
+        .for_each(|(i, (out, wi))| {
+            let (cols, v) = a.row(i);
+            for (k, o) in out.iter_mut().enumerate() {
+                let blk = &v[k * bb..k * bb + bb];
+                *o = (0..b).map(|s| wi[s] * blk[s * b]).sum();
+            }
+            let diag = cols.binary_search(&i).map_or(0.0, |k| out[k]);
+            if diag < 0.0 {
+                out.iter_mut().for_each(|o| *o = -*o);
+                wi.iter_mut().for_each(|x| *x = -*x);
+            }
+        });
 }

@@ -439,9 +439,9 @@ fn the_set_up_is_reused_while_the_pattern_stays() {
 
 /// An update refactors in the storage it holds: for new values of the same
 /// pattern, `Cpr::update` with a rebuilt multigrid gives, bit for bit, the
-/// operator `Cpr::build` gives on those values, for each second stage, and
-/// after a failed update the coupled solver builds anew rather than use
-/// the half-updated set-up.
+/// operator `Cpr::build` gives on those values, for each decoupling and
+/// second stage, and after a failed update the coupled solver builds anew
+/// rather than use the half-updated set-up.
 #[test]
 fn an_update_in_place_equals_a_fresh_build() {
     let s = two_phase_system(12, 10, 4, 2.0, 31);
@@ -450,9 +450,10 @@ fn an_update_in_place_equals_a_fresh_build() {
     let r: Vec<f64> = (0..s.a.rows())
         .map(|i| ((i * 29) % 47) as f64 - 23.0)
         .collect();
-    for second_stage in [SecondStage::BlockIlu0, SecondStage::BlockJacobi] {
+    let stages = [SecondStage::BlockIlu0, SecondStage::BlockJacobi];
+    for (decoupling, second_stage) in DECOUPLINGS.iter().flat_map(|&d| stages.map(|st| (d, st))) {
         let o = CprOptions {
-            decoupling: Decoupling::TrueImpes,
+            decoupling,
             second_stage,
             ..CprOptions::default()
         };
@@ -464,7 +465,7 @@ fn an_update_in_place_equals_a_fresh_build() {
         let (mut zu, mut zf) = (vec![0.0; r.len()], vec![0.0; r.len()]);
         updated.preconditioner(&other.a).apply(&r, &mut zu);
         fresh.preconditioner(&other.a).apply(&r, &mut zf);
-        assert_eq!(zu, zf, "{second_stage:?}");
+        assert_eq!(zu, zf, "{decoupling:?}, {second_stage:?}");
         assert_eq!(updated.pressure_matrix(), fresh.pressure_matrix());
         assert_eq!(updated.weights(), fresh.weights());
     }

@@ -359,11 +359,7 @@ fn pressure_checks(case: &Case, spans: &Spans, sys: System, out: &mut Vec<Diagno
 /// hydrostat of the case's fluid (the oil of an oil-water case).
 pub fn initial_pressure_at(case: &Case, depth: f64) -> Option<f64> {
     if let Some(eq) = derived::saturation::equilibrium(case) {
-        return Some(if depth > eq.contact {
-            eq.water_pressure(depth)
-        } else {
-            eq.oil_pressure(depth)
-        });
+        return Some(eq.phase_pressure(depth));
     }
     match &case.initial {
         Initial::Datum {

@@ -42,6 +42,30 @@ impl Equilibrium<'_> {
         self.oil_pressure(depth) - self.water_pressure(depth)
     }
 
+    /// The pressure of the phase that fills the rock at `depth`: the oil's
+    /// above the contact, the water's below it, Pa.
+    pub fn phase_pressure(&self, depth: f64) -> f64 {
+        if depth > self.contact {
+            self.water_pressure(depth)
+        } else {
+            self.oil_pressure(depth)
+        }
+    }
+
+    /// A cell's (or a boundary face's) state at `depth` with `curves`: the
+    /// oil pressure, Pa, and the water saturation. In the water leg the oil
+    /// pressure is the water's plus pc at sw = 1.
+    pub fn state(&self, curves: &Curves, depth: f64) -> (f64, f64) {
+        if depth > self.contact {
+            (self.water_pressure(depth) + curves.pc(1.0), 1.0)
+        } else {
+            (
+                self.oil_pressure(depth),
+                self.water_saturation(curves, depth),
+            )
+        }
+    }
+
     /// The water saturation at `depth` for `curves`: 1 below the contact,
     /// the curves' saturation at the equilibrium's capillary pressure above
     /// it (the connate saturation where the curves have no capillary pressure).
@@ -56,11 +80,18 @@ impl Equilibrium<'_> {
 /// The equilibrium of `case`, when it is an oil-water case with a water
 /// contact and a datum pressure.
 pub fn equilibrium(case: &Case) -> Option<Equilibrium<'_>> {
-    let ow = case.oil_water.as_ref()?;
-    let InitialSaturation::Contact { depth: contact } = ow.saturation else {
+    let Initial::Datum { pressure, depth } = case.initial else {
         return None;
     };
-    let Initial::Datum { pressure, depth } = case.initial else {
+    equilibrium_through(case, pressure, depth)
+}
+
+/// The equilibrium of an oil-water case with a water contact through
+/// another datum: the oil pressure `pressure` (Pa) at `depth` (m), as a
+/// boundary's own datum sets it.
+pub fn equilibrium_through(case: &Case, pressure: f64, depth: f64) -> Option<Equilibrium<'_>> {
+    let ow = case.oil_water.as_ref()?;
+    let InitialSaturation::Contact { depth: contact } = ow.saturation else {
         return None;
     };
     Some(Equilibrium {

@@ -193,30 +193,23 @@ fn boundary_sides(case: &Case, d: &Disc, ph: &Phases) -> Vec<Outside> {
                 .cell_relperm
                 .of(d.cell_of[f.cell])
                 .min(ph.curves.len() - 1)];
-            let (p, s) = match (b.datum, contact) {
-                (Some(datum), Some(c)) => {
-                    let own = saturation::Equilibrium {
-                        oil: &case.fluid,
-                        water: &ow.water,
-                        datum_pressure: b.pressure,
-                        datum_depth: datum,
-                        contact: c,
-                    };
-                    if z > c {
-                        (own.water_pressure(z) + curves.pc(1.0), 1.0)
-                    } else {
-                        (own.oil_pressure(z), own.water_saturation(curves, z))
-                    }
-                }
-                (Some(datum), None) => (
-                    derived::hydrostatic_pressure(&case.fluid, b.pressure, datum, z),
-                    1.0,
-                ),
-                (None, Some(c)) if z < c => (
-                    b.pressure,
-                    eq.map_or(curves.swc(), |eq| eq.water_saturation(curves, z)),
-                ),
-                (None, _) => (b.pressure, 1.0),
+            let (p, s) = match b.datum {
+                // With a contact, the equilibrium through its own datum;
+                // without one, the oil's hydrostat and water beyond.
+                Some(datum) => match saturation::equilibrium_through(case, b.pressure, datum) {
+                    Some(own) => own.state(curves, z),
+                    None => (
+                        derived::hydrostatic_pressure(&case.fluid, b.pressure, datum, z),
+                        1.0,
+                    ),
+                },
+                None => match contact {
+                    Some(c) if z < c => (
+                        b.pressure,
+                        eq.map_or(curves.swc(), |eq| eq.water_saturation(curves, z)),
+                    ),
+                    _ => (b.pressure, 1.0),
+                },
             };
             let mut props = CellProps::from_sat(ph, &curves.at(s), p);
             for a in props
@@ -245,15 +238,7 @@ impl Engine<'_> {
             let z = d.depth[i];
             let curves = &self.ph.curves[self.curves_of[i] as usize];
             let (p, s) = match (&ow.saturation, eq) {
-                (InitialSaturation::Contact { depth }, Some(eq)) => {
-                    if z > *depth {
-                        // The water leg: the water on its hydrostat; the
-                        // oil pressure is the water's plus pc at sw = 1.
-                        (eq.water_pressure(z) + curves.pc(1.0), 1.0)
-                    } else {
-                        (eq.oil_pressure(z), eq.water_saturation(curves, z))
-                    }
-                }
+                (InitialSaturation::Contact { .. }, Some(eq)) => eq.state(curves, z),
                 (sat, _) => {
                     let s = match sat {
                         InitialSaturation::Cells(v) => v[c],
